@@ -1,0 +1,58 @@
+// The kernel (x/r^2, y/r^2) of every helicity-flux integral, transformed once per grid. Both
+// components are real and odd on the padded grid, so their spectra are purely imaginary: only the
+// imaginary parts are kept. The spectra include the pixel area and the Mm -> cm step, so a
+// convolution with them turns a map in G into an integral in G cm. The self pixel is excluded
+// (the kernel is 0 at r = 0).
+
+import type { Grid } from './grid.js';
+import type { PaddedPlan } from './paddedTransform.js';
+import { createPaddedPlan, createSpectrum, forwardPadded } from './paddedTransform.js';
+import { CM_PER_MM } from './units.js';
+
+export interface FluxKernel extends Grid {
+  readonly plan: PaddedPlan;
+  /** Imaginary parts of the spectra of x/r^2 and y/r^2, times dx dy (Mm^2) times 1e8 cm/Mm. */
+  readonly kxIm: Float64Array;
+  readonly kyIm: Float64Array;
+}
+
+/** An explicit, caller-owned cache of kernels by grid (shape and pixel size). */
+export type FluxKernelCache = Map<string, FluxKernel>;
+
+export function createFluxKernel(grid: Grid): FluxKernel {
+  const { nx, ny, dx, dy } = grid;
+  const plan = createPaddedPlan(nx, ny);
+  const { px, py } = plan;
+  const scale = dx * dy * CM_PER_MM;
+  const kx = new Float64Array(px * py);
+  const ky = new Float64Array(px * py);
+  for (let iy = -(ny - 1); iy <= ny - 1; iy++) {
+    const Y = iy * dy;
+    const row = ((iy + py) % py) * px;
+    for (let ix = -(nx - 1); ix <= nx - 1; ix++) {
+      if (ix === 0 && iy === 0) continue;
+      const X = ix * dx;
+      const inv = scale / (X * X + Y * Y);
+      const k = row + ((ix + px) % px);
+      kx[k] = X * inv;
+      ky[k] = Y * inv;
+    }
+  }
+  const sx = createSpectrum(plan);
+  const sy = createSpectrum(plan);
+  forwardPadded(plan, kx, px, py, sx);
+  forwardPadded(plan, ky, px, py, sy);
+  return { nx, ny, dx, dy, plan, kxIm: sx.im, kyIm: sy.im };
+}
+
+/** The kernel for `grid`, from `cache` when it holds one, otherwise made (and stored there). */
+export function fluxKernelFor(grid: Grid, cache?: FluxKernelCache): FluxKernel {
+  if (!cache) return createFluxKernel(grid);
+  const key = `${grid.nx}x${grid.ny}@${grid.dx},${grid.dy}`;
+  let k = cache.get(key);
+  if (!k) {
+    k = createFluxKernel(grid);
+    cache.set(key, k);
+  }
+  return k;
+}

@@ -1,0 +1,107 @@
+// Our JSON frame format: { time: ISO 8601 UTC, nx, ny, dx, dy (Mm), bn: [...], optional bx, by,
+// vx, vy, vz, labels }, flat row-major arrays with x fastest; null stands for NaN (no data).
+
+import type { Frame } from './frame.js';
+import { FRAME_MAPS, checkFrame } from './frame.js';
+import { InputError } from './inputError.js';
+
+function toMap(value: unknown, field: string, source: string): Float64Array {
+  if (!Array.isArray(value)) throw new InputError(source, field, 'must be an array of numbers (null for no data)');
+  const out = new Float64Array(value.length);
+  for (let i = 0; i < value.length; i++) {
+    const v = value[i];
+    if (v === null) out[i] = NaN;
+    else if (typeof v === 'number') out[i] = v;
+    else throw new InputError(source, `${field}[${i}]`, `must be a number or null, got ${JSON.stringify(v)}`);
+  }
+  return out;
+}
+
+function toLabels(value: unknown, source: string): Int32Array {
+  if (!Array.isArray(value)) throw new InputError(source, 'labels', 'must be an array of integers');
+  const out = new Int32Array(value.length);
+  for (let i = 0; i < value.length; i++) {
+    const v = value[i];
+    if (typeof v !== 'number' || !Number.isInteger(v) || v < 0) {
+      throw new InputError(source, `labels[${i}]`, `must be a non-negative integer, got ${JSON.stringify(v)}`);
+    }
+    out[i] = v;
+  }
+  return out;
+}
+
+/** Parses an ISO 8601 time that names its zone (Z or an offset); returns UTC ms. */
+export function parseIsoTime(text: unknown, field: string, source: string): number {
+  if (typeof text !== 'string') throw new InputError(source, field, 'must be an ISO 8601 time string');
+  if (!/^\d{4}-\d{2}-\d{2}T\d{2}:\d{2}(:\d{2}(\.\d+)?)?(Z|[+-]\d{2}:?\d{2})$/.test(text.trim())) {
+    throw new InputError(source, field, `"${text}" is not an ISO 8601 UTC time such as 2026-03-14T06:00:00Z`);
+  }
+  const t = Date.parse(text);
+  if (!Number.isFinite(t)) throw new InputError(source, field, `"${text}" is not a valid date`);
+  return t;
+}
+
+/** Turns parsed JSON into a checked Frame; throws InputError naming the field otherwise. */
+export function frameFromJson(json: unknown, source = 'frame.json'): Frame {
+  if (json === null || typeof json !== 'object' || Array.isArray(json)) {
+    throw new InputError(source, '(top level)', 'is not a frame: expected an object with time, nx, ny, dx, dy and bn');
+  }
+  const o = json as Record<string, unknown>;
+  for (const key of ['time', 'nx', 'ny', 'dx', 'dy', 'bn']) {
+    if (!(key in o)) throw new InputError(source, key, 'is missing; a frame needs time, nx, ny, dx, dy and bn');
+  }
+  for (const key of ['nx', 'ny', 'dx', 'dy']) {
+    if (typeof o[key] !== 'number') throw new InputError(source, key, `must be a number, got ${JSON.stringify(o[key])}`);
+  }
+  const maps: Partial<Record<(typeof FRAME_MAPS)[number], Float64Array>> = {};
+  for (const name of FRAME_MAPS) {
+    if (o[name] !== undefined && o[name] !== null) maps[name] = toMap(o[name], name, source);
+  }
+  const frame: Frame = {
+    time: parseIsoTime(o.time, 'time', source),
+    nx: o.nx as number,
+    ny: o.ny as number,
+    dx: o.dx as number,
+    dy: o.dy as number,
+    bn: maps.bn!,
+    ...(maps.bx && { bx: maps.bx }),
+    ...(maps.by && { by: maps.by }),
+    ...(maps.vx && { vx: maps.vx }),
+    ...(maps.vy && { vy: maps.vy }),
+    ...(maps.vz && { vz: maps.vz }),
+    ...(o.labels !== undefined && o.labels !== null && { labels: toLabels(o.labels, source) }),
+    provenance: { source },
+  };
+  checkFrame(frame, source);
+  return frame;
+}
+
+/** Parses JSON text into a Frame; syntax errors become an InputError naming the source. */
+export function parseFrameJson(text: string, source = 'frame.json'): Frame {
+  let json: unknown;
+  try {
+    json = JSON.parse(text);
+  } catch (e) {
+    throw new InputError(source, '(json)', `is not valid JSON: ${(e as Error).message}`);
+  }
+  return frameFromJson(json, source);
+}
+
+function mapToJson(map: ArrayLike<number>): (number | null)[] {
+  const out: (number | null)[] = new Array(map.length);
+  for (let i = 0; i < map.length; i++) out[i] = Number.isFinite(map[i]) ? map[i] : null;
+  return out;
+}
+
+/** The JSON form of a frame (NaN written as null). */
+export function frameToJson(frame: Frame): Record<string, unknown> {
+  const o: Record<string, unknown> = {
+    time: new Date(frame.time).toISOString(), nx: frame.nx, ny: frame.ny, dx: frame.dx, dy: frame.dy,
+  };
+  for (const name of FRAME_MAPS) {
+    const m = frame[name];
+    if (m) o[name] = mapToJson(m);
+  }
+  if (frame.labels) o.labels = Array.from(frame.labels);
+  return o;
+}
