@@ -87,7 +87,12 @@ export interface HelicityFluxResult {
 
 /** The maps G_theta, G_A and A_p and their totals for one flux transport. */
 export function helicityFlux(kernel: FluxKernel, t: FluxTransport): HelicityFluxResult {
-  const { p, q, r } = convolveTransport(kernel, t);
+  return helicityFluxFromConvolutions(kernel, t, convolveTransport(kernel, t));
+}
+
+/** The same from convolutions already made (so that callers can reuse them). */
+export function helicityFluxFromConvolutions(kernel: FluxKernel, t: FluxTransport, conv: KernelConvolutions): HelicityFluxResult {
+  const { p, q, r } = conv;
   const n = kernel.nx * kernel.ny;
   const gTheta = new Float64Array(n);
   const gA = new Float64Array(n);
