@@ -1,0 +1,59 @@
+// The command line: `helicord <command> [options]`. Each command composes core and the server;
+// none computes on its own.
+
+import { rateCommand } from './commands/rate.js';
+import { parseArgs, type ParsedArgs } from './commands/args.js';
+
+export const HELP = `helicord — live monitor of magnetic-helicity injection through the photosphere
+
+Usage: helicord <command> [options]
+
+Commands:
+  serve [--data DIR] [--port N] [--host H] [--demo]
+        Start the monitor (HTTP + WebSocket, 127.0.0.1:8750 by default). --demo adds the built-in
+        synthetic demo region, streaming live. Data are kept in DIR (default ./data).
+  rate FRAME [FRAME2] [--labels from-file|none|FILE.json] [--footpoints] [--noise G]
+        Helicity injection rate of one frame that carries its velocity, printed as JSON
+        (Mx^2/s): total, total_ga, spin, orbit, background, emergence and shear with vector data.
+        FRAME is a JSON frame (see README).
+  help  This text.
+
+These are research indicators, not forecasts: for operational decisions use the official
+space-weather services.
+`;
+
+type Command = (args: ParsedArgs, out: NodeJS.WritableStream, err: NodeJS.WritableStream) => Promise<number>;
+
+const COMMANDS: Record<string, Command> = {
+  rate: rateCommand,
+};
+
+export async function main(argv: string[], out: NodeJS.WritableStream = process.stdout, err: NodeJS.WritableStream = process.stderr): Promise<number> {
+  const [name, ...rest] = argv;
+  if (name === undefined || name === 'help' || name === '--help' || name === '-h') {
+    out.write(HELP);
+    return name === undefined ? 2 : 0;
+  }
+  const command = COMMANDS[name];
+  if (!command) {
+    err.write(`helicord: unknown command "${name}". Run \`helicord --help\` for the list.\n`);
+    return 2;
+  }
+  let args: ParsedArgs;
+  try {
+    args = parseArgs(rest);
+  } catch (e) {
+    err.write(`helicord ${name}: ${(e as Error).message}\n`);
+    return 2;
+  }
+  if (args.flags.help) {
+    out.write(HELP);
+    return 0;
+  }
+  try {
+    return await command(args, out, err);
+  } catch (e) {
+    err.write(`helicord ${name}: ${(e as Error).message}\n`);
+    return 1;
+  }
+}
