@@ -46,8 +46,8 @@ export interface RateInput {
   /** Velocity when not carried by the frame (inferred between frames). */
   readonly velocity?: VelocityMaps;
   readonly velocityMethod?: string;
-  /** Footpoint labels; the frame's own labels otherwise. */
-  readonly labels?: Int32Array;
+  /** Footpoint labels; the frame's own labels when undefined; null for none. */
+  readonly labels?: Int32Array | null;
   /** Sample time and interval when the velocity spans a frame pair. */
   readonly time?: number;
   readonly dtS?: number;
@@ -71,7 +71,7 @@ export function rateSample(input: RateInput): RateResult {
   const flux = helicityFluxFromConvolutions(kernel, t, conv);
   const flags: string[] = [];
   if (flux.maskedFraction > 0) flags.push('masked-pixels');
-  const labels = input.labels ?? frame.labels;
+  const labels = input.labels === undefined ? frame.labels : input.labels ?? undefined;
   let split: LabelSplit | undefined;
   if (labels) {
     split = splitByLabels(kernel, t, labels, { total: flux.total });

@@ -7,9 +7,9 @@ import { loadFrameFile } from '../frameFiles.js';
 import type { ParsedArgs } from './args.js';
 import { numberFlag, stringFlag } from './args.js';
 
-async function labelsFor(frame: Frame, option: string | undefined, source: string): Promise<Int32Array | undefined> {
-  if (option === undefined || option === 'from-file') return frame.labels;
-  if (option === 'none') return undefined;
+async function labelsFor(frame: Frame, option: string | undefined, source: string): Promise<Int32Array | null> {
+  if (option === undefined || option === 'from-file') return frame.labels ?? null;
+  if (option === 'none') return null;
   let json: unknown;
   try {
     json = JSON.parse(await readFile(option, 'utf8'));
@@ -30,7 +30,7 @@ export async function rateCommand(args: ParsedArgs, out: NodeJS.WritableStream):
   const frame = frames[frames.length - 1];
   const noiseG = numberFlag(args, 'noise');
   const labels = await labelsFor(frame, stringFlag(args, 'labels'), files[files.length - 1]);
-  const r = rateSample({ frame, ...(labels && { labels }), ...(noiseG !== undefined && { noiseG }) });
+  const r = rateSample({ frame, labels, ...(noiseG !== undefined && { noiseG }) });
   const s = r.sample;
   const result: Record<string, unknown> = {
     time: new Date(s.time).toISOString(),
