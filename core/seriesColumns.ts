@@ -1,0 +1,83 @@
+// The one mapping from a rate sample and the budget point after it to the named fields of the
+// series (docs/api.md "Sample"), which are also the batch CSV columns, in the documented order.
+
+import type { BudgetPoint } from './budget.js';
+import type { RateSample } from './rateSample.js';
+
+/** Column order: the nine fixed first columns of docs/api.md, then the rest. */
+export const SERIES_COLUMNS = [
+  'time', 'dt_s', 'rate_total', 'rate_spin', 'rate_orbit', 'rate_background',
+  'budget_total', 'budget_spin', 'budget_orbit', 'budget_background',
+  'rate_total_ga', 'rate_emergence', 'rate_shear', 'sigma_rate_total', 'sigma_budget_total',
+  'velocity_method', 'split_method', 'noise_g', 'masked_fraction', 'flags', 'frame_id',
+] as const;
+export type SeriesColumn = (typeof SERIES_COLUMNS)[number];
+
+export interface SeriesRow {
+  /** ISO 8601 UTC. */
+  readonly time: string;
+  readonly dt_s: number;
+  readonly rate_total: number;
+  readonly rate_spin: number;
+  readonly rate_orbit: number;
+  readonly rate_background: number;
+  readonly budget_total: number;
+  readonly budget_spin: number;
+  readonly budget_orbit: number;
+  readonly budget_background: number;
+  readonly rate_total_ga: number;
+  readonly rate_emergence: number | null;
+  readonly rate_shear: number | null;
+  readonly sigma_rate_total: number;
+  readonly sigma_budget_total: number;
+  readonly velocity_method: string;
+  readonly split_method: string;
+  readonly noise_g: number | null;
+  readonly masked_fraction: number;
+  readonly flags: readonly string[];
+  readonly frame_id: number | null;
+}
+
+const finiteOrNull = (v: number | undefined): number | null => (v !== undefined && Number.isFinite(v) ? v : null);
+
+/** The series row of one sample and the budget point it produced. */
+export function seriesRow(sample: RateSample, point: BudgetPoint, frameId: number | null = null): SeriesRow {
+  return {
+    time: new Date(sample.time).toISOString(),
+    dt_s: sample.dtS,
+    rate_total: sample.total,
+    rate_spin: sample.spin,
+    rate_orbit: sample.orbit,
+    rate_background: sample.background,
+    budget_total: point.values.total,
+    budget_spin: point.values.spin,
+    budget_orbit: point.values.orbit,
+    budget_background: point.values.background,
+    rate_total_ga: sample.totalGa,
+    rate_emergence: finiteOrNull(sample.emergence),
+    rate_shear: finiteOrNull(sample.shear),
+    sigma_rate_total: sample.sigmaTotal,
+    sigma_budget_total: point.sigmaTotal,
+    velocity_method: sample.velocityMethod,
+    split_method: sample.splitMethod,
+    noise_g: finiteOrNull(sample.noiseG),
+    masked_fraction: sample.maskedFraction,
+    flags: [...sample.flags],
+    frame_id: frameId,
+  };
+}
+
+function csvCell(v: unknown): string {
+  if (v === null || v === undefined) return '';
+  if (Array.isArray(v)) return csvCell(v.join(';'));
+  if (typeof v === 'number') return Number.isFinite(v) ? String(v) : '';
+  const s = String(v);
+  return /[",\n\r]/.test(s) ? `"${s.replace(/"/g, '""')}"` : s;
+}
+
+/** CSV text (header line, then one line per row; empty cell = no value; flags joined by ';'). */
+export function seriesCsv(rows: readonly SeriesRow[]): string {
+  const lines = [SERIES_COLUMNS.join(',')];
+  for (const r of rows) lines.push(SERIES_COLUMNS.map((c) => csvCell(r[c])).join(','));
+  return lines.join('\n') + '\n';
+}
