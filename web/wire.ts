@@ -1,0 +1,164 @@
+// The shapes on the wire between the monitor and the page (docs/api.md). Times stay ISO strings
+// here; the page converts them to ms once, when a sample enters its own series (seriesMerge.ts).
+
+export interface WireSample {
+  time: string;
+  dt_s: number;
+  rate_total: number | null;
+  rate_spin: number | null;
+  rate_orbit: number | null;
+  rate_background: number | null;
+  budget_total: number | null;
+  budget_spin: number | null;
+  budget_orbit: number | null;
+  budget_background: number | null;
+  rate_total_ga: number | null;
+  rate_emergence: number | null;
+  rate_shear: number | null;
+  sigma_rate_total: number | null;
+  sigma_budget_total: number | null;
+  velocity_method: string;
+  split_method: string;
+  noise_g: number | null;
+  masked_fraction: number | null;
+  flags: string[];
+  frame_id: string | number;
+}
+
+export interface WireGap {
+  from: string;
+  to: string;
+  bridged: boolean;
+}
+
+export interface OrbitPartner {
+  id: number | string;
+  orbit: number;
+}
+
+export interface WireFootpoint {
+  id: number | string;
+  polarity: 1 | -1;
+  flux: number;
+  x: number;
+  y: number;
+  area: number;
+  omega: number | null;
+  omega_method: 'velocity' | 'pattern' | 'unobservable';
+  spin: number | null;
+  spin_point: number | null;
+  partners: OrbitPartner[];
+  outline?: [number, number][];
+}
+
+export interface FootpointsAnswer {
+  frame_id: string | number;
+  time: string;
+  footpoints: WireFootpoint[];
+  tracks: Record<string, [number, number][]>;
+}
+
+export interface MapAnswer {
+  frame_id: string | number;
+  time: string;
+  layer: 'bn' | 'gtheta' | 'labels';
+  unit: string;
+  nx: number;
+  ny: number;
+  dx: number;
+  dy: number;
+  encoding: 'float32-base64';
+  data: string;
+}
+
+export type AlertState = 'quiet' | 'rising' | 'raised' | 'settled';
+
+export interface AlertChange {
+  time: string;
+  from: AlertState;
+  to: AlertState;
+  evidence?: Record<string, unknown>;
+}
+
+export interface WireAlert {
+  id: string | number;
+  rule: string;
+  state: AlertState;
+  since: string;
+  threshold: number | null;
+  unit: string;
+  source: string;
+  evidence: { value?: number; window_from?: string; window_to?: string; [key: string]: unknown };
+  acknowledged: boolean;
+  history: AlertChange[];
+}
+
+export interface ReplayInfo {
+  state: 'playing' | 'paused' | 'done';
+  speed: number;
+  position: number;
+  total: number;
+}
+
+export interface FeedStatus {
+  last_frame_time: string | null;
+  cadence_s: number | null;
+  refusals: number;
+  gaps: number;
+  queue: number;
+  replay: ReplayInfo | null;
+}
+
+export interface RegionInfo {
+  name: string;
+  created: string;
+  settings: Record<string, unknown>;
+  frames: number;
+  last_frame_time: string | null;
+  last_sample_time: string | null;
+  replay: ReplayInfo | null;
+}
+
+export interface LatestFrame {
+  frame_id: string | number;
+  time: string;
+}
+
+export type ViewerMessage =
+  | {
+      type: 'snapshot';
+      region: string;
+      samples: WireSample[];
+      gaps: WireGap[];
+      alerts: WireAlert[];
+      status: FeedStatus;
+      latest_frame: LatestFrame | null;
+    }
+  | { type: 'sample'; sample: WireSample }
+  | { type: 'alert'; alert: WireAlert }
+  | { type: 'frame'; frame_id: string | number; time: string }
+  | { type: 'status'; status: FeedStatus }
+  | { type: 'backfill'; samples: WireSample[] };
+
+/** Parses one viewer message; undefined for anything that is not a known message (ignored). */
+export function parseViewerMessage(text: string): ViewerMessage | undefined {
+  let value: unknown;
+  try {
+    value = JSON.parse(text);
+  } catch {
+    return undefined;
+  }
+  if (typeof value !== 'object' || value === null) return undefined;
+  const type = (value as { type?: unknown }).type;
+  switch (type) {
+    case 'snapshot':
+    case 'sample':
+    case 'alert':
+    case 'frame':
+    case 'status':
+    case 'backfill':
+      return value as ViewerMessage;
+    default:
+      return undefined;
+  }
+}
