@@ -82,54 +82,102 @@ export function fftRow(plan: FftPlan, re: Float64Array, im: Float64Array, offset
   }
 }
 
+/** Columns handled together by fftColumns: n rows of this many columns stay in cache. */
+const COLUMN_BLOCK = 32;
+
 /**
  * In-place complex FFT of length plan.n down every column of a row-major block of `width`
  * columns (row r occupies [r*width, (r+1)*width)). Only rows < `nonZeroRows` may be non-zero on
- * input (the rest must be zero): the first stage then copies instead of adding.
+ * input (the rest must be zero): when that is at most half, the first stage copies instead of
+ * adding. Columns are done in blocks so that all stages of a block run in cache.
  */
 export function fftColumns(
   plan: FftPlan, re: Float64Array, im: Float64Array, width: number, sign: -1 | 1, nonZeroRows = plan.n,
+): void {
+  for (let c0 = 0; c0 < width; c0 += COLUMN_BLOCK) {
+    fftColumnBlock(plan, re, im, width, c0, Math.min(width, c0 + COLUMN_BLOCK), sign, nonZeroRows * 2 <= plan.n);
+  }
+}
+
+function fftColumnBlock(
+  plan: FftPlan, re: Float64Array, im: Float64Array, width: number, c0: number, c1: number,
+  sign: -1 | 1, upperHalfZero: boolean,
 ): void {
   const { n, cos, sin, rev } = plan;
   for (let i = 0; i < n; i++) {
     const j = rev[i];
     if (j > i) {
       const a = i * width, b = j * width;
-      for (let c = 0; c < width; c++) {
+      for (let c = c0; c < c1; c++) {
         let t = re[a + c]; re[a + c] = re[b + c]; re[b + c] = t;
         t = im[a + c]; im[a + c] = im[b + c]; im[b + c] = t;
       }
     }
   }
-  for (let size = 2; size <= n; size <<= 1) {
-    const half = size >> 1;
-    const step = n / size;
-    for (let start = 0; start < n; start += size) {
-      for (let j = 0, k = 0; j < half; j++, k += step) {
-        const wr = cos[k], wi = sign * sin[k];
+  if (n < 2) return;
+  // Size 2: unit twiddles. After bit reversal the partner row holds an input row >= n/2, which
+  // is zero when the upper half is: a copy replaces the butterfly.
+  for (let start = 0; start < n; start += 2) {
+    const p = start * width, q = p + width;
+    if (upperHalfZero) {
+      for (let c = c0; c < c1; c++) { re[q + c] = re[p + c]; im[q + c] = im[p + c]; }
+    } else {
+      for (let c = c0; c < c1; c++) {
+        const xr = re[q + c], xi = im[q + c], ur = re[p + c], ui = im[p + c];
+        re[p + c] = ur + xr; im[p + c] = ui + xi;
+        re[q + c] = ur - xr; im[q + c] = ui - xi;
+      }
+    }
+  }
+  let size = 4;
+  // An odd count of remaining stages: one radix-2 stage, then pairs of stages.
+  let stages = 0;
+  for (let s = 4; s <= n; s <<= 1) stages++;
+  if (stages % 2 === 1) {
+    const half = 2, step = n / 4;
+    for (let start = 0; start < n; start += 4) {
+      for (let j = 0; j < half; j++) {
+        const wr = cos[j * step], wi = sign * sin[j * step];
         const p = (start + j) * width, q = (start + j + half) * width;
-        if (size === 2 && nonZeroRows * 2 <= n) {
-          // After bit reversal the partner row of a size-2 butterfly holds an input row >= n/2,
-          // which is zero when at most half the rows carry data: a copy replaces the butterfly.
-          re.copyWithin(q, p, p + width);
-          im.copyWithin(q, p, p + width);
-          continue;
+        for (let c = c0; c < c1; c++) {
+          const xr = re[q + c], xi = im[q + c];
+          const tr = wr * xr - wi * xi, ti = wr * xi + wi * xr;
+          const ur = re[p + c], ui = im[p + c];
+          re[p + c] = ur + tr; im[p + c] = ui + ti;
+          re[q + c] = ur - tr; im[q + c] = ui - ti;
         }
-        if (k === 0) {
-          for (let c = 0; c < width; c++) {
-            const xr = re[q + c], xi = im[q + c], ur = re[p + c], ui = im[p + c];
-            re[p + c] = ur + xr; im[p + c] = ui + xi;
-            re[q + c] = ur - xr; im[q + c] = ui - xi;
-          }
-        } else {
-          for (let c = 0; c < width; c++) {
-            const xr = re[q + c], xi = im[q + c];
-            const tr = wr * xr - wi * xi;
-            const ti = wr * xi + wi * xr;
-            const ur = re[p + c], ui = im[p + c];
-            re[p + c] = ur + tr; im[p + c] = ui + ti;
-            re[q + c] = ur - tr; im[q + c] = ui - ti;
-          }
+      }
+    }
+    size = 8;
+  }
+  // Two radix-2 stages (sizes s and 2s) per pass over the rows: four rows a, b = a + s/2,
+  // c = a + s, d = c + s/2 go through both stages in registers, halving memory traffic.
+  for (; size * 2 <= n; size <<= 2) {
+    const h = size >> 1;
+    const s1 = n / size, s2 = n / (2 * size);
+    for (let g = 0; g < n; g += 2 * size) {
+      for (let j = 0; j < h; j++) {
+        const w1r = cos[j * s1], w1i = sign * sin[j * s1];
+        const w2r = cos[j * s2], w2i = sign * sin[j * s2];
+        const w3r = cos[(j + h) * s2], w3i = sign * sin[(j + h) * s2];
+        const a = (g + j) * width, b = a + h * width, cc = a + size * width, d = cc + h * width;
+        for (let c = c0; c < c1; c++) {
+          const ar = re[a + c], ai = im[a + c];
+          const br = re[b + c], bi = im[b + c];
+          const cr = re[cc + c], ci = im[cc + c];
+          const dr = re[d + c], di = im[d + c];
+          // stage of size s on (a, b) and (c, d)
+          const t1r = w1r * br - w1i * bi, t1i = w1r * bi + w1i * br;
+          const t2r = w1r * dr - w1i * di, t2i = w1r * di + w1i * dr;
+          const a1r = ar + t1r, a1i = ai + t1i, b1r = ar - t1r, b1i = ai - t1i;
+          const c1r = cr + t2r, c1i = ci + t2i, d1r = cr - t2r, d1i = ci - t2i;
+          // stage of size 2s on (a, c) and (b, d)
+          const u1r = w2r * c1r - w2i * c1i, u1i = w2r * c1i + w2i * c1r;
+          const u2r = w3r * d1r - w3i * d1i, u2i = w3r * d1i + w3i * d1r;
+          re[a + c] = a1r + u1r; im[a + c] = a1i + u1i;
+          re[cc + c] = a1r - u1r; im[cc + c] = a1i - u1i;
+          re[b + c] = b1r + u2r; im[b + c] = b1i + u2i;
+          re[d + c] = b1r - u2r; im[d + c] = b1i - u2i;
         }
       }
     }
@@ -170,12 +218,12 @@ export function realFftRow(
 ): void {
   const m = plan.n >> 1;
   const { zr, zi, cos, sin } = plan;
-  zr.fill(0); zi.fill(0);
   const len = Math.min(count, plan.n);
-  for (let i = 0; i < len; i++) {
-    const v = x[inOffset + i];
-    if ((i & 1) === 0) zr[i >> 1] = v; else zi[i >> 1] = v;
-  }
+  const pairs = len >> 1;
+  for (let i = 0, o = inOffset; i < pairs; i++, o += 2) { zr[i] = x[o]; zi[i] = x[o + 1]; }
+  let next = pairs;
+  if (len & 1) { zr[pairs] = x[inOffset + len - 1]; zi[pairs] = 0; next++; }
+  if (next < m) { zr.fill(0, next); zi.fill(0, next); }
   fftRow(plan.half, zr, zi, 0, -1);
   // X[k] = E[k] + W^k O[k], E = (Z[k] + conj Z[m-k]) / 2, O = (Z[k] - conj Z[m-k]) / 2i.
   for (let k = 0; k <= m; k++) {
@@ -218,7 +266,7 @@ export function realInverseFftRow(
   fftRow(plan.half, zr, zi, 0, 1);
   const s = scale / m;
   const len = Math.min(count, plan.n);
-  for (let i = 0; i < len; i++) {
-    out[outOffset + i] = ((i & 1) === 0 ? zr[i >> 1] : zi[i >> 1]) * s;
-  }
+  const pairs = len >> 1;
+  for (let i = 0, o = outOffset; i < pairs; i++, o += 2) { out[o] = zr[i] * s; out[o + 1] = zi[i] * s; }
+  if (len & 1) out[outOffset + len - 1] = zr[pairs] * s;
 }

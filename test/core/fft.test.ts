@@ -38,13 +38,14 @@ describe('fft (checked against the DFT definition)', () => {
     });
   }
 
-  it('column transform equals row transforms of the transposed block, with the zero-row shortcut', () => {
-    const n = 16, w = 5;
+  for (const [n, w, zeroUpper] of [[16, 5, true], [8, 3, false], [32, 4, true], [64, 2, false], [2, 3, true]] as const)
+  it(`column transform of ${n} rows equals the DFT of each column (${zeroUpper ? 'zero upper half shortcut' : 'full'})`, () => {
     const re = new Float64Array(n * w), im = new Float64Array(n * w);
     const data = rand(n * w * 2, 3);
-    for (let r = 0; r < n / 2; r++) for (let c = 0; c < w; c++) { re[r * w + c] = data[r * w + c]; im[r * w + c] = data[n * w + r * w + c]; }
+    const rows = zeroUpper ? n / 2 : n;
+    for (let r = 0; r < rows; r++) for (let c = 0; c < w; c++) { re[r * w + c] = data[r * w + c]; im[r * w + c] = data[n * w + r * w + c]; }
     const copyR = Float64Array.from(re), copyI = Float64Array.from(im);
-    fftColumns(createFftPlan(n), re, im, w, -1, n / 2);
+    fftColumns(createFftPlan(n), re, im, w, -1, rows);
     for (let c = 0; c < w; c++) {
       const colR = Array.from({ length: n }, (_, r) => copyR[r * w + c]);
       const colI = Array.from({ length: n }, (_, r) => copyI[r * w + c]);
@@ -56,13 +57,13 @@ describe('fft (checked against the DFT definition)', () => {
     }
   });
 
-  for (const n of [2, 4, 32, 128]) {
-    it(`real length ${n}: half spectrum equals the DFT, and the inverse returns the input`, () => {
-      const x = rand(n, 11 + n);
+  for (const [n, count] of [[2, 2], [4, 4], [32, 32], [128, 128], [32, 13], [16, 1]] as const) {
+    it(`real length ${n} from ${count} samples: half spectrum equals the DFT, and the inverse returns the input`, () => {
+      const x = rand(n, 11 + n).map((v, i) => (i < count ? v : 0));
       const [er, ei] = dft(x, new Array(n).fill(0), -1);
       const plan = createRealFftPlan(n);
       const sr = new Float64Array(n / 2 + 1), si = new Float64Array(n / 2 + 1);
-      realFftRow(plan, x, 0, n, sr, si, 0);
+      realFftRow(plan, x, 0, count, sr, si, 0);
       for (let k = 0; k <= n / 2; k++) {
         expect(sr[k]).toBeCloseTo(er[k], 10);
         expect(si[k]).toBeCloseTo(ei[k], 10);
