@@ -1,0 +1,169 @@
+// The windowed least-squares fit shared by the affine velocity estimators. The model at every
+// window centre is  target + Sum_p a_p psi_p = 0  (the residual of the evolution equation), where
+// each column psi_p is a short sum of terms  coef * x^px * y^py * channel  with x, y the pixel
+// offsets from the window centre. Minimising Sum w (target + psi . a)^2 gives the normal equations
+// M a = -b with M_pq = Sum w psi_p psi_q and b_p = Sum w psi_p target; every entry is a sum of
+// windowed moments  Sum w x^m y^n q_j q_k, each of them one separable convolution (two 1-D passes),
+// computed once and shared by all entries that need it. Pixels where any channel is NaN leave
+// every window (see windowedSum's NaN policy); centres that are such pixels get NaN.
+
+import { correlateColumns, correlateRows, gaussianTaps, windowRadius } from './windowedSum.js';
+
+export interface ModelTerm {
+  readonly coef: number;
+  /** Index into the channel list. */
+  readonly channel: number;
+  /** Powers of the window offsets x, y. */
+  readonly px: number;
+  readonly py: number;
+}
+
+/** A windowed moment Sum w x^px y^py q_j q_k and the matrix entries it adds to. */
+interface Moment {
+  readonly j: number;
+  readonly k: number;
+  readonly px: number;
+  readonly py: number;
+  readonly uses: { entry: number; coef: number }[];
+}
+
+/** One column psi_p of the model (or the target): a sum of terms. */
+export type ModelColumn = readonly ModelTerm[];
+
+export interface AffineFitResult {
+  /** Fitted parameters a_p per pixel (only those asked for), NaN where no fit. */
+  readonly params: Float64Array[];
+  /** Pixels that had valid channels at the centre but an ill-conditioned window. */
+  readonly illConditioned: number;
+}
+
+/**
+ * Fits `columns` (n of them) to `target` in Gaussian windows of width `sigma` pixels around every
+ * pixel. Returns maps of the parameters listed in `wanted`. A window is ill-conditioned when a
+ * Cholesky pivot of M scaled to unit diagonal falls below `minPivot`.
+ */
+export function affineWindowFit(
+  channels: readonly ArrayLike<number>[], nx: number, ny: number,
+  columns: readonly ModelColumn[], target: ModelColumn,
+  sigma: number, minPivot: number, wanted: readonly number[],
+): AffineFitResult {
+  const n = columns.length;
+  const size = nx * ny;
+  const all = [...columns, target];
+  // Entry layout per pixel: upper triangle of M (p <= q < n), then b (n values).
+  const entryIndex = (p: number, q: number) => (q === n ? (n * (n + 1)) / 2 + p : (q * (q + 1)) / 2 + p);
+  const entries = (n * (n + 1)) / 2 + n;
+
+  // Which moment (channel pair, powers) feeds which entry with which coefficient.
+  const moments = new Map<string, Moment>();
+  for (let q = 0; q <= n; q++) {
+    for (let p = 0; p <= Math.min(q, n - 1); p++) {
+      const entry = entryIndex(p, q);
+      for (const t1 of all[p]) for (const t2 of all[q]) {
+        const j = Math.min(t1.channel, t2.channel), k = Math.max(t1.channel, t2.channel);
+        const px = t1.px + t2.px, py = t1.py + t2.py;
+        const key = `${j},${k},${px},${py}`;
+        let m = moments.get(key);
+        if (!m) { m = { j, k, px, py, uses: [] }; moments.set(key, m); }
+        m.uses.push({ entry, coef: t1.coef * t2.coef });
+      }
+    }
+  }
+
+  const valid = new Uint8Array(size);
+  for (let i = 0; i < size; i++) {
+    let ok = 1;
+    for (const c of channels) if (!Number.isFinite(c[i])) { ok = 0; break; }
+    valid[i] = ok;
+  }
+
+  const r = windowRadius(sigma);
+  const taps: Float64Array[] = [0, 1, 2, 3, 4].map((power) => gaussianTaps(sigma, r, power));
+  const sums = new Float64Array(size * entries);
+  const product = new Float64Array(size);
+  const rowPassed = new Map<number, Float64Array>();
+  const column = new Float64Array(size);
+  // Group the moments by channel pair so that a product and its row passes are made once.
+  const byPair = new Map<string, Moment[]>();
+  for (const m of moments.values()) {
+    const key = `${m.j},${m.k}`;
+    const list = byPair.get(key) ?? [];
+    list.push(m);
+    byPair.set(key, list);
+  }
+  for (const list of byPair.values()) {
+    const a = channels[list[0].j], b = channels[list[0].k];
+    for (let i = 0; i < size; i++) product[i] = valid[i] ? a[i] * b[i] : 0;
+    rowPassed.clear();
+    for (const m of list) {
+      let rows = rowPassed.get(m.px);
+      if (!rows) {
+        rows = new Float64Array(size);
+        correlateRows(product, nx, ny, taps[m.px], rows);
+        rowPassed.set(m.px, rows);
+      }
+      correlateColumns(rows, nx, ny, taps[m.py], column);
+      for (const u of m.uses) {
+        const { entry, coef } = u;
+        for (let i = 0, o = entry; i < size; i++, o += entries) sums[o] += coef * column[i];
+      }
+    }
+  }
+
+  const params = wanted.map(() => new Float64Array(size).fill(NaN));
+  const mat = new Float64Array(n * n);
+  const rhs = new Float64Array(n);
+  const scale = new Float64Array(n);
+  let illConditioned = 0;
+  for (let i = 0; i < size; i++) {
+    if (!valid[i]) continue;
+    const base = i * entries;
+    let ok = true;
+    for (let p = 0; p < n; p++) {
+      const d = sums[base + entryIndex(p, p)];
+      if (!(d > 0)) { ok = false; break; }
+      scale[p] = 1 / Math.sqrt(d);
+    }
+    if (ok) {
+      for (let q = 0; q < n; q++) {
+        for (let p = 0; p <= q; p++) {
+          const v = sums[base + entryIndex(p, q)] * scale[p] * scale[q];
+          mat[p * n + q] = v;
+          mat[q * n + p] = v;
+        }
+        rhs[q] = -sums[base + entryIndex(q, n)] * scale[q];
+      }
+      ok = choleskySolve(mat, rhs, n, minPivot);
+    }
+    if (!ok) { illConditioned++; continue; }
+    for (let w = 0; w < wanted.length; w++) params[w][i] = rhs[wanted[w]] * scale[wanted[w]];
+  }
+  return { params, illConditioned };
+}
+
+/** Solves mat x = rhs in place (x into rhs) by Cholesky; false when a pivot is below minPivot. */
+function choleskySolve(mat: Float64Array, rhs: Float64Array, n: number, minPivot: number): boolean {
+  for (let j = 0; j < n; j++) {
+    let d = mat[j * n + j];
+    for (let k = 0; k < j; k++) d -= mat[j * n + k] * mat[j * n + k];
+    if (!(d > minPivot)) return false;
+    const l = Math.sqrt(d);
+    mat[j * n + j] = l;
+    for (let i = j + 1; i < n; i++) {
+      let s = mat[i * n + j];
+      for (let k = 0; k < j; k++) s -= mat[i * n + k] * mat[j * n + k];
+      mat[i * n + j] = s / l;
+    }
+  }
+  for (let i = 0; i < n; i++) {
+    let s = rhs[i];
+    for (let k = 0; k < i; k++) s -= mat[i * n + k] * rhs[k];
+    rhs[i] = s / mat[i * n + i];
+  }
+  for (let i = n - 1; i >= 0; i--) {
+    let s = rhs[i];
+    for (let k = i + 1; k < n; k++) s -= mat[k * n + i] * rhs[k];
+    rhs[i] = s / mat[i * n + i];
+  }
+  return true;
+}

@@ -1,0 +1,59 @@
+// The differential affine velocity estimator (Schuck 2006). In a Gaussian window about each pixel
+// the velocity is affine, u = (U0 + Ux x + Uy y, V0 + Vx x + Vy y), and the normal-field evolution
+// equation dBz/dt + div(Bz u) = 0 is fitted in the least-squares sense:
+//   dBz/dt + U0 Gx + V0 Gy + Ux (x Gx + Bz) + Vy (y Gy + Bz) + Uy y Gx + Vx x Gy = 0,
+// with Bz the mid-time field (a + b)/2, G its gradient and dBz/dt = (b - a)/dt, so the result
+// belongs to the mid-time. The window centre's (U0, V0) is the velocity there. Everything is done
+// per pixel and converted to km/s at the end, so unequal pixel sides are handled.
+
+import { affineWindowFit } from './affineWindowFit.js';
+import type { ModelColumn } from './affineWindowFit.js';
+import { derivativeX, derivativeY } from './gradient.js';
+import { KM_PER_MM } from '../units.js';
+
+export interface AffineOptions {
+  readonly sigma: number;
+  readonly minPivot: number;
+}
+
+export interface AffineVelocity {
+  /** Velocity, km/s, NaN where the centre had no data or the window was ill-conditioned. */
+  readonly vx: Float64Array;
+  readonly vy: Float64Array;
+  readonly illConditioned: number;
+}
+
+/** Mid-time field and time derivative of a pair: (a + b)/2 and (b - a)/dt (G, G/s). */
+export function midAndRate(a: ArrayLike<number>, b: ArrayLike<number>, dtS: number): { mid: Float64Array; rate: Float64Array } {
+  const n = a.length;
+  const mid = new Float64Array(n), rate = new Float64Array(n);
+  for (let i = 0; i < n; i++) {
+    mid[i] = 0.5 * (a[i] + b[i]);
+    rate[i] = (b[i] - a[i]) / dtS;
+  }
+  return { mid, rate };
+}
+
+const t = (channel: number, px = 0, py = 0, coef = 1) => ({ coef, channel, px, py });
+
+// Channels: 0 Gx, 1 Gy, 2 Bz, 3 dBz/dt. Columns in the order U0, V0, Ux, Vy, Uy, Vx.
+export const DAVE_COLUMNS: readonly ModelColumn[] = [
+  [t(0)], [t(1)], [t(0, 1, 0), t(2)], [t(1, 0, 1), t(2)], [t(0, 0, 1)], [t(1, 1, 0)],
+];
+export const DAVE_TARGET: ModelColumn = [t(3)];
+
+/** Velocity between two bn maps dt seconds apart on a grid of nx x ny pixels of dx x dy Mm. */
+export function differentialAffineVelocity(
+  a: ArrayLike<number>, b: ArrayLike<number>, nx: number, ny: number, dx: number, dy: number, dtS: number,
+  options: AffineOptions,
+): AffineVelocity {
+  const { mid, rate } = midAndRate(a, b, dtS);
+  const gx = derivativeX(mid, nx, ny), gy = derivativeY(mid, nx, ny);
+  const fit = affineWindowFit([gx, gy, mid, rate], nx, ny, DAVE_COLUMNS, DAVE_TARGET, options.sigma, options.minPivot, [0, 1]);
+  const [u, v] = fit.params;
+  for (let i = 0; i < u.length; i++) {
+    u[i] *= dx * KM_PER_MM; // pixels/s -> km/s
+    v[i] *= dy * KM_PER_MM;
+  }
+  return { vx: u, vy: v, illConditioned: fit.illConditioned };
+}

@@ -1,0 +1,68 @@
+// Windowed sums over a separable window: out(x0, y0) = Sum_d Sum_e kx[d] ky[e] map(x0 + d, y0 + e),
+// with d, e running over -r..r (a correlation, so a kernel weighted by d^a weighs the offset from
+// the window centre, as the moments of the affine fits need). Two direct 1-D passes: rows, then
+// columns with the inner loop along whole rows.
+//
+// NaN policy: a NaN value counts as zero, i.e. that pixel leaves every window it falls in; the
+// caller decides what a window with missing pixels is worth (the fits below check conditioning).
+// Outside the grid counts as zero too: windows are cut at the edges, never wrapped or mirrored.
+
+/** Taps w(d) d^power for d = -r..r of a Gaussian window of width sigma (pixels), unnormalised. */
+export function gaussianTaps(sigma: number, radius: number, power = 0): Float64Array {
+  const taps = new Float64Array(2 * radius + 1);
+  for (let d = -radius; d <= radius; d++) {
+    taps[d + radius] = Math.exp(-(d * d) / (2 * sigma * sigma)) * d ** power;
+  }
+  return taps;
+}
+
+/** Radius (pixels) at which a Gaussian of width sigma is cut: 3 sigma, where it has fallen to 1.1%. */
+export function windowRadius(sigma: number): number {
+  return Math.max(1, Math.ceil(3 * sigma));
+}
+
+/** Row pass: out[y][x] = Sum_d taps[d + r] in[y][x + d], NaN and outside counted as zero. */
+export function correlateRows(input: ArrayLike<number>, nx: number, ny: number, taps: Float64Array, out: Float64Array): void {
+  const r = (taps.length - 1) >> 1;
+  for (let y = 0; y < ny; y++) {
+    const row = y * nx;
+    for (let x = 0; x < nx; x++) {
+      const lo = Math.max(-r, -x), hi = Math.min(r, nx - 1 - x);
+      let s = 0;
+      for (let d = lo; d <= hi; d++) {
+        const v = input[row + x + d];
+        if (v === v) s += taps[d + r] * v; // v === v is false only for NaN
+      }
+      out[row + x] = s;
+    }
+  }
+}
+
+/** Column pass: out[y][x] = Sum_e taps[e + r] in[y + e][x]; `input` must hold no NaN (row-pass output). */
+export function correlateColumns(input: Float64Array, nx: number, ny: number, taps: Float64Array, out: Float64Array): void {
+  const r = (taps.length - 1) >> 1;
+  out.fill(0, 0, nx * ny);
+  for (let y = 0; y < ny; y++) {
+    const o = y * nx;
+    const lo = Math.max(-r, -y), hi = Math.min(r, ny - 1 - y);
+    for (let e = lo; e <= hi; e++) {
+      const t = taps[e + r];
+      if (t === 0) continue;
+      const src = (y + e) * nx;
+      for (let x = 0; x < nx; x++) out[o + x] += t * input[src + x];
+    }
+  }
+}
+
+/**
+ * The windowed sum of `map` with the separable window kx (along x) times ky (along y), into `out`
+ * (a new array when not given). `scratch` (nx*ny) may be passed to avoid an allocation.
+ */
+export function windowedSum(
+  map: ArrayLike<number>, nx: number, ny: number, kx: Float64Array, ky: Float64Array,
+  out = new Float64Array(nx * ny), scratch = new Float64Array(nx * ny),
+): Float64Array {
+  correlateRows(map, nx, ny, kx, scratch);
+  correlateColumns(scratch, nx, ny, ky, out);
+  return out;
+}
