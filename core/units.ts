@@ -52,3 +52,31 @@ export function velocityToKmPerS(value: number, unit: string): number | undefine
     default: return undefined;
   }
 }
+
+/** Metres per astronomical unit (IAU 2012 resolution B2, exact). */
+export const M_PER_AU = 149597870700;
+
+/** Angle in radians from a value with a FITS unit string (deg, arcmin, arcsec, mas, rad); undefined when unknown. */
+export function angleToRadians(value: number, unit: string): number | undefined {
+  switch (unit.trim().toLowerCase()) {
+    case 'deg': case 'degree': case 'degrees': return (value * Math.PI) / 180;
+    case 'arcmin': return (value * Math.PI) / (180 * 60);
+    case 'arcsec': return (value * Math.PI) / (180 * 3600);
+    case 'mas': return (value * Math.PI) / (180 * 3600e3);
+    case 'rad': return value;
+    default: return undefined;
+  }
+}
+
+/** Magnetic field in G from a FITS unit string: G and Mx/cm^2 alike (1 Mx cm^-2 = 1 G), T, mT, nT; undefined when unknown. */
+export function fieldToGauss(value: number, unit: string): number | undefined {
+  switch (unit.trim().replace(/\s+/g, ' ')) {
+    case 'G': case 'gauss': case 'Gauss': case 'GAUSS':
+    case 'Mx/cm^2': case 'Mx/cm2': case 'Mx cm-2': case 'Mx.cm**-2': case 'Mx cm**-2': case 'Mx/cm**2': case 'Mx cm^-2':
+      return value;
+    case 'T': return value * 1e4;
+    case 'mT': return value * 10;
+    case 'nT': return value * 1e-5;
+    default: return undefined;
+  }
+}
