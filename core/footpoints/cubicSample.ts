@@ -1,0 +1,28 @@
+// Bicubic (Catmull-Rom) interpolation of a row-major map with its gradient, for sub-pixel pattern
+// fits. A sample whose 4x4 support leaves the grid or touches a NaN is invalid.
+
+/** Writes [value, d/dx, d/dy] (per pixel) at pixel coordinates (px, py) into out; false when invalid. */
+export function sampleCubic(map: ArrayLike<number>, nx: number, ny: number, px: number, py: number, out: Float64Array): boolean {
+  const ix = Math.floor(px), iy = Math.floor(py);
+  if (ix < 1 || iy < 1 || ix + 2 >= nx || iy + 2 >= ny) return false;
+  const tx = px - ix, ty = py - iy;
+  const wx0 = ((-0.5 * tx + 1) * tx - 0.5) * tx, wx1 = (1.5 * tx - 2.5) * tx * tx + 1;
+  const wx2 = ((-1.5 * tx + 2) * tx + 0.5) * tx, wx3 = (0.5 * tx - 0.5) * tx * tx;
+  const dx0 = (-1.5 * tx + 2) * tx - 0.5, dx1 = (4.5 * tx - 5) * tx;
+  const dx2 = (-4.5 * tx + 4) * tx + 0.5, dx3 = (1.5 * tx - 1) * tx;
+  const wy = [((-0.5 * ty + 1) * ty - 0.5) * ty, (1.5 * ty - 2.5) * ty * ty + 1, ((-1.5 * ty + 2) * ty + 0.5) * ty, (0.5 * ty - 0.5) * ty * ty];
+  const dyw = [(-1.5 * ty + 2) * ty - 0.5, (4.5 * ty - 5) * ty, (-4.5 * ty + 4) * ty + 0.5, (1.5 * ty - 1) * ty];
+  let v = 0, gx = 0, gy = 0;
+  let row = (iy - 1) * nx + ix - 1;
+  for (let k = 0; k < 4; k++, row += nx) {
+    const a = map[row], b = map[row + 1], c = map[row + 2], d = map[row + 3];
+    const h = wx0 * a + wx1 * b + wx2 * c + wx3 * d;
+    if (!Number.isFinite(h)) return false;
+    const hd = dx0 * a + dx1 * b + dx2 * c + dx3 * d;
+    v += wy[k] * h;
+    gy += dyw[k] * h;
+    gx += wy[k] * hd;
+  }
+  out[0] = v; out[1] = gx; out[2] = gy;
+  return true;
+}

@@ -1,0 +1,53 @@
+// Gaussian smoothing that respects "no data": a normalised convolution (the weighted mean of the
+// valid pixels under the kernel), so NaN neither spreads nor pulls values toward zero, and NaN
+// pixels stay NaN. Separable: two 1-D passes.
+
+/** Smoothed copy of `map` (nx*ny, row-major) with a Gaussian of `sigma` pixels; sigma 0 copies. */
+export function smoothMap(map: ArrayLike<number>, nx: number, ny: number, sigma: number): Float64Array {
+  const n = nx * ny;
+  const out = new Float64Array(n);
+  if (!(sigma > 0)) {
+    for (let i = 0; i < n; i++) out[i] = Number.isFinite(map[i]) ? map[i] : NaN;
+    return out;
+  }
+  const radius = Math.max(1, Math.ceil(3 * sigma));
+  const kernel = new Float64Array(2 * radius + 1);
+  for (let k = -radius; k <= radius; k++) kernel[k + radius] = Math.exp(-(k * k) / (2 * sigma * sigma));
+  // Pass 1 along x: value sums and weight sums.
+  const sv = new Float64Array(n), sw = new Float64Array(n);
+  const val = new Float64Array(n), ok = new Float64Array(n);
+  for (let i = 0; i < n; i++) {
+    const v = map[i];
+    if (Number.isFinite(v)) { val[i] = v; ok[i] = 1; }
+  }
+  for (let y = 0; y < ny; y++) {
+    const row = y * nx;
+    for (let x = 0; x < nx; x++) {
+      let a = 0, w = 0;
+      const k0 = Math.max(-radius, -x), k1 = Math.min(radius, nx - 1 - x);
+      for (let k = k0; k <= k1; k++) {
+        const c = kernel[k + radius], j = row + x + k;
+        a += c * val[j];
+        w += c * ok[j];
+      }
+      sv[row + x] = a;
+      sw[row + x] = w;
+    }
+  }
+  // Pass 2 along y.
+  for (let y = 0; y < ny; y++) {
+    const k0 = Math.max(-radius, -y), k1 = Math.min(radius, ny - 1 - y);
+    for (let x = 0; x < nx; x++) {
+      const i = y * nx + x;
+      if (!ok[i]) { out[i] = NaN; continue; }
+      let a = 0, w = 0;
+      for (let k = k0; k <= k1; k++) {
+        const c = kernel[k + radius], j = i + k * nx;
+        a += c * sv[j];
+        w += c * sw[j];
+      }
+      out[i] = a / w;
+    }
+  }
+  return out;
+}

@@ -1,0 +1,118 @@
+import { describe, expect, it } from 'vitest';
+import type { FootpointAnalysis, FootpointState } from '../../core/footpoints/analyseFootpoints.js';
+import { analyseFootpoints } from '../../core/footpoints/analyseFootpoints.js';
+import type { FootpointEvent } from '../../core/footpoints/tracking.js';
+import type { Spot } from './scene.js';
+import { sceneFrame } from './scene.js';
+
+// A scripted scene of our own (no outside source: the script is the truth). 50 frames one minute
+// apart on a 160 x 100 grid of 0.5 Mm pixels, everything drifting by (0.25, 0.1) Mm per frame:
+//   A(+), B(-)        steady the whole time
+//   C(+), D(+)        approach and merge around frame 15-20, one footpoint afterwards
+//   E(-)              two coincident halves that separate from frame 25: a split
+//   F(+), G(-)        approach and fade from frame 15, gone by frame 35: a cancellation
+//   H(+), I(-)        born together at frame 10 beside each other: an emergence
+const grid = { nx: 160, ny: 100, dx: 0.5, dy: 0.5 };
+const DT = 60_000;
+const T0 = Date.UTC(2026, 5, 1, 12);
+
+function spotsAt(f: number): Spot[] {
+  const sx = 0.25 * f, sy = 0.1 * f;
+  const at = (x: number, y: number, s: number, peak: number): Spot => ({ x: x + sx, y: y + sy, a: s, b: s, angle: 0, peak });
+  const spots: Spot[] = [at(6, 8, 1.5, 1200), at(6, 36, 1.5, -1200)];
+  const close = Math.min(f, 20) * 0.2; // C and D each move 4 Mm by frame 20
+  spots.push(at(22 + close, 12, 1.3, 900), at(30 - close, 12, 1.3, 800));
+  const apart = Math.max(0, f - 25) * 0.15;
+  spots.push(at(26 - apart, 36, 1.3, -500), at(26 + apart, 36, 1.3, -500));
+  if (f < 35) {
+    const fade = f < 15 ? 1 : 1 - (f - 15) / 20, near = Math.max(0, f - 15) * 0.125;
+    spots.push(at(40 + near, 24, 1.2, 700 * fade), at(47 - near, 24, 1.2, -700 * fade));
+  }
+  if (f >= 10) spots.push(at(50, 38, 1.2, 600), at(54, 38, 1.2, -600));
+  return spots;
+}
+
+const idNear = (a: FootpointAnalysis, x: number, y: number) => {
+  let best = -1, d = Infinity;
+  for (const r of a.footpoints) {
+    const e = Math.hypot(r.x - x, r.y - y);
+    if (e < d) { d = e; best = r.id; }
+  }
+  return d < 2 ? best : -1;
+};
+
+describe('tracking a scripted scene', () => {
+  const results: FootpointAnalysis[] = [];
+  let state: FootpointState | undefined;
+  for (let f = 0; f < 50; f++) {
+    const r = analyseFootpoints(state, sceneFrame(grid, T0 + f * DT, spotsAt(f), 5, 100 + f));
+    results.push(r);
+    state = r.state;
+  }
+  const events: (FootpointEvent & { frame: number })[] = results.flatMap((r, f) => r.events.map((e) => ({ ...e, frame: f })));
+  const first = results[0];
+  const A = idNear(first, 6, 8), B = idNear(first, 6, 36), C = idNear(first, 22, 12), D = idNear(first, 30, 12);
+  const E = idNear(first, 26, 36), F = idNear(first, 40, 24), G = idNear(first, 47, 24);
+
+  it('finds the seven footpoints of the first frame with the right polarities, and no others', () => {
+    expect(first.footpoints).toHaveLength(7);
+    expect([A, B, C, D, E, F, G].every((id) => id > 0)).toBe(true);
+    expect(new Set([A, B, C, D, E, F, G]).size).toBe(7);
+    const pol = (id: number) => first.footpoints.find((r) => r.id === id)!.polarity;
+    expect([A, B, C, D, E, F, G].map(pol)).toEqual([1, -1, 1, 1, -1, 1, -1]);
+    expect(first.events).toEqual([]);
+  });
+
+  it('logs exactly the scripted events: two births, one merger, one cancellation of two, one split', () => {
+    expect(events.map((e) => e.kind).sort()).toEqual(['appeared', 'appeared', 'merged', 'split', 'vanished', 'vanished']);
+    const born = events.filter((e) => e.kind === 'appeared');
+    expect(born.every((e) => e.frame === 10 && e.time === T0 + 10 * DT)).toBe(true);
+    const H = idNear(results[10], 50 + 2.5, 38 + 1), I = idNear(results[10], 54 + 2.5, 38 + 1);
+    expect(born.map((e) => e.kind === 'appeared' && [e.id, e.cause, e.partner])).toEqual(
+      expect.arrayContaining([[H, 'emergence', I], [I, 'emergence', H]]));
+    for (const e of born) if (e.kind === 'appeared') expect(Math.abs(e.flux)).toBeGreaterThan(1e19);
+
+    const merged = events.find((e) => e.kind === 'merged')!;
+    expect(merged.kind === 'merged' && [...merged.from].sort()).toEqual([C, D].sort());
+    expect(merged.kind === 'merged' && [C, D]).toContain(merged.id);
+    expect(merged.frame).toBeGreaterThanOrEqual(12);
+    expect(merged.frame).toBeLessThanOrEqual(20);
+    // The merged flux is about the sum of the parents'.
+    if (merged.kind === 'merged') expect(merged.flux / (merged.fluxes[0] + merged.fluxes[1])).toBeCloseTo(1, 1);
+
+    const gone = events.filter((e) => e.kind === 'vanished');
+    expect(gone.map((e) => e.kind === 'vanished' && [e.id, e.cause, e.partner])).toEqual(
+      expect.arrayContaining([[F, 'cancellation', G], [G, 'cancellation', F]]));
+    for (const e of gone) {
+      expect(e.frame).toBeGreaterThanOrEqual(25);
+      expect(e.frame).toBeLessThanOrEqual(35);
+    }
+
+    const split = events.find((e) => e.kind === 'split')!;
+    expect(split.kind === 'split' && split.id).toBe(E);
+    expect(split.kind === 'split' && split.into.length).toBe(2);
+    expect(split.kind === 'split' && split.into[0]).toBe(E);
+    expect(split.frame).toBeGreaterThan(25);
+    if (split.kind === 'split') expect((split.fluxes[0] + split.fluxes[1]) / split.flux).toBeCloseTo(1, 1);
+  });
+
+  it('keeps every id through 50 frames of drift (12.5 Mm, 25 pixels)', () => {
+    const merged = events.find((e) => e.kind === 'merged')!;
+    for (let f = 0; f < 50; f++) {
+      const sx = 0.25 * f, sy = 0.1 * f;
+      const r = results[f];
+      expect(idNear(r, 6 + sx, 8 + sy)).toBe(A);
+      expect(idNear(r, 6 + sx, 36 + sy)).toBe(B);
+      if (f > 25) expect(idNear(r, 26 + sx, 12 + sy)).toBe(merged.id);
+      if (f < merged.frame - 1) { expect(idNear(r, 22 + 0.2 * f + sx, 12 + sy)).toBe(C); expect(idNear(r, 30 - 0.2 * f + sx, 12 + sy)).toBe(D); }
+      if (f < 25) expect(idNear(r, 26 + sx, 36 + sy)).toBe(E);
+      if (f >= 11) expect(idNear(r, 50 + sx, 38 + sy)).toBe(idNear(results[10], 52.5, 39));
+      // Tracked footpoints report their drift: 0.25 Mm/min = 4.17 km/s along x.
+      const a = r.footpoints.find((p) => p.id === A)!;
+      if (f > 0) { expect(a.motionSource).toBe('tracking'); expect(a.vx!).toBeCloseTo(4.17, 0); expect(a.vy!).toBeCloseTo(1.67, 0); }
+    }
+    // Ids are never reused.
+    const born = results.flatMap((r) => r.footpoints.map((p) => p.id));
+    expect(Math.max(...born)).toBe(results[49].state.nextId - 1);
+  });
+});
