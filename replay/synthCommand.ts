@@ -1,11 +1,14 @@
 // `helicord synth --out FOLDER`: writes the demo region as frame files, one per frame, and its
-// true series beside them (truth.csv, in the batch CSV's columns). Frames are written as JSON
-// frames until the core FITS writer exists; the file names sort in time order.
+// true series beside them (truth.csv, in the batch CSV's columns). FITS frames by default (the
+// README's frame convention, see fitsFrames.ts), JSON frames on request; the file names sort in
+// time order.
 
 import { mkdir, writeFile } from 'node:fs/promises';
 import { join } from 'node:path';
 import type { Frame } from '../core/frame.js';
 import { frameToJson } from '../core/frameJson.js';
+import { frameToFits } from './fitsFrames.js';
+import { InputError } from '../core/inputError.js';
 import { seriesCsv, seriesRow } from '../core/seriesColumns.js';
 import type { DemoOptions } from './demo/demoRegion.js';
 import { demoRegion } from './demo/demoRegion.js';
@@ -16,6 +19,8 @@ export interface SynthArgs {
   readonly frames?: number;
   readonly size?: number;
   readonly withVelocity?: boolean;
+  /** 'fits' (default) or 'json'. */
+  readonly format?: 'fits' | 'json';
   /** Further demo options (cadence, noise, seed, ...). */
   readonly demo?: DemoOptions;
   /** Where to say what was written (nothing by default). */
@@ -38,8 +43,8 @@ function frameForFile(f: Frame): Frame {
 }
 
 /** The file name of frame i of `count` (zero-padded so that name order is time order). */
-export function demoFrameName(i: number, count: number): string {
-  return `demo_${String(i).padStart(Math.max(4, String(count - 1).length), '0')}.json`;
+export function demoFrameName(i: number, count: number, format: 'fits' | 'json' = 'fits'): string {
+  return `demo_${String(i).padStart(Math.max(4, String(count - 1).length), '0')}.${format}`;
 }
 
 export async function synth(args: SynthArgs): Promise<void> {
@@ -50,11 +55,21 @@ export async function synth(args: SynthArgs): Promise<void> {
     ...(args.withVelocity !== undefined && { withVelocity: args.withVelocity }),
   });
   await mkdir(args.out, { recursive: true });
+  const format = args.format ?? 'fits';
+  if (format !== 'fits' && format !== 'json') throw new InputError('synth', 'format', `must be fits or json, got ${String(format)}`);
   for (let i = 0; i < region.frameCount; i++) {
-    const frame = frameForFile(region.frameAt(i));
-    await writeFile(join(args.out, demoFrameName(i, region.frameCount)), JSON.stringify(frameToJson(frame)));
+    const frame = region.frameAt(i);
+    const name = join(args.out, demoFrameName(i, region.frameCount, format));
+    if (format === 'fits') {
+      await writeFile(name, frameToFits(frame, [
+        { key: 'ORIGIN', value: 'helicord demo region', comment: 'synthetic: an invented active region' },
+        { key: 'FRAMENO', value: i }, { key: 'SEED', value: region.seed }, { key: 'NOISE_G', value: region.noiseG, float: true },
+      ]));
+    } else {
+      await writeFile(name, JSON.stringify(frameToJson(frameForFile(frame))));
+    }
   }
   const rows = truthSeries(region).map(({ sample, point }) => seriesRow(sample, point));
   await writeFile(join(args.out, 'truth.csv'), seriesCsv(rows));
-  args.progress?.write(`wrote ${region.frameCount} demo frames (${region.grid.nx}x${region.grid.ny}, ${region.cadenceS} s cadence) and truth.csv to ${args.out}\n`);
+  args.progress?.write(`wrote ${region.frameCount} demo frames (${region.grid.nx}x${region.grid.ny}, ${region.cadenceS} s cadence) and truth.csv as ${format.toUpperCase()} to ${args.out}\n`);
 }

@@ -60,6 +60,7 @@ export interface DemoRegion {
   readonly startTime: number;
   readonly grid: Grid;
   readonly noiseG: number;
+  readonly seed: number;
   /** Time of frame i, UTC ms. */
   timeAt(i: number): number;
   /** Frame i as an instrument would deliver it (noise; velocity and labels when asked for). */
@@ -223,5 +224,5 @@ export function demoRegion(options: DemoOptions = {}): DemoRegion {
     return t;
   }
 
-  return { frameCount, cadenceS, startTime, grid, noiseG, timeAt, frameAt, cleanFrameAt, truthAt, componentsAt };
+  return { frameCount, cadenceS, startTime, grid, noiseG, seed, timeAt, frameAt, cleanFrameAt, truthAt, componentsAt };
 }

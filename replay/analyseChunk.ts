@@ -1,0 +1,77 @@
+// One contiguous run of an archive through the per-frame step of the pipeline (core analyseFrame),
+// as a worker does it: frames are read one at a time, the state passes from frame to frame, and
+// the first `warmup` frames only prime the state (their samples belong to the previous chunk).
+// Settings and state are the analysis's own business: they are passed through untouched.
+
+import type { AnalysisSettings, AnalysisState, FrameAnalysis } from '../core/frameAnalysis.js';
+import { analyseFrame } from '../core/frameAnalysis.js';
+import type { FluxKernelCache } from '../core/fluxKernel.js';
+import type { Frame } from '../core/frame.js';
+import type { RateSample } from '../core/rateSample.js';
+import { loadFrameFile } from '../server/frameFiles.js';
+import { reasonOf } from './archiveSource.js';
+
+export interface ChunkJob {
+  /** Position of the frame in the ordered archive. */
+  readonly index: number;
+  readonly file: string;
+}
+
+/** What became of one frame. */
+export interface FrameOutcome {
+  readonly index: number;
+  readonly file: string;
+  readonly time?: number;
+  readonly sample?: RateSample;
+  /** Why no sample came from this frame (e.g. the first frame of a pair). */
+  readonly waiting?: string;
+  /** Why the frame was skipped when it could not be read or analysed. */
+  readonly skipped?: string;
+  /** Whatever else the analysis reports (footpoints, events, ...), passed on as it is. */
+  readonly extra?: Record<string, unknown>;
+}
+
+export type MapWriter = (job: ChunkJob, frame: Frame, maps: FrameAnalysis['maps'], sample: RateSample | undefined) => Promise<void>;
+
+export interface ChunkOptions {
+  readonly settings?: unknown;
+  readonly cache?: FluxKernelCache;
+  /** Called with each analysed frame's maps (not for warm-up frames). */
+  readonly writeMaps?: MapWriter;
+  /** Reads a frame; loadFrameFile by default. */
+  readonly load?: (file: string) => Promise<Frame>;
+}
+
+export async function analyseChunk(
+  jobs: readonly ChunkJob[], warmup: number, onOutcome: (o: FrameOutcome) => void, options: ChunkOptions = {},
+): Promise<void> {
+  const cache = options.cache ?? new Map();
+  const load = options.load ?? loadFrameFile;
+  const settings = (options.settings ?? {}) as AnalysisSettings;
+  let state: AnalysisState = {};
+  for (let k = 0; k < jobs.length; k++) {
+    const job = jobs[k];
+    const primer = k < warmup;
+    let frame: Frame;
+    let result: FrameAnalysis;
+    try {
+      frame = await load(job.file);
+      result = analyseFrame(frame, state, settings, cache);
+    } catch (e) {
+      // The state stays as it was: the next frame pairs with the last good one.
+      if (!primer) onOutcome({ index: job.index, file: job.file, skipped: reasonOf(e) });
+      continue;
+    }
+    state = result.state;
+    if (primer) continue;
+    const { sample, waiting, maps, state: _next, ...rest } = result as FrameAnalysis & Record<string, unknown>;
+    void _next;
+    if (options.writeMaps) await options.writeMaps(job, frame, maps, sample);
+    onOutcome({
+      index: job.index, file: job.file, time: frame.time,
+      ...(sample && { sample }),
+      ...(waiting !== undefined && { waiting }),
+      ...(Object.keys(rest).length > 0 && { extra: rest }),
+    });
+  }
+}

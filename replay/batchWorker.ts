@@ -1,0 +1,40 @@
+// The worker thread of a batch run: it scans files (reads and describes them) and analyses
+// contiguous chunks of the ordered archive, posting one message per frame. It is loaded from
+// the compiled dist/ JavaScript by workerPool.ts.
+
+import { parentPort } from 'node:worker_threads';
+import type { ChunkJob, FrameOutcome } from './analyseChunk.js';
+import { analyseChunk } from './analyseChunk.js';
+import { scanFile } from './archiveSource.js';
+import type { ScanResult } from './archiveOrder.js';
+import { mapWriterFor } from './mapFiles.js';
+
+export type WorkerRequest =
+  | { readonly kind: 'scan'; readonly files: readonly string[] }
+  | { readonly kind: 'analyse'; readonly jobs: readonly ChunkJob[]; readonly warmup: number; readonly settings?: unknown; readonly mapsDir?: string };
+
+export type WorkerReply =
+  | { readonly kind: 'scanned'; readonly result: ScanResult }
+  | { readonly kind: 'frame'; readonly outcome: FrameOutcome }
+  | { readonly kind: 'done' }
+  | { readonly kind: 'failed'; readonly message: string };
+
+const port = parentPort;
+if (port) {
+  // One kernel cache for the worker's life: every frame of an archive shares its grid.
+  const cache = new Map();
+  port.on('message', (req: WorkerRequest) => {
+    const reply = (r: WorkerReply) => port.postMessage(r);
+    const run = async () => {
+      if (req.kind === 'scan') {
+        for (const f of req.files) reply({ kind: 'scanned', result: await scanFile(f) });
+      } else {
+        await analyseChunk(req.jobs, req.warmup, (outcome) => reply({ kind: 'frame', outcome }), {
+          settings: req.settings, cache, ...(req.mapsDir !== undefined && { writeMaps: mapWriterFor(req.mapsDir) }),
+        });
+      }
+      reply({ kind: 'done' });
+    };
+    run().catch((e: unknown) => reply({ kind: 'failed', message: e instanceof Error ? e.stack ?? e.message : String(e) }));
+  });
+}

@@ -1,0 +1,47 @@
+// The maps of one analysed frame as a FITS file (--maps DIR): G_theta, the footpoint labels and
+// the velocity used, each an image HDU on the frame's grid, through the core FITS writer.
+
+import { writeFile } from 'node:fs/promises';
+import { basename, join } from 'node:path';
+import type { FrameAnalysis } from '../core/frameAnalysis.js';
+import type { Frame } from '../core/frame.js';
+import type { ImageToWrite } from '../core/fits/writeImage.js';
+import { writeFits } from '../core/fits/writeImage.js';
+import type { RateSample } from '../core/rateSample.js';
+import type { ChunkJob } from './analyseChunk.js';
+import { fitsDate, gridImage } from './fitsFrames.js';
+
+/** The maps file name for a frame file: its name without the extension, then `.maps.fits`. */
+export function mapsFileName(file: string): string {
+  return basename(file).replace(/(\.(json|fits|fit|fts|fz))?(\.gz)?$/i, '') + '.maps.fits';
+}
+
+/** FITS bytes of a frame's maps; undefined when the analysis kept none. */
+export function mapsToFits(frame: Frame, maps: FrameAnalysis['maps'], sample?: RateSample, source?: string): Uint8Array | undefined {
+  const images: ImageToWrite[] = [];
+  if (maps.gTheta) images.push(gridImage(frame, 'GTHETA', maps.gTheta, 'Mx2 cm-2 s-1'));
+  if (maps.labels) images.push(gridImage(frame, 'LABELS', maps.labels, ''));
+  if (maps.vx && maps.vy) images.push(gridImage(frame, 'VX', maps.vx, 'km/s'), gridImage(frame, 'VY', maps.vy, 'km/s'));
+  if (images.length === 0) return undefined;
+  return writeFits({
+    primary: [
+      { key: 'CREATOR', value: 'helicord process' },
+      { key: 'DATE-OBS', value: fitsDate(sample?.time ?? frame.time), comment: 'time of the rate sample' },
+      { key: 'TIMESYS', value: 'UTC' },
+      ...(source ? [{ key: 'SRCFILE', value: basename(source), comment: 'frame file the maps come from' }] : []),
+      ...(sample ? [
+        { key: 'VELMETH', value: sample.velocityMethod, comment: 'how the velocity was obtained' },
+        { key: 'RATE', value: sample.total, float: true, comment: '[Mx2 s-1] integral of G_theta' },
+      ] : []),
+    ],
+    images,
+  });
+}
+
+/** A map writer for analyseChunk that writes into `dir`. */
+export function mapWriterFor(dir: string) {
+  return async (job: ChunkJob, frame: Frame, maps: FrameAnalysis['maps'], sample: RateSample | undefined): Promise<void> => {
+    const bytes = mapsToFits(frame, maps, sample, job.file);
+    if (bytes) await writeFile(join(dir, mapsFileName(job.file)), bytes);
+  };
+}

@@ -1,0 +1,241 @@
+// `helicord process FOLDER --out RESULT.csv [--json RESULT.json] [--maps DIR] [--config FILE]`:
+// a whole archive through the per-frame step of the pipeline without a server. The folder is
+// scanned by the workers (every file read and described), put in time order (archiveOrder.ts),
+// cut into one contiguous chunk per worker with one frame of overlap (so the pair at each border
+// is made by the chunk after it), analysed, and the samples are integrated by the core budget,
+// mapped to the series columns by core/seriesColumns.ts and checked by the core alert rules.
+// Unusable files are reported with their reason and skipped; the run goes on.
+
+import { availableParallelism } from 'node:os';
+import { mkdir, readFile, writeFile } from 'node:fs/promises';
+import { basename } from 'node:path';
+import type { BudgetSettings, BudgetState } from '../core/budget.js';
+import { accumulateBudget, emptyBudget } from '../core/budget.js';
+import type { RulesSettings, RulesState } from '../core/alerts/evaluateRules.js';
+import { alertRecords, emptyRules, evaluateRules } from '../core/alerts/evaluateRules.js';
+import type { AlertChange } from '../core/alerts/alertState.js';
+import { InputError } from '../core/inputError.js';
+import type { RateSample } from '../core/rateSample.js';
+import type { SeriesRow } from '../core/seriesColumns.js';
+import { SERIES_COLUMNS, seriesCsv, seriesRow } from '../core/seriesColumns.js';
+import type { ChunkJob, FrameOutcome } from './analyseChunk.js';
+import type { ScanResult, SkippedFile } from './archiveOrder.js';
+import { orderArchive } from './archiveOrder.js';
+import { listFrameFiles } from './archiveSource.js';
+import type { ProgressReport } from './progressReport.js';
+import { progressReport } from './progressReport.js';
+import type { WorkerPool } from './workerPool.js';
+import { startWorkerPool } from './workerPool.js';
+
+export interface ProcessArgs {
+  readonly folder: string;
+  /** The CSV file. */
+  readonly out: string;
+  readonly json?: string;
+  /** Folder for one FITS file of maps per analysed frame. */
+  readonly maps?: string;
+  /** A JSON file: { analysis?, budget?, rules? } (see batchConfig). */
+  readonly config?: string;
+  /** Worker threads; every core by default. */
+  readonly workers?: number;
+  /** Where progress goes (stderr by default). */
+  readonly progress?: NodeJS.WritableStream;
+}
+
+export interface ProcessSummary {
+  /** Frames analysed. */
+  readonly used: number;
+  /** Files not used, in name order, each with its reason. */
+  readonly skipped: SkippedFile[];
+  /** Rate samples written. */
+  readonly samples: number;
+  /** Files whose time order differs from their name order (used in time order). */
+  readonly reordered: string[];
+}
+
+/** What a --config file holds. Without any of these keys the whole object is the analysis settings. */
+export interface BatchConfig {
+  /** Passed as they are to core analyseFrame. */
+  readonly analysis: unknown;
+  readonly budget: BudgetSettings;
+  readonly rules: RulesSettings['rules'];
+}
+
+/** Reads and splits a --config file. Throws InputError naming the file. */
+export async function readBatchConfig(path?: string): Promise<BatchConfig> {
+  if (path === undefined) return { analysis: {}, budget: {}, rules: {} };
+  let json: unknown;
+  try {
+    json = JSON.parse(await readFile(path, 'utf8'));
+  } catch (e) {
+    throw new InputError(path, '(file)', `cannot be read as JSON: ${(e as Error).message}`);
+  }
+  if (json === null || typeof json !== 'object' || Array.isArray(json)) {
+    throw new InputError(path, '(top level)', 'must be a JSON object: { "analysis": {...}, "budget": {...}, "rules": {...} }');
+  }
+  const o = json as Record<string, unknown>;
+  const object = (key: string): Record<string, unknown> => {
+    const v = o[key];
+    if (v === undefined) return {};
+    if (v === null || typeof v !== 'object' || Array.isArray(v)) throw new InputError(path, key, 'must be a JSON object');
+    return v as Record<string, unknown>;
+  };
+  const split = 'analysis' in o || 'budget' in o || 'rules' in o;
+  return {
+    analysis: split ? object('analysis') : o,
+    budget: object('budget') as BudgetSettings,
+    rules: object('rules') as RulesSettings['rules'],
+  };
+}
+
+/** Splits n frames into `parts` contiguous chunks [start, end), sizes differing by at most one. */
+export function contiguousChunks(n: number, parts: number): { start: number; end: number }[] {
+  const out: { start: number; end: number }[] = [];
+  const k = Math.max(1, Math.min(parts, n));
+  for (let w = 0; w < k; w++) out.push({ start: Math.floor((w * n) / k), end: Math.floor(((w + 1) * n) / k) });
+  return out.filter((c) => c.end > c.start);
+}
+
+async function scanAll(pool: WorkerPool, files: string[], progress: ProgressReport): Promise<ScanResult[]> {
+  const results: ScanResult[] = [];
+  progress.start('reading', files.length);
+  await Promise.all(contiguousChunks(files.length, pool.size).map((c, w) =>
+    pool.run(w, { kind: 'scan', files: files.slice(c.start, c.end) }, (r) => {
+      if (r.kind === 'scanned') { results.push(r.result); progress.tick(); }
+    })));
+  progress.stop();
+  return results;
+}
+
+async function analyseAll(
+  pool: WorkerPool, jobs: ChunkJob[], settings: unknown, mapsDir: string | undefined, progress: ProgressReport,
+): Promise<FrameOutcome[]> {
+  const outcomes: FrameOutcome[] = new Array(jobs.length);
+  progress.start('analysing', jobs.length);
+  await Promise.all(contiguousChunks(jobs.length, pool.size).map((c, w) => {
+    // One frame of overlap: the chunk starts one frame early, that frame only primes the state.
+    const from = Math.max(0, c.start - 1);
+    return pool.run(w, {
+      kind: 'analyse', jobs: jobs.slice(from, c.end), warmup: c.start - from, settings,
+      ...(mapsDir !== undefined && { mapsDir }),
+    }, (r) => {
+      if (r.kind === 'frame') { outcomes[r.outcome.index] = r.outcome; progress.tick(); }
+    });
+  }));
+  progress.stop();
+  return outcomes;
+}
+
+interface SeriesResult {
+  rows: (SeriesRow & { file: string })[];
+  budget: BudgetState;
+  rules: RulesState;
+  alertChanges: AlertChange[];
+}
+
+/** Budget, series rows and alerts from the samples in time order (refusals feed the data rules). */
+function buildSeries(samples: { sample: RateSample; index: number; file: string }[], refusalTimes: number[], config: BatchConfig, cadenceS?: number): SeriesResult {
+  let budget = emptyBudget();
+  let rules = emptyRules();
+  const rulesSettings: RulesSettings = { rules: config.rules ?? {} };
+  const budgetSettings: BudgetSettings = { ...(cadenceS !== undefined && { cadenceS }), ...config.budget };
+  const rows: (SeriesRow & { file: string })[] = [];
+  const alertChanges: AlertChange[] = [];
+  const refusals = [...refusalTimes].sort((a, b) => a - b);
+  let r = 0;
+  const seen: number[] = [];
+  for (const { sample, index, file } of samples) {
+    // Refusals up to this sample's time, in order, so the data rules see them when they happened.
+    while (r < refusals.length && refusals[r] <= sample.time) {
+      seen.push(refusals[r]);
+      const step = evaluateRules(rules, { time: refusals[r], refusalTimes: seen }, rulesSettings);
+      rules = step.state;
+      alertChanges.push(...step.changes.map((c) => c.change));
+      r++;
+    }
+    if (budget.lastTime !== undefined && !(sample.time > budget.lastTime)) continue;
+    const b = accumulateBudget(budget, sample, budgetSettings);
+    budget = b.state;
+    const step = evaluateRules(rules, {
+      time: sample.time, rate: sample.total, sigmaRate: sample.sigmaTotal, budget: b.point.values.total,
+      sigmaBudget: b.point.sigmaTotal, ...(b.point.gap && { gap: b.point.gap }),
+    }, rulesSettings);
+    rules = step.state;
+    alertChanges.push(...step.changes.map((c) => c.change));
+    const row = seriesRow(sample, b.point, index);
+    // The budget marks a gap on the first sample after it.
+    rows.push({ ...row, flags: b.point.gap ? [...row.flags, 'after-gap'] : row.flags, file });
+  }
+  return { rows, budget, rules, alertChanges };
+}
+
+function median(values: number[]): number | undefined {
+  if (values.length === 0) return undefined;
+  const a = [...values].sort((p, q) => p - q);
+  return a[a.length >> 1];
+}
+
+export async function processFolder(args: ProcessArgs): Promise<ProcessSummary> {
+  const progress = progressReport(args.progress ?? process.stderr);
+  const config = await readBatchConfig(args.config);
+  const files = await listFrameFiles(args.folder);
+  if (files.length === 0) throw new InputError(args.folder, '(folder)', 'holds no frame files (.json, .fits)');
+  if (args.workers !== undefined && (!Number.isInteger(args.workers) || args.workers < 1)) {
+    throw new InputError('process', 'workers', `must be a positive integer, got ${args.workers}`);
+  }
+  if (args.maps !== undefined) await mkdir(args.maps, { recursive: true });
+  const size = Math.min(args.workers ?? availableParallelism(), files.length);
+  const pool = startWorkerPool(size);
+  let outcomes: FrameOutcome[];
+  let index;
+  try {
+    index = orderArchive(await scanAll(pool, files, progress));
+    const jobs = index.entries.map((e, i) => ({ index: i, file: e.file }));
+    outcomes = jobs.length > 0 ? await analyseAll(pool, jobs, config.analysis, args.maps, progress) : [];
+  } finally {
+    await pool.close();
+  }
+  const skipped: SkippedFile[] = index.skipped.map((s) => ({ file: s.file, reason: s.reason }));
+  // Frames set aside that have a time feed the refusals rule.
+  const refusalTimes = index.skipped.flatMap((s) => (s.time !== undefined ? [s.time] : []));
+  const samples: { sample: RateSample; index: number; file: string }[] = [];
+  const extras: { index: number; file: string; time?: number; extra: Record<string, unknown> }[] = [];
+  const waiting: { file: string; reason: string }[] = [];
+  let used = 0;
+  for (const o of outcomes) {
+    if (!o) continue;
+    if (o.skipped !== undefined) { skipped.push({ file: o.file, reason: o.skipped }); continue; }
+    used++;
+    if (o.sample) samples.push({ sample: o.sample, index: o.index, file: o.file });
+    else if (o.waiting !== undefined) waiting.push({ file: o.file, reason: o.waiting });
+    if (o.extra) extras.push({ index: o.index, file: o.file, ...(o.time !== undefined && { time: o.time }), extra: o.extra });
+  }
+  skipped.sort((a, b) => (a.file < b.file ? -1 : a.file > b.file ? 1 : 0));
+  samples.sort((a, b) => a.sample.time - b.sample.time);
+  const times = index.entries.map((e) => e.time);
+  const cadenceS = median(times.slice(1).map((t, i) => (t - times[i]) / 1000));
+  const series = buildSeries(samples, refusalTimes, config, cadenceS);
+
+  await writeFile(args.out, seriesCsv(series.rows));
+  if (args.json !== undefined) {
+    const footpoints = extras.filter((e) => 'footpoints' in e.extra).map((e) => ({ file: basename(e.file), time: e.time !== undefined ? new Date(e.time).toISOString() : null, footpoints: e.extra.footpoints }));
+    const events = extras.flatMap((e) => (Array.isArray(e.extra.events) ? e.extra.events : []));
+    const json = {
+      folder: args.folder,
+      frames: { used, skipped, reordered: index.reordered, waiting },
+      columns: SERIES_COLUMNS,
+      samples: series.rows,
+      gaps: series.budget.gaps.map((g) => ({ from: new Date(g.from).toISOString(), to: new Date(g.to).toISOString(), bridged: g.bridged, median_cadence_s: g.medianCadenceS })),
+      ...(footpoints.length > 0 && { footpoints }),
+      ...(events.length > 0 && { events }),
+      alerts: alertRecords(series.rules),
+      alert_changes: series.alertChanges,
+    };
+    await writeFile(args.json, JSON.stringify(json, (_k, v: unknown) => (ArrayBuffer.isView(v) ? Array.from(v as unknown as ArrayLike<number>) : typeof v === 'number' && !Number.isFinite(v) ? null : v), 2));
+  }
+  progress.line(`used ${used} frame${used === 1 ? '' : 's'}, skipped ${skipped.length}; ${series.rows.length} rate samples written to ${args.out}`);
+  for (const s of skipped) progress.line(`  skipped ${s.file}: ${s.reason}`);
+  if (index.reordered.length > 0) progress.line(`  ${index.reordered.length} file(s) were out of name order and were taken in time order`);
+  if (series.rows.length === 0 && waiting.length > 0) progress.line(`  no rate sample: ${waiting[0].reason}`);
+  return { used, skipped, samples: series.rows.length, reordered: [...index.reordered] };
+}
