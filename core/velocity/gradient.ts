@@ -1,7 +1,8 @@
 // Derivatives of a map per pixel, by fourth-order central differences
-// (f(-2) - 8 f(-1) + 8 f(+1) - f(+2)) / 12, second-order central one pixel from an edge and
-// one-sided first differences on the edge itself. NaN spreads to every derivative whose stencil
-// touches it (a derivative across a hole is not guessed).
+// (f(-2) - 8 f(-1) + 8 f(+1) - f(+2)) / 12. Only where the whole stencil fits: the two outer
+// pixels of each line get NaN (lower-order edge formulas err by far more than the interior ones,
+// and a strong feature on the edge would spoil every window that reaches it). NaN spreads to every
+// derivative whose stencil touches it (a derivative across a hole is not guessed).
 
 /** d map / d x (per pixel), x along a row. */
 export function derivativeX(map: ArrayLike<number>, nx: number, ny: number, out = new Float64Array(nx * ny)): Float64Array {
@@ -22,9 +23,7 @@ export function derivativeY(map: ArrayLike<number>, nx: number, ny: number, out 
 
 /** Derivative at position `k` of a line starting at `base` with `stride` and `n` points. */
 function derivativeAt(f: ArrayLike<number>, base: number, k: number, stride: number, n: number): number {
-  const at = (j: number) => f[base + j * stride];
-  if (n < 2) return 0;
-  if (k >= 2 && k <= n - 3) return (at(k - 2) - 8 * at(k - 1) + 8 * at(k + 1) - at(k + 2)) / 12;
-  if (k >= 1 && k <= n - 2) return (at(k + 1) - at(k - 1)) / 2;
-  return k === 0 ? at(1) - at(0) : at(n - 1) - at(n - 2);
+  if (k < 2 || k > n - 3) return NaN;
+  const p = base + k * stride;
+  return (f[p - 2 * stride] - 8 * f[p - stride] + 8 * f[p + stride] - f[p + 2 * stride]) / 12;
 }
