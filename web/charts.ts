@@ -1,0 +1,280 @@
+// The two time charts (Injection rate, Budget) on chart.js. Data enter already decimated to about
+// the chart's width in pixels (decimate.ts), so a redraw costs the same for 200 or 20,000 samples.
+// A small plugin of ours draws what chart.js has no element for: gap shading, threshold lines, the
+// moments alerts were raised, the picked time.
+
+import {
+  Chart, Filler, Legend, LinearScale, LineController, LineElement, PointElement, TimeScale,
+  type ChartDataset, type Plugin,
+} from 'chart.js';
+import 'chartjs-adapter-date-fns';
+import { bandWithBreaks, decimateMinMax, lineWithBreaks, type XY } from './decimate.js';
+import type { AlertMoment, ThresholdLine } from './alertMarks.js';
+import { SERIES_STYLE } from './palette.js';
+import { medianStepMs, type GapSpan, type SeriesPoint } from './seriesMerge.js';
+import { formatSci, formatUtc, prettyUnit, utcTickLabel } from './unitFormat.js';
+import type { WireSample } from './wire.js';
+
+Chart.register(LineController, LineElement, PointElement, LinearScale, TimeScale, Filler, Legend);
+
+export type ChartKind = 'rate' | 'budget';
+
+type Field = keyof WireSample;
+
+const FIELDS: Record<ChartKind, { total: Field; spin: Field; orbit: Field; background: Field; sigma: Field; unit: string }> = {
+  rate: { total: 'rate_total', spin: 'rate_spin', orbit: 'rate_orbit', background: 'rate_background', sigma: 'sigma_rate_total', unit: 'Mx^2/s' },
+  budget: { total: 'budget_total', spin: 'budget_spin', orbit: 'budget_orbit', background: 'budget_background', sigma: 'sigma_budget_total', unit: 'Mx^2' },
+};
+
+export interface ChartMarks {
+  gaps: GapSpan[];
+  thresholds: ThresholdLine[];
+  moments: AlertMoment[];
+  cursor?: number;
+  hover?: number;
+  /** Filled in by each draw: what was drawn (for the page's probe and the tests). */
+  drawn: { markers: number; thresholdLines: number; offScale: number };
+}
+
+const marks = new WeakMap<Chart, ChartMarks>();
+
+export function chartMarks(chart: Chart): ChartMarks {
+  let m = marks.get(chart);
+  if (!m) {
+    m = { gaps: [], thresholds: [], moments: [], drawn: { markers: 0, thresholdLines: 0, offScale: 0 } };
+    marks.set(chart, m);
+  }
+  return m;
+}
+
+const marksPlugin: Plugin<'line'> = {
+  id: 'helicordMarks',
+  beforeDraw(chart) {
+    // An opaque background, so an exported PNG is readable on any viewer.
+    const { ctx, width, height } = chart;
+    ctx.save();
+    ctx.fillStyle = '#ffffff';
+    ctx.fillRect(0, 0, width, height);
+    ctx.restore();
+  },
+  beforeDatasetsDraw(chart) {
+    const m = chartMarks(chart);
+    const { ctx, chartArea: a, scales } = chart;
+    const x = scales.x;
+    ctx.save();
+    ctx.fillStyle = SERIES_STYLE.gap;
+    for (const g of m.gaps) {
+      const x0 = Math.max(a.left, x.getPixelForValue(g.from));
+      const x1 = Math.min(a.right, x.getPixelForValue(g.to));
+      if (x1 > x0) ctx.fillRect(x0, a.top, Math.max(1, x1 - x0), a.bottom - a.top);
+    }
+    ctx.restore();
+  },
+  afterDatasetsDraw(chart) {
+    const m = chartMarks(chart);
+    const { ctx, chartArea: a, scales } = chart;
+    const x = scales.x;
+    const y = scales.y;
+    const unit = prettyUnit(String((chart.options.plugins as { helicordUnit?: string } | undefined)?.helicordUnit ?? ''));
+    let lines = 0;
+    let off = 0;
+    let markers = 0;
+    ctx.save();
+    ctx.font = '11px system-ui, sans-serif';
+    // Threshold lines at +T and -T (the rules use |value|); ones off the scale become a note.
+    const offNotes: string[] = [];
+    for (const t of m.thresholds) {
+      let shown = false;
+      for (const v of [t.value, -t.value]) {
+        if (v < y.min || v > y.max) continue;
+        const py = y.getPixelForValue(v);
+        ctx.strokeStyle = SERIES_STYLE.threshold;
+        ctx.lineWidth = 1.5;
+        ctx.setLineDash([10, 4]);
+        ctx.beginPath();
+        ctx.moveTo(a.left, py);
+        ctx.lineTo(a.right, py);
+        ctx.stroke();
+        ctx.setLineDash([]);
+        ctx.fillStyle = '#5a2d4a';
+        ctx.textAlign = 'right';
+        ctx.textBaseline = v > 0 ? 'bottom' : 'top';
+        ctx.fillText(`${t.label}: ${v < 0 ? '−' : ''}${formatSci(t.value)} ${unit}${t.source ? ' · ' + t.source : ''}`, a.right - 4, v > 0 ? py - 2 : py + 2);
+        lines++;
+        shown = true;
+      }
+      if (!shown) {
+        off++;
+        offNotes.push(`${formatSci(t.value)} ${unit}`);
+      }
+    }
+    if (offNotes.length > 0) {
+      ctx.fillStyle = '#5a2d4a';
+      ctx.textAlign = 'left';
+      ctx.textBaseline = 'top';
+      ctx.fillText(`thresholds beyond the scale: ±${offNotes.join(', ±')}`, a.left + 4, a.top + 2);
+    }
+    // Raised moments: a dashed vertical line and a numbered triangle at the top.
+    for (const mo of m.moments) {
+      if (mo.t < x.min || mo.t > x.max) continue;
+      const px = x.getPixelForValue(mo.t);
+      ctx.strokeStyle = SERIES_STYLE.marker;
+      ctx.lineWidth = 1.5;
+      ctx.setLineDash([3, 3]);
+      ctx.beginPath();
+      ctx.moveTo(px, a.top + 10);
+      ctx.lineTo(px, a.bottom);
+      ctx.stroke();
+      ctx.setLineDash([]);
+      ctx.fillStyle = SERIES_STYLE.marker;
+      ctx.strokeStyle = '#000000';
+      ctx.lineWidth = 1;
+      ctx.beginPath();
+      ctx.moveTo(px - 6, a.top);
+      ctx.lineTo(px + 6, a.top);
+      ctx.lineTo(px, a.top + 10);
+      ctx.closePath();
+      ctx.fill();
+      ctx.stroke();
+      markers++;
+    }
+    // The picked time (solid) and the hovered time (thin).
+    for (const [t, w] of [[m.cursor, 2], [m.hover, 1]] as const) {
+      if (t === undefined || t < x.min || t > x.max) continue;
+      const px = x.getPixelForValue(t);
+      ctx.strokeStyle = w === 2 ? SERIES_STYLE.cursor : 'rgba(0,0,0,0.45)';
+      ctx.lineWidth = w;
+      ctx.beginPath();
+      ctx.moveTo(px, a.top);
+      ctx.lineTo(px, a.bottom);
+      ctx.stroke();
+    }
+    ctx.restore();
+    m.drawn = { markers, thresholdLines: lines, offScale: off };
+  },
+};
+
+type LineChart = Chart<'line', XY[]>;
+
+function lineDataset(label: string, style: { color: string; dash: readonly number[]; width: number }, hidden = false): ChartDataset<'line', XY[]> {
+  return {
+    label, data: [], borderColor: style.color, backgroundColor: style.color, borderDash: style.dash.slice(),
+    borderWidth: style.width, pointRadius: 0, pointHitRadius: 0, spanGaps: false, hidden, tension: 0, fill: false,
+  };
+}
+
+/** Builds one of the two charts on a canvas. */
+export function createSeriesChart(canvas: HTMLCanvasElement, kind: ChartKind): LineChart {
+  const f = FIELDS[kind];
+  const unit = prettyUnit(f.unit);
+  const chart = new Chart<'line', XY[]>(canvas, {
+    type: 'line',
+    data: {
+      datasets: [
+        { ...lineDataset('total ±1σ', { color: SERIES_STYLE.band, dash: [], width: 0 }), backgroundColor: SERIES_STYLE.band, fill: '+1' },
+        { ...lineDataset('band lower', { color: SERIES_STYLE.band, dash: [], width: 0 }), backgroundColor: SERIES_STYLE.band },
+        lineDataset('total', SERIES_STYLE.total),
+        lineDataset('spin', SERIES_STYLE.spin),
+        lineDataset('orbit', SERIES_STYLE.orbit),
+        lineDataset('background', SERIES_STYLE.background, true),
+      ],
+    },
+    options: {
+      animation: false,
+      responsive: true,
+      maintainAspectRatio: false,
+      parsing: false,
+      normalized: true,
+      // Only clicks reach chart.js (the legend toggles lines); hover and picking are ours.
+      events: ['click'],
+      scales: {
+        x: {
+          type: 'time',
+          ticks: {
+            maxRotation: 0,
+            autoSkip: true,
+            callback(value) {
+              const s = this.chart.scales.x;
+              return utcTickLabel(Number(value), s.max - s.min);
+            },
+          },
+          title: { display: true, text: 'time (UTC)' },
+        },
+        y: {
+          ticks: { callback: (v) => formatSci(Number(v), 2) },
+          title: { display: true, text: kind === 'rate' ? `dH/dt (${unit})` : `H (${unit})` },
+        },
+      },
+      plugins: {
+        legend: {
+          position: 'top',
+          align: 'end',
+          labels: { boxWidth: 24, boxHeight: 2, filter: (item: { text: string }) => item.text !== 'band lower' },
+        },
+        tooltip: { enabled: false },
+        helicordUnit: f.unit,
+      } as never,
+    },
+    plugins: [marksPlugin],
+  });
+  chartMarks(chart);
+  return chart;
+}
+
+/** Replaces the chart's data from the series, decimated to `buckets` (about its width in px). */
+export function setSeriesData(chart: LineChart, kind: ChartKind, series: readonly SeriesPoint[], gaps: readonly GapSpan[], buckets: number, xRange?: [number, number]): void {
+  const f = FIELDS[kind];
+  const n = series.length;
+  const times = new Float64Array(n);
+  const pick = (field: Field): (number | null)[] => {
+    const out = new Array<number | null>(n);
+    for (let i = 0; i < n; i++) out[i] = series[i].s[field] as number | null;
+    return out;
+  };
+  for (let i = 0; i < n; i++) times[i] = series[i].t;
+  const step = medianStepMs(series);
+  // A step over five cadences without a reported gap is still drawn as a break.
+  const maxStep = step === undefined ? Infinity : 5 * step;
+  const line = (field: Field): XY[] => decimateMinMax(lineWithBreaks(times, pick(field), gaps, maxStep), buckets);
+  const band = bandWithBreaks(times, pick(f.total), pick(f.sigma), gaps, maxStep, buckets);
+  const ds = chart.data.datasets;
+  ds[0].data = band.map((p) => ({ x: p.x, y: p.hi }));
+  ds[1].data = band.map((p) => ({ x: p.x, y: p.lo }));
+  ds[2].data = line(f.total);
+  ds[3].data = line(f.spin);
+  ds[4].data = line(f.orbit);
+  ds[5].data = line(f.background);
+  const x = chart.options.scales?.x;
+  if (x) {
+    x.min = xRange ? xRange[0] : n > 0 ? series[0].t : undefined;
+    x.max = xRange ? xRange[1] : n > 0 ? series[n - 1].t : undefined;
+  }
+  chart.update('none');
+}
+
+/** Time (ms) under a canvas x position inside the plot area; undefined outside it. */
+export function timeAtPixel(chart: Chart, offsetX: number, offsetY: number): number | undefined {
+  const a = chart.chartArea;
+  if (!a || offsetX < a.left || offsetX > a.right || offsetY < a.top || offsetY > a.bottom) return undefined;
+  return chart.scales.x.getValueForPixel(offsetX);
+}
+
+/** The lines of the hover readout for one sample, with units. */
+export function readoutLines(kind: ChartKind, s: WireSample, t: number): string[] {
+  const f = FIELDS[kind];
+  const u = f.unit;
+  const v = (field: Field): number | null => s[field] as number | null;
+  const total = v(f.total);
+  const sigma = v(f.sigma);
+  const withU = (x: number | null): string => {
+    const text = formatSci(x, 3);
+    return text === '—' ? text : `${text} ${prettyUnit(u)}`;
+  };
+  return [
+    formatUtc(t),
+    `total ${withU(total)}${sigma !== null && Number.isFinite(sigma) ? ` ± ${formatSci(sigma, 2)}` : ''}`,
+    `spin ${withU(v(f.spin))}`,
+    `orbit ${withU(v(f.orbit))}`,
+    `background ${withU(v(f.background))}`,
+  ];
+}

@@ -1,0 +1,364 @@
+// The Boundary map: bn (or bn in grey under the G_theta density) on a canvas, with the colour bar
+// in its unit, footpoint outlines and ids, tracks over recent frames, a rotation glyph for each
+// footpoint, and the highlighted footpoint. The raster is built once per map; a change of
+// highlight only redraws the vector layer over the cached image.
+
+import { buildLut, GREYS, niceCeil, PURPLE_ORANGE, rasterize, robustAbsLimit, symmetricTicks } from './colourScale.js';
+import { equalAreaRadius, fitMap, fromCanvas, glyphArc, hitFootpoint, toCanvas, type MapFit } from './mapGeometry.js';
+import { OKABE_ITO } from './palette.js';
+import { formatGauss, formatSci, omegaDegPerHour, prettyUnit } from './unitFormat.js';
+import type { WireFootpoint } from './wire.js';
+
+export interface MapLayer {
+  data: Float32Array;
+  nx: number;
+  ny: number;
+  dx: number;
+  dy: number;
+  unit: string;
+}
+
+export interface MapScene {
+  frameId: string | number;
+  time: number;
+  bn: MapLayer;
+  gtheta?: MapLayer;
+  footpoints: WireFootpoint[];
+  tracks: Record<string, [number, number][]>;
+}
+
+export interface MapDrawReport {
+  footpoints: number;
+  outlines: number;
+  glyphs: number;
+  tracks: number;
+  highlighted: string | null;
+  rasterMs: number;
+  drawMs: number;
+}
+
+const PURPLE_ORANGE_LUT = buildLut(PURPLE_ORANGE, 256);
+const GREY_LUT = buildLut(GREYS, 256);
+
+export class MapView {
+  readonly canvas: HTMLCanvasElement;
+  readonly bar: HTMLCanvasElement;
+  private readonly image = document.createElement('canvas');
+  private scene: MapScene | undefined;
+  private overlay = false;
+  private highlighted: string | null = null;
+  private fit: MapFit | undefined;
+  private limit = 1;
+  private barUnit = 'G';
+  report: MapDrawReport = { footpoints: 0, outlines: 0, glyphs: 0, tracks: 0, highlighted: null, rasterMs: 0, drawMs: 0 };
+  onPick: ((id: string | null) => void) | undefined;
+
+  constructor(canvas: HTMLCanvasElement, bar: HTMLCanvasElement) {
+    this.canvas = canvas;
+    this.bar = bar;
+    canvas.addEventListener('click', (ev) => this.pickAt(ev.offsetX, ev.offsetY));
+  }
+
+  hasScene(): boolean {
+    return this.scene !== undefined;
+  }
+
+  currentFrameId(): string | number | undefined {
+    return this.scene?.frameId;
+  }
+
+  setScene(scene: MapScene): void {
+    this.scene = scene;
+    this.rasterizeScene();
+    this.draw();
+  }
+
+  setOverlay(on: boolean): void {
+    this.overlay = on;
+    if (this.scene) {
+      this.rasterizeScene();
+      this.draw();
+    }
+  }
+
+  overlayOn(): boolean {
+    return this.overlay;
+  }
+
+  setHighlight(id: string | number | null): void {
+    this.highlighted = id === null ? null : String(id);
+    this.draw();
+  }
+
+  /** Builds the cached raster: bn in purple-orange, or grey bn under the G_theta density. */
+  private rasterizeScene(): void {
+    const s = this.scene;
+    if (!s) return;
+    const t0 = performance.now();
+    const { nx, ny } = s.bn;
+    this.image.width = nx;
+    this.image.height = ny;
+    const ctx = this.image.getContext('2d');
+    if (!ctx) return;
+    const img = ctx.createImageData(nx, ny);
+    const bnLimit = niceCeil(robustAbsLimit(s.bn.data));
+    const useOverlay = this.overlay && s.gtheta !== undefined;
+    if (!useOverlay) {
+      rasterize(s.bn.data, nx, ny, PURPLE_ORANGE_LUT, bnLimit, img.data);
+      this.limit = bnLimit;
+      this.barUnit = 'G';
+    } else {
+      const g = s.gtheta as MapLayer;
+      rasterize(s.bn.data, nx, ny, GREY_LUT, bnLimit, img.data);
+      const over = ctx.createImageData(nx, ny);
+      const gLimit = niceCeil(robustAbsLimit(g.data));
+      rasterize(g.data, nx, ny, PURPLE_ORANGE_LUT, gLimit, over.data, { alphaByValue: true, noDataAlpha: 0 });
+      // Blend the density over the grey field: out = a*over + (1-a)*grey.
+      const o = img.data;
+      const v = over.data;
+      for (let i = 0; i < o.length; i += 4) {
+        const a = v[i + 3] / 255;
+        o[i] = v[i] * a + o[i] * (1 - a);
+        o[i + 1] = v[i + 1] * a + o[i + 1] * (1 - a);
+        o[i + 2] = v[i + 2] * a + o[i + 2] * (1 - a);
+      }
+      this.limit = gLimit;
+      this.barUnit = g.unit;
+    }
+    ctx.putImageData(img, 0, 0);
+    this.report.rasterMs = performance.now() - t0;
+  }
+
+  /** Canvas size in CSS px follows its box; the backing store follows the device pixel ratio. */
+  private sizeCanvas(c: HTMLCanvasElement): { w: number; h: number; ratio: number } {
+    const ratio = window.devicePixelRatio || 1;
+    const w = Math.max(50, c.clientWidth);
+    const h = Math.max(50, c.clientHeight);
+    if (c.width !== Math.round(w * ratio) || c.height !== Math.round(h * ratio)) {
+      c.width = Math.round(w * ratio);
+      c.height = Math.round(h * ratio);
+    }
+    return { w, h, ratio };
+  }
+
+  draw(): void {
+    const t0 = performance.now();
+    const { w, h, ratio } = this.sizeCanvas(this.canvas);
+    const ctx = this.canvas.getContext('2d');
+    if (!ctx) return;
+    ctx.setTransform(ratio, 0, 0, ratio, 0, 0);
+    ctx.fillStyle = '#ffffff';
+    ctx.fillRect(0, 0, w, h);
+    const s = this.scene;
+    if (!s) {
+      ctx.fillStyle = '#333';
+      ctx.font = '14px system-ui, sans-serif';
+      ctx.textAlign = 'center';
+      ctx.fillText('no frame yet', w / 2, h / 2);
+      this.drawBar();
+      return;
+    }
+    const fit = fitMap(s.bn.nx, s.bn.ny, s.bn.dx, s.bn.dy, w, h);
+    this.fit = fit;
+    ctx.imageSmoothingEnabled = fit.sx < 1; // upscaled maps show their pixels
+    ctx.drawImage(this.image, fit.offX, fit.offY, s.bn.nx * fit.sx, s.bn.ny * fit.sy);
+    const rep = this.drawFootpoints(ctx, s, fit);
+    this.drawBar();
+    this.report = { ...rep, rasterMs: this.report.rasterMs, drawMs: performance.now() - t0 };
+  }
+
+  private drawFootpoints(ctx: CanvasRenderingContext2D, s: MapScene, fit: MapFit): Omit<MapDrawReport, 'rasterMs' | 'drawMs'> {
+    const pxPerMm = fit.sx / fit.dx;
+    let outlines = 0;
+    let glyphs = 0;
+    let tracks = 0;
+    let highlighted: string | null = null;
+    // Tracks first, under everything else.
+    ctx.lineCap = 'round';
+    ctx.lineJoin = 'round';
+    for (const [id, pts] of Object.entries(s.tracks ?? {})) {
+      if (!pts || pts.length < 2) continue;
+      ctx.beginPath();
+      pts.forEach(([x, y], i) => {
+        const [px, py] = toCanvas(fit, x, y);
+        if (i === 0) ctx.moveTo(px, py);
+        else ctx.lineTo(px, py);
+      });
+      const hi = String(id) === this.highlighted;
+      ctx.strokeStyle = '#ffffff';
+      ctx.lineWidth = hi ? 5 : 3.5;
+      ctx.stroke();
+      ctx.strokeStyle = hi ? '#000000' : '#222222';
+      ctx.lineWidth = hi ? 2.5 : 1.5;
+      ctx.setLineDash([1, 3]);
+      ctx.stroke();
+      ctx.setLineDash([]);
+      for (const [x, y] of pts) {
+        const [px, py] = toCanvas(fit, x, y);
+        ctx.fillStyle = '#222222';
+        ctx.fillRect(px - 1, py - 1, 2, 2);
+      }
+      tracks++;
+    }
+    for (const fp of s.footpoints) {
+      const hi = String(fp.id) === this.highlighted;
+      if (hi) highlighted = String(fp.id);
+      const [cx, cy] = toCanvas(fit, fp.x, fp.y);
+      const r = Math.max(4, equalAreaRadius(fp.area) * pxPerMm);
+      ctx.beginPath();
+      if (fp.outline && fp.outline.length >= 3) {
+        fp.outline.forEach(([x, y], i) => {
+          const [px, py] = toCanvas(fit, x, y);
+          if (i === 0) ctx.moveTo(px, py);
+          else ctx.lineTo(px, py);
+        });
+        ctx.closePath();
+      } else ctx.arc(cx, cy, r, 0, 2 * Math.PI);
+      // A white halo under a dark line reads on both ends of the colour scale.
+      ctx.setLineDash([]);
+      ctx.strokeStyle = '#ffffff';
+      ctx.lineWidth = hi ? 7 : 3.5;
+      ctx.stroke();
+      ctx.strokeStyle = hi ? OKABE_ITO.black : '#111111';
+      ctx.lineWidth = hi ? 3.5 : 1.5;
+      // Negative footpoints get a dashed outline: polarity does not rest on colour.
+      if (fp.polarity < 0) ctx.setLineDash([5, 3]);
+      ctx.stroke();
+      ctx.setLineDash([]);
+      if (hi) {
+        ctx.strokeStyle = OKABE_ITO.yellow;
+        ctx.lineWidth = 2;
+        ctx.stroke();
+      }
+      outlines++;
+      if (this.drawGlyph(ctx, fp, cx, cy, Math.max(6, Math.min(r * 0.6, 18)))) glyphs++;
+      // The id, beside the footpoint, on a light plate.
+      const label = String(fp.id);
+      ctx.font = `${hi ? 'bold 13px' : '12px'} system-ui, sans-serif`;
+      const tw = ctx.measureText(label).width;
+      const lx = cx + r * 0.72 + 2;
+      const ly = cy - r * 0.72 - 2;
+      ctx.fillStyle = hi ? OKABE_ITO.yellow : 'rgba(255,255,255,0.85)';
+      ctx.fillRect(lx - 2, ly - 12, tw + 4, 15);
+      ctx.fillStyle = '#000000';
+      ctx.textAlign = 'left';
+      ctx.textBaseline = 'alphabetic';
+      ctx.fillText(label, lx, ly);
+    }
+    return { footpoints: s.footpoints.length, outlines, glyphs, tracks, highlighted };
+  }
+
+  /** Rotation glyph: an arrowed arc whose sense is the rotation sense and whose sweep grows with |omega|. */
+  private drawGlyph(ctx: CanvasRenderingContext2D, fp: WireFootpoint, cx: number, cy: number, r: number): boolean {
+    const arc = glyphArc(fp.omega === null ? null : omegaDegPerHour(fp.omega));
+    if (!arc || fp.omega_method === 'unobservable') {
+      // Unmeasured rotation: a small hollow ring.
+      ctx.beginPath();
+      ctx.arc(cx, cy, 3, 0, 2 * Math.PI);
+      ctx.strokeStyle = '#000';
+      ctx.lineWidth = 1;
+      ctx.stroke();
+      return false;
+    }
+    const stroke = (color: string, width: number): void => {
+      ctx.beginPath();
+      ctx.arc(cx, cy, r, arc.start, arc.end, arc.anticlockwise);
+      ctx.strokeStyle = color;
+      ctx.lineWidth = width;
+      ctx.stroke();
+    };
+    stroke('#ffffff', 4);
+    stroke('#000000', 2);
+    // Arrowhead at the end, pointing along the direction of travel.
+    const ex = cx + r * Math.cos(arc.end);
+    const ey = cy + r * Math.sin(arc.end);
+    const dir = arc.end + (arc.anticlockwise ? -Math.PI / 2 : Math.PI / 2);
+    const size = 6;
+    ctx.beginPath();
+    ctx.moveTo(ex + size * Math.cos(dir), ey + size * Math.sin(dir));
+    ctx.lineTo(ex + size * 0.6 * Math.cos(dir + 2.3), ey + size * 0.6 * Math.sin(dir + 2.3));
+    ctx.lineTo(ex + size * 0.6 * Math.cos(dir - 2.3), ey + size * 0.6 * Math.sin(dir - 2.3));
+    ctx.closePath();
+    ctx.fillStyle = '#000000';
+    ctx.strokeStyle = '#ffffff';
+    ctx.lineWidth = 1;
+    ctx.fill();
+    ctx.stroke();
+    return true;
+  }
+
+  /** The colour bar: the scale from -limit (bottom) to +limit (top), ticks in the map's unit. */
+  private drawBar(): void {
+    const { w, h, ratio } = this.sizeCanvas(this.bar);
+    const ctx = this.bar.getContext('2d');
+    if (!ctx) return;
+    ctx.setTransform(ratio, 0, 0, ratio, 0, 0);
+    ctx.fillStyle = '#ffffff';
+    ctx.fillRect(0, 0, w, h);
+    if (!this.scene) return;
+    const top = 28;
+    const bottom = h - 14;
+    const bw = 16;
+    const lut = PURPLE_ORANGE_LUT;
+    const n = lut.length / 3;
+    for (let y = top; y < bottom; y++) {
+      const k = Math.round(((bottom - y) / (bottom - top)) * (n - 1));
+      ctx.fillStyle = `rgb(${lut[3 * k]},${lut[3 * k + 1]},${lut[3 * k + 2]})`;
+      ctx.fillRect(4, y, bw, 1);
+    }
+    ctx.strokeStyle = '#000';
+    ctx.lineWidth = 1;
+    ctx.strokeRect(4.5, top + 0.5, bw, bottom - top);
+    ctx.fillStyle = '#000';
+    ctx.font = '11px system-ui, sans-serif';
+    ctx.textBaseline = 'middle';
+    ctx.textAlign = 'left';
+    for (const t of symmetricTicks(this.limit, 5)) {
+      const y = bottom - ((t + this.limit) / (2 * this.limit)) * (bottom - top);
+      ctx.fillRect(4 + bw, Math.round(y), 4, 1);
+      const text = this.barUnit === 'G' ? formatGauss(t).replace(' G', '') : formatSci(t, 2);
+      ctx.fillText(text, bw + 10, y);
+    }
+    ctx.textBaseline = 'top';
+    ctx.font = 'bold 11px system-ui, sans-serif';
+    const title = this.barUnit === 'G' ? 'bn (G)' : `G_θ (${prettyUnit(this.barUnit)})`;
+    wrapText(ctx, title, 2, 2, w - 4, 12);
+  }
+
+  private pickAt(px: number, py: number): void {
+    if (!this.scene || !this.fit) return;
+    const [x, y] = fromCanvas(this.fit, px, py);
+    const pxPerMm = this.fit.sx / this.fit.dx;
+    const hit = hitFootpoint(this.scene.footpoints, x, y, 6 / pxPerMm);
+    this.onPick?.(hit === undefined ? null : String(hit.id));
+  }
+
+  /** The map with its colour bar as one PNG. */
+  toPng(): Promise<Blob | null> {
+    const out = document.createElement('canvas');
+    out.width = this.canvas.width + this.bar.width;
+    out.height = Math.max(this.canvas.height, this.bar.height);
+    const ctx = out.getContext('2d');
+    if (!ctx) return Promise.resolve(null);
+    ctx.fillStyle = '#fff';
+    ctx.fillRect(0, 0, out.width, out.height);
+    ctx.drawImage(this.canvas, 0, 0);
+    ctx.drawImage(this.bar, this.canvas.width, 0);
+    return new Promise((resolve) => out.toBlob((b) => resolve(b), 'image/png'));
+  }
+}
+
+function wrapText(ctx: CanvasRenderingContext2D, text: string, x: number, y: number, width: number, lineHeight: number): void {
+  const words = text.split(' ');
+  let line = '';
+  let yy = y;
+  for (const word of words) {
+    const next = line ? `${line} ${word}` : word;
+    if (ctx.measureText(next).width > width && line) {
+      ctx.fillText(line, x, yy);
+      line = word;
+      yy += lineHeight;
+    } else line = next;
+  }
+  if (line) ctx.fillText(line, x, yy);
+}
