@@ -96,8 +96,7 @@ export function listHdus(bytes: Uint8Array, source: string): Hdu[] {
   let pos = 0;
   while (pos < bytes.length) {
     if (hdus.length > 0) {
-      // Another extension needs at least a full header block that starts with XTENSION.
-      if (bytes.length - pos < BLOCK_LENGTH) break;
+      // Another extension starts with XTENSION; blank or zero fill after the last HDU is ignored.
       const head = String.fromCharCode(...bytes.subarray(pos, pos + 8));
       if (head !== 'XTENSION') {
         if (bytes.subarray(pos, pos + BLOCK_LENGTH).every((b) => b === 0 || b === 32)) break;

@@ -1,0 +1,231 @@
+// Frames from FITS images, by our own convention:
+// - one file per time: image HDUs named by EXTNAME BN (required), BX, BY, VX, VY, VZ (optional);
+// - or several files per time, each holding one component in its first image HDU, the component
+//   told by a per-region rule (a file-name pattern or a header keyword value), grouped by time.
+// Time from DATE-AVG/DATE-OBS with TIMESYS, pixel size from CDELT/CUNIT, fields from BUNIT (G or
+// Mx/cm^2) and velocities (km/s or m/s) converted to core units, then an optional sign or mirror
+// per component for archives whose axes differ from ours. Non-finite pixels become NaN.
+
+import type { Frame, FrameMapName } from '../frame.js';
+import { FRAME_MAPS, checkFrame } from '../frame.js';
+import { InputError } from '../inputError.js';
+import type { FitsHeader, FitsValue } from '../fits/header.js';
+import { headerRecord, headerString, headerValue } from '../fits/header.js';
+import type { Hdu } from '../fits/hduList.js';
+import { hduLabel, listHdus } from '../fits/hduList.js';
+import type { ReadOptions } from '../fits/readImage.js';
+import { decodeImageHdu, isImageHdu } from '../fits/readImage.js';
+import { fieldToGauss, velocityToKmPerS } from '../units.js';
+import { frameTimeFromHeaders } from './frameTime.js';
+import { pixelSizeMm } from './pixelScale.js';
+
+/** Per-component correction for archives whose conventions differ from ours. */
+export interface ComponentTransform {
+  /** Multiply by -1 (e.g. a By that points south). */
+  readonly negate?: boolean;
+  /** Reverse the order of columns (x) or rows (y). */
+  readonly mirrorX?: boolean;
+  readonly mirrorY?: boolean;
+  /** Unit assumed when the HDU has no BUNIT (otherwise a missing BUNIT is an error). */
+  readonly unit?: string;
+}
+
+/** How a file of a multi-file time is recognised as a component. */
+export type ComponentRule =
+  | { readonly pattern: string; readonly flags?: string }
+  | { readonly keyword: string; readonly value: string };
+
+export interface FrameAssemblySettings {
+  readonly transforms?: Partial<Record<FrameMapName, ComponentTransform>>;
+  /** Which time keyword wins when both exist (default DATE-AVG). */
+  readonly timeKeyword?: 'DATE-AVG' | 'DATE-OBS';
+  /** Several files per time: the rule that recognises each component's files. */
+  readonly files?: Partial<Record<FrameMapName, ComponentRule>>;
+  /** Files whose times differ by at most this many seconds make one frame (default 1 s). */
+  readonly groupToleranceS?: number;
+  readonly read?: ReadOptions;
+}
+
+/** One component's image: where it is and the headers to search (its own, then the primary). */
+export interface ComponentSource {
+  readonly source: string;
+  readonly bytes: Uint8Array;
+  readonly hdu: Hdu;
+  readonly headers: readonly FitsHeader[];
+}
+
+const FIELD_MAPS = new Set<FrameMapName>(['bn', 'bx', 'by']);
+const STRUCTURAL = /^(SIMPLE|BITPIX|NAXIS\d*|EXTEND|XTENSION|PCOUNT|GCOUNT|TFIELDS|T(TYPE|FORM|UNIT|DIM|NULL|SCAL|ZERO)\d+|THEAP|Z[A-Z0-9_]*|CHECKSUM|DATASUM|BSCALE|BZERO|BLANK)$/;
+
+function convert(values: Float64Array, name: FrameMapName, c: ComponentSource, t: ComponentTransform | undefined): void {
+  const where = hduLabel(c.hdu.index, c.hdu.name);
+  const bunit = headerString(c.hdu.header, 'BUNIT', c.source, where)?.trim() || t?.unit;
+  if (bunit === undefined) {
+    throw new InputError(c.source, `${where} BUNIT`, `is missing: cannot tell the unit of ${name} (set a unit for ${name} in the region's settings)`);
+  }
+  const isField = FIELD_MAPS.has(name);
+  const factor = isField ? fieldToGauss(1, bunit) : velocityToKmPerS(1, bunit);
+  if (factor === undefined) {
+    throw new InputError(c.source, `${where} BUNIT`, `'${bunit}' is not a ${isField ? 'field unit (G, Mx/cm^2, T)' : 'velocity unit (km/s, m/s)'}`);
+  }
+  const k = t?.negate ? -factor : factor;
+  for (let i = 0; i < values.length; i++) {
+    const v = values[i] * k;
+    values[i] = Number.isFinite(v) ? v : NaN;
+  }
+}
+
+function mirror(values: Float64Array, nx: number, ny: number, t: ComponentTransform | undefined): Float64Array {
+  if (!t?.mirrorX && !t?.mirrorY) return values;
+  const out = new Float64Array(values.length);
+  for (let y = 0; y < ny; y++) {
+    const sy = t.mirrorY ? ny - 1 - y : y;
+    for (let x = 0; x < nx; x++) out[y * nx + x] = values[sy * nx + (t.mirrorX ? nx - 1 - x : x)];
+  }
+  return out;
+}
+
+function imageAxes(c: ComponentSource, axes: readonly number[]): [number, number] {
+  const where = hduLabel(c.hdu.index, c.hdu.name);
+  const extra = axes.slice(2);
+  if (axes.length < 2 || extra.some((n) => n !== 1)) {
+    throw new InputError(c.source, `${where} NAXIS`, `a frame map must be a 2-D image, got ${axes.join(' x ')}`);
+  }
+  return [axes[0], axes[1]];
+}
+
+/**
+ * Builds a checked Frame from component images (bn required). Time and pixel size come from bn's
+ * headers; every other component must have bn's shape. Throws InputError naming file, HDU and problem.
+ */
+export function assembleFrame(components: Partial<Record<FrameMapName, ComponentSource>>, settings: FrameAssemblySettings = {}): Frame {
+  const bnSrc = components.bn;
+  if (!bnSrc) {
+    const any = Object.values(components)[0];
+    throw new InputError(any?.source ?? 'frame', 'BN', 'is missing: a frame needs the normal field (EXTNAME BN or the region\'s bn file rule)');
+  }
+  const where = hduLabel(bnSrc.hdu.index, bnSrc.hdu.name);
+  const time = frameTimeFromHeaders(bnSrc.headers, bnSrc.source, where, settings.timeKeyword);
+  const dx = pixelSizeMm(bnSrc.headers, 1, bnSrc.source, where);
+  const dy = pixelSizeMm(bnSrc.headers, 2, bnSrc.source, where);
+  const maps: Partial<Record<FrameMapName, Float64Array>> = {};
+  let nx = 0, ny = 0;
+  const keywords: Record<string, FitsValue> = {};
+  for (const name of FRAME_MAPS) {
+    const c = components[name];
+    if (!c) continue;
+    const img = decodeImageHdu(c.bytes, c.hdu, c.source, settings.read);
+    const [cx, cy] = imageAxes(c, img.axes);
+    if (name === 'bn') { nx = cx; ny = cy; }
+    else if (cx !== nx || cy !== ny) {
+      throw new InputError(c.source, `${hduLabel(c.hdu.index, c.hdu.name)} NAXIS`, `${name} is ${cx} x ${cy} but bn is ${nx} x ${ny}`);
+    }
+    const t = settings.transforms?.[name];
+    convert(img.values, name, c, t);
+    maps[name] = mirror(img.values, cx, cy, t);
+    if (c.source !== bnSrc.source) keywords[`FILE_${name.toUpperCase()}`] = c.source;
+  }
+  for (const h of [...bnSrc.headers].reverse()) {
+    for (const [k, v] of Object.entries(headerRecord(h))) if (!STRUCTURAL.test(k)) keywords[k] = v;
+  }
+  const frame: Frame = {
+    time: time.utcMs, nx, ny, dx, dy,
+    bn: maps.bn!,
+    ...(maps.bx && { bx: maps.bx }),
+    ...(maps.by && { by: maps.by }),
+    ...(maps.vx && { vx: maps.vx }),
+    ...(maps.vy && { vy: maps.vy }),
+    ...(maps.vz && { vz: maps.vz }),
+    provenance: { source: bnSrc.source, keywords },
+  };
+  checkFrame(frame, bnSrc.source);
+  return frame;
+}
+
+/** One FITS file per time, components named by EXTNAME (BN required). */
+export function frameFromFits(bytes: Uint8Array, source: string, settings: FrameAssemblySettings = {}): Frame {
+  const hdus = listHdus(bytes, source);
+  const primary = hdus[0].header;
+  const components: Partial<Record<FrameMapName, ComponentSource>> = {};
+  for (const hdu of hdus) {
+    const name = (hdu.name ?? '').toLowerCase() as FrameMapName;
+    if (!FRAME_MAPS.includes(name)) continue;
+    if (components[name]) throw new InputError(source, hduLabel(hdu.index, hdu.name), `a second HDU named ${hdu.name}`);
+    if (!isImageHdu(hdu)) throw new InputError(source, hduLabel(hdu.index, hdu.name), 'is named as a frame map but holds no image');
+    components[name] = { source, bytes, hdu, headers: hdu.index === 0 ? [hdu.header] : [hdu.header, primary] };
+  }
+  if (!components.bn) {
+    const names = hdus.map((h) => hduLabel(h.index, h.name)).join(', ');
+    throw new InputError(source, 'EXTNAME BN', `not found (the file has ${names}); a frame file names its maps BN, BX, BY, VX, VY, VZ, or the region maps files to components`);
+  }
+  return assembleFrame(components, settings);
+}
+
+export interface NamedBytes {
+  /** File name (matched by pattern rules) and error source. */
+  readonly name: string;
+  readonly bytes: Uint8Array;
+}
+
+/** The first image HDU of a file, with the headers to search. */
+function firstImage(f: NamedBytes): ComponentSource {
+  const hdus = listHdus(f.bytes, f.name);
+  const hdu = hdus.find(isImageHdu);
+  if (!hdu) throw new InputError(f.name, '(file)', 'holds no image HDU');
+  return { source: f.name, bytes: f.bytes, hdu, headers: hdu.index === 0 ? [hdu.header] : [hdu.header, hdus[0].header] };
+}
+
+function ruleMatches(rule: ComponentRule, c: ComponentSource, fileName: string): boolean {
+  if ('pattern' in rule) return new RegExp(rule.pattern, rule.flags).test(fileName);
+  for (const h of c.headers) {
+    const v = headerValue(h, rule.keyword);
+    if (v !== undefined) return String(v).trim().toUpperCase() === rule.value.trim().toUpperCase();
+  }
+  return false;
+}
+
+/**
+ * Several files per time: each file's first image is given the component whose rule matches it,
+ * files are grouped by observation time (within groupToleranceS) and each group becomes a frame.
+ * Frames are returned in time order. A file matching no rule, or two rules, is an error.
+ */
+export function framesFromFileSet(files: readonly NamedBytes[], settings: FrameAssemblySettings): Frame[] {
+  const rules = settings.files;
+  if (!rules || !rules.bn) throw new InputError('region settings', 'files.bn', 'is missing: several files per time need a rule for the bn files');
+  for (const [name, r] of Object.entries(rules)) {
+    if (r && 'pattern' in r) {
+      try { new RegExp(r.pattern, r.flags); } catch (e) {
+        throw new InputError('region settings', `files.${name}.pattern`, `is not a valid regular expression: ${(e as Error).message}`);
+      }
+    }
+  }
+  const tolMs = (settings.groupToleranceS ?? 1) * 1000;
+  const entries: { name: FrameMapName; c: ComponentSource; t: number }[] = [];
+  for (const f of files) {
+    const c = firstImage(f);
+    const base = f.name.split(/[\\/]/).pop() ?? f.name;
+    const hits = FRAME_MAPS.filter((m) => rules[m] !== undefined && ruleMatches(rules[m]!, c, base));
+    if (hits.length === 0) throw new InputError(f.name, '(file)', 'matches no component rule of the region');
+    if (hits.length > 1) throw new InputError(f.name, '(file)', `matches the rules of several components: ${hits.join(', ')}`);
+    const where = hduLabel(c.hdu.index, c.hdu.name);
+    const t = frameTimeFromHeaders(c.headers, f.name, where, settings.timeKeyword).utcMs;
+    entries.push({ name: hits[0], c, t });
+  }
+  entries.sort((a, b) => a.t - b.t);
+  const groups: (typeof entries)[] = [];
+  for (const e of entries) {
+    const g = groups[groups.length - 1];
+    if (g && e.t - g[0].t <= tolMs) g.push(e);
+    else groups.push([e]);
+  }
+  return groups.map((g) => {
+    const comps: Partial<Record<FrameMapName, ComponentSource>> = {};
+    for (const e of g) {
+      const prev = comps[e.name];
+      if (prev) throw new InputError(e.c.source, '(file)', `is a second ${e.name} file for the time of ${prev.source}`);
+      comps[e.name] = e.c;
+    }
+    if (!comps.bn) throw new InputError(g[0].c.source, 'bn', `no bn file for the time of ${g.map((e) => e.c.source).join(', ')}`);
+    return assembleFrame(comps, settings);
+  });
+}
