@@ -1,0 +1,109 @@
+import { describe, expect, it } from 'vitest';
+import type { FootpointAnalysis } from '../../core/footpoints/analyseFootpoints.js';
+import { analyseFootpoints } from '../../core/footpoints/analyseFootpoints.js';
+import type { FluxKernelCache } from '../../core/fluxKernel.js';
+import type { Spot } from './scene.js';
+import { sceneFrame, spotFlux, spotVelocity } from './scene.js';
+
+// Analytic truths from DESIGN section 4, from the helicity-flux formula of Berger & Field (1984) /
+// Pariat, Demoulin & Berger (2005) split as in Longcope, Ravindra & Barnes (2007):
+//   a footpoint of flux Phi spinning at omega: spin = -(omega/2pi) Phi^2;
+//   two compact footpoints circling each other at Omega: orbit = -(1/pi) Phi_1 Phi_2 Omega.
+// Phi below is the total flux of each synthetic Gaussian spot, not the segmented one: the threshold
+// (5 G on peaks of 1200-2000 G) leaves out a share eps = threshold/peak < 0.5 % of a Gaussian's flux.
+const DT = 60_000;
+const deg = Math.PI / 180;
+const near = (x: number, y: number, r: FootpointAnalysis) => r.footpoints.reduce((b, f) => (Math.hypot(f.x - x, f.y - y) < Math.hypot(b.x - x, b.y - y) ? f : b));
+
+describe('spin of a spinning elliptical spot beside a static opposite spot', () => {
+  const grid = { nx: 120, ny: 72, dx: 0.4, dy: 0.4 };
+  const omega = (2 * deg) / 60; // rad/s
+  const spinning = (k: number): Spot => ({ x: 12, y: 14, a: 2.4, b: 1.2, angle: 0.3 + omega * 60 * k, peak: 2000 });
+  const still: Spot = { x: 30, y: 14, a: 1.6, b: 1.6, angle: 0, peak: -2000 };
+  const truth = (-omega / (2 * Math.PI)) * spotFlux(spinning(0)) ** 2;
+  const cache: FluxKernelCache = new Map();
+
+  it('from tracking alone (pattern rotation, point estimate): within 5 % of -(omega/2pi) Phi^2', () => {
+    const r0 = analyseFootpoints(undefined, sceneFrame(grid, 0, [spinning(0), still], 1, 1));
+    const r1 = analyseFootpoints(r0.state, sceneFrame(grid, DT, [spinning(1), still], 1, 2));
+    const p = near(12, 14, r1), q = near(30, 14, r1);
+    expect(r1.footpoints).toHaveLength(2);
+    expect(p.omegaSource).toBe('pattern');
+    expect(Math.abs(p.spinPoint! / truth - 1)).toBeLessThan(0.05);
+    // The still round spot shows no rotation from its pattern: left out, not guessed.
+    expect(q.patternNote).toBe('axisymmetric');
+    expect(r1.point.spin).toBe(p.spinPoint);
+    // Neither centroid moves (but for noise jitter of a thousandth of a pixel), so the pair hardly orbits.
+    expect(Math.abs(r1.point.orbit)).toBeLessThan(1e-2 * Math.abs(truth));
+    expect(r1.exact).toBeNull();
+    expect(r1.flags).toContain('no-velocity');
+  });
+
+  it('with the velocity field: exact split within 5 % of the truth and of the point estimate', () => {
+    // Rigid rotation about the spot's centre on the left half, rest at rest.
+    const v = (k: number) => {
+      const m = spotVelocity(grid, [{ spot: spinning(k), vx: 0, vy: 0, omega, reach: 9 }]);
+      for (let i = 0; i < m.vx.length; i++) if ((i % grid.nx) * grid.dx > 21) { m.vx[i] = 0; m.vy[i] = 0; }
+      return m;
+    };
+    const f0 = { ...sceneFrame(grid, 0, [spinning(0), still], 1, 1), ...v(0) };
+    const r = analyseFootpoints(undefined, f0, { kernelCache: cache });
+    const p = near(12, 14, r), q = near(30, 14, r);
+    expect(p.omegaSource).toBe('velocity');
+    expect(p.omegaVelocity! / omega).toBeCloseTo(1, 6);
+    expect(q.omegaVelocity!).toBeCloseTo(0, 12);
+    expect(Math.abs(p.spinExact! / truth - 1)).toBeLessThan(0.05);
+    expect(Math.abs(p.spinExact! / p.spinPoint! - 1)).toBeLessThan(0.05);
+    expect(Math.abs(q.spinExact!)).toBeLessThan(1e-6 * Math.abs(truth));
+    // spin + orbit + background is the G_theta total (core/labelSplit.ts).
+    const e = r.exact!;
+    expect(Math.abs(e.spin + e.orbit + e.background - e.total)).toBeLessThan(1e-9 * Math.abs(truth));
+    expect(cache.size).toBe(1);
+  });
+});
+
+describe('orbit of a circling pair', () => {
+  const grid = { nx: 120, ny: 100, dx: 0.4, dy: 0.4 };
+  const Omega = (3 * deg) / 60;
+  const R = 6, cx = 24, cy = 20;
+  const pair = (k: number): Spot[] => {
+    const t = Omega * 60 * k;
+    return [
+      { x: cx + R * Math.cos(t), y: cy + R * Math.sin(t), a: 1.4, b: 1.4, angle: 0, peak: 1500 },
+      { x: cx - R * Math.cos(t), y: cy - R * Math.sin(t), a: 1.4, b: 1.4, angle: 0, peak: -1200 },
+    ];
+  };
+  const [s1, s2] = pair(0);
+  const truth = (-1 / Math.PI) * spotFlux(s1) * spotFlux(s2) * Omega;
+
+  it('from tracking alone: within 2 % of -(1/pi) Phi_1 Phi_2 Omega', () => {
+    let state;
+    for (let k = 0; k < 4; k++) {
+      const r = analyseFootpoints(state, sceneFrame(grid, k * DT, pair(k), 1, 10 + k));
+      state = r.state;
+      if (k === 0) continue;
+      expect(r.footpoints.every((f) => f.motionSource === 'tracking')).toBe(true);
+      expect(Math.abs(r.point.orbit / truth - 1)).toBeLessThan(0.02);
+      expect(r.pairs[0].orbitPoint).toBe(r.point.orbit);
+    }
+  });
+
+  it('with the velocity field: exact orbit within 2 % of the truth, and within 5 % of the point estimate', () => {
+    const [a, b] = pair(0);
+    // Each spot translates with its centre: v = Omega z x (c - centre), km/s.
+    const vel = spotVelocity(grid, [
+      { spot: a, vx: -Omega * (a.y - cy) * 1000, vy: Omega * (a.x - cx) * 1000, omega: 0, reach: 5.9 },
+      { spot: b, vx: -Omega * (b.y - cy) * 1000, vy: Omega * (b.x - cx) * 1000, omega: 0, reach: 5.9 },
+    ]);
+    const r = analyseFootpoints(undefined, sceneFrame(grid, 0, pair(0), 1, 3), {}, vel);
+    const e = r.exact!;
+    expect(Math.abs(e.orbit / truth - 1)).toBeLessThan(0.02);
+    expect(Math.abs(e.orbit / r.point.orbit - 1)).toBeLessThan(0.05);
+    expect(r.pairs[0].orbitExact).toBe(e.orbit);
+    // Translation without turning: each spot's own spin is nil next to the orbit.
+    expect(Math.abs(e.spin)).toBeLessThan(1e-3 * Math.abs(e.orbit));
+    const m = r.pairMatrix;
+    expect(m.ids).toHaveLength(2);
+    expect(m.orbitExact![1]).toBe(m.orbitExact![2]);
+  });
+});
