@@ -35,6 +35,13 @@ export interface DemoOptions {
    * line-of-sight magnetographs at this cadence (from memory).
    */
   readonly noiseG?: number;
+  /**
+   * Real hours the 72-hour story takes. Default: the length of the run, so that every run tells
+   * the whole story. Give 72 with a few frames to see a stretch of it at its own pace.
+   */
+  readonly storyH?: number;
+  /** Story hour of frame 0 (0..72). Default 0. */
+  readonly storyStartH?: number;
   /** Noise seed. Default 1. */
   readonly seed?: number;
   /** Frames carry the imposed footpoint velocity vx, vy (km/s). Default false. */
@@ -60,6 +67,8 @@ export interface DemoRegion {
   readonly startTime: number;
   readonly grid: Grid;
   readonly noiseG: number;
+  /** Real seconds per story hour (the story is 72 hours long). */
+  readonly secondsPerStoryHour: number;
   readonly seed: number;
   /** Time of frame i, UTC ms. */
   timeAt(i: number): number;
@@ -127,7 +136,10 @@ export function demoRegion(options: DemoOptions = {}): DemoRegion {
   const startTime = options.startTime ?? DEMO_DEFAULTS.startTime;
   const grid: Grid = { nx: size, ny: size, dx: pixelMm, dy: pixelMm };
   // Scenario hours per real second, and km/s per (Mm per scenario hour).
-  const scenarioHoursPerS = SCENARIO_HOURS / durationS;
+  const storyS = positive(options.storyH ?? durationS / 3600, 'storyH') * 3600;
+  const storyStartH = options.storyStartH ?? 0;
+  if (!Number.isFinite(storyStartH)) throw new InputError('demo region', 'storyStartH', `must be finite, got ${storyStartH}`);
+  const scenarioHoursPerS = SCENARIO_HOURS / storyS;
   const kmsPerMmPerHour = KM_PER_MM * scenarioHoursPerS;
   const cache: FluxKernelCache = new Map();
   const truths = new Map<number, DemoTruth>();
@@ -138,7 +150,7 @@ export function demoRegion(options: DemoOptions = {}): DemoRegion {
     }
   };
   const timeAt = (i: number) => startTime + Math.round(i * cadenceS * 1000);
-  const componentsAt = (i: number) => { check(i); return demoComponents(i * cadenceS * scenarioHoursPerS); };
+  const componentsAt = (i: number) => { check(i); return demoComponents(storyStartH + i * cadenceS * scenarioHoursPerS); };
 
   function render(i: number): Rendered {
     const { nx, ny, dx, dy } = grid;
@@ -224,5 +236,5 @@ export function demoRegion(options: DemoOptions = {}): DemoRegion {
     return t;
   }
 
-  return { frameCount, cadenceS, startTime, grid, noiseG, seed, timeAt, frameAt, cleanFrameAt, truthAt, componentsAt };
+  return { frameCount, cadenceS, startTime, grid, noiseG, secondsPerStoryHour: 1 / scenarioHoursPerS, seed, timeAt, frameAt, cleanFrameAt, truthAt, componentsAt };
 }

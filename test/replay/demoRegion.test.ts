@@ -31,6 +31,10 @@ describe('demo region', () => {
     expect(f.vx?.length).toBe(32 * 32);
     expect(demoRegion({ size: 32, frames: 4 }).frameAt(1).vx).toBeUndefined();
     expect(() => demoRegion({ size: 0 })).toThrow(/size/);
+    // A stretch of the story at its own pace: 12 frames of 12 min from story hour 20.
+    const stretch = demoRegion({ frames: 12, cadenceS: 720, storyH: 72, storyStartH: 20 });
+    expect(stretch.secondsPerStoryHour).toBe(3600);
+    expect(stretch.componentsAt(5)).toEqual(d.componentsAt(105));
   });
 
   it('adds Gaussian noise of the stated level (5 G by default) and nothing else', () => {
@@ -73,7 +77,8 @@ describe('demo region', () => {
     const r = rateSample({ frame: c, noiseG: 0 });
     let phi = 0;
     for (let k = 0; k < c.bn.length; k++) if (c.labels![k] === 1) phi += c.bn[k] * c.dx * c.dy * CM_PER_MM * CM_PER_MM;
-    const omega = (d.componentsAt(i)[0].omega * SCENARIO_HOURS) / ((d.frameCount - 1) * d.cadenceS);
+    const omega = d.componentsAt(i)[0].omega / d.secondsPerStoryHour;
+    expect(d.secondsPerStoryHour).toBe(((d.frameCount - 1) * d.cadenceS) / SCENARIO_HOURS);
     const spin = r.split!.spin[r.split!.ids.indexOf(1)];
     // The velocity fades in the spot's outer pixels (the 10 G weight floor): a few per cent less.
     expect(spin / (-(omega / (2 * Math.PI)) * phi * phi)).toBeGreaterThan(0.95);

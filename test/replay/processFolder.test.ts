@@ -115,7 +115,7 @@ describe('process on the demo region', () => {
     // Frames without velocity pair up across chunk borders: once inference exists, the same
     // samples must come out of one worker and of three (one per consecutive pair).
     const plain = join(dir, 'twelve-plain');
-    await synth({ out: plain, frames: 12, size: 48, withVelocity: false, demo: { durationH: 2.2 } });
+    await synth({ out: plain, frames: 12, size: 48, withVelocity: false, demo: { cadenceS: 720, storyH: 72, storyStartH: 20 } });
     await processFolder({ folder: plain, out: one, workers: 1, progress: new Collect(false) });
     await processFolder({ folder: plain, out: three, workers: 3, progress: new Collect(false) });
     expect(await readFile(three, 'utf8')).toBe(await readFile(one, 'utf8'));
