@@ -1,0 +1,18 @@
+// Messages between the compute pool and its workers.
+import type { RateSample } from '../core/rateSample.js';
+
+export interface WorkerRequest {
+  readonly id: number;
+  readonly region: string;
+  /** Absolute path of the stored frame to analyse. */
+  readonly framePath: string;
+  /** Rebuild the region's state first: from this frame file, or 'reset' to start empty. */
+  readonly prime?: string | 'reset';
+  readonly settings: Record<string, unknown>;
+  /** Where to write the result maps. */
+  readonly mapsPath: string;
+}
+
+export type WorkerReply =
+  | { readonly id: number; readonly ok: true; readonly sample?: RateSample; readonly waiting?: string; readonly mapsWritten: boolean; readonly footpoints?: unknown; readonly events?: unknown }
+  | { readonly id: number; readonly ok: false; readonly error: { source: string; field: string; problem: string; message: string } };

@@ -1,0 +1,63 @@
+// A compute worker: runs the core's per-frame analysis for the regions the pool gives it, keeps
+// each region's analysis state (opaque here) between frames, reads the stored frame from its map
+// file and writes the result maps atomically beside it. Nothing heavy runs on the server's loop.
+import { readFile } from 'node:fs/promises';
+import { parentPort } from 'node:worker_threads';
+import type { FluxKernelCache } from '../core/fluxKernel.js';
+import { analyseFrame } from '../core/frameAnalysis.js';
+import type { AnalysisSettings, AnalysisState } from '../core/frameAnalysis.js';
+import { InputError } from '../core/inputError.js';
+import { writeFileAtomic } from './atomicFile.js';
+import { decodeFrame, encodeMapFile } from './mapFile.js';
+import type { WorkerReply, WorkerRequest } from './computeMessages.js';
+
+const states = new Map<string, AnalysisState>();
+const cache: FluxKernelCache = new Map();
+
+async function load(path: string) {
+  return decodeFrame(await readFile(path), path);
+}
+
+async function handle(req: WorkerRequest): Promise<WorkerReply> {
+  const settings = req.settings as AnalysisSettings;
+  if (req.prime === 'reset') states.delete(req.region);
+  else if (req.prime) {
+    // Rebuild the state from the last processed frame (its own result is discarded).
+    states.set(req.region, analyseFrame(await load(req.prime), {}, settings, cache).state);
+  }
+  const frame = await load(req.framePath);
+  const result = analyseFrame(frame, states.get(req.region) ?? {}, settings, cache);
+  states.set(req.region, result.state);
+  const maps = result.maps;
+  let mapsWritten = false;
+  if (maps.gTheta || maps.labels || maps.vx) {
+    const bytes = encodeMapFile(
+      { time: frame.time, nx: frame.nx, ny: frame.ny, dx: frame.dx, dy: frame.dy },
+      { gtheta: maps.gTheta, vx: maps.vx, vy: maps.vy }, { labels: maps.labels },
+    );
+    await writeFileAtomic(req.mapsPath, bytes);
+    mapsWritten = true;
+  }
+  const extra = result as unknown as { footpoints?: unknown; events?: unknown };
+  return {
+    id: req.id, ok: true,
+    ...(result.sample && { sample: result.sample }),
+    ...(result.waiting !== undefined && { waiting: result.waiting }),
+    mapsWritten,
+    ...(extra.footpoints !== undefined && { footpoints: extra.footpoints }),
+    ...(extra.events !== undefined && { events: extra.events }),
+  };
+}
+
+parentPort!.on('message', (req: WorkerRequest) => {
+  handle(req).then(
+    (reply) => parentPort!.postMessage(reply),
+    (e: unknown) => {
+      states.delete(req.region);
+      const err = e instanceof InputError
+        ? { source: e.source, field: e.field, problem: e.problem, message: e.message }
+        : { source: 'analysis', field: '(frame)', problem: (e as Error).message ?? String(e), message: String((e as Error).stack ?? e) };
+      parentPort!.postMessage({ id: req.id, ok: false, error: err } satisfies WorkerReply);
+    },
+  );
+});

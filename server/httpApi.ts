@@ -1,0 +1,286 @@
+// The HTTP routes of docs/api.md (express 5). Region names and frame ids are checked before they
+// are used; file paths are only ever built from a checked region name and ids from the store.
+import express from 'express';
+import type { NextFunction, Request, Response } from 'express';
+import { readFile } from 'node:fs/promises';
+import { join } from 'node:path';
+import { InputError } from '../core/inputError.js';
+import { parseIsoTime } from '../core/frameJson.js';
+import { seriesCsv, SERIES_COLUMNS } from '../core/seriesColumns.js';
+import { writeFits } from '../core/fits/writeImage.js';
+import type { ImageToWrite } from '../core/fits/writeImage.js';
+import { isLoopback, tokenMatches } from './auth.js';
+import { decodeMapFile } from './mapFile.js';
+import type { Pipeline } from './pipeline.js';
+import { checkRegionName } from './regionName.js';
+import { mergeSettings } from './regionSettings.js';
+import type { Store } from './store.js';
+
+export interface ApiContext {
+  readonly store: Store;
+  readonly pipeline: Pipeline;
+  readonly token: string;
+  readonly readToken: boolean;
+  readonly bodyLimit: number;
+  readonly startedAt: number;
+  readonly onSettings: (region: string) => void;
+  readonly replay: (region: string, action: unknown) => { status: number; body: unknown };
+  readonly replayStatus: (region: string) => unknown;
+}
+
+function fail(res: Response, status: number, field: string, problem: string, error = problem): void {
+  res.status(status).json({ error, field, problem });
+}
+
+function inputFail(res: Response, status: number, e: InputError): void {
+  res.status(status).json({ error: e.message, field: e.field, problem: e.problem });
+}
+
+const iso = (t: number | undefined | null) => (t === undefined || t === null ? null : new Date(t).toISOString());
+
+export function buildApp(ctx: ApiContext): express.Express {
+  const { store, pipeline, token } = ctx;
+  const app = express();
+  app.disable('x-powered-by');
+  app.set('trust proxy', false);
+
+  const canRead = (req: Request) => (!ctx.readToken && isLoopback(req.socket.remoteAddress)) || tokenMatches(token, req.get('authorization'));
+  const canWrite = (req: Request) => tokenMatches(token, req.get('authorization'));
+
+  // A region name from the path, checked (400 otherwise).
+  const regionOf = (req: Request, res: Response): string | undefined => {
+    try {
+      return checkRegionName(req.params.region, 'path');
+    } catch (e) {
+      inputFail(res, 400, e as InputError);
+      return undefined;
+    }
+  };
+  const existing = (req: Request, res: Response): string | undefined => {
+    const name = regionOf(req, res);
+    if (name === undefined) return undefined;
+    if (!store.region(name)) { fail(res, 404, 'region', `no region named "${name}"`); return undefined; }
+    return name;
+  };
+  const timeParam = (req: Request, key: 'from' | 'to', fallback: number): number => {
+    const v = req.query[key];
+    if (v === undefined || v === '') return fallback;
+    return parseIsoTime(String(v), key, 'query');
+  };
+
+  app.get('/api/health', (_req, res) => {
+    res.json({ ok: true, uptime_s: (Date.now() - ctx.startedAt) / 1000, regions: store.regions().length, queue: pipeline.queueLength() });
+  });
+
+  // Reading: open on loopback unless protected.
+  app.use('/api', (req, res, next) => {
+    if (req.method !== 'GET') return next();
+    if (canRead(req)) return next();
+    fail(res, 401, 'authorization', 'reading needs "Authorization: Bearer <token>" here', 'token needed');
+  });
+
+  // Ingest. The token is checked before the body is read, so an unauthorised sender cannot make
+  // us buffer a large body.
+  app.post('/api/regions/:region/frames', (req, res, next) => {
+    const name = regionOf(req, res);
+    if (name === undefined) return;
+    if (!canWrite(req)) {
+      const a = pipeline.refuse(name, 401, 'http', 'authorization', 'ingest needs "Authorization: Bearer <token>" with the monitor\'s token');
+      return void res.status(a.status).json(a.body);
+    }
+    next();
+  }, express.raw({ type: () => true, limit: ctx.bodyLimit }), async (req, res) => {
+    const name = req.params.region as string;
+    const type = (req.get('content-type') ?? '').split(';')[0].trim().toLowerCase();
+    const body = req.body as Buffer;
+    const source = `http:${req.get('x-frame-source')?.slice(0, 200) ?? 'POST'}`;
+    let payload;
+    if (type === 'application/json') payload = { kind: 'json' as const, text: Buffer.isBuffer(body) ? body.toString('utf8') : '' };
+    else if (type === 'application/fits' || type === 'image/fits') payload = { kind: 'fits' as const, bytes: new Uint8Array(body) };
+    else {
+      const a = pipeline.refuse(name, 415, source, 'content-type', `content type "${type || '(none)'}" is not a frame: send application/json or application/fits`);
+      return void res.status(a.status).json(a.body);
+    }
+    const answer = await pipeline.ingest({ region: name, payload, source, mayCreate: true });
+    res.status(answer.status).json(answer.body);
+  });
+
+  app.get('/api/regions', (_req, res) => {
+    res.json({
+      regions: store.regions().map((r) => ({
+        name: r.name, created: iso(r.created), settings: r.settings, frames: store.frameCount(r.name),
+        duplicates: r.duplicates, last_frame_time: iso(store.latestTime(r.name)),
+        last_sample_time: iso(store.lastSampleTime(r.name)), replay: ctx.replayStatus(r.name) ?? null,
+      })),
+    });
+  });
+
+  app.put('/api/regions/:region/settings', (req, res, next) => {
+    const name = regionOf(req, res);
+    if (name === undefined) return;
+    if (!canWrite(req)) return fail(res, 401, 'authorization', 'settings changes need "Authorization: Bearer <token>"', 'token needed');
+    next();
+  }, express.json({ limit: '1mb', type: () => true }), (req, res) => {
+    const name = req.params.region as string;
+    const row = store.region(name) ?? store.createRegion(name);
+    try {
+      const next = mergeSettings(row.settings, req.body);
+      store.saveSettings(name, next);
+      ctx.onSettings(name);
+      res.json({ region: name, settings: next });
+    } catch (e) {
+      if (e instanceof InputError) return inputFail(res, 400, e);
+      throw e;
+    }
+  });
+
+  app.get('/api/regions/:region/series', (req, res) => {
+    const name = existing(req, res);
+    if (name === undefined) return;
+    const from = timeParam(req, 'from', 0), to = timeParam(req, 'to', Number.MAX_SAFE_INTEGER);
+    const gaps = pipeline.carry(name).budget.gaps.filter((g) => g.to >= from && g.from <= to)
+      .map((g) => ({ from: iso(g.from), to: iso(g.to), bridged: g.bridged }));
+    res.json({ region: name, samples: store.samples(name, from, to), gaps });
+  });
+
+  app.get('/api/regions/:region/frames', (req, res) => {
+    const name = existing(req, res);
+    if (name === undefined) return;
+    const from = timeParam(req, 'from', 0), to = timeParam(req, 'to', Number.MAX_SAFE_INTEGER);
+    res.json({
+      frames: store.framesInRange(name, from, to).map((f) => ({
+        frame_id: f.id, time: iso(f.time), nx: f.nx, ny: f.ny, dx: f.dx, dy: f.dy, source: f.source,
+        processed: f.processed === 1, note: f.waiting,
+      })),
+    });
+  });
+
+  const frameOf = (req: Request, res: Response) => {
+    const name = existing(req, res);
+    if (name === undefined) return undefined;
+    const raw = String(req.params.id);
+    if (!/^\d{1,15}$/.test(raw)) { fail(res, 400, 'id', `"${raw.slice(0, 40)}" is not a frame id`); return undefined; }
+    const f = store.frame(name, Number(raw));
+    if (!f) { fail(res, 404, 'id', `region ${name} has no frame ${raw}`); return undefined; }
+    return f;
+  };
+
+  app.get('/api/regions/:region/frames/:id/footpoints', (req, res) => {
+    const f = frameOf(req, res);
+    if (!f) return;
+    const { footpoints } = store.footpoints(f.id);
+    const fp = footpoints as { footpoints?: unknown; tracks?: unknown } | unknown[] | null;
+    res.json({
+      frame_id: f.id, time: iso(f.time),
+      footpoints: Array.isArray(fp) ? fp : (fp && (fp as { footpoints?: unknown }).footpoints) ?? [],
+      tracks: (!Array.isArray(fp) && fp && (fp as { tracks?: unknown }).tracks) ?? {},
+    });
+  });
+
+  const LAYERS: Record<string, { unit: string; from: 'frame' | 'maps'; name: string; int?: boolean }> = {
+    bn: { unit: 'G', from: 'frame', name: 'bn' },
+    gtheta: { unit: 'Mx^2 cm^-2 s^-1', from: 'maps', name: 'gtheta' },
+    labels: { unit: '', from: 'maps', name: 'labels', int: true },
+  };
+
+  app.get('/api/regions/:region/frames/:id/map', async (req, res) => {
+    const f = frameOf(req, res);
+    if (!f) return;
+    const layer = String(req.query.layer ?? 'bn');
+    const spec = LAYERS[layer];
+    if (!spec) return fail(res, 400, 'layer', `"${layer.slice(0, 40)}" is not a layer (bn, gtheta, labels)`);
+    const file = spec.from === 'frame' ? f.file : f.mapsFile;
+    if (!file) return fail(res, 404, 'layer', `frame ${f.id} has no ${layer} map (not computed)`);
+    const content = decodeMapFile(await readFile(join(store.dataDir, file)), file);
+    const values = spec.int ? content.int[spec.name] : content.float[spec.name];
+    if (!values) return fail(res, 404, 'layer', `frame ${f.id} has no ${layer} map`);
+    const f32 = Float32Array.from(values);
+    res.json({
+      frame_id: f.id, time: iso(f.time), layer, unit: spec.unit, nx: f.nx, ny: f.ny, dx: f.dx, dy: f.dy,
+      encoding: 'float32-base64', data: Buffer.from(f32.buffer).toString('base64'),
+    });
+  });
+
+  app.get('/api/regions/:region/frames/:id/maps.fits', async (req, res) => {
+    const f = frameOf(req, res);
+    if (!f) return;
+    const frame = decodeMapFile(await readFile(join(store.dataDir, f.file)), f.file);
+    const maps = f.mapsFile ? decodeMapFile(await readFile(join(store.dataDir, f.mapsFile)), f.mapsFile) : undefined;
+    const wcs = { cdelt: [f.dx, f.dy] as const };
+    const dateObs = { key: 'DATE-OBS', value: new Date(f.time).toISOString().replace('Z', '') };
+    const images: ImageToWrite[] = [{ name: 'BN', nx: f.nx, ny: f.ny, values: frame.float.bn, bunit: 'G', wcs, keywords: [dateObs] }];
+    if (maps?.float.gtheta) images.push({ name: 'GTHETA', nx: f.nx, ny: f.ny, values: maps.float.gtheta, bunit: 'Mx2 cm-2 s-1', wcs, keywords: [dateObs] });
+    if (maps?.int.labels) images.push({ name: 'LABELS', nx: f.nx, ny: f.ny, values: maps.int.labels, wcs, keywords: [dateObs] });
+    if (maps?.float.vx) images.push({ name: 'VX', nx: f.nx, ny: f.ny, values: maps.float.vx, bunit: 'km/s', wcs, keywords: [dateObs] });
+    if (maps?.float.vy) images.push({ name: 'VY', nx: f.nx, ny: f.ny, values: maps.float.vy, bunit: 'km/s', wcs, keywords: [dateObs] });
+    const bytes = writeFits({ primary: [{ key: 'ORIGIN', value: 'helicord' }, { key: 'REGION', value: f.region }, { key: 'FRAMEID', value: f.id }], images });
+    res.type('application/fits').set('content-disposition', `attachment; filename="${f.region}-${f.id}.fits"`).send(Buffer.from(bytes));
+  });
+
+  app.get('/api/regions/:region/alerts', (req, res) => {
+    const name = existing(req, res);
+    if (name === undefined) return;
+    res.json({ alerts: pipeline.alerts(name) });
+  });
+
+  app.post('/api/regions/:region/alerts/:id/ack', (req, res) => {
+    const name = existing(req, res);
+    if (name === undefined) return;
+    if (!canWrite(req)) return fail(res, 401, 'authorization', 'acknowledging needs "Authorization: Bearer <token>"', 'token needed');
+    const id = String(req.params.id);
+    const alert = pipeline.acknowledge(name, id);
+    if (!alert) return fail(res, 404, 'id', `region ${name} has no alert "${id.slice(0, 40)}" yet`);
+    res.json(alert);
+  });
+
+  app.get('/api/regions/:region/refusals', (req, res) => {
+    const name = regionOf(req, res);
+    if (name === undefined) return;
+    res.json({ refusals: store.refusals(name) });
+  });
+
+  app.get('/api/regions/:region/export.csv', (req, res) => {
+    const name = existing(req, res);
+    if (name === undefined) return;
+    res.type('text/csv').set('content-disposition', `attachment; filename="${name}-series.csv"`).send(seriesCsv(store.samples(name)));
+  });
+
+  app.get('/api/regions/:region/export.json', (req, res) => {
+    const name = existing(req, res);
+    if (name === undefined) return;
+    const gaps = pipeline.carry(name).budget.gaps.map((g) => ({ from: iso(g.from), to: iso(g.to), bridged: g.bridged }));
+    res.json({ region: name, columns: SERIES_COLUMNS, samples: store.samples(name), gaps });
+  });
+
+  app.post('/api/regions/:region/replay', (req, res, next) => {
+    const name = existing(req, res);
+    if (name === undefined) return;
+    if (!canWrite(req)) return fail(res, 401, 'authorization', 'replay control needs "Authorization: Bearer <token>"', 'token needed');
+    next();
+  }, express.json({ limit: '64kb', type: () => true }), (req, res) => {
+    const r = ctx.replay(req.params.region as string, req.body);
+    res.status(r.status).json(r.body);
+  });
+
+  app.use('/api', (_req, res) => fail(res, 404, '(path)', 'no such route (see docs/api.md)'));
+
+  // Errors from the body parsers: size (413) and bad JSON (400) get our error shape, and frame
+  // ingest refusals are recorded.
+  app.use((err: unknown, req: Request, res: Response, _next: NextFunction) => {
+    const e = err as { type?: string; status?: number; message?: string; limit?: number; length?: number };
+    const m = /^\/api\/regions\/([A-Za-z0-9_-]{1,64})\/frames\/?$/.exec(req.path);
+    const region = m?.[1];
+    const isIngest = req.method === 'POST' && m !== null;
+    if (e.type === 'entity.too.large') {
+      const reason = `the body is larger than the limit of ${ctx.bodyLimit} bytes`;
+      if (isIngest && region) pipeline.refuse(region, 413, 'http', '(body)', reason);
+      return fail(res, 413, '(body)', reason, 'too large');
+    }
+    if (e.type === 'entity.parse.failed') return fail(res, 400, '(body)', `is not valid JSON: ${e.message}`);
+    if (err instanceof InputError) return inputFail(res, 400, err);
+    if (e.status && e.status >= 400 && e.status < 500) return fail(res, e.status, '(request)', e.message ?? 'bad request');
+    fail(res, 500, '(server)', String(e.message ?? err), 'internal error');
+  });
+
+  return app;
+}

@@ -1,0 +1,137 @@
+// Starts the monitor: store, worker pool, pipeline, HTTP and WebSocket endpoints, watched
+// folders and (with demo) the demo region; resumes every region where it stopped.
+import { createServer } from 'node:http';
+import type { AddressInfo } from 'node:net';
+import { mkdirSync } from 'node:fs';
+import { availableParallelism } from 'node:os';
+import { resolve } from 'node:path';
+import { loadOrCreateToken } from './auth.js';
+import { ComputePool } from './computePool.js';
+import { DEMO_REGION, DemoFeed } from './demoFeed.js';
+import { FolderWatch } from './folderWatch.js';
+import { buildApp } from './httpApi.js';
+import { Pipeline } from './pipeline.js';
+import { Store } from './store.js';
+import { ViewerHub } from './viewerHub.js';
+import { postWebhook } from './webhook.js';
+import { attachWebSockets } from './wsEndpoints.js';
+
+export interface ServeOptions {
+  /** Data folder: database, frame and map files, token, inbox folders. */
+  readonly dataDir: string;
+  /** TCP port; 0 picks a free one (the url tells which). */
+  readonly port: number;
+  /** Interface to listen on. Default 127.0.0.1 (loopback only). */
+  readonly host?: string;
+  /** Add the built-in demo region, streaming live. */
+  readonly demo?: boolean;
+  /** Reading needs the token too (otherwise open on loopback). */
+  readonly readToken?: boolean;
+  readonly log?: (line: string) => void;
+  /** Largest request body / WebSocket message, bytes. Default 256 MiB. */
+  readonly bodyLimit?: number;
+  /** Compute workers. Default: one fewer than the cores, at least 1, at most 4. */
+  readonly workers?: number;
+  /** Demo frame interval at speed 1, ms. Default 2000. */
+  readonly demoIntervalMs?: number;
+}
+
+export interface RunningMonitor {
+  readonly url: string;
+  close(): Promise<void>;
+}
+
+/** Default body limit: a 2048^2 JSON frame with bn, vx, vy is about 120 MB. */
+export const DEFAULT_BODY_LIMIT = 256 * 1024 * 1024;
+
+export async function serve(options: ServeOptions): Promise<RunningMonitor> {
+  const log = options.log ?? ((line: string) => process.stdout.write(line + '\n'));
+  const dataDir = resolve(options.dataDir);
+  mkdirSync(dataDir, { recursive: true });
+  const token = loadOrCreateToken(dataDir, log);
+  const store = new Store(dataDir);
+  const workers = options.workers ?? Math.min(4, Math.max(1, availableParallelism() - 1));
+  const pool = new ComputePool(workers, log);
+  const bodyLimit = options.bodyLimit ?? DEFAULT_BODY_LIMIT;
+  const readToken = options.readToken ?? false;
+  let demo: DemoFeed | undefined;
+  const replayStatus = (region: string) => (demo && region === DEMO_REGION ? demo.status() : null);
+
+  let pipeline: Pipeline;
+  const snapshot = (region: string) => {
+    const latest = store.latestTime(region);
+    const frames = latest === undefined ? [] : store.framesInRange(region, latest, latest);
+    return {
+      type: 'snapshot', region,
+      samples: store.lastSamples(region, 2000),
+      gaps: pipeline.carry(region).budget.gaps.map((g) => ({ from: new Date(g.from).toISOString(), to: new Date(g.to).toISOString(), bridged: g.bridged })),
+      alerts: store.region(region) ? pipeline.alerts(region) : [],
+      status: pipeline.status(region),
+      latest_frame: frames.length ? { frame_id: frames[0].id, time: new Date(frames[0].time).toISOString() } : null,
+    };
+  };
+  const hub = new ViewerHub(snapshot, 4 * 1024 * 1024, log);
+  pipeline = new Pipeline(store, pool, hub, {
+    log,
+    replayStatus,
+    onAlert: (region, alert, change, settings) => {
+      if (settings.webhookUrl && (change.to === 'raised' || change.to === 'settled')) void postWebhook(settings.webhookUrl, region, alert, change, log);
+    },
+  });
+  const folders = new FolderWatch(store, pipeline, log);
+
+  const app = buildApp({
+    store, pipeline, token, readToken, bodyLimit, startedAt: Date.now(),
+    onSettings: (region) => folders.sync(region, store.region(region)?.settings.watchFolder ?? false),
+    replay: (region, action) => (demo && region === DEMO_REGION
+      ? demo.control(action)
+      : { status: 409, body: { error: `region ${region} is not a replay`, field: 'region', problem: 'replay controls apply to replayed regions (the demo)' } }),
+    replayStatus,
+  });
+  const server = createServer(app);
+  server.requestTimeout = 0; // large frames on slow links; the body limit bounds them
+  const sockets = attachWebSockets(server, { store, pipeline, hub, token, readToken, bodyLimit, snapshot });
+
+  const host = options.host ?? '127.0.0.1';
+  await new Promise<void>((ok, fail) => {
+    server.once('error', fail);
+    server.listen(options.port, host, () => { server.off('error', fail); ok(); });
+  });
+  const port = (server.address() as AddressInfo).port;
+  const url = `http://${host.includes(':') ? `[${host}]` : host}:${port}`;
+
+  pipeline.resumeAll();
+  for (const r of store.regions()) folders.sync(r.name, r.settings.watchFolder);
+  // Regions created later by ingest get their folder at the next settings change or restart;
+  // check for new ones now and then as well.
+  const known = new Set(store.regions().map((r) => r.name));
+  const regionPoll = setInterval(() => {
+    for (const r of store.regions()) if (!known.has(r.name)) { known.add(r.name); folders.sync(r.name, r.settings.watchFolder); }
+  }, 1000);
+  regionPoll.unref();
+  if (options.demo) {
+    demo = new DemoFeed(pipeline, store, options.demoIntervalMs ?? 2000, log);
+    demo.start();
+  }
+  log(`helicord monitor listening at ${url} (data in ${dataDir})`);
+
+  let closing: Promise<void> | undefined;
+  return {
+    url,
+    close() {
+      closing ??= (async () => {
+        demo?.stop();
+        clearInterval(regionPoll);
+        await folders.close();
+        hub.closeAll();
+        for (const s of sockets) s.close();
+        server.closeAllConnections();
+        await new Promise<void>((ok) => server.close(() => ok()));
+        await pipeline.close();
+        await pool.close();
+        store.close();
+      })();
+      return closing;
+    },
+  };
+}
