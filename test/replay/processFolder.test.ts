@@ -96,7 +96,7 @@ describe('process on the demo region', () => {
     // --maps: G_theta of a frame integrates back to its rate (float32 maps).
     const mapFile = join(maps, 'demo_0013.maps.fits');
     expect(existsSync(mapFile)).toBe(true);
-    const g = readFitsImage(new Uint8Array(await readFile(mapFile)), mapFile, { name: 'GTHETA' });
+    const g = readFitsImage(new Uint8Array(await readFile(mapFile)), mapFile, { extname: 'GTHETA' });
     const f = await loadFrameFile(join(folder, 'demo_0013.fits'));
     let sum = 0;
     for (const v of g.values) if (Number.isFinite(v)) sum += v;
