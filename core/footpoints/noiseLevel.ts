@@ -1,8 +1,9 @@
 // The noise level of a bn map from the map itself: the median absolute deviation of the weak-field
 // pixels, found by clipping strong fields away until the estimate settles. The MAD ignores the
 // footpoints (they are far from the median) as long as most pixels are quiet, and clipping at a few
-// sigma removes what is left of them. Large maps are sampled on a regular stride: 65536 pixels fix
-// the MAD to well under 1 %.
+// sigma removes most of their weak tails too. The MAD of Gaussian noise clipped at +-k sigma is
+// smaller than the unclipped one; that known factor is divided out. Large maps are sampled on a
+// regular stride: 65536 pixels fix the MAD to about 0.5 %.
 
 /** MAD to sigma for Gaussian noise: 1 / Phi^-1(3/4). */
 export const MAD_TO_SIGMA = 1.482602218505602;
@@ -17,10 +18,33 @@ export interface NoiseLevel {
 }
 
 export interface NoiseOptions {
-  /** Pixels farther than this many sigma from the median are strong field and left out (default 3). */
+  /** Pixels farther than this many sigma from the median are strong field and left out (default 2). */
   readonly clip?: number;
   /** Most pixels sampled (default 65536). */
   readonly maxSamples?: number;
+}
+
+/** The standard normal distribution function, from erf (Abramowitz & Stegun 7.1.26, |error| < 1.5e-7). */
+export function normalCdf(x: number): number {
+  const z = Math.abs(x) / Math.SQRT2;
+  const t = 1 / (1 + 0.3275911 * z);
+  const erf = 1 - t * (0.254829592 + t * (-0.284496736 + t * (1.421413741 + t * (-1.453152027 + t * 1.061405429)))) * Math.exp(-z * z);
+  return x >= 0 ? 0.5 * (1 + erf) : 0.5 * (1 - erf);
+}
+
+/**
+ * Median of |x| / sigma for Gaussian noise clipped to |x| < k sigma: the m with
+ * P(|x| < m) = P(|x| < k) / 2, i.e. Phi(m) = 1/4 + Phi(k)/2 (bisection). 1/MAD_TO_SIGMA for k = Infinity.
+ */
+export function clippedMadOfUnitNormal(k: number): number {
+  if (!Number.isFinite(k)) return 1 / MAD_TO_SIGMA;
+  const target = 0.25 + 0.5 * normalCdf(k);
+  let lo = 0, hi = k;
+  for (let i = 0; i < 60; i++) {
+    const mid = (lo + hi) / 2;
+    if (normalCdf(mid) < target) lo = mid; else hi = mid;
+  }
+  return (lo + hi) / 2;
 }
 
 /** k-th smallest of a[0..n) (0-based), reordering a in place (Hoare's selection). */
@@ -55,7 +79,7 @@ function median(a: Float64Array, n: number): number {
 
 /** Robust noise level of the finite values of `map`; throws RangeError when none is finite. */
 export function estimateNoiseLevel(map: ArrayLike<number>, options: NoiseOptions = {}): NoiseLevel {
-  const clip = options.clip ?? 3;
+  const clip = options.clip ?? 2;
   const maxSamples = options.maxSamples ?? 65536;
   let finite = 0;
   for (let i = 0; i < map.length; i++) if (Number.isFinite(map[i])) finite++;
@@ -77,7 +101,8 @@ export function estimateNoiseLevel(map: ArrayLike<number>, options: NoiseOptions
     if (n === 0) break;
     med = median(work, n);
     for (let i = 0; i < n; i++) work[i] = Math.abs(work[i] - med);
-    const next = MAD_TO_SIGMA * median(work, n);
+    // The first pass is unclipped; later ones are clipped at +-clip sigma.
+    const next = median(work, n) / (iter === 0 ? 1 / MAD_TO_SIGMA : clippedMadOfUnitNormal(clip));
     used = n;
     const settled = Math.abs(next - sigma) <= 1e-4 * next;
     sigma = next;

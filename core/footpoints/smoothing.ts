@@ -10,7 +10,8 @@ export function smoothMap(map: ArrayLike<number>, nx: number, ny: number, sigma:
     for (let i = 0; i < n; i++) out[i] = Number.isFinite(map[i]) ? map[i] : NaN;
     return out;
   }
-  const radius = Math.max(1, Math.ceil(3 * sigma));
+  // Kernel cut at 3 sigma, rounded as scipy.ndimage rounds it (int(3 sigma + 0.5)).
+  const radius = Math.max(1, Math.floor(3 * sigma + 0.5));
   const kernel = new Float64Array(2 * radius + 1);
   for (let k = -radius; k <= radius; k++) kernel[k + radius] = Math.exp(-(k * k) / (2 * sigma * sigma));
   // Pass 1 along x: value sums and weight sums.

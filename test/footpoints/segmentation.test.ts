@@ -1,0 +1,114 @@
+import { readFileSync } from 'node:fs';
+import { describe, expect, it } from 'vitest';
+import { clippedMadOfUnitNormal, estimateNoiseLevel, MAD_TO_SIGMA } from '../../core/footpoints/noiseLevel.js';
+import { segmentFootpoints } from '../../core/footpoints/segmentation.js';
+import { smoothMap } from '../../core/footpoints/smoothing.js';
+import { regionProperties } from '../../core/footpoints/regionProperties.js';
+import type { Spot } from './scene.js';
+import { sceneField, spotFlux } from './scene.js';
+import { seededRandom } from '../support/random.js';
+
+// Reference: scipy.ndimage.gaussian_filter and scipy.stats.norm (Debian's python3-scipy), run by
+// test/fixtures/footpoints/make_smoothing_fixture.py, output committed beside it.
+interface SmoothingFixture { nx: number; ny: number; map: (number | null)[]; cases: { sigma: number; smoothed: (number | null)[] }[]; mad_to_sigma: number; clipped_mad: { k: number; m: number }[] }
+const fx = JSON.parse(readFileSync(new URL('../fixtures/footpoints/smoothing_fixture.json', import.meta.url), 'utf8')) as SmoothingFixture;
+
+describe('noise level and smoothing', () => {
+  it('the MAD-to-sigma factor is 1/Phi^-1(3/4) (scipy.stats.norm.ppf)', () => {
+    expect(MAD_TO_SIGMA).toBeCloseTo(fx.mad_to_sigma, 14);
+    expect(1 / clippedMadOfUnitNormal(Infinity)).toBe(MAD_TO_SIGMA);
+  });
+
+  it('the MAD of clipped Gaussian noise matches scipy.stats.norm (erf approximation: 1e-6)', () => {
+    for (const { k, m } of fx.clipped_mad) expect(Math.abs(clippedMadOfUnitNormal(k) - m)).toBeLessThan(1e-6);
+  });
+
+  it('pure Gaussian noise: the clipped estimate is unbiased (mean of 8 maps within 1 %)', () => {
+    let sum = 0;
+    for (let seed = 1; seed <= 8; seed++) sum += estimateNoiseLevel(sceneField({ nx: 128, ny: 128, dx: 1, dy: 1 }, [], 9, seed)).sigma / 9;
+    expect(Math.abs(sum / 8 - 1)).toBeLessThan(0.01);
+  });
+
+  it('NaN-aware smoothing equals scipy gaussian_filter(f m)/gaussian_filter(m), NaN kept', () => {
+    const map = Float64Array.from(fx.map, (v) => (v === null ? NaN : v));
+    for (const c of fx.cases) {
+      const out = smoothMap(map, fx.nx, fx.ny, c.sigma);
+      c.smoothed.forEach((v, i) => {
+        if (v === null) expect(Number.isNaN(out[i])).toBe(true);
+        else expect(Math.abs(out[i] - v)).toBeLessThan(1e-10);
+      });
+    }
+  });
+
+  it('noise from the frame: footpoints on a sixth of the map (above 5 sigma) bias it by under 8 %', () => {
+    const g = { nx: 128, ny: 128, dx: 0.5, dy: 0.5 };
+    const r = seededRandom(5);
+    const spots: Spot[] = [];
+    for (let k = 0; k < 20; k++) spots.push({ x: 4 + 56 * r(), y: 4 + 56 * r(), a: 1 + r(), b: 1 + r(), angle: 3 * r(), peak: (r() < 0.5 ? -1 : 1) * (200 + 1500 * r()) });
+    const bn = sceneField(g, spots, 9, 6);
+    let strong = 0;
+    const clean = sceneField(g, spots);
+    for (const v of clean) if (Math.abs(v) > 45) strong++;
+    expect(strong / bn.length).toBeGreaterThan(0.16);
+    // The weak tails of the spots (below 3 sigma) cannot be told from noise: they are what is left.
+    expect(Math.abs(estimateNoiseLevel(bn).sigma / 9 - 1)).toBeLessThan(0.08);
+    // Without clipping the strong field inflates the plain MAD.
+    expect(estimateNoiseLevel(bn, { clip: Infinity }).sigma / 9).toBeGreaterThan(1.08);
+  });
+});
+
+describe('segmentation', () => {
+  const g = { nx: 96, ny: 64, dx: 0.5, dy: 0.5 };
+  const at = (x: number, y: number, s: number, peak: number): Spot => ({ x, y, a: s, b: s, angle: 0, peak });
+
+  it('splits touching same-sign concentrations along the saddle, with the flux of each', () => {
+    const spots = [at(15, 16, 1.5, 1000), at(21, 16, 1.5, 800)]; // 4 widths apart, touching at threshold
+    const seg = segmentFootpoints(sceneField(g, spots, 4, 1), g, { noise: 4 });
+    expect(seg.count).toBe(2);
+    const props = regionProperties(seg.labels, sceneField(g, spots, 4, 1), g);
+    // The two regions touch (one connected component above threshold)...
+    let touching = false;
+    for (let i = 0; i < seg.labels.length - 1; i++) if (seg.labels[i] * seg.labels[i + 1] === 2) touching = true;
+    expect(touching).toBe(true);
+    // ...and each holds its own spot's flux to 3 % (the stronger spot's tail across the saddle
+    // outweighs the weaker one's).
+    expect(Math.abs(props[0].flux / spotFlux(spots[0]) - 1)).toBeLessThan(0.03);
+    expect(Math.abs(props[1].flux / spotFlux(spots[1]) - 1)).toBeLessThan(0.03);
+    expect(props[0].fluxWeighted.x).toBeCloseTo(15, 0);
+    expect(props[1].fluxWeighted.x).toBeCloseTo(21, 0);
+  });
+
+  it('keeps one footpoint when two spots are closer than two widths (no saddle)', () => {
+    const seg = segmentFootpoints(sceneField(g, [at(15, 16, 1.5, 1000), at(17.5, 16, 1.5, 800)], 4, 2), g, { noise: 4 });
+    expect(seg.count).toBe(1);
+  });
+
+  it('noise maxima on a broad plateau are merged by the saddle depth, not kept as footpoints', () => {
+    const bn = sceneField(g, [at(24, 32, 5, 120)], 10, 3);
+    expect(segmentFootpoints(bn, g, { noise: 10, smoothing: 0 }).count).toBe(1);
+    // With no saddle depth every noise bump would be a footpoint.
+    expect(segmentFootpoints(bn, g, { noise: 10, smoothing: 0, saddleDepth: 0 }).count).toBeGreaterThan(3);
+  });
+
+  it('opposite polarities side by side stay apart; minimum area and flux drop small concentrations', () => {
+    const spots = [at(15, 16, 1.5, 1000), at(19, 16, 1.5, -1000), at(40, 24, 0.4, 200), at(30, 24, 1.0, 90)];
+    const bn = sceneField(g, spots, 4, 4);
+    const seg = segmentFootpoints(bn, g, { noise: 4 });
+    const props = regionProperties(seg.labels, bn, g);
+    expect(props.map((p) => p.polarity)).toEqual([1, -1, 1, 1]);
+    const tiny = props.find((p) => Math.abs(p.fluxWeighted.x - 40) < 1)!;
+    const weak = props.find((p) => Math.abs(p.fluxWeighted.x - 30) < 1)!;
+    expect(tiny.pixels).toBeLessThan(weak.pixels);
+    const big = segmentFootpoints(bn, g, { noise: 4, minPixels: tiny.pixels + 1 });
+    expect(big.count).toBe(3);
+    const strong = segmentFootpoints(bn, g, { noise: 4, minPixels: tiny.pixels + 1, minFlux: 1.01 * Math.abs(weak.flux) });
+    expect(strong.count).toBe(2);
+  });
+
+  it('a noise-free map falls back to a noise floor of 1e-3 of the peak', () => {
+    const seg = segmentFootpoints(sceneField(g, [at(15, 16, 1.5, 1000)]), g);
+    expect(seg.noiseSource).toBe('floor');
+    expect(seg.noise).toBeCloseTo(1, 6);
+    expect(seg.count).toBe(1);
+  });
+});
