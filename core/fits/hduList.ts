@@ -4,7 +4,8 @@
 
 import { InputError } from '../inputError.js';
 import type { FitsHeader } from './header.js';
-import { BLOCK_LENGTH, headerInteger, headerLogical, headerString, parseHeader, requiredInteger } from './header.js';
+import { addOnesComplement, onesComplementSum } from './checksum.js';
+import { BLOCK_LENGTH, headerCard, headerInteger, headerLogical, headerString, parseHeader, requiredInteger } from './header.js';
 
 export type HduKind = 'primary' | 'image' | 'bintable' | 'table' | 'other';
 
@@ -33,7 +34,30 @@ export function hduLabel(index: number, name?: string): string {
 
 const BITPIX_VALUES = [8, 16, 32, 64, -32, -64];
 
-function readHdu(bytes: Uint8Array, start: number, index: number, source: string): Hdu {
+export interface ListOptions {
+  /** Verify DATASUM and CHECKSUM where present (default true). */
+  readonly verifyChecksums?: boolean;
+}
+
+/** Checks DATASUM and CHECKSUM (FITS 4.0 s.4.4.2.7) when the header has them. */
+function verifyChecksums(bytes: Uint8Array, start: number, header: FitsHeader, dataStart: number, dataBytes: number, source: string, where: string): void {
+  const datasum = headerCard(header, 'DATASUM');
+  const checksum = headerCard(header, 'CHECKSUM');
+  if (!datasum && !checksum) return;
+  const dsum = onesComplementSum(bytes, dataStart, Math.ceil(dataBytes / BLOCK_LENGTH) * BLOCK_LENGTH);
+  if (datasum && datasum.value !== undefined) {
+    const want = Number(datasum.value);
+    if (!Number.isFinite(want) || want !== dsum) {
+      throw new InputError(source, `${where} DATASUM`, `the data sum to ${dsum}, not ${datasum.value}: the data are corrupt`);
+    }
+  }
+  if (checksum && typeof checksum.value === 'string' && !/^0*$/.test(checksum.value)) {
+    const total = addOnesComplement(onesComplementSum(bytes, start, header.byteLength), dsum);
+    if (total !== 0xffffffff) throw new InputError(source, `${where} CHECKSUM`, 'does not verify: the header or the data are corrupt');
+  }
+}
+
+function readHdu(bytes: Uint8Array, start: number, index: number, source: string, options: ListOptions): Hdu {
   let where = hduLabel(index);
   const header = parseHeader(bytes, start, source, where);
   const first = header.cards[0];
@@ -74,10 +98,16 @@ function readHdu(bytes: Uint8Array, start: number, index: number, source: string
   // (even inexact) product never reaches an allocation.
   const dataBytes = (Math.abs(bitpix) / 8) * gcount * (pcount + count);
   const present = bytes.length - dataStart;
+  const padded = Math.ceil(dataBytes / BLOCK_LENGTH) * BLOCK_LENGTH;
+  if (dataBytes <= present && padded > present) {
+    // The standard requires whole 2880-byte blocks (s.3.1): missing fill means a cut file.
+    throw new InputError(source, where, `file is truncated: the data end at byte ${dataStart + present} before the fill to a whole 2880-byte block`);
+  }
   if (!(dataBytes <= present)) {
     throw new InputError(source, where,
       `file is truncated or the header is wrong: BITPIX ${bitpix}, NAXIS ${[naxis, ...axes].join(' x ')} claim ${dataBytes} data bytes but only ${present} are present`);
   }
+  if (options.verifyChecksums !== false) verifyChecksums(bytes, start, header, dataStart, dataBytes, source, where);
   return {
     index, kind, header, bitpix, axes, pcount, gcount, dataStart, dataBytes,
     ...(extname ? { name: extname } : {}),
@@ -88,7 +118,7 @@ function readHdu(bytes: Uint8Array, start: number, index: number, source: string
  * Lists the HDUs of a FITS file. Throws InputError naming `source`, the HDU and the problem.
  * Bytes after the last complete HDU that are not a header (e.g. zero padding) are ignored.
  */
-export function listHdus(bytes: Uint8Array, source: string): Hdu[] {
+export function listHdus(bytes: Uint8Array, source: string, options: ListOptions = {}): Hdu[] {
   if (bytes.length < BLOCK_LENGTH) {
     throw new InputError(source, '(file)', `is ${bytes.length} bytes, shorter than one 2880-byte FITS block: not a FITS file or truncated`);
   }
@@ -103,7 +133,7 @@ export function listHdus(bytes: Uint8Array, source: string): Hdu[] {
         throw new InputError(source, hduLabel(hdus.length), `bytes at ${pos} after the previous HDU are not an extension header (no XTENSION)`);
       }
     }
-    const hdu = readHdu(bytes, pos, hdus.length, source);
+    const hdu = readHdu(bytes, pos, hdus.length, source, options);
     hdus.push(hdu);
     const padded = Math.ceil(hdu.dataBytes / BLOCK_LENGTH) * BLOCK_LENGTH;
     pos = hdu.dataStart + padded;

@@ -101,7 +101,9 @@ export function parseHeader(bytes: Uint8Array, start: number, source: string, wh
       const at = pos + c * CARD_LENGTH;
       const text = cardText(bytes, at);
       if (text === undefined) {
-        throw new InputError(source, `${where} header`, `card at byte ${at} holds a byte that is not printable ASCII (not a FITS header)`);
+        throw new InputError(source, `${where} header`, cards.length > 0
+          ? `no END card before byte ${at}, where the header runs into bytes that are not printable ASCII`
+          : `card at byte ${at} holds a byte that is not printable ASCII (not a FITS header)`);
       }
       const key = text.slice(0, 8).trimEnd();
       if (key === 'END') { ended = true; break; }

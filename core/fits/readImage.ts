@@ -5,6 +5,7 @@ import { InputError } from '../inputError.js';
 import type { FitsHeader } from './header.js';
 import { headerInteger } from './header.js';
 import type { Hdu } from './hduList.js';
+import type { ListOptions } from './hduList.js';
 import { hduLabel, listHdus } from './hduList.js';
 import { scaleAndBlank, storedValues, toPhysical } from './imageData.js';
 import { decodeCompressedImage, isCompressedImage } from './tileCompression.js';
@@ -34,7 +35,7 @@ export interface ImageSelection {
   readonly index?: number;
 }
 
-export interface ReadOptions {
+export interface ReadOptions extends ListOptions {
   /** Largest image accepted, in pixels (default 2^27: 1 GiB as Float64Array, 8 x a 4096^2 map). */
   readonly maxPixels?: number;
 }
@@ -84,7 +85,7 @@ export function decodeImageHdu(bytes: Uint8Array, hdu: Hdu, source: string, opti
  * InputError naming the file when it is not FITS, is damaged, or has no such image.
  */
 export function readFitsImage(bytes: Uint8Array, source: string, select: ImageSelection = {}, options: ReadOptions = {}): FitsImage {
-  const hdus = listHdus(bytes, source);
+  const hdus = listHdus(bytes, source, options);
   const hdu = hdus.find((h) => matches(h, select));
   if (!hdu) {
     const what = select.index !== undefined ? `HDU ${select.index}` : select.extname !== undefined ? `EXTNAME '${select.extname}'` : 'an image HDU';
@@ -96,5 +97,5 @@ export function readFitsImage(bytes: Uint8Array, source: string, select: ImageSe
 
 /** Every image HDU of a file, decoded. */
 export function readFitsImages(bytes: Uint8Array, source: string, options: ReadOptions = {}): FitsImage[] {
-  return listHdus(bytes, source).filter(isImageHdu).map((h) => decodeImageHdu(bytes, h, source, options));
+  return listHdus(bytes, source, options).filter(isImageHdu).map((h) => decodeImageHdu(bytes, h, source, options));
 }

@@ -144,7 +144,7 @@ export function assembleFrame(components: Partial<Record<FrameMapName, Component
 
 /** One FITS file per time, components named by EXTNAME (BN required). */
 export function frameFromFits(bytes: Uint8Array, source: string, settings: FrameAssemblySettings = {}): Frame {
-  const hdus = listHdus(bytes, source);
+  const hdus = listHdus(bytes, source, settings.read);
   const primary = hdus[0].header;
   const components: Partial<Record<FrameMapName, ComponentSource>> = {};
   for (const hdu of hdus) {
@@ -168,8 +168,8 @@ export interface NamedBytes {
 }
 
 /** The first image HDU of a file, with the headers to search. */
-function firstImage(f: NamedBytes): ComponentSource {
-  const hdus = listHdus(f.bytes, f.name);
+function firstImage(f: NamedBytes, settings: FrameAssemblySettings): ComponentSource {
+  const hdus = listHdus(f.bytes, f.name, settings.read);
   const hdu = hdus.find(isImageHdu);
   if (!hdu) throw new InputError(f.name, '(file)', 'holds no image HDU');
   return { source: f.name, bytes: f.bytes, hdu, headers: hdu.index === 0 ? [hdu.header] : [hdu.header, hdus[0].header] };
@@ -202,7 +202,7 @@ export function framesFromFileSet(files: readonly NamedBytes[], settings: FrameA
   const tolMs = (settings.groupToleranceS ?? 1) * 1000;
   const entries: { name: FrameMapName; c: ComponentSource; t: number }[] = [];
   for (const f of files) {
-    const c = firstImage(f);
+    const c = firstImage(f, settings);
     const base = f.name.split(/[\\/]/).pop() ?? f.name;
     const hits = FRAME_MAPS.filter((m) => rules[m] !== undefined && ruleMatches(rules[m]!, c, base));
     if (hits.length === 0) throw new InputError(f.name, '(file)', 'matches no component rule of the region');

@@ -227,3 +227,17 @@ describe('server loadFrameFile / loadFrameFileSet', () => {
     expect(frames[0].by![0]).toBe(3);
   });
 });
+
+describe('an astropy-written frame file (test/fixtures/fits/checksum_frame.fits)', () => {
+  const dir = join(__dirname, '..', 'fixtures', 'fits');
+  const expected = JSON.parse(readFileSync(join(dir, 'expected.json'), 'utf8')) as Record<string, { values: (number | null)[] }>;
+  it('TAI time, heliographic degrees, Mx/cm^2 and m/s become UTC, Mm, G and km/s', () => {
+    const f = frameFromFits(new Uint8Array(readFileSync(join(dir, 'checksum_frame.fits'))), 'checksum_frame.fits');
+    expect(f.time).toBe(utc('2017-03-01T12:00:00Z'));
+    expect([f.nx, f.ny]).toEqual([16, 12]);
+    expect(f.dx).toBe(0.03 * MM_PER_HELIOGRAPHIC_DEG);
+    expect(Array.from(f.bn)).toEqual(expected['checksum_frame.fits'].values);
+    expect(Array.from(f.vx!)).toEqual(expected['checksum_frame.fits#VX'].values.map((v) => v! / 1e3));
+    expect(f.provenance?.keywords?.TELESCOP).toBe('invented-scope');
+  });
+});
