@@ -68,9 +68,12 @@ function convert(values: Float64Array, name: FrameMapName, c: ComponentSource, t
   if (factor === undefined) {
     throw new InputError(c.source, `${where} BUNIT`, `'${bunit}' is not a ${isField ? 'field unit (G, Mx/cm^2, T)' : 'velocity unit (km/s, m/s)'}`);
   }
-  const k = t?.negate ? -factor : factor;
+  // Divide when the unit is a whole fraction of ours (m/s = km/s / 1000), so values are exact.
+  const inverse = 1 / factor;
+  const divide = factor < 1 && Number.isInteger(inverse);
+  const sign = t?.negate ? -1 : 1;
   for (let i = 0; i < values.length; i++) {
-    const v = values[i] * k;
+    const v = sign * (divide ? values[i] / inverse : values[i] * factor);
     values[i] = Number.isFinite(v) ? v : NaN;
   }
 }
