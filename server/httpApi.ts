@@ -26,6 +26,8 @@ export interface ApiContext {
   readonly onSettings: (region: string) => void;
   readonly replay: (region: string, action: unknown) => { status: number; body: unknown };
   readonly replayStatus: (region: string) => unknown;
+  /** The dashboard page (server/staticPage.ts), mounted at / after the API. */
+  readonly page?: express.Router;
 }
 
 function fail(res: Response, status: number, field: string, problem: string, error = problem): void {
@@ -263,6 +265,7 @@ export function buildApp(ctx: ApiContext): express.Express {
   });
 
   app.use('/api', (_req, res) => fail(res, 404, '(path)', 'no such route (see docs/api.md)'));
+  if (ctx.page) app.use('/', ctx.page);
 
   // Errors from the body parsers: size (413) and bad JSON (400) get our error shape, and frame
   // ingest refusals are recorded.

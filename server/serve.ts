@@ -4,7 +4,10 @@ import { createServer } from 'node:http';
 import type { AddressInfo } from 'node:net';
 import { mkdirSync } from 'node:fs';
 import { availableParallelism } from 'node:os';
+import { existsSync } from 'node:fs';
+import { fileURLToPath } from 'node:url';
 import { resolve } from 'node:path';
+import { pageRouter } from './staticPage.js';
 import { loadOrCreateToken } from './auth.js';
 import { ComputePool } from './computePool.js';
 import { DEMO_REGION, DemoFeed } from './demoFeed.js';
@@ -43,6 +46,12 @@ export interface RunningMonitor {
 
 /** Default body limit: a 2048^2 JSON frame with bn, vx, vy is about 120 MB. */
 export const DEFAULT_BODY_LIMIT = 256 * 1024 * 1024;
+
+/** dist/web beside the compiled server (dist/server), or from the sources ../dist/web. */
+function dashboardDir(): string {
+  const compiled = existsSync(fileURLToPath(new URL('./serve.js', import.meta.url)));
+  return fileURLToPath(new URL(compiled ? '../web/' : '../dist/web/', import.meta.url));
+}
 
 export async function serve(options: ServeOptions): Promise<RunningMonitor> {
   const log = options.log ?? ((line: string) => process.stdout.write(line + '\n'));
@@ -87,6 +96,7 @@ export async function serve(options: ServeOptions): Promise<RunningMonitor> {
       ? demo.control(action)
       : { status: 409, body: { error: `region ${region} is not a replay`, field: 'region', problem: 'replay controls apply to replayed regions (the demo)' } }),
     replayStatus,
+    page: pageRouter(dashboardDir()),
   });
   const server = createServer(app);
   server.requestTimeout = 0; // large frames on slow links; the body limit bounds them

@@ -1,0 +1,218 @@
+// End to end on loopback: a scripted sequence with known injection posted over HTTP, then read
+// back through the API and the viewer socket. The truth is DESIGN section 4: two compact footpoints
+// circling each other at Omega inject dH/dt = -(1/pi) Phi1 Phi2 Omega (Berger & Field 1984;
+// the core's own check of this scene holds it to 1%, test/core/analyticTruths.test.ts).
+import { writeFileSync, mkdirSync, renameSync } from 'node:fs';
+import { createServer } from 'node:http';
+import type { AddressInfo } from 'node:net';
+import { join } from 'node:path';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import WebSocket from 'ws';
+import { SERIES_COLUMNS } from '../../core/seriesColumns.js';
+import type { SeriesRow } from '../../core/seriesColumns.js';
+import { labelFlux } from '../support/scenes.js';
+import type { TestMonitor } from './support.js';
+import { OMEGA, T0, TOKEN, circlingFrame, frameBody, getJson, irregularTimes, postFrame, startMonitor, waitIdle } from './support.js';
+
+const rel = (a: number, b: number) => Math.abs(a - b) / Math.abs(b);
+
+describe('end to end: circling pair posted over HTTP', () => {
+  let m: TestMonitor;
+  const times = irregularTimes(12);
+  const f0 = circlingFrame(T0);
+  const expectedRate = (-1 / Math.PI) * labelFlux(f0, 1) * labelFlux(f0, 2) * OMEGA;
+  let viewer: WebSocket;
+  const live: { type: string; [k: string]: unknown }[] = [];
+
+  beforeAll(async () => {
+    m = await startMonitor();
+    // A viewer connected before the first frame: snapshot first, then live messages.
+    await fetch(`${m.url}/api/regions/ar1/settings`, { method: 'PUT', headers: { authorization: `Bearer ${TOKEN}`, 'content-type': 'application/json' }, body: JSON.stringify({ watchFolder: false }) });
+    viewer = new WebSocket(`${m.url.replace('http', 'ws')}/ws/view?region=ar1`);
+    viewer.on('message', (d) => live.push(JSON.parse(d.toString())));
+    await new Promise((r) => viewer.once('open', r));
+    for (const t of times) {
+      const r = await postFrame(m.url, 'ar1', frameBody(circlingFrame(t)));
+      expect(r.status).toBe(201);
+      expect(r.body.status).toBe('stored');
+    }
+    await waitIdle(m.url);
+  });
+
+  afterAll(async () => {
+    viewer?.close();
+    await m?.stop();
+  });
+
+  it('stores one sample per frame whose rate matches -(1/pi) Phi1 Phi2 Omega within 1%', async () => {
+    const s = await getJson<{ samples: SeriesRow[]; gaps: unknown[] }>(m.url, '/api/regions/ar1/series');
+    expect(s.samples).toHaveLength(times.length);
+    expect(s.gaps).toEqual([]);
+    for (const row of s.samples) {
+      expect(rel(row.rate_total, expectedRate)).toBeLessThan(0.01);
+      // G_A integrates to the same total (Pariat, Demoulin & Berger 2005: swap identity).
+      expect(rel(row.rate_total_ga, row.rate_total)).toBeLessThan(1e-9);
+      // The exact split (labels given): spin + orbit + background = total; the pair's motion is orbit.
+      expect(rel(row.rate_spin + row.rate_orbit + row.rate_background, row.rate_total)).toBeLessThan(1e-9);
+      expect(Math.abs(row.rate_spin) / Math.abs(row.rate_total)).toBeLessThan(0.01);
+      expect(row.split_method).toBe('labels');
+      expect(row.velocity_method).toBe('given');
+      expect(row.rate_emergence).toBeNull();
+    }
+    expect(s.samples.map((r) => Date.parse(r.time))).toEqual(times);
+  });
+
+  it('the budget is the trapezoid integral of the stored rates and matches the analytic rate times the span within 1%', async () => {
+    const s = await getJson<{ samples: SeriesRow[] }>(m.url, '/api/regions/ar1/series');
+    let b = 0;
+    for (let i = 1; i < s.samples.length; i++) {
+      const dt = (Date.parse(s.samples[i].time) - Date.parse(s.samples[i - 1].time)) / 1000;
+      b += 0.5 * (s.samples[i].rate_total + s.samples[i - 1].rate_total) * dt;
+      expect(rel(s.samples[i].budget_total, b)).toBeLessThan(1e-12);
+    }
+    const last = s.samples.at(-1)!;
+    expect(rel(last.budget_total, expectedRate * (times.at(-1)! - T0) / 1000)).toBeLessThan(0.01);
+    expect(rel(last.budget_orbit + last.budget_spin + last.budget_background, last.budget_total)).toBeLessThan(1e-9);
+  });
+
+  it('a time range selects samples', async () => {
+    const from = new Date(times[3]).toISOString(), to = new Date(times[6]).toISOString();
+    const s = await getJson<{ samples: SeriesRow[] }>(m.url, `/api/regions/ar1/series?from=${from}&to=${to}`);
+    expect(s.samples.map((r) => r.time)).toEqual(times.slice(3, 7).map((t) => new Date(t).toISOString()));
+    const bad = await fetch(`${m.url}/api/regions/ar1/series?from=yesterday`);
+    expect(bad.status).toBe(400);
+  });
+
+  it('the viewer got a snapshot, then a frame, sample and status message per frame', () => {
+    expect(live[0].type).toBe('snapshot');
+    const samples = live.filter((x) => x.type === 'sample').map((x) => x.sample as SeriesRow);
+    expect(samples).toHaveLength(times.length);
+    expect(live.filter((x) => x.type === 'frame')).toHaveLength(times.length);
+    expect(samples.at(-1)!.budget_total).toBeLessThan(0);
+  });
+
+  it('a new viewer gets the stored samples in its snapshot, and backfill on request', async () => {
+    const ws = new WebSocket(`${m.url.replace('http', 'ws')}/ws/view?region=ar1`);
+    const got: { type: string; samples?: SeriesRow[]; alerts?: unknown[]; latest_frame?: { frame_id: number } }[] = [];
+    ws.on('message', (d) => got.push(JSON.parse(d.toString())));
+    await new Promise((r) => ws.once('open', r));
+    ws.send(JSON.stringify({ type: 'backfill', since: new Date(times[9]).toISOString() }));
+    while (got.length < 2) await new Promise((r) => setTimeout(r, 10));
+    ws.close();
+    expect(got[0].type).toBe('snapshot');
+    expect(got[0].samples).toHaveLength(times.length);
+    expect(got[0].alerts!.length).toBeGreaterThan(0);
+    expect(got[1].type).toBe('backfill');
+    expect(got[1].samples!.map((r) => r.time)).toEqual(times.slice(9).map((t) => new Date(t).toISOString()));
+  });
+
+  it('the region list, frame list, maps and CSV export', async () => {
+    const regions = await getJson<{ regions: { name: string; frames: number; last_sample_time: string; settings: { watchFolder: boolean } }[] }>(m.url, '/api/regions');
+    const r = regions.regions.find((x) => x.name === 'ar1')!;
+    expect(r.frames).toBe(times.length);
+    expect(r.last_sample_time).toBe(new Date(times.at(-1)!).toISOString());
+    expect(r.settings.watchFolder).toBe(false);
+    const frames = await getJson<{ frames: { frame_id: number; nx: number }[] }>(m.url, '/api/regions/ar1/frames');
+    expect(frames.frames).toHaveLength(times.length);
+    const id = frames.frames[0].frame_id;
+    const map = await getJson<{ nx: number; ny: number; data: string; encoding: string; unit: string }>(m.url, `/api/regions/ar1/frames/${id}/map?layer=bn`);
+    const values = new Float32Array(new Uint8Array(Buffer.from(map.data, 'base64')).buffer);
+    expect(values.length).toBe(64 * 64);
+    const f = circlingFrame(T0);
+    let maxDiff = 0;
+    for (let i = 0; i < values.length; i++) maxDiff = Math.max(maxDiff, Math.abs(values[i] - f.bn[i]));
+    expect(maxDiff).toBeLessThan(1e-3); // float32 of values up to 1000 G
+    const gt = await getJson<{ unit: string }>(m.url, `/api/regions/ar1/frames/${id}/map?layer=gtheta`);
+    expect(gt.unit).toBe('Mx^2 cm^-2 s^-1');
+    expect((await fetch(`${m.url}/api/regions/ar1/frames/${id}/map?layer=../../etc`)).status).toBe(400);
+    expect((await fetch(`${m.url}/api/regions/ar1/frames/99999/map`)).status).toBe(404);
+    const fits = await fetch(`${m.url}/api/regions/ar1/frames/${id}/maps.fits`);
+    expect(fits.status).toBe(200);
+    expect(Buffer.from(await fits.arrayBuffer()).subarray(0, 30).toString('latin1')).toMatch(/^SIMPLE  =\s+T/);
+    const csv = await (await fetch(`${m.url}/api/regions/ar1/export.csv`)).text();
+    const lines = csv.trim().split('\n');
+    expect(lines[0].split(',')).toEqual([...SERIES_COLUMNS]);
+    expect(lines[0]).toMatch(/^time,dt_s,rate_total,rate_spin,rate_orbit,rate_background,budget_total,budget_spin,budget_orbit/);
+    expect(lines).toHaveLength(times.length + 1);
+  });
+
+  it('frames also arrive over the ingest socket and the watched folder', async () => {
+    const t1 = times.at(-1)! + 80_000, t2 = t1 + 80_000;
+    const ws = new WebSocket(`${m.url.replace('http', 'ws')}/ws/ingest?region=ar1&token=${TOKEN}`);
+    await new Promise((r) => ws.once('open', r));
+    const answers: Record<string, unknown>[] = [];
+    ws.on('message', (d) => answers.push(JSON.parse(d.toString())));
+    ws.send(frameBody(circlingFrame(t1)));
+    ws.send(frameBody(circlingFrame(t1))); // again: a duplicate
+    ws.send('{"time": 1}');
+    while (answers.length < 3) await new Promise((r) => setTimeout(r, 10));
+    ws.close();
+    expect(answers[0]).toMatchObject({ type: 'ack', status: 'stored' });
+    expect(answers[1]).toMatchObject({ type: 'ack', status: 'duplicate', frame_id: answers[0].frame_id });
+    expect(answers[2]).toMatchObject({ type: 'refused', field: 'nx' });
+    // The watched folder of a new region (on by default): a file written there is ingested.
+    await fetch(`${m.url}/api/regions/ar2/settings`, { method: 'PUT', headers: { authorization: `Bearer ${TOKEN}`, 'content-type': 'application/json' }, body: '{}' });
+    const inbox = join(m.dataDir, 'inbox', 'ar2');
+    mkdirSync(inbox, { recursive: true });
+    writeFileSync(join(inbox, '.f.tmp'), frameBody(circlingFrame(t2)));
+    renameSync(join(inbox, '.f.tmp'), join(inbox, 'frame-0001.json'));
+    const until = Date.now() + 10_000;
+    let n = 0;
+    while (Date.now() < until) {
+      n = (await getJson<{ samples: unknown[] }>(m.url, '/api/regions/ar2/series')).samples.length;
+      if (n > 0) break;
+      await new Promise((r) => setTimeout(r, 50));
+    }
+    expect(n).toBe(1);
+    const frames = await getJson<{ frames: { source: string }[] }>(m.url, '/api/regions/ar2/frames');
+    expect(frames.frames[0].source).toBe('inbox/ar2/frame-0001.json');
+    await waitIdle(m.url);
+    expect((await getJson<{ samples: unknown[] }>(m.url, '/api/regions/ar1/series')).samples).toHaveLength(times.length + 1);
+  });
+});
+
+describe('alerts end to end: rule raised on the stream, webhook called, acknowledgement', () => {
+  it('a low rate threshold is crossed by the circling pair; the webhook gets the raise', async () => {
+    const hooks: Record<string, unknown>[] = [];
+    const hook = createServer((req, res) => {
+      let body = '';
+      req.on('data', (c) => (body += c));
+      req.on('end', () => { hooks.push(JSON.parse(body)); res.end('ok'); });
+    });
+    await new Promise<void>((r) => hook.listen(0, '127.0.0.1', r));
+    const hookUrl = `http://127.0.0.1:${(hook.address() as AddressInfo).port}/hook`;
+    const m = await startMonitor();
+    try {
+      const put = await fetch(`${m.url}/api/regions/ar3/settings`, {
+        method: 'PUT', headers: { authorization: `Bearer ${TOKEN}`, 'content-type': 'application/json' },
+        // The pair injects about -2.4e32 Mx^2/s: a threshold of 1e32 (ours, for the test) is crossed.
+        body: JSON.stringify({ webhookUrl: hookUrl, rules: { 'peak-rate': { threshold: 1e32 } } }),
+      });
+      expect(put.status).toBe(200);
+      const badPut = await fetch(`${m.url}/api/regions/ar3/settings`, { method: 'PUT', headers: { authorization: `Bearer ${TOKEN}`, 'content-type': 'application/json' }, body: JSON.stringify({ rules: { 'peak-rate': { threshold: 'high' } } }) });
+      expect(badPut.status).toBe(400);
+      expect(((await badPut.json()) as { field: string }).field).toBe('rules.peak-rate.threshold');
+      for (const t of irregularTimes(4)) expect((await postFrame(m.url, 'ar3', frameBody(circlingFrame(t)))).status).toBe(201);
+      await waitIdle(m.url);
+      const { alerts } = await getJson<{ alerts: { id: string; state: string; history: { to: string }[]; acknowledged: boolean; source: string; threshold: number }[] }>(m.url, '/api/regions/ar3/alerts');
+      const a = alerts.find((x) => x.id === 'peak-rate')!;
+      expect(a.state).toBe('raised');
+      expect(a.threshold).toBe(1e32);
+      expect(a.source).toMatch(/LaBonte/);
+      expect(a.history.map((h) => h.to)).toEqual(['rising', 'raised']);
+      expect(alerts.find((x) => x.id === 'budget')!.state).toBe('quiet');
+      const until = Date.now() + 5000;
+      while (hooks.length === 0 && Date.now() < until) await new Promise((r) => setTimeout(r, 20));
+      expect(hooks[0]).toMatchObject({ type: 'alert', region: 'ar3', rule: 'peak-rate', from: 'rising', to: 'raised' });
+      expect((await fetch(`${m.url}/api/regions/ar3/alerts/peak-rate/ack`, { method: 'POST' })).status).toBe(401);
+      const ack = await fetch(`${m.url}/api/regions/ar3/alerts/peak-rate/ack`, { method: 'POST', headers: { authorization: `Bearer ${TOKEN}` } });
+      expect(ack.status).toBe(200);
+      expect(((await ack.json()) as { acknowledged: boolean }).acknowledged).toBe(true);
+      const after = await getJson<{ alerts: { id: string; acknowledged: boolean }[] }>(m.url, '/api/regions/ar3/alerts');
+      expect(after.alerts.find((x) => x.id === 'peak-rate')!.acknowledged).toBe(true);
+    } finally {
+      await m.stop();
+      hook.close();
+    }
+  });
+});

@@ -1,0 +1,97 @@
+// Helpers for the server tests: a monitor in a temporary data folder, frames as JSON, waiting
+// until the pipeline has processed everything. The compute workers run the compiled dist/ code
+// (`npm run build` first; `npm test` does it).
+import { mkdtempSync, rmSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import type { Frame } from '../../core/frame.js';
+import { frameToJson } from '../../core/frameJson.js';
+import type { RunningMonitor, ServeOptions } from '../../server/serve.js';
+import { serve } from '../../server/serve.js';
+import { spotFrame } from '../support/scenes.js';
+
+export const TOKEN = 'test-token-0123456789';
+
+export interface TestMonitor extends RunningMonitor {
+  readonly dataDir: string;
+  readonly lines: string[];
+  stop(): Promise<void>;
+}
+
+export function tempDir(prefix = 'helicord-test-'): string {
+  return mkdtempSync(join(tmpdir(), prefix));
+}
+
+export async function startMonitor(options: Partial<ServeOptions> = {}): Promise<TestMonitor> {
+  process.env.HELICORD_TOKEN = TOKEN;
+  const dataDir = options.dataDir ?? tempDir();
+  const lines: string[] = [];
+  const m = await serve({ dataDir, port: 0, workers: 1, log: (l) => lines.push(l), ...options });
+  return {
+    ...m, dataDir, lines,
+    async stop() { await m.close(); rmSync(dataDir, { recursive: true, force: true }); },
+  };
+}
+
+export function frameBody(frame: Frame): string {
+  return JSON.stringify(frameToJson(frame));
+}
+
+export async function postFrame(url: string, region: string, body: string | Buffer, opts: { token?: string | null; type?: string } = {}) {
+  const headers: Record<string, string> = { 'content-type': opts.type ?? 'application/json' };
+  const token = opts.token === undefined ? TOKEN : opts.token;
+  if (token !== null) headers.authorization = `Bearer ${token}`;
+  const r = await fetch(`${url}/api/regions/${region}/frames`, { method: 'POST', headers, body });
+  return { status: r.status, body: (await r.json()) as Record<string, unknown> };
+}
+
+export async function getJson<T = Record<string, unknown>>(url: string, path: string, token?: string): Promise<T> {
+  const r = await fetch(url + path, token ? { headers: { authorization: `Bearer ${token}` } } : {});
+  if (!r.ok) throw new Error(`${path}: ${r.status} ${await r.text()}`);
+  return (await r.json()) as T;
+}
+
+/** Polls health until the queue is empty (everything stored is processed). */
+export async function waitIdle(url: string, timeoutMs = 30_000): Promise<void> {
+  const until = Date.now() + timeoutMs;
+  for (;;) {
+    const h = await getJson<{ queue: number }>(url, '/api/health');
+    if (h.queue === 0) return;
+    if (Date.now() > until) throw new Error(`queue still ${h.queue} after ${timeoutMs} ms`);
+    await new Promise((r) => setTimeout(r, 25));
+  }
+}
+
+export const T0 = Date.UTC(2026, 2, 14, 6, 0, 0);
+/** Orbital angular speed of the circling pair, rad/s (counter-clockwise). */
+export const OMEGA = 3e-6;
+
+/**
+ * Two compact same-sign spots circling each other about the patch centre at OMEGA, each carrying
+ * its orbital velocity (DESIGN section 4: dH/dt = -(1/pi) Phi1 Phi2 Omega). 64x64 pixels of
+ * 0.5 Mm, radius 6 Mm: the scene of the core's own check of that result (1% there).
+ */
+export function circlingFrame(time: number, extra: { noise?: () => number; noiseG?: number } = {}): Frame {
+  const cx = 16, cy = 16, R = 6;
+  const a = OMEGA * (time - T0) / 1000;
+  const v = (x: number, y: number) => ({ vx: -OMEGA * 1000 * (y - cy), vy: OMEGA * 1000 * (x - cx) });
+  const x1 = cx - R * Math.cos(a), y1 = cy - R * Math.sin(a);
+  const x2 = cx + R * Math.cos(a), y2 = cy + R * Math.sin(a);
+  const f = spotFrame(64, 64, 0.5, [
+    { x: x1, y: y1, peak: 1000, sigma: 0.6, ...v(x1, y1) },
+    { x: x2, y: y2, peak: 700, sigma: 0.5, ...v(x2, y2) },
+  ], time);
+  if (extra.noise && extra.noiseG) {
+    const bn = Float64Array.from(f.bn, (b) => b + extra.noiseG! * extra.noise!());
+    return { ...f, bn };
+  }
+  return f;
+}
+
+/** Irregular cadence: 60 to 100 s steps (fixed pattern). */
+export function irregularTimes(n: number): number[] {
+  const steps = [60, 85, 70, 100, 65, 90, 75, 80];
+  const out = [T0];
+  for (let i = 1; i < n; i++) out.push(out[i - 1] + steps[i % steps.length] * 1000);
+  return out;
+}
