@@ -8,11 +8,12 @@ import {
   type ChartDataset, type Plugin,
 } from 'chart.js';
 import 'chartjs-adapter-date-fns';
-import { bandWithBreaks, decimateMinMax, lineWithBreaks, type XY } from './decimate.js';
+import { bandFromBreaks, breaksBefore, decimateMinMax, lineFromBreaks, type XY } from './decimate.js';
 import type { AlertMoment, ThresholdLine } from './alertMarks.js';
 import { SERIES_STYLE } from './palette.js';
 import { medianStepMs, type GapSpan, type SeriesPoint } from './seriesMerge.js';
-import { formatSci, formatUtc, prettyUnit, utcTickLabel } from './unitFormat.js';
+import { formatSci, formatUtc, prettyUnit } from './unitFormat.js';
+import { utcTickLabel, utcTickStep, utcTicks } from './timeTicks.js';
 import type { WireSample } from './wire.js';
 
 Chart.register(LineController, LineElement, PointElement, LinearScale, TimeScale, Filler, Legend);
@@ -37,6 +38,8 @@ export interface ChartMarks {
 }
 
 const marks = new WeakMap<Chart, ChartMarks>();
+/** The last data each chart was given, so a legend toggle can rebuild it. */
+const inputs = new WeakMap<Chart, Parameters<typeof setSeriesData>>();
 
 export function chartMarks(chart: Chart): ChartMarks {
   let m = marks.get(chart);
@@ -96,10 +99,15 @@ const marksPlugin: Plugin<'line'> = {
         ctx.lineTo(a.right, py);
         ctx.stroke();
         ctx.setLineDash([]);
+        const text = `${t.label}: ${v < 0 ? '−' : ''}${formatSci(t.value)} ${unit}${t.source ? ' · ' + t.source : ''}`;
+        const tw = ctx.measureText(text).width;
+        const ty = v > 0 ? py - 15 : py + 2;
+        ctx.fillStyle = 'rgba(255,255,255,0.85)';
+        ctx.fillRect(a.right - 6 - tw, ty, tw + 4, 13);
         ctx.fillStyle = '#5a2d4a';
         ctx.textAlign = 'right';
-        ctx.textBaseline = v > 0 ? 'bottom' : 'top';
-        ctx.fillText(`${t.label}: ${v < 0 ? '−' : ''}${formatSci(t.value)} ${unit}${t.source ? ' · ' + t.source : ''}`, a.right - 4, v > 0 ? py - 2 : py + 2);
+        ctx.textBaseline = 'top';
+        ctx.fillText(text, a.right - 4, ty + 1);
         lines++;
         shown = true;
       }
@@ -190,12 +198,16 @@ export function createSeriesChart(canvas: HTMLCanvasElement, kind: ChartKind): L
       scales: {
         x: {
           type: 'time',
+          // Round UTC ticks of our own, about one per 70 px.
+          afterBuildTicks(scale) {
+            scale.ticks = utcTicks(scale.min, scale.max, Math.max(2, Math.floor(scale.width / 70))).map((value) => ({ value }));
+          },
           ticks: {
             maxRotation: 0,
-            autoSkip: true,
+            autoSkip: false,
             callback(value) {
               const s = this.chart.scales.x;
-              return utcTickLabel(Number(value), s.max - s.min);
+              return utcTickLabel(Number(value), utcTickStep(s.min, s.max, Math.max(2, Math.floor(s.width / 70))));
             },
           },
           title: { display: true, text: 'time (UTC)' },
@@ -210,6 +222,15 @@ export function createSeriesChart(canvas: HTMLCanvasElement, kind: ChartKind): L
           position: 'top',
           align: 'end',
           labels: { boxWidth: 24, boxHeight: 2, filter: (item: { text: string }) => item.text !== 'band lower' },
+          onClick(_e: unknown, item: { datasetIndex?: number }, legend: { chart: Chart }) {
+            const ci = legend.chart;
+            const i = item.datasetIndex ?? 0;
+            ci.setDatasetVisibility(i, !ci.isDatasetVisible(i));
+            if (i === 0) ci.setDatasetVisibility(1, ci.isDatasetVisible(0)); // the band is two datasets
+            const input = inputs.get(ci);
+            if (input) setSeriesData(...input);
+            else ci.update('none');
+          },
         },
         tooltip: { enabled: false },
         helicordUnit: f.unit,
@@ -223,6 +244,7 @@ export function createSeriesChart(canvas: HTMLCanvasElement, kind: ChartKind): L
 
 /** Replaces the chart's data from the series, decimated to `buckets` (about its width in px). */
 export function setSeriesData(chart: LineChart, kind: ChartKind, series: readonly SeriesPoint[], gaps: readonly GapSpan[], buckets: number, xRange?: [number, number]): void {
+  inputs.set(chart, [chart, kind, series, gaps, buckets, xRange]);
   const f = FIELDS[kind];
   const n = series.length;
   const times = new Float64Array(n);
@@ -235,15 +257,18 @@ export function setSeriesData(chart: LineChart, kind: ChartKind, series: readonl
   const step = medianStepMs(series);
   // A step over five cadences without a reported gap is still drawn as a break.
   const maxStep = step === undefined ? Infinity : 5 * step;
-  const line = (field: Field): XY[] => decimateMinMax(lineWithBreaks(times, pick(field), gaps, maxStep), buckets);
-  const band = bandWithBreaks(times, pick(f.total), pick(f.sigma), gaps, maxStep, buckets);
+  const flags = breaksBefore(times, gaps, maxStep);
+  const totals = pick(f.total);
+  const line = (values: (number | null)[]): XY[] => decimateMinMax(lineFromBreaks(times, values, flags), buckets);
+  const band = bandFromBreaks(times, totals, pick(f.sigma), flags, buckets);
   const ds = chart.data.datasets;
   ds[0].data = band.map((p) => ({ x: p.x, y: p.hi }));
   ds[1].data = band.map((p) => ({ x: p.x, y: p.lo }));
-  ds[2].data = line(f.total);
-  ds[3].data = line(f.spin);
-  ds[4].data = line(f.orbit);
-  ds[5].data = line(f.background);
+  ds[2].data = line(totals);
+  ds[3].data = line(pick(f.spin));
+  ds[4].data = line(pick(f.orbit));
+  // A hidden line costs nothing to draw but its decimation is skipped too.
+  ds[5].data = chart.isDatasetVisible(5) ? line(pick(f.background)) : [];
   const x = chart.options.scales?.x;
   if (x) {
     x.min = xRange ? xRange[0] : n > 0 ? series[0].t : undefined;

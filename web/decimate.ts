@@ -48,7 +48,11 @@ export function lineWithBreaks(
   gaps: readonly GapInterval[] = [],
   maxStep = Infinity,
 ): XY[] {
-  const flags = breaksBefore(times, gaps, maxStep);
+  return lineFromBreaks(times, values, breaksBefore(times, gaps, maxStep));
+}
+
+/** lineWithBreaks with the break flags already computed (one breaksBefore serves every component). */
+export function lineFromBreaks(times: ArrayLike<number>, values: ArrayLike<number | null>, flags: readonly boolean[]): XY[] {
   const out: XY[] = [];
   for (let i = 0; i < times.length; i++) {
     if (flags[i]) out.push({ x: (times[i - 1] + times[i]) / 2, y: null });
@@ -126,7 +130,17 @@ export function bandWithBreaks(
   maxStep: number,
   buckets: number,
 ): BandXY[] {
-  const flags = breaksBefore(times, gaps, maxStep);
+  return bandFromBreaks(times, centre, sigma, breaksBefore(times, gaps, maxStep), buckets);
+}
+
+/** bandWithBreaks with the break flags already computed. */
+export function bandFromBreaks(
+  times: ArrayLike<number>,
+  centre: ArrayLike<number | null>,
+  sigma: ArrayLike<number | null>,
+  flags: readonly boolean[],
+  buckets: number,
+): BandXY[] {
   const full: BandXY[] = [];
   for (let i = 0; i < times.length; i++) {
     if (flags[i]) full.push({ x: (times[i - 1] + times[i]) / 2, lo: null, hi: null });

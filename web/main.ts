@@ -78,6 +78,7 @@ async function loadRegions(): Promise<void> {
     state.regions = answer.regions ?? [];
   } catch (err) {
     byId('region-note').textContent = `regions unavailable: ${(err as Error).message}`;
+    if (!state.region) setTimeout(() => void loadRegions(), 3000);
     return;
   }
   const current = regionSelect.value;
@@ -87,6 +88,7 @@ async function loadRegions(): Promise<void> {
   if (state.regions.length === 0) {
     regionSelect.append(el('option', { value: '', text: 'no region yet' }));
     byId('region-note').textContent = 'waiting for the first frame';
+    setTimeout(() => void loadRegions(), 3000);
     return;
   }
   byId('region-note').textContent = '';
@@ -479,6 +481,7 @@ alertLog.onAcknowledge = (alert) => {
 
 function renderAlerts(): void {
   alertLog.render(state.alerts, state.ackMessage);
+  renderFeed();
 }
 
 // --- feed status and replay ----------------------------------------------------------------------
@@ -497,6 +500,11 @@ function renderFeed(): void {
   }
   parts.push(`${state.series.length} samples`);
   feedText.replaceChildren(el('span', { class: link === 'live' ? 'live' : 'down', text: linkText }), ` · ${parts.join(' · ')}`);
+  const raised = state.alerts.filter((a) => a.state === 'raised').length;
+  const rising = state.alerts.filter((a) => a.state === 'rising').length;
+  const count = byId<HTMLAnchorElement>('alert-count');
+  count.hidden = raised + rising === 0;
+  count.textContent = [raised ? `${raised} alert${raised === 1 ? '' : 's'} raised` : '', rising ? `${rising} rising` : ''].filter(Boolean).join(', ');
   const refusals = st?.refusals ?? 0;
   refusalsButton.hidden = false;
   refusalsButton.textContent = `${refusals} refusal${refusals === 1 ? '' : 's'}`;

@@ -296,7 +296,13 @@ export class MapView {
     ctx.fillStyle = '#ffffff';
     ctx.fillRect(0, 0, w, h);
     if (!this.scene) return;
-    const top = 28;
+    ctx.font = 'bold 11px system-ui, sans-serif';
+    ctx.fillStyle = '#000';
+    ctx.textBaseline = 'top';
+    ctx.textAlign = 'left';
+    const title = this.barUnit === 'G' ? 'bn (G)' : `G_θ (${prettyUnit(this.barUnit)})`;
+    const titleLines = wrapText(ctx, title, 2, 2, w - 4, 13);
+    const top = 2 + titleLines * 13 + 8;
     const bottom = h - 14;
     const bw = 16;
     const lut = PURPLE_ORANGE_LUT;
@@ -319,10 +325,6 @@ export class MapView {
       const text = this.barUnit === 'G' ? formatGauss(t).replace(' G', '') : formatSci(t, 2);
       ctx.fillText(text, bw + 10, y);
     }
-    ctx.textBaseline = 'top';
-    ctx.font = 'bold 11px system-ui, sans-serif';
-    const title = this.barUnit === 'G' ? 'bn (G)' : `G_θ (${prettyUnit(this.barUnit)})`;
-    wrapText(ctx, title, 2, 2, w - 4, 12);
   }
 
   private pickAt(px: number, py: number): void {
@@ -348,17 +350,24 @@ export class MapView {
   }
 }
 
-function wrapText(ctx: CanvasRenderingContext2D, text: string, x: number, y: number, width: number, lineHeight: number): void {
+/** Draws text wrapped at spaces; answers the number of lines. */
+function wrapText(ctx: CanvasRenderingContext2D, text: string, x: number, y: number, width: number, lineHeight: number): number {
   const words = text.split(' ');
   let line = '';
   let yy = y;
+  let lines = 0;
   for (const word of words) {
     const next = line ? `${line} ${word}` : word;
     if (ctx.measureText(next).width > width && line) {
       ctx.fillText(line, x, yy);
+      lines++;
       line = word;
       yy += lineHeight;
     } else line = next;
   }
-  if (line) ctx.fillText(line, x, yy);
+  if (line) {
+    ctx.fillText(line, x, yy);
+    lines++;
+  }
+  return lines;
 }

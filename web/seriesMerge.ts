@@ -95,11 +95,13 @@ export function nearestIndex(series: readonly SeriesPoint[], t: number): number 
   return lo;
 }
 
-/** Median interval between consecutive samples, ms; undefined with fewer than two samples. */
-export function medianStepMs(series: readonly SeriesPoint[]): number | undefined {
+/** Median interval between consecutive samples, ms; undefined with fewer than two samples. Long
+ *  series use an evenly strided subset of at most maxSteps intervals (a cadence, not a statistic). */
+export function medianStepMs(series: readonly SeriesPoint[], maxSteps = 4096): number | undefined {
   if (series.length < 2) return undefined;
   const steps: number[] = [];
-  for (let i = 1; i < series.length; i++) steps.push(series[i].t - series[i - 1].t);
+  const stride = Math.max(1, Math.floor((series.length - 1) / maxSteps));
+  for (let i = 1; i < series.length; i += stride) steps.push(series[i].t - series[i - 1].t);
   steps.sort((a, b) => a - b);
   return steps[steps.length >> 1];
 }

@@ -90,11 +90,3 @@ export function formatDuration(seconds: number | null | undefined): string {
   return `${(seconds / 86400).toFixed(1)} d`;
 }
 
-/** Chart axis label of a UTC time: HH:mm, with the date (MM-DD) when the span covers days. */
-export function utcTickLabel(ms: number, spanMs: number): string {
-  if (!Number.isFinite(ms)) return '';
-  const d = new Date(ms);
-  const hm = `${two(d.getUTCHours())}:${two(d.getUTCMinutes())}`;
-  if (spanMs > 2 * 86_400_000) return `${two(d.getUTCMonth() + 1)}-${two(d.getUTCDate())} ${hm}`;
-  return hm;
-}

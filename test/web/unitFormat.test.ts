@@ -46,3 +46,21 @@ describe('unit formatting', () => {
     expect(prettyUnit('Mx^2 s^-1 cm^-2')).toBe('Mx² s⁻¹ cm⁻²');
   });
 });
+
+import { utcTickLabel, utcTickStep, utcTicks } from '../../web/timeTicks.js';
+
+describe('UTC time ticks', () => {
+  const t0 = Date.UTC(2026, 2, 14, 6, 7, 0);
+  it('picks round steps and puts ticks on their UTC multiples', () => {
+    expect(utcTickStep(t0, t0 + 6 * 3600_000, 8)).toBe(3600_000);
+    expect(utcTickStep(t0, t0 + 6 * 3600_000, 14)).toBe(30 * 60_000);
+    const ticks = utcTicks(t0, t0 + 6 * 3600_000, 8);
+    expect(ticks.map((t) => new Date(t).toISOString().slice(11, 16))).toEqual(['07:00', '08:00', '09:00', '10:00', '11:00', '12:00']);
+    expect(utcTicks(t0, t0 - 1, 8)).toEqual([]);
+  });
+  it('labels in UTC, with the date at midnight and for day steps', () => {
+    expect(utcTickLabel(Date.UTC(2026, 2, 14, 7, 30), 1800_000)).toBe('07:30');
+    expect(utcTickLabel(Date.UTC(2026, 2, 15, 0, 0), 3600_000)).toBe('03-15');
+    expect(utcTickLabel(Date.UTC(2026, 2, 15, 0, 0), 86_400_000)).toBe('03-15');
+  });
+});

@@ -1,0 +1,255 @@
+// Browser tests of the dashboard against the TEST DOUBLE monitor (support/fakeMonitor.ts), which
+// speaks the docs/api.md contract with scripted, invented data: the region loads, charts follow new
+// frames, a scripted alert reaches the log and the budget chart, a ledger row highlights its
+// footpoint, the page recovers after a server restart (and backfills), replay controls, exports.
+// The page is built with web/build.mjs into a temporary folder first.
+
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { fileURLToPath } from 'node:url';
+import type { Page } from 'playwright-core';
+import { announceMissingChromium, chromiumPath, inCi, launchChromium, screenshotDir, type LaunchedBrowser } from './support/browser.js';
+import { FAKE_TOKEN, FakeMonitor, newRegionState, pushFrame, raiseBudgetAlert, type FakeRegionState } from './support/fakeMonitor.js';
+
+const root = fileURLToPath(new URL('../..', import.meta.url));
+
+type Probe = {
+  region?: string; samples: number; lastSampleTime: string | null; link: string; linkOpens: number; follow: boolean;
+  mapFrame: string | number | null; selectedFootpoint: string | null;
+  alerts: { id: string; state: string; acknowledged: boolean }[];
+  map: { footpoints: number; outlines: number; glyphs: number; tracks: number; highlighted: string | null };
+  rateChart: { markers: number; points: number; thresholdLines: number };
+  budgetChart: { markers: number; points: number; thresholdLines: number; thresholds: number[] };
+};
+
+const probe = (page: Page): Promise<Probe> => page.evaluate('window.helicordProbe.state()') as Promise<Probe>;
+
+async function until(page: Page, what: string, ok: (p: Probe) => boolean, timeoutMs = 10_000): Promise<Probe> {
+  const end = Date.now() + timeoutMs;
+  let last: Probe | undefined;
+  while (Date.now() < end) {
+    last = await probe(page);
+    if (ok(last)) return last;
+    await page.waitForTimeout(50);
+  }
+  throw new Error(`timed out waiting for ${what}; page state: ${JSON.stringify(last)}`);
+}
+
+if (!chromiumPath && !inCi) announceMissingChromium();
+
+describe.skipIf(!chromiumPath && !inCi)('dashboard in Chromium against the test double monitor', () => {
+  let browser: LaunchedBrowser;
+  let page: Page;
+  let monitor: FakeMonitor;
+  let region: FakeRegionState;
+  let regions: Map<string, FakeRegionState>;
+  let outDir: string;
+  const shots = screenshotDir(root);
+  const problems: string[] = [];
+  const foreign: string[] = [];
+
+  beforeAll(async () => {
+    if (!chromiumPath) throw new Error('CI=true but no Chromium found: the browser tests must run in CI (apt-get install chromium)');
+    outDir = mkdtempSync(join(tmpdir(), 'helicord-page-'));
+    const { buildPage } = (await import('../../web/build.mjs')) as { buildPage: (dir: string) => Promise<string[]> };
+    await buildPage(outDir);
+    region = newRegionState('demo');
+    for (let k = 0; k < 30; k++) pushFrame(region, k, undefined, { skipGapBefore: k === 18 });
+    regions = new Map([[region.name, region], ['quiet-region', newRegionState('quiet-region')]]);
+    monitor = new FakeMonitor(regions, outDir);
+    await monitor.listen();
+    browser = await launchChromium(chromiumPath);
+    page = await browser.context.newPage();
+    page.on('console', (m) => {
+      // Failed loads are reported with their URL by the response handler below.
+      if ((m.type() === 'error' || m.type() === 'warning') && !m.text().startsWith('Failed to load resource')) problems.push(`${m.type()}: ${m.text()}`);
+    });
+    page.on('pageerror', (e) => problems.push(`pageerror: ${e.message}`));
+    page.on('response', (r) => {
+      if (r.status() >= 400) problems.push(`HTTP ${r.status()} ${r.url()}`);
+    });
+    page.on('request', (r) => {
+      const u = r.url();
+      if (!u.startsWith(monitor.url) && !u.startsWith(monitor.url.replace('http', 'ws')) && !u.startsWith('data:') && !u.startsWith('blob:')) foreign.push(u);
+    });
+  });
+
+  afterAll(async () => {
+    await browser?.close();
+    await monitor?.close();
+    if (outDir) rmSync(outDir, { recursive: true, force: true });
+  });
+
+  it('loads the demo region: series, map with footpoints, ledger, cautions, no outside fetch', async () => {
+    await page.goto(monitor.url + '/');
+    const p = await until(page, 'the demo region to load', (s) => s.samples === 30 && s.map.footpoints === 3 && s.link === 'live');
+    expect(p.region).toBe('demo');
+    expect(p.mapFrame).toBe(29); // follows the latest frame
+    expect(p.map.outlines).toBe(3);
+    expect(p.map.glyphs).toBe(2); // footpoint 3 has no measurable rotation
+    expect(p.map.tracks).toBe(3);
+    expect(p.rateChart.points).toBeGreaterThan(30); // 30 samples plus the break in the gap
+    expect(await page.locator('#ledger tbody tr').count()).toBe(3);
+    expect(await page.locator('#region option').count()).toBe(2);
+    expect(await page.locator('#caution').innerText()).toMatch(/research indicators, not forecasts.*NOAA SWPC/);
+    expect(await page.locator('#feed').innerText()).toMatch(/live.*last frame 2026-03-14 11:48:00 UTC.*cadence 12 min.*1 gap/s);
+    // Before any alert, the budget chart shows the published default thresholds.
+    expect(p.budgetChart.thresholds).toEqual([2e42, 9e41]);
+    await page.screenshot({ path: join(shots, 'fake-01-loaded.png') });
+  });
+
+  it('updates the charts and the map as frames arrive', async () => {
+    const before = await probe(page);
+    for (let k = 30; k < 33; k++) pushFrame(region, k, monitor);
+    const p = await until(page, 'three new samples', (s) => s.samples === 33 && s.mapFrame === 32);
+    expect(p.lastSampleTime).toBe(region.samples.at(-1)!.time);
+    expect(p.rateChart.points).toBe(before.rateChart.points + 3);
+    expect(p.budgetChart.points).toBe(before.budgetChart.points + 3);
+  });
+
+  it('shows values with units on hover and shows the picked frame on the map', async () => {
+    const box = (await page.locator('#rate-chart').boundingBox())!;
+    await page.mouse.move(box.x + box.width * 0.3, box.y + box.height * 0.55);
+    const readout = page.locator('#rate-readout');
+    await readout.waitFor({ state: 'visible' });
+    const text = await readout.innerText();
+    expect(text).toMatch(/2026-03-14 \d\d:\d\d:00 UTC/);
+    expect(text).toMatch(/total [−\d.e]+ Mx²\/s ± 2\.0e35/);
+    expect(text).toMatch(/spin .* Mx²\/s/);
+    await page.screenshot({ path: join(shots, 'fake-02-hover.png') });
+    await page.mouse.click(box.x + box.width * 0.3, box.y + box.height * 0.55);
+    const p = await until(page, 'the picked frame on the map', (s) => !s.follow && s.mapFrame !== 32 && s.mapFrame !== null);
+    expect(Number(p.mapFrame)).toBeGreaterThan(0);
+    expect(Number(p.mapFrame)).toBeLessThan(20);
+    expect(await page.locator('#follow').isVisible()).toBe(true);
+    // Keyboard: on the focused chart the arrow keys step the picked frame.
+    await page.locator('#rate-chart').focus();
+    await page.keyboard.press('ArrowRight');
+    await until(page, 'one frame later', (s) => s.mapFrame === Number(p.mapFrame) + 1);
+    await page.keyboard.press('Escape');
+    await until(page, 'following the latest again', (s) => s.follow && s.mapFrame === 32);
+  });
+
+  it('puts a scripted alert in the log and on the budget chart', async () => {
+    const threshold = region.samples.at(-3)!.budget_total as number;
+    const alert = raiseBudgetAlert(region, threshold, monitor);
+    const item = page.locator(`#alerts li[data-alert="${alert.id}"]`);
+    await item.waitFor({ state: 'visible' });
+    expect(await item.getAttribute('data-state')).toBe('raised');
+    const text = await item.innerText();
+    expect(text).toMatch(/raised/i);
+    expect(text).toContain('accumulated |H| above threshold');
+    expect(text).toContain('source: Liokati et al. 2022');
+    expect(text).toMatch(/value \d\.\d\de\d\d Mx²/);
+    const p = await until(page, 'the alert marker on the budget chart', (s) => s.budgetChart.markers === 1);
+    // The threshold now comes from the alert, not the defaults.
+    expect(p.budgetChart.thresholds).toEqual([threshold]);
+    expect(p.budgetChart.thresholdLines).toBe(1);
+    await page.locator('.panel.budget').screenshot({ path: join(shots, 'fake-03-budget-alert.png') });
+  });
+
+  it('acknowledges an alert after asking for the token once', async () => {
+    await page.locator('#alerts button.ack').first().click();
+    await page.locator('#token-dialog').waitFor({ state: 'visible' });
+    await page.locator('#token-input').fill(FAKE_TOKEN);
+    await page.locator('#token-form button[value="save"]').click();
+    await until(page, 'the alert acknowledged', (s) => s.alerts.some((a) => a.acknowledged));
+    expect(await page.locator('#alerts button.ack').first().innerText()).toBe('acknowledged');
+    expect(await page.evaluate('sessionStorage.getItem("helicord.token")')).toBe(FAKE_TOKEN);
+  });
+
+  it('highlights the footpoint of a clicked ledger row on the map, and sorts the ledger', async () => {
+    const before = await page.locator('#map').screenshot();
+    await page.locator('#ledger tbody tr[data-id="2"]').click();
+    const p = await until(page, 'footpoint 2 highlighted', (s) => s.map.highlighted === '2');
+    expect(p.selectedFootpoint).toBe('2');
+    expect(await page.locator('#ledger tbody tr[data-id="2"]').getAttribute('aria-selected')).toBe('true');
+    const after = await page.locator('#map').screenshot();
+    expect(after.equals(before)).toBe(false);
+    await page.locator('.panel.map').screenshot({ path: join(shots, 'fake-04-map-highlight.png') });
+    // Keyboard: Enter on a focused row selects it.
+    await page.locator('#ledger tbody tr[data-id="1"]').focus();
+    await page.keyboard.press('Enter');
+    await until(page, 'footpoint 1 highlighted', (s) => s.map.highlighted === '1');
+    // Sorting by id ascending.
+    await page.locator('#ledger th[data-key="id"] button').click();
+    const ids = await page.locator('#ledger tbody tr').evaluateAll((rows) => rows.map((r) => r.getAttribute('data-id')));
+    expect(ids).toEqual(['1', '2', '3']);
+    expect(await page.locator('#ledger th[data-key="id"]').getAttribute('aria-sort')).toBe('ascending');
+    // The G_theta overlay switches the colour bar to the density.
+    await page.locator('#overlay').check();
+    await page.waitForTimeout(300);
+    await page.locator('.panel.map').screenshot({ path: join(shots, 'fake-05-map-gtheta.png') });
+    await page.locator('#overlay').uncheck();
+  });
+
+  it('offers the series CSV and the map and charts as PNG', async () => {
+    const href = await page.locator('#export-csv').getAttribute('href');
+    expect(href).toBe('/api/regions/demo/export.csv');
+    const csv = await (await fetch(monitor.url + href)).text();
+    expect(csv.split('\n')[0]).toBe('time,dt_s,rate_total,rate_spin,rate_orbit,rate_background,budget_total,budget_spin,budget_orbit');
+    const [mapDownload] = await Promise.all([page.waitForEvent('download'), page.locator('#map-png').click()]);
+    expect(mapDownload.suggestedFilename()).toBe('demo-frame-32-map.png');
+    const mapPath = join(shots, 'fake-export-map.png');
+    await mapDownload.saveAs(mapPath);
+    const [chartDownload] = await Promise.all([page.waitForEvent('download'), page.locator('#budget-png').click()]);
+    expect(chartDownload.suggestedFilename()).toBe('demo-budget.png');
+    await chartDownload.saveAs(join(shots, 'fake-export-budget.png'));
+  });
+
+  it('recovers after the server restarts and backfills what it missed', async () => {
+    const port = monitor.port;
+    await monitor.close();
+    await until(page, 'the page to notice', (s) => s.link === 'reconnecting');
+    expect(await page.locator('#feed').innerText()).toMatch(/reconnecting/);
+    await page.screenshot({ path: join(shots, 'fake-06-server-down.png') });
+    // Frames computed while the page was away.
+    for (let k = 33; k < 36; k++) pushFrame(region, k);
+    monitor = new FakeMonitor(regions, outDir);
+    await monitor.listen(port);
+    const p = await until(page, 'reconnect, backfill and the newest frame on the map', (s) => s.link === 'live' && s.samples === 36 && s.mapFrame === 35, 20_000);
+    expect(p.linkOpens).toBeGreaterThanOrEqual(2);
+    expect(monitor.received).toContainEqual({ type: 'backfill', since: region.samples[32].time });
+    // Live updates continue on the new link.
+    pushFrame(region, 36, monitor);
+    await until(page, 'a live sample after the restart', (s) => s.samples === 37);
+  });
+
+  it('shows replay controls for a replayed region and sends the actions', async () => {
+    region.replay = { state: 'playing', speed: 60, position: 10, total: 40 };
+    monitor.broadcast({ type: 'status', status: monitor.status(region) });
+    await page.locator('#replay').waitFor({ state: 'visible' });
+    expect(await page.locator('#replay-text').innerText()).toBe('playing · frame 11 of 40 · ×60');
+    await page.locator('#replay-pause').click();
+    await page.locator('#replay-text').filter({ hasText: 'paused' }).waitFor();
+    await page.locator('#replay-speed').selectOption('0');
+    await page.locator('#replay-text').filter({ hasText: 'as fast as possible' }).waitFor();
+    await page.locator('#replay-seek').fill('25');
+    await page.locator('#replay-text').filter({ hasText: 'frame 26 of 40' }).waitFor();
+    expect(region.replayActions).toEqual([{ action: 'pause' }, { action: 'speed', value: 0 }, { action: 'seek', value: 25 }]);
+    await page.screenshot({ path: join(shots, 'fake-07-replay.png') });
+  });
+
+  it('measures a 20,000-sample chart redraw and a 1024² map draw inside the page (reported)', async () => {
+    const chart = (await page.evaluate('window.helicordProbe.measureChartRedraw(20000)')) as { fullUpdateMs: number; redrawMs: number; pointsDrawn: number; runs: number[] };
+    const map = (await page.evaluate('window.helicordProbe.measureMapDraw(1024)')) as { decodeMs: number; newFrameMs: number; redrawMs: number; runs: number[] };
+    const lines = [
+      `chart, 20,000 samples: update after a new sample ${chart.fullUpdateMs.toFixed(1)} ms (median of 10; merge + decimate + chart.js update), ` +
+        `redraw ${chart.redrawMs.toFixed(1)} ms, ${chart.pointsDrawn} points drawn over 6 datasets`,
+      `map 1024x1024: base64 decode ${map.decodeMs.toFixed(1)} ms, new frame (raster + draw) ${map.newFrameMs.toFixed(1)} ms (median of 5), ` +
+        `highlight redraw ${map.redrawMs.toFixed(1)} ms`,
+    ];
+    process.stdout.write(`\n[dashboard performance, headless Chromium]\n  ${lines.join('\n  ')}\n`);
+    writeFileSync(join(shots, 'performance.txt'), lines.join('\n') + '\n');
+    // Points drawn stay bounded by the chart width, not the sample count.
+    expect(chart.pointsDrawn).toBeLessThan(6 * 4 * 1280);
+    expect(Number.isFinite(map.newFrameMs)).toBe(true);
+  });
+
+  it('logged no page errors and fetched nothing from outside', () => {
+    expect(problems).toEqual([]);
+    expect(foreign).toEqual([]);
+  });
+});

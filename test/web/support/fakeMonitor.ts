@@ -1,0 +1,297 @@
+// TEST DOUBLE: a small stand-in for the monitor that speaks the docs/api.md contract, for
+// developing and testing the page without the real server. Its numbers are invented (no physics):
+// a scripted region whose samples, frames, footpoints and alerts the test pushes by hand. It serves
+// the built page through the real server/staticPage.ts router.
+
+import express from 'express';
+import { createServer, type Server } from 'node:http';
+import type { AddressInfo } from 'node:net';
+import { WebSocketServer, type WebSocket } from 'ws';
+import { pageRouter } from '../../../server/staticPage.js';
+import type {
+  FeedStatus, FootpointsAnswer, ReplayInfo, WireAlert, WireFootpoint, WireGap, WireSample,
+} from '../../../web/wire.js';
+
+export interface FakeFrame {
+  frame_id: number;
+  time: string;
+  nx: number;
+  ny: number;
+  dx: number;
+  dy: number;
+}
+
+/** Everything the double holds; it survives a restart (close + listen on the same port). */
+export interface FakeRegionState {
+  name: string;
+  samples: WireSample[];
+  gaps: WireGap[];
+  frames: FakeFrame[];
+  alerts: WireAlert[];
+  refusals: { time_received: string; source: string; reason: string; field: string }[];
+  replay: ReplayInfo | null;
+  replayActions: { action: string; value?: unknown }[];
+}
+
+export const FAKE_TOKEN = 'fake-token-for-tests';
+const T0 = Date.UTC(2026, 2, 14, 6, 0, 0);
+const CADENCE_S = 720;
+const GRID = 96;
+const DX = 0.72;
+
+/** The scripted scene at frame k: two spots circling, one negative; values invented. */
+function footpointsAt(k: number): WireFootpoint[] {
+  const cx = (GRID * DX) / 2;
+  const angle = 0.05 * k;
+  const r = 12;
+  const spots: WireFootpoint[] = [
+    { id: 1, polarity: 1, flux: 2.1e21, x: cx + r * Math.cos(angle), y: cx + r * Math.sin(angle), area: 40, omega: 4e-5, omega_method: 'velocity', spin: -1.2e35, spin_point: -1.1e35, partners: [{ id: 2, orbit: -3.4e35 }, { id: 3, orbit: 2e34 }] },
+    { id: 2, polarity: -1, flux: -1.9e21, x: cx - r * Math.cos(angle), y: cx - r * Math.sin(angle), area: 36, omega: -1.5e-5, omega_method: 'pattern', spin: 4e34, spin_point: 3.8e34, partners: [{ id: 1, orbit: -3.4e35 }] },
+    { id: 3, polarity: 1, flux: 4e20, x: cx + 20, y: cx - 22, area: 10, omega: null, omega_method: 'unobservable', spin: null, spin_point: null, partners: [{ id: 1, orbit: 2e34 }] },
+  ];
+  return spots;
+}
+
+function bnMap(k: number): Float32Array {
+  const out = new Float32Array(GRID * GRID);
+  const fps = footpointsAt(k);
+  for (let iy = 0; iy < GRID; iy++) {
+    for (let ix = 0; ix < GRID; ix++) {
+      const x = ix * DX;
+      const y = iy * DX;
+      let v = 8 * Math.sin(ix * 0.9) * Math.cos(iy * 0.7);
+      for (const fp of fps) {
+        const w = fp.area / Math.PI;
+        v += (fp.polarity > 0 ? 1800 : -1700) * Math.exp(-((x - fp.x) ** 2 + (y - fp.y) ** 2) / w) * (fp.id === 3 ? 0.5 : 1);
+      }
+      out[iy * GRID + ix] = ix < 3 && iy > GRID - 10 ? Number.NaN : v; // a no-data corner
+    }
+  }
+  return out;
+}
+
+function gthetaMap(k: number): Float32Array {
+  const bn = bnMap(k);
+  const out = new Float32Array(bn.length);
+  for (let i = 0; i < bn.length; i++) out[i] = Number.isNaN(bn[i]) ? Number.NaN : -bn[i] * Math.abs(bn[i]) * 1e-3 * Math.sin(i * 0.001);
+  return out;
+}
+
+export function newRegionState(name = 'demo'): FakeRegionState {
+  return { name, samples: [], gaps: [], frames: [], alerts: [], refusals: [], replay: null, replayActions: [] };
+}
+
+export class FakeMonitor {
+  private server: Server | undefined;
+  private wss: WebSocketServer | undefined;
+  private viewers = new Set<WebSocket>();
+  port = 0;
+  /** Messages viewers sent (backfill requests), for the tests to inspect. */
+  received: unknown[] = [];
+
+  constructor(readonly regions: Map<string, FakeRegionState>, private readonly pageDir: string) {}
+
+  get url(): string {
+    return `http://127.0.0.1:${this.port}`;
+  }
+
+  async listen(port = 0): Promise<void> {
+    const app = express();
+    app.use(express.json());
+    app.use('/', pageRouter(this.pageDir));
+    const region = (req: express.Request, res: express.Response): FakeRegionState | undefined => {
+      const r = this.regions.get(String(req.params.region));
+      if (!r) res.status(404).json({ error: 'no such region', field: 'region', problem: String(req.params.region) });
+      return r;
+    };
+    const authorised = (req: express.Request, res: express.Response): boolean => {
+      if (req.get('authorization') === `Bearer ${FAKE_TOKEN}`) return true;
+      res.status(401).json({ error: 'token needed', field: 'Authorization', problem: 'missing or wrong bearer token' });
+      return false;
+    };
+    app.get('/api/health', (_req, res) => res.json({ ok: true, uptime_s: 1, regions: this.regions.size, queue: 0 }));
+    app.get('/api/regions', (_req, res) => {
+      res.json({
+        regions: [...this.regions.values()].map((r) => ({
+          name: r.name, created: new Date(T0).toISOString(), settings: {}, frames: r.frames.length,
+          last_frame_time: r.frames.at(-1)?.time ?? null, last_sample_time: r.samples.at(-1)?.time ?? null, replay: r.replay,
+        })),
+      });
+    });
+    app.get('/api/regions/:region/series', (req, res) => {
+      const r = region(req, res);
+      if (r) res.json({ region: r.name, samples: r.samples, gaps: r.gaps });
+    });
+    app.get('/api/regions/:region/frames', (req, res) => {
+      const r = region(req, res);
+      if (r) res.json({ frames: r.frames.map((f) => ({ ...f, source: 'fake' })) });
+    });
+    app.get('/api/regions/:region/frames/:id/footpoints', (req, res) => {
+      const r = region(req, res);
+      if (!r) return;
+      const k = Number(req.params.id);
+      const f = r.frames.find((x) => x.frame_id === k);
+      if (!f) return void res.status(404).json({ error: 'no such frame', field: 'id', problem: String(req.params.id) });
+      const tracks: FootpointsAnswer['tracks'] = {};
+      for (const fp of footpointsAt(k)) {
+        tracks[String(fp.id)] = [];
+        for (let j = Math.max(0, k - 6); j <= k; j++) {
+          const p = footpointsAt(j).find((q) => q.id === fp.id);
+          if (p) tracks[String(fp.id)].push([p.x, p.y]);
+        }
+      }
+      res.json({ frame_id: k, time: f.time, footpoints: footpointsAt(k), tracks });
+    });
+    app.get('/api/regions/:region/frames/:id/map', (req, res) => {
+      const r = region(req, res);
+      if (!r) return;
+      const k = Number(req.params.id);
+      const f = r.frames.find((x) => x.frame_id === k);
+      if (!f) return void res.status(404).json({ error: 'no such frame', field: 'id', problem: String(req.params.id) });
+      const layer = String(req.query.layer ?? 'bn');
+      const data = layer === 'gtheta' ? gthetaMap(k) : bnMap(k);
+      res.json({
+        frame_id: k, time: f.time, layer, unit: layer === 'gtheta' ? 'Mx^2 s^-1 cm^-2' : 'G', nx: GRID, ny: GRID, dx: DX, dy: DX,
+        encoding: 'float32-base64', data: Buffer.from(data.buffer).toString('base64'),
+      });
+    });
+    app.get('/api/regions/:region/alerts', (req, res) => {
+      const r = region(req, res);
+      if (r) res.json({ alerts: r.alerts });
+    });
+    app.post('/api/regions/:region/alerts/:id/ack', (req, res) => {
+      const r = region(req, res);
+      if (!r || !authorised(req, res)) return;
+      const a = r.alerts.find((x) => String(x.id) === req.params.id);
+      if (!a) return void res.status(404).json({ error: 'no such alert', field: 'id', problem: req.params.id });
+      a.acknowledged = true;
+      this.broadcast({ type: 'alert', alert: a });
+      res.json(a);
+    });
+    app.get('/api/regions/:region/refusals', (req, res) => {
+      const r = region(req, res);
+      if (r) res.json({ refusals: r.refusals });
+    });
+    app.get('/api/regions/:region/export.csv', (req, res) => {
+      const r = region(req, res);
+      if (!r) return;
+      const cols = ['time', 'dt_s', 'rate_total', 'rate_spin', 'rate_orbit', 'rate_background', 'budget_total', 'budget_spin', 'budget_orbit'] as const;
+      res.type('text/csv').send([cols.join(','), ...r.samples.map((s) => cols.map((c) => String(s[c] ?? '')).join(','))].join('\n') + '\n');
+    });
+    app.post('/api/regions/:region/replay', (req, res) => {
+      const r = region(req, res);
+      if (!r || !authorised(req, res)) return;
+      r.replayActions.push(req.body);
+      if (r.replay) {
+        const { action, value } = req.body as { action: string; value?: number };
+        if (action === 'pause') r.replay.state = 'paused';
+        if (action === 'resume') r.replay.state = 'playing';
+        if (action === 'speed') r.replay.speed = Number(value);
+        if (action === 'seek') r.replay.position = Number(value);
+        this.broadcast({ type: 'status', status: this.status(r) });
+      }
+      res.json({ replay: r.replay });
+    });
+
+    this.server = createServer(app);
+    this.wss = new WebSocketServer({ noServer: true });
+    this.server.on('upgrade', (req, socket, head) => {
+      const u = new URL(req.url ?? '/', 'http://x');
+      const r = this.regions.get(u.searchParams.get('region') ?? '');
+      if (u.pathname !== '/ws/view' || !r) {
+        socket.destroy();
+        return;
+      }
+      this.wss!.handleUpgrade(req, socket, head, (ws) => {
+        this.viewers.add(ws);
+        ws.on('close', () => this.viewers.delete(ws));
+        ws.on('message', (data) => {
+          let m: { type?: string; since?: string };
+          try {
+            m = JSON.parse(String(data));
+          } catch {
+            return;
+          }
+          this.received.push(m);
+          if (m.type === 'backfill' && typeof m.since === 'string') {
+            const since = Date.parse(m.since);
+            ws.send(JSON.stringify({ type: 'backfill', samples: r.samples.filter((s) => Date.parse(s.time) > since) }));
+          }
+        });
+        const last = r.frames.at(-1);
+        // A short snapshot (the last 50 samples): the page must merge it with its HTTP history.
+        ws.send(JSON.stringify({
+          type: 'snapshot', region: r.name, samples: r.samples.slice(-50), gaps: r.gaps, alerts: r.alerts, status: this.status(r),
+          latest_frame: last ? { frame_id: last.frame_id, time: last.time } : null,
+        }));
+      });
+    });
+    await new Promise<void>((resolve, reject) => {
+      this.server!.once('error', reject);
+      this.server!.listen(port, '127.0.0.1', () => resolve());
+    });
+    this.port = (this.server.address() as AddressInfo).port;
+  }
+
+  async close(): Promise<void> {
+    for (const ws of this.viewers) ws.terminate();
+    this.viewers.clear();
+    this.wss?.close();
+    await new Promise<void>((resolve) => {
+      if (!this.server) return resolve();
+      this.server.close(() => resolve());
+      this.server.closeAllConnections();
+    });
+    this.server = undefined;
+  }
+
+  status(r: FakeRegionState): FeedStatus {
+    return { last_frame_time: r.frames.at(-1)?.time ?? null, cadence_s: CADENCE_S, refusals: r.refusals.length, gaps: r.gaps.length, queue: 0, replay: r.replay };
+  }
+
+  broadcast(message: unknown): void {
+    const data = JSON.stringify(message);
+    for (const ws of this.viewers) if (ws.readyState === ws.OPEN) ws.send(data);
+  }
+}
+
+/** Adds frame k (and its sample) to the state; with a monitor, tells its viewers. */
+export function pushFrame(r: FakeRegionState, k: number, monitor?: FakeMonitor, options: { skipGapBefore?: boolean } = {}): WireSample {
+  const t = new Date(T0 + k * CADENCE_S * 1000).toISOString();
+  const prev = r.samples.at(-1);
+  if (options.skipGapBefore && prev) r.gaps.push({ from: prev.time, to: t, bridged: true });
+  const rate = 2e36 + 1.5e36 * Math.sin(k / 6);
+  const budget = (prev?.budget_total ?? 0) + rate * CADENCE_S;
+  const sample: WireSample = {
+    time: t, dt_s: CADENCE_S, rate_total: rate, rate_spin: 0.3 * rate, rate_orbit: 0.6 * rate, rate_background: 0.1 * rate,
+    budget_total: budget, budget_spin: 0.3 * budget, budget_orbit: 0.6 * budget, budget_background: 0.1 * budget,
+    rate_total_ga: rate, rate_emergence: null, rate_shear: null, sigma_rate_total: 2e35, sigma_budget_total: 2e35 * CADENCE_S * Math.sqrt(k + 1),
+    velocity_method: 'given', split_method: 'labels', noise_g: 6, masked_fraction: 0.01, flags: [], frame_id: k,
+  };
+  r.samples.push(sample);
+  r.frames.push({ frame_id: k, time: t, nx: GRID, ny: GRID, dx: DX, dy: DX });
+  if (monitor) {
+    monitor.broadcast({ type: 'sample', sample });
+    monitor.broadcast({ type: 'frame', frame_id: k, time: t });
+    monitor.broadcast({ type: 'status', status: monitor.status(r) });
+  }
+  return sample;
+}
+
+/** Raises the accumulated-budget rule at the newest sample (evidence from that sample). */
+export function raiseBudgetAlert(r: FakeRegionState, threshold: number, monitor?: FakeMonitor): WireAlert {
+  const s = r.samples.at(-1)!;
+  const risingAt = r.samples.at(-2)?.time ?? s.time;
+  const alert: WireAlert = {
+    id: 'budget-1', rule: 'accumulated |H| above threshold', state: 'raised', since: s.time, threshold, unit: 'Mx^2',
+    source: 'Liokati et al. 2022', evidence: { value: s.budget_total ?? 0, window_from: r.samples[0].time, window_to: s.time },
+    acknowledged: false,
+    history: [
+      { time: risingAt, from: 'quiet', to: 'rising' },
+      { time: s.time, from: 'rising', to: 'raised', evidence: { value: s.budget_total } },
+    ],
+  };
+  r.alerts = r.alerts.filter((a) => a.id !== alert.id).concat(alert);
+  monitor?.broadcast({ type: 'alert', alert });
+  return alert;
+}
