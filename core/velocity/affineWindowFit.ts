@@ -39,13 +39,15 @@ export interface AffineFitResult {
 
 /**
  * Fits `columns` (n of them) to `target` in Gaussian windows of width `sigma` pixels around every
- * pixel. Returns maps of the parameters listed in `wanted`. A window is ill-conditioned when a
- * Cholesky pivot of M scaled to unit diagonal falls below `minPivot`.
+ * pixel. Returns maps of the parameters listed in `wanted`. With M scaled to unit diagonal, a
+ * window is ill-conditioned when a wanted parameter p has 1 / [M^-1]_pp < `minPivot` (its column
+ * is almost a combination of the others). `ridge[p]` (relative to the unit diagonal) is a penalty on
+ * parameter p: it makes the fit prefer small values of it where the data leave it undetermined.
  */
 export function affineWindowFit(
   channels: readonly ArrayLike<number>[], nx: number, ny: number,
   columns: readonly ModelColumn[], target: ModelColumn,
-  sigma: number, minPivot: number, wanted: readonly number[],
+  sigma: number, minPivot: number, wanted: readonly number[], ridge: readonly number[] = columns.map(() => 0),
 ): AffineFitResult {
   const n = columns.length;
   const size = nx * ny;
@@ -114,6 +116,7 @@ export function affineWindowFit(
   const mat = new Float64Array(n * n);
   const rhs = new Float64Array(n);
   const scale = new Float64Array(n);
+  const unit = new Float64Array(n);
   let illConditioned = 0;
   for (let i = 0; i < size; i++) {
     if (!valid[i]) continue;
@@ -127,26 +130,45 @@ export function affineWindowFit(
     if (ok) {
       for (let q = 0; q < n; q++) {
         for (let p = 0; p <= q; p++) {
-          const v = sums[base + entryIndex(p, q)] * scale[p] * scale[q];
+          const v = sums[base + entryIndex(p, q)] * scale[p] * scale[q] + (p === q ? RIDGE + ridge[p] : 0);
           mat[p * n + q] = v;
           mat[q * n + p] = v;
         }
         rhs[q] = -sums[base + entryIndex(q, n)] * scale[q];
       }
-      ok = choleskySolve(mat, rhs, n, minPivot);
+      ok = cholesky(mat, n);
+      // Each wanted parameter must be determined: the part of its (unit) column that the other
+      // columns do not explain, 1 / [M^-1]_pp (with the penalties), is at least minPivot.
+      for (let w = 0; ok && w < wanted.length; w++) {
+        unit.fill(0);
+        unit[wanted[w]] = 1;
+        forwardSubstitute(mat, unit, n);
+        let inv = 0;
+        for (let k = 0; k < n; k++) inv += unit[k] * unit[k];
+        if (!(1 / inv >= minPivot)) ok = false;
+      }
     }
     if (!ok) { illConditioned++; continue; }
+    forwardSubstitute(mat, rhs, n);
+    backSubstitute(mat, rhs, n);
     for (let w = 0; w < wanted.length; w++) params[w][i] = rhs[wanted[w]] * scale[wanted[w]];
   }
   return { params, illConditioned };
 }
 
-/** Solves mat x = rhs in place (x into rhs) by Cholesky; false when a pivot is below minPivot. */
-function choleskySolve(mat: Float64Array, rhs: Float64Array, n: number, minPivot: number): boolean {
+/**
+ * Added to the unit diagonal of the scaled normal matrix: far below any determined direction's
+ * eigenvalue, so it changes no determined parameter, yet it keeps the factorisation finite when a
+ * parameter that is not asked for is undetermined.
+ */
+const RIDGE = 1e-9;
+
+/** Cholesky factor L (lower triangle of `mat`, in place); false if not positive definite. */
+function cholesky(mat: Float64Array, n: number): boolean {
   for (let j = 0; j < n; j++) {
     let d = mat[j * n + j];
     for (let k = 0; k < j; k++) d -= mat[j * n + k] * mat[j * n + k];
-    if (!(d > minPivot)) return false;
+    if (!(d > 0)) return false;
     const l = Math.sqrt(d);
     mat[j * n + j] = l;
     for (let i = j + 1; i < n; i++) {
@@ -155,15 +177,23 @@ function choleskySolve(mat: Float64Array, rhs: Float64Array, n: number, minPivot
       mat[i * n + j] = s / l;
     }
   }
-  for (let i = 0; i < n; i++) {
-    let s = rhs[i];
-    for (let k = 0; k < i; k++) s -= mat[i * n + k] * rhs[k];
-    rhs[i] = s / mat[i * n + i];
-  }
-  for (let i = n - 1; i >= 0; i--) {
-    let s = rhs[i];
-    for (let k = i + 1; k < n; k++) s -= mat[k * n + i] * rhs[k];
-    rhs[i] = s / mat[i * n + i];
-  }
   return true;
+}
+
+/** Solves L y = v in place. */
+function forwardSubstitute(mat: Float64Array, v: Float64Array, n: number): void {
+  for (let i = 0; i < n; i++) {
+    let s = v[i];
+    for (let k = 0; k < i; k++) s -= mat[i * n + k] * v[k];
+    v[i] = s / mat[i * n + i];
+  }
+}
+
+/** Solves L^T x = v in place. */
+function backSubstitute(mat: Float64Array, v: Float64Array, n: number): void {
+  for (let i = n - 1; i >= 0; i--) {
+    let s = v[i];
+    for (let k = i + 1; k < n; k++) s -= mat[k * n + i] * v[k];
+    v[i] = s / mat[i * n + i];
+  }
 }

@@ -92,20 +92,20 @@ function apodise(
   for (let i = 0; i < size; i++) { const e = ox + i - cx; gx[i] = Math.exp(-e * e * inv); }
   for (let j = 0; j < size; j++) { const e = oy + j - cy; gy[j] = Math.exp(-e * e * inv); }
   const i0 = Math.max(0, -ox), i1 = Math.min(size, nx - ox);
-  const r2 = radius * radius;
+  // The Gaussian less its value at the cut radius, so the weight falls continuously to zero there:
+  // a pixel crossing the cut as the window moves by a fraction of a pixel changes nothing abruptly.
+  const floor = Math.exp(-radius * radius * inv);
   let sw = 0, swv = 0;
   for (let j = 0; j < size; j++) {
     const y = oy + j;
     if (y < 0 || y >= ny) continue;
-    const ey = y - cy, ey2 = ey * ey;
-    if (ey2 > r2) continue;
     const row = y * nx + ox, wy = gy[j];
+    if (wy <= floor) continue;
     for (let i = i0; i < i1; i++) {
-      const ex = ox + i - cx;
-      if (ex * ex + ey2 > r2) continue;
+      const w = gx[i] * wy - floor;
+      if (w <= 0) continue;
       const v = map[row + i];
       if (v !== v) return NaN;
-      const w = gx[i] * wy;
       box[j * size + i] = w; // weights first, values applied below
       sw += w; swv += w * v;
     }

@@ -8,7 +8,7 @@
 
 import { affineWindowFit } from './affineWindowFit.js';
 import type { ModelColumn } from './affineWindowFit.js';
-import { DAVE_COLUMNS, DAVE_TARGET, midAndRate } from './differentialAffine.js';
+import { DAVE_COLUMNS, DAVE_RIDGE, DAVE_TARGET, GRADIENT_RIDGE, midAndRate } from './differentialAffine.js';
 import type { AffineOptions } from './differentialAffine.js';
 import { derivativeX, derivativeY } from './gradient.js';
 import { KM_PER_MM } from '../units.js';
@@ -51,7 +51,7 @@ export function vectorAffineVelocity(
   const dhy = derivativeY(hy, nx, ny);
   for (let i = 0; i < n; i++) div[i] += dhy[i];
   const fit = affineWindowFit([gx, gy, mid, rate, hx, hy, div], nx, ny, VECTOR_COLUMNS, DAVE_TARGET,
-    options.sigma, options.minPivot, [0, 1, 6]);
+    options.sigma, options.minPivot, [0, 1, 6], [...DAVE_RIDGE, 0, GRADIENT_RIDGE, GRADIENT_RIDGE]);
   const [u, v, w] = fit.params;
   for (let i = 0; i < n; i++) {
     u[i] *= dx * KM_PER_MM;

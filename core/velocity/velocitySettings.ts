@@ -22,7 +22,7 @@ export interface VelocitySettings {
   readonly stride: number;
   /** LCT: smallest normalised correlation at the peak that is accepted. */
   readonly minCorrelation: number;
-  /** Affine fits: a window whose diagonally scaled normal matrix has a Cholesky pivot below this is ill-conditioned. */
+  /** Affine fits: a velocity component is left NaN when 1/[M^-1]_pp of the unit-diagonal normal matrix is below this. */
   readonly minPivot: number;
 }
 
