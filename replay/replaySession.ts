@@ -1,0 +1,77 @@
+// A replay of an archive into a consumer (the server's ingest, the same pipeline as live frames):
+// frames are read one at a time as they fall due (pacing.ts) and handed over in order; the next
+// one is not read before the consumer has taken the last (so speed 0 means "as fast as the
+// pipeline goes"). Controls: pause, resume, seek (frame index or ISO time), speed, stop; the
+// status has the shape of docs/api.md's `replay` field.
+
+import type { Frame } from '../core/frame.js';
+import { InputError } from '../core/inputError.js';
+import type { Archive } from './archiveSource.js';
+import type { PacingClock, PacingStateName } from './pacing.js';
+import { paceFrames, pacingState } from './pacing.js';
+
+export interface ReplayStatus {
+  readonly state: PacingStateName;
+  readonly speed: number;
+  /** Index of the next frame to hand over (total when done). */
+  readonly position: number;
+  readonly total: number;
+}
+
+export interface ReplaySession {
+  status(): ReplayStatus;
+  pause(): void;
+  resume(): void;
+  /** A frame index, or an ISO 8601 time (the first frame at or after it). */
+  seek(target: number | string): void;
+  setSpeed(speed: number): void;
+  stop(): void;
+  /** Resolves when the archive is through (or stopped); rejects when the consumer throws. */
+  readonly done: Promise<void>;
+}
+
+/** The wall clock: Date.now and a setTimeout that an abort ends early. */
+export const wallClock: PacingClock = {
+  now: () => Date.now(),
+  sleep: (ms, wake) => new Promise<void>((resolve) => {
+    if (wake.aborted) return resolve();
+    const t = setTimeout(done, Math.max(0, Math.min(ms, 2 ** 31 - 1)));
+    function done() { clearTimeout(t); wake.removeEventListener('abort', done); resolve(); }
+    wake.addEventListener('abort', done);
+  }),
+};
+
+export function startReplay(
+  archive: Archive, speed: number, consume: (frame: Frame, index: number) => Promise<void>,
+  options: { clock?: PacingClock; maxWaitMs?: number } = {},
+): ReplaySession {
+  const times = archive.entries.map((e) => e.time);
+  const { control, indices } = paceFrames(times, speed, options.clock ?? wallClock, {
+    ...(options.maxWaitMs !== undefined && { maxWaitMs: options.maxWaitMs }),
+  });
+  let finished = false;
+  const done = (async () => {
+    try {
+      for await (const i of indices) await consume(await archive.frame(i), i);
+    } finally {
+      finished = true;
+    }
+  })();
+  return {
+    status() {
+      const p = control.current();
+      return { state: finished ? 'done' : pacingState(p), speed: p.speed, position: p.position, total: times.length };
+    },
+    pause: () => control.pause(),
+    resume: () => control.resume(),
+    seek(target) {
+      if (typeof target === 'number') { control.seek({ index: target }); return; }
+      const t = Date.parse(target);
+      if (!/^\d{4}-\d{2}-\d{2}T/.test(target) || !Number.isFinite(t)) throw new InputError('replay', 'seek', `"${target}" is neither a frame index nor an ISO 8601 time`);
+      control.seek({ time: t });
+    },
+    setSpeed: (s) => control.setSpeed(s),
+    stop: () => control.stop(),
+    done,
+  };
+}
