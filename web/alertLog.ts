@@ -26,11 +26,13 @@ export class AlertLog {
       const unit = prettyUnit(a.unit ?? '');
       const ev = a.evidence ?? {};
       const evidence: string[] = [];
-      if (typeof ev.value === 'number') evidence.push(`value ${formatSci(ev.value, 3)} ${unit}`);
+      const sigma = typeof ev.sigma === 'number' && Number.isFinite(ev.sigma) ? ` ± ${formatSci(ev.sigma, 2)}` : '';
+      if (typeof ev.value === 'number') evidence.push(`value ${formatSci(ev.value, 3)}${sigma} ${unit}`);
       if (a.threshold !== null && Number.isFinite(a.threshold)) evidence.push(`threshold ${formatSci(a.threshold, 2)} ${unit}`);
       if (ev.window_from && ev.window_to) evidence.push(`window ${formatUtc(isoToMs(ev.window_from), false)} – ${formatUtc(isoToMs(ev.window_to), false)}`);
       for (const [k, v] of Object.entries(ev)) {
-        if (k === 'value' || k === 'window_from' || k === 'window_to') continue;
+        if (k === 'value' || k === 'window_from' || k === 'window_to' || k === 'sigma') continue;
+        if (k === 'threshold' && a.threshold !== null) continue;
         if (typeof v === 'number') evidence.push(`${k.replace(/_/g, ' ')} ${formatSci(v, 3)}`);
         else if (typeof v === 'string' || typeof v === 'boolean') evidence.push(`${k.replace(/_/g, ' ')} ${v}`);
       }

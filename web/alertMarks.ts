@@ -44,11 +44,19 @@ function linesFrom(alerts: readonly WireAlert[], pick: (unit: string) => boolean
   for (const a of alerts) {
     if (a.threshold === null || !Number.isFinite(a.threshold) || !pick(a.unit ?? '')) continue;
     const v = Math.abs(a.threshold);
+    // A zero threshold (a sign rule) is no level to draw.
+    if (v === 0) continue;
     if (seen.has(v)) continue;
     seen.add(v);
-    out.push({ value: v, label: a.rule, source: a.source ?? '' });
+    out.push({ value: v, label: a.rule, source: shortSource(a.source ?? '') });
   }
   return out.sort((x, y) => y.value - x.value);
+}
+
+/** The citation part of a source text ("Authors Year (Journal): finding" -> "Authors Year"), for chart labels. */
+export function shortSource(source: string): string {
+  const cut = source.search(/\s*[(:]/);
+  return (cut > 0 ? source.slice(0, cut) : source).trim();
 }
 
 /** Budget thresholds (|H|, Mx²) of the alerts; the published defaults when none carries one. */

@@ -144,6 +144,12 @@ const marksPlugin: Plugin<'line'> = {
       ctx.closePath();
       ctx.fill();
       ctx.stroke();
+      ctx.fillStyle = '#5a2d4a';
+      ctx.textAlign = px > a.right - 80 ? 'right' : 'left';
+      ctx.textBaseline = 'top';
+      ctx.font = '10px system-ui, sans-serif';
+      ctx.fillText(mo.rule, px + (px > a.right - 80 ? -8 : 8), a.top);
+      ctx.font = '11px system-ui, sans-serif';
       markers++;
     }
     // The picked time (solid) and the hovered time (thin).

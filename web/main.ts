@@ -9,6 +9,7 @@ import { budgetThresholds, mergeAlerts, raisedMoments, rateThresholds } from './
 import { chartMarks, createSeriesChart, readoutLines, setSeriesData, timeAtPixel, type ChartKind } from './charts.js';
 import { byId, el } from './dom.js';
 import { decodeFloat32Base64 } from './float32Base64.js';
+import { normaliseFootpoints, normaliseTracks } from './footpointShape.js';
 import { Ledger } from './ledger.js';
 import { MapView, type MapLayer, type MapScene } from './mapView.js';
 import { measureChartRedraw, measureMapDraw } from './pagePerformance.js';
@@ -377,7 +378,7 @@ class MapLoader {
       ]);
       if (generation !== state.generation) return;
       const time = isoToMs(fps.time) || state.series.find((p) => String(p.s.frame_id) === String(frameId))?.t || Number.NaN;
-      const scene: MapScene = { frameId, time, bn, gtheta, footpoints: fps.footpoints ?? [], tracks: fps.tracks ?? {} };
+      const scene: MapScene = { frameId, time, bn, gtheta, footpoints: normaliseFootpoints(fps.footpoints), tracks: normaliseTracks(fps.tracks) };
       mapView.setScene(scene);
       mapView.setHighlight(state.selectedFootpoint);
       const label = `frame ${frameId} · ${formatUtc(time)}`;

@@ -83,3 +83,13 @@ describe('reconnect and messages', () => {
     expect(parseViewerMessage('null')).toBeUndefined();
   });
 });
+
+import { shortSource } from '../../web/alertMarks.js';
+
+describe('threshold labels', () => {
+  it('keep the citation of a long source text', () => {
+    expect(shortSource('Tziotziou, Georgoulis & Raouafi 2012 (ApJL 759, L4): eruptive active regions sit above 2e42 Mx^2')).toBe('Tziotziou, Georgoulis & Raouafi 2012');
+    expect(shortSource('Liokati et al. 2022: emerging regions')).toBe('Liokati et al. 2022');
+    expect(shortSource('Liokati et al. 2022')).toBe('Liokati et al. 2022');
+  });
+});
