@@ -10,7 +10,7 @@
 import type { Grid } from '../grid.js';
 import { sampleCubic } from './cubicSample.js';
 
-export type PatternNote = 'axisymmetric' | 'too-noisy' | 'poor-fit';
+export type PatternNote = 'axisymmetric' | 'too-small' | 'too-noisy' | 'poor-fit';
 
 export interface PatternRotationOptions {
   /** Background pixels within this many pixels of the footpoint join the fit window (default 2). */
@@ -157,7 +157,9 @@ export function patternRotation(a: PatternFootprint, b: PatternFootprint, grid: 
     sRad += (u[k] * gx + v[k] * gy) ** 2;
   }
   const anisotropy = sRad > 0 ? Math.sqrt(sAng / sRad) : 0;
-  if (!(anisotropy >= o.minAnisotropy) || m < 8) {
+  // Fewer pixels than a 3x3 patch cannot pin down four parameters.
+  if (m < 9) return { angle: null, angleError: null, note: 'too-small', anisotropy, misfit: NaN, samples: m };
+  if (!(anisotropy >= o.minAnisotropy)) {
     return { angle: null, angleError: null, note: 'axisymmetric', anisotropy, misfit: NaN, samples: m };
   }
 
