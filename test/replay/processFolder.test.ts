@@ -15,6 +15,8 @@ import { demoRegion } from '../../replay/demo/demoRegion.js';
 import { truthSeries } from '../../replay/demo/demoTruth.js';
 import { contiguousChunks, processFolder, readBatchConfig } from '../../replay/processCommand.js';
 import { synth } from '../../replay/synthCommand.js';
+import { processCli, synthCli } from '../../replay/commands.js';
+import { parseArgs } from '../../server/commands/args.js';
 import { ensureCompiledWorker } from './compiledWorker.js';
 
 class Collect extends Writable {
@@ -189,6 +191,36 @@ describe('a folder with bad files', () => {
     await synth({ out: empty, frames: 1, size: 16 });
     await rm(join(empty, 'demo_0000.fits'));
     await expect(processFolder({ folder: empty, out: join(dir, 'x.csv'), progress: new Collect(false) })).rejects.toThrow(/holds no frame files/);
+  });
+});
+
+describe('gaps', () => {
+  it('the core budget marks a run of missing frames, and the first row after it says so', async () => {
+    const folder = join(dir, 'gappy');
+    await synth({ out: folder, frames: 12, size: 32, withVelocity: true });
+    for (const i of [4, 5, 6, 7]) await rm(join(folder, `demo_000${i}.fits`));
+    const json = join(dir, 'gappy.json');
+    await processFolder({ folder, out: join(dir, 'gappy.csv'), json, workers: 2, progress: new Collect(false) });
+    const rows = parseCsv(await readFile(join(dir, 'gappy.csv'), 'utf8'));
+    expect(rows.map((r) => r.flags.includes('after-gap'))).toEqual([false, false, false, false, true, false, false, false]);
+    const doc = JSON.parse(await readFile(json, 'utf8'));
+    expect(doc.gaps).toHaveLength(1);
+    expect(doc.gaps[0].bridged).toBe(false);
+    // Not bridged by default: the budget holds its value across the gap.
+    expect(Number(rows[4].budget_total)).toBe(Number(rows[3].budget_total));
+  });
+});
+
+describe('command line', () => {
+  it('synth and process from parsed arguments; progress on the error stream', async () => {
+    const folder = join(dir, 'cli');
+    const out = new Collect(false), err = new Collect(false);
+    expect(await synthCli(parseArgs(['--out', folder, '--frames', '4', '--size', '16', '--with-velocity=yes']), out, err)).toBe(0);
+    expect(out.text).toMatch(/wrote 4 demo frames/);
+    const csv = join(dir, 'cli.csv');
+    expect(await processCli(parseArgs([folder, '--out', csv, '--workers', '1']), out, err)).toBe(0);
+    expect(err.text).toMatch(/used 4 frames, skipped 0; 4 rate samples/);
+    await expect(processCli(parseArgs([folder]), out, err)).rejects.toThrow(/--out RESULT.csv is needed/);
   });
 });
 
