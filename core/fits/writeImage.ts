@@ -5,6 +5,8 @@
 import { InputError } from '../inputError.js';
 import type { FitsKeyword } from './cards.js';
 import { headerBytes } from './cards.js';
+import type { CompressionSpec } from './compressImage.js';
+import { compressedHduBytes } from './compressImage.js';
 import { BLOCK_LENGTH } from './header.js';
 
 /** A linear world coordinate system for two image axes (FITS WCS paper I keywords). */
@@ -33,6 +35,8 @@ export interface ImageToWrite {
   readonly wcs?: ImageWcs;
   /** Further keywords of this HDU (DATE-OBS, ...). */
   readonly keywords?: readonly FitsKeyword[];
+  /** Write as a tile-compressed image (quantized float32, RICE_1 or GZIP_1) instead of plain float32. */
+  readonly compression?: CompressionSpec;
 }
 
 export interface FitsToWrite {
@@ -45,7 +49,8 @@ const STRUCTURAL = new Set(['SIMPLE', 'BITPIX', 'NAXIS', 'NAXIS1', 'NAXIS2', 'EX
 
 function checkExtra(keywords: readonly FitsKeyword[] | undefined, where: string): readonly FitsKeyword[] {
   for (const k of keywords ?? []) {
-    if (STRUCTURAL.has(k.key.toUpperCase())) throw new InputError('FITS writer', `${where} ${k.key}`, 'is set by the writer and cannot be given');
+    const key = k.key.toUpperCase();
+    if (STRUCTURAL.has(key) || /^(Z[A-Z]|T(TYPE|FORM|FIELDS|HEAP))/.test(key)) throw new InputError('FITS writer', `${where} ${k.key}`, 'is set by the writer and cannot be given');
   }
   return keywords ?? [];
 }
@@ -95,6 +100,16 @@ export function writeFits(spec: FitsToWrite): Uint8Array {
     if (img.values.length !== img.nx * img.ny) {
       throw new InputError('FITS writer', where, `has ${img.values.length} values but nx*ny = ${img.nx * img.ny}`);
     }
+    const described: FitsKeyword[] = [
+      { key: 'EXTNAME', value: img.name },
+      ...(img.bunit !== undefined ? [{ key: 'BUNIT', value: img.bunit, comment: 'unit of the values' }] : []),
+      ...(img.wcs ? wcsKeywords(img.wcs) : []),
+      ...checkExtra(img.keywords, where),
+    ];
+    if (img.compression) {
+      parts.push(compressedHduBytes(img.values, img.nx, img.ny, img.compression, described));
+      continue;
+    }
     parts.push(headerBytes([
       { key: 'XTENSION', value: 'IMAGE', comment: 'image extension' },
       { key: 'BITPIX', value: -32, comment: 'IEEE single precision' },
@@ -103,10 +118,7 @@ export function writeFits(spec: FitsToWrite): Uint8Array {
       { key: 'NAXIS2', value: img.ny, comment: 'rows (y)' },
       { key: 'PCOUNT', value: 0 },
       { key: 'GCOUNT', value: 1 },
-      { key: 'EXTNAME', value: img.name },
-      ...(img.bunit !== undefined ? [{ key: 'BUNIT', value: img.bunit, comment: 'unit of the values' }] : []),
-      ...(img.wcs ? wcsKeywords(img.wcs) : []),
-      ...checkExtra(img.keywords, where),
+      ...described,
     ]));
     parts.push(floatData(img.values, img.nx * img.ny));
   }
