@@ -107,3 +107,41 @@ describe('orbit of a circling pair', () => {
     expect(m.orbitExact![1]).toBe(m.orbitExact![2]);
   });
 });
+
+describe('exact split and point estimate on several well separated footpoints', () => {
+  // Four spots of both signs, each translating and spinning at its own rate (our own scene).
+  const grid = { nx: 128, ny: 128, dx: 0.4, dy: 0.4 };
+  const parts = [
+    { spot: { x: 12, y: 12, a: 1.6, b: 1.1, angle: 0.2, peak: 1500 }, vx: 0.4, vy: -0.2, omega: 3e-4 },
+    { spot: { x: 38, y: 14, a: 1.3, b: 1.3, angle: 0, peak: -1100 }, vx: -0.3, vy: 0.5, omega: -2e-4 },
+    { spot: { x: 14, y: 38, a: 1.5, b: 1.2, angle: 1.0, peak: -1300 }, vx: 0.1, vy: 0.3, omega: 1e-4 },
+    { spot: { x: 39, y: 39, a: 1.2, b: 1.2, angle: 0, peak: 900 }, vx: -0.5, vy: -0.4, omega: -4e-4 },
+  ];
+  const vel = spotVelocity(grid, parts.map((p) => ({ ...p, reach: 7 })));
+  const r = analyseFootpoints(undefined, sceneFrame(grid, 0, parts.map((p) => p.spot), 1, 21), {}, vel);
+
+  it('per footpoint spin and per pair orbit agree within 5 %', () => {
+    expect(r.footpoints).toHaveLength(4);
+    for (const p of parts) {
+      const f = near(p.spot.x, p.spot.y, r);
+      expect(f.omegaVelocity! / p.omega).toBeCloseTo(1, 6);
+      expect(Math.abs(f.spinExact! / f.spinPoint! - 1)).toBeLessThan(0.05);
+      // and the spin is the analytic one of a spinning footpoint, -(omega/2pi) Phi^2
+      expect(Math.abs(f.spinExact! / ((-p.omega / (2 * Math.PI)) * spotFlux(p.spot) ** 2) - 1)).toBeLessThan(0.05);
+    }
+    const { ids, orbitExact, orbitPoint } = r.pairMatrix;
+    const K = ids.length;
+    let largest = 0;
+    for (let i = 0; i < K; i++) for (let j = i + 1; j < K; j++) largest = Math.max(largest, Math.abs(orbitExact![i * K + j]));
+    for (let i = 0; i < K; i++) {
+      for (let j = i + 1; j < K; j++) {
+        const e = orbitExact![i * K + j], p = orbitPoint[i * K + j];
+        // Each pair within 5 % of itself, or (for pairs whose orbit nearly vanishes) within 1 % of the largest.
+        expect(Math.abs(e - p)).toBeLessThan(Math.max(0.05 * Math.abs(e), 0.01 * largest));
+      }
+    }
+    expect(Math.abs(r.exact!.orbit / r.point.orbit - 1)).toBeLessThan(0.05);
+    expect(Math.abs(r.exact!.spin / r.point.spin - 1)).toBeLessThan(0.05);
+    expect(r.pairs[0].orbitExact).toBe(r.pairs.reduce((m, q) => (Math.abs(q.orbitExact!) > Math.abs(m) ? q.orbitExact! : m), 0));
+  });
+});

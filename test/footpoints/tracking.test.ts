@@ -116,3 +116,21 @@ describe('tracking a scripted scene', () => {
     expect(Math.max(...born)).toBe(results[49].state.nextId - 1);
   });
 });
+
+describe('tracking fast motion', () => {
+  it('a footpoint jumping more than its own size each frame keeps its id (distance match, then prediction)', () => {
+    const g = { nx: 200, ny: 60, dx: 0.5, dy: 0.5 };
+    let state: FootpointState | undefined;
+    const ids: number[] = [];
+    for (let f = 0; f < 12; f++) {
+      // 3 Mm (6 pixels) per frame; the spot is about 5 pixels across at threshold.
+      const spots: Spot[] = [{ x: 8 + 3 * f, y: 15, a: 0.8, b: 0.8, angle: 0, peak: 800 }, { x: 8, y: 6, a: 1, b: 1, angle: 0, peak: -700 }];
+      const r = analyseFootpoints(state, sceneFrame(g, f * 60_000, spots, 5, 300 + f), { noise: 5 });
+      state = r.state;
+      ids.push(r.footpoints.find((p) => p.polarity === 1)!.id);
+      if (f > 0) expect(r.events).toEqual([]);
+      if (f > 1) expect(r.footpoints.find((p) => p.polarity === 1)!.vx).toBeCloseTo(50, 0); // 3 Mm/min = 50 km/s
+    }
+    expect(new Set(ids).size).toBe(1);
+  });
+});
