@@ -1,10 +1,15 @@
 // Motion of each footpoint from a velocity field: the flux-weighted mean velocity of its pixels and
-// its flux-weighted angular velocity about its centroid,
+// its flux-weighted mean angular velocity about its centroid.
 //
-//   v_c   = Sum |Bn| u / Sum |Bn|
-//   omega = Sum |Bn| [r x (u - v_c)]_z / Sum |Bn| r^2      (r from the flux-weighted centroid),
+//   v_c     = Sum |Bn| u / Sum |Bn|
+//   omega_i = [r_i x (u_i - v_c)]_z / r_i^2                       (r from the flux-weighted centroid)
+//   omega   = Sum w_i omega_i / Sum w_i,   w_i = |Bn_i| dS Phi(< r_i)
 //
-// the rigid rotation that best fits the pixels' motion (exact for a rigidly spinning footpoint).
+// Phi(< r) is the footpoint's flux closer to the centroid than r. That weight is the one under
+// which -(1/2pi) Phi^2 omega is the exact spin of an axisymmetric footpoint even when it turns
+// differentially: averaged over azimuth, a pixel pair turns at the rate of its outer pixel, so
+// spin = -(1/pi) Int omega(r) Phi(< r) dPhi(r). For a rigid rotation every omega_i is the same
+// and so is omega. It also tames the centre, where omega_i is ill-defined and Phi(< r) -> 0.
 // Only the flux transport F = Bn u enters (|Bn| u = sign(Bn) F), so nothing divides by Bn.
 
 import type { Grid } from '../grid.js';
@@ -26,40 +31,52 @@ export interface FootpointMotion {
 export function footpointMotion(t: FluxTransport, labels: Int32Array, grid: Grid): FootpointMotion[] {
   const { nx, ny, dx, dy } = grid;
   const { bn, fx, fy, valid } = t;
-  const slot = new Map<number, number>();
-  const sums: number[][] = [];
-  // Per label: count, W, Wx, Wy, SFx, SFy, S(x Fy - y Fx), W r^2, with coordinates relative to an
-  // anchor pixel (its first pixel) to keep the sums well conditioned.
-  const anchor: number[][] = [];
-  for (let iy = 0; iy < ny; iy++) {
-    for (let ix = 0; ix < nx; ix++) {
-      const i = iy * nx + ix;
-      const l = labels[i];
-      if (l <= 0 || !valid[i]) continue;
-      let s = slot.get(l);
-      if (s === undefined) {
-        s = sums.length;
-        slot.set(l, s);
-        sums.push([l, 0, 0, 0, 0, 0, 0, 0, 0]);
-        anchor.push([ix * dx, iy * dy]);
-      }
-      const a = sums[s];
-      const x = ix * dx - anchor[s][0], y = iy * dy - anchor[s][1];
-      const b = bn[i], w = Math.abs(b), sg = b < 0 ? -1 : b > 0 ? 1 : 0;
-      const Fx = sg * fx[i], Fy = sg * fy[i];
-      a[1]++; a[2] += w; a[3] += w * x; a[4] += w * y;
-      a[5] += Fx; a[6] += Fy; a[7] += x * Fy - y * Fx; a[8] += w * (x * x + y * y);
-    }
+  const pixelsOf = new Map<number, number[]>();
+  for (let i = 0; i < nx * ny; i++) {
+    const l = labels[i];
+    if (l <= 0 || !valid[i]) continue;
+    let list = pixelsOf.get(l);
+    if (!list) { list = []; pixelsOf.set(l, list); }
+    list.push(i);
   }
-  const out: FootpointMotion[] = sums.map(([label, count, W, Wx, Wy, SFx, SFy, L, I]) => {
-    if (!(W > 0)) return { label, vx: NaN, vy: NaN, omega: NaN, pixels: count };
-    const cx = Wx / W, cy = Wy / W;
-    const vx = SFx / W, vy = SFy / W;
-    // Shift the angular momentum and inertia to the centroid.
-    const Lc = L - (cx * SFy - cy * SFx);
-    const Ic = I - W * (cx * cx + cy * cy);
-    const omega = Ic > 0 ? (Lc / Ic) * (CM_PER_KM / CM_PER_MM) : NaN;
-    return { label, vx, vy, omega, pixels: count };
-  });
+  const out: FootpointMotion[] = [];
+  for (const [label, list] of pixelsOf) {
+    const m = list.length;
+    // Centroid and mean velocity, coordinates relative to the first pixel for conditioning.
+    const x0 = (list[0] % nx) * dx, y0 = Math.floor(list[0] / nx) * dy;
+    let W = 0, Wx = 0, Wy = 0, SFx = 0, SFy = 0;
+    for (const i of list) {
+      const b = bn[i], w = Math.abs(b), sg = b < 0 ? -1 : b > 0 ? 1 : 0;
+      const x = (i % nx) * dx - x0, y = Math.floor(i / nx) * dy - y0;
+      W += w; Wx += w * x; Wy += w * y; SFx += sg * fx[i]; SFy += sg * fy[i];
+    }
+    if (!(W > 0)) { out.push({ label, vx: NaN, vy: NaN, omega: NaN, pixels: m }); continue; }
+    const cx = Wx / W, cy = Wy / W, vx = SFx / W, vy = SFy / W;
+    // Pixels by distance from the centroid, for the enclosed flux.
+    const r2 = new Float64Array(m), order = new Uint32Array(m);
+    for (let k = 0; k < m; k++) {
+      const i = list[k];
+      const X = (i % nx) * dx - x0 - cx, Y = Math.floor(i / nx) * dy - y0 - cy;
+      r2[k] = X * X + Y * Y;
+      order[k] = k;
+    }
+    order.sort((a, b) => r2[a] - r2[b]);
+    let inside = 0, num = 0, den = 0;
+    for (const k of order) {
+      const i = list[k];
+      const b = bn[i], w = Math.abs(b), sg = b < 0 ? -1 : b > 0 ? 1 : 0;
+      // Midpoint rule: half of the pixel's own flux counts as inside it.
+      const weight = inside + w / 2;
+      inside += w;
+      if (r2[k] === 0) continue;
+      const X = (i % nx) * dx - x0 - cx, Y = Math.floor(i / nx) * dy - y0 - cy;
+      // |Bn| [r x (u - v_c)]_z / r^2 with |Bn| u = sign(Bn) F.
+      const wOmega = (X * (sg * fy[i] - w * vy) - Y * (sg * fx[i] - w * vx)) / r2[k];
+      num += weight * wOmega;
+      den += weight * w;
+    }
+    const omega = den > 0 ? (num / den) * (CM_PER_KM / CM_PER_MM) : NaN;
+    out.push({ label, vx, vy, omega, pixels: m });
+  }
   return out.sort((p, q) => p.label - q.label);
 }

@@ -145,3 +145,32 @@ describe('exact split and point estimate on several well separated footpoints', 
     expect(r.pairs[0].orbitExact).toBe(r.pairs.reduce((m, q) => (Math.abs(q.orbitExact!) > Math.abs(m) ? q.orbitExact! : m), 0));
   });
 });
+
+describe('a footpoint turning differentially', () => {
+  // Axisymmetric Gaussian footpoint (width s) with omega(r) = omega0 exp(-r^2 / 2 L^2). From the
+  // formula (DESIGN section 4): a pixel pair turns on average at the rate of its outer pixel, so
+  // spin = -(1/pi) Int omega(r) Phi(<r) dPhi(r) = -(omega0 Phi^2 / pi) / ((1 + a)(2 + a)), a = s^2/L^2
+  // (our derivation; -(omega0/2pi) Phi^2 for a = 0). With L = s the effective rate is omega0/3,
+  // where a mean weighted by |Bn| r^2 would give omega0/4 and one weighted by |Bn| alone omega0/2.
+  const grid = { nx: 96, ny: 96, dx: 0.3, dy: 0.3 };
+  const spot = { x: 14, y: 14.2, a: 1.8, b: 1.8, angle: 0, peak: 1800 };
+  const omega0 = 5e-4, L = spot.a, alpha = (spot.a / L) ** 2;
+  const n = grid.nx * grid.ny;
+  const vx = new Float64Array(n), vy = new Float64Array(n);
+  for (let i = 0; i < n; i++) {
+    const X = (i % grid.nx) * grid.dx - spot.x, Y = Math.floor(i / grid.nx) * grid.dy - spot.y;
+    const w = omega0 * Math.exp(-(X * X + Y * Y) / (2 * L * L));
+    vx[i] = -w * Y * 1000;
+    vy[i] = w * X * 1000;
+  }
+  const truth = (-omega0 * spotFlux(spot) ** 2 / Math.PI) / ((1 + alpha) * (2 + alpha));
+
+  it('exact spin and point spin (enclosed-flux weighted omega) both within 5 % of the analytic spin', () => {
+    const r = analyseFootpoints(undefined, sceneFrame(grid, 0, [spot], 1, 8), {}, { vx, vy });
+    const f = r.footpoints[0];
+    expect(r.footpoints).toHaveLength(1);
+    expect(Math.abs(f.spinExact! / truth - 1)).toBeLessThan(0.05);
+    expect(Math.abs(f.spinPoint! / truth - 1)).toBeLessThan(0.05);
+    expect(Math.abs(f.omegaVelocity! / (omega0 / 3) - 1)).toBeLessThan(0.05);
+  });
+});
