@@ -35,6 +35,8 @@ export interface FootpointSettings extends SegmentationSettings, TrackingSetting
   readonly rotation?: PatternRotationOptions;
   /** How many pairs to list by size of their orbit contribution (default 10). */
   readonly topPairs?: number;
+  /** Winding is followed for the pairs among this many largest footpoints by |flux| (default 200: 19900 pairs). */
+  readonly windingFootpoints?: number;
   /** Compute the exact label split when a velocity field is present (default true). */
   readonly exactSplit?: boolean;
   /** Caller-owned cache of kernel spectra for the exact split. */
@@ -301,13 +303,19 @@ export function analyseFootpoints(
   if (motionUnknown.length > 0 && K > 0) flags.push('motion-unknown');
   if (est.spinUnknown.length > 0 || (motionUnknown.length > 0 && K > 0)) flags.push('spin-unknown');
 
-  // Winding of every pair present now; steps only between footpoints followed without an event.
+  // Winding of the pairs among the `windingFootpoints` largest footpoints (by |flux|); steps only
+  // between footpoints followed without an event.
   const prevPairs = new Map<string, PairWinding>();
   for (const p of previous?.pairs ?? []) prevPairs.set(pairKey(p.a, p.b), p);
   const windingTurns = new Float64Array(K * K).fill(NaN);
   const pairs: PairWinding[] = [];
+  const maxWinding = settings.windingFootpoints ?? 200;
+  const inWinding = new Uint8Array(K);
+  [...rows.keys()].sort((p, q) => Math.abs(rows[q].flux) - Math.abs(rows[p].flux)).slice(0, maxWinding).forEach((j) => { inWinding[j] = 1; });
   for (let i = 0; i < K; i++) {
+    if (!inWinding[i]) continue;
     for (let j = i + 1; j < K; j++) {
+      if (!inWinding[j]) continue;
       const A = rows[i], B = rows[j];
       const angle = separationAngle(A.x, A.y, B.x, B.y);
       const old = prevPairs.get(pairKey(A.id, B.id));
@@ -324,21 +332,27 @@ export function analyseFootpoints(
     }
   }
 
-  // Top pairs.
+  // Top pairs by |orbit|, kept in a short sorted list rather than sorting all K^2/2 pairs.
+  const topCount = settings.topPairs ?? 10;
   const top: PairRow[] = [];
-  for (let i = 0; i < K; i++) {
+  const size = (p: PairRow) => Math.abs(p.orbitExact ?? p.orbitPoint ?? 0);
+  for (let i = 0; i < K && topCount > 0; i++) {
     for (let j = i + 1; j < K; j++) {
       const oe = orbitExact ? orbitExact[i * K + j] : null;
       const op = orbitPoint[i * K + j];
-      top.push({
+      const v = Math.abs(oe ?? (Number.isFinite(op) ? op : 0));
+      if (top.length === topCount && v <= size(top[top.length - 1])) continue;
+      const wt = windingTurns[i * K + j];
+      const row: PairRow = {
         a: ids[i], b: ids[j], orbitExact: oe, orbitPoint: Number.isFinite(op) ? op : null,
-        windingTurns: windingTurns[i * K + j], separation: Math.hypot(rows[j].x - rows[i].x, rows[j].y - rows[i].y),
-      });
+        windingTurns: Number.isFinite(wt) ? wt : null, separation: Math.hypot(rows[j].x - rows[i].x, rows[j].y - rows[i].y),
+      };
+      let at = top.length;
+      while (at > 0 && size(top[at - 1]) < v) at--;
+      top.splice(at, 0, row);
+      if (top.length > topCount) top.pop();
     }
   }
-  const size = (p: PairRow) => Math.abs(p.orbitExact ?? p.orbitPoint ?? 0);
-  top.sort((p, q) => size(q) - size(p));
-  top.length = Math.min(top.length, settings.topPairs ?? 10);
 
   const exact = split ? { spin: split.spinTotal, orbit: split.orbitTotal, background: split.background, total: split.total } : null;
   const point = { spin: est.spinTotal, orbit: est.orbitTotal, motionUnknown, spinUnknown: [...est.spinUnknown] };

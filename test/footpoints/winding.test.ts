@@ -73,3 +73,19 @@ describe('winding of two same-sign footpoints over three full turns', () => {
     expect(angleStep(-Math.PI + 0.05, Math.PI - 0.05)).toBeCloseTo(-0.1, 12);
   });
 });
+
+describe('bounding the winding bookkeeping', () => {
+  it('follows only pairs among the windingFootpoints largest footpoints', () => {
+    const spots: Spot[] = [
+      { x: 8, y: 8, a: 1.2, b: 1.2, angle: 0, peak: 1500 }, { x: 24, y: 8, a: 1.2, b: 1.2, angle: 0, peak: -900 },
+      { x: 8, y: 24, a: 1.2, b: 1.2, angle: 0, peak: 600 },
+    ];
+    const r0 = analyseFootpoints(undefined, sceneFrame(grid, 0, spots, 1, 1), { windingFootpoints: 2 });
+    const r1 = analyseFootpoints(r0.state, sceneFrame(grid, DT, spots.map((s) => ({ ...s, x: s.x + 0.3 })), 1, 2), { windingFootpoints: 2 });
+    expect(r1.footpoints).toHaveLength(3);
+    expect(r1.state.pairs).toHaveLength(1);
+    const weakest = r1.footpoints.reduce((m, f) => (Math.abs(f.flux) < Math.abs(m.flux) ? f : m));
+    expect(r1.state.pairs.some((p) => p.a === weakest.id || p.b === weakest.id)).toBe(false);
+    expect(r1.pairs.filter((p) => p.windingTurns === null)).toHaveLength(2);
+  });
+});
