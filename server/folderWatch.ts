@@ -1,5 +1,6 @@
 // The watched folder of a region: <data>/inbox/<region>/. Files that land there (fully written:
-// chokidar waits until the size is stable) are read with loadFrameFile and go into the pipeline
+// chokidar waits until the size is stable) are read with loadFrameFile (server/frameFiles.ts, in
+// the intake worker) and go into the pipeline
 // like any other frame. Files already taken (same path, size and mtime) are skipped at restart.
 // Only the folder the server made from a checked region name is watched; nothing from a request
 // names a path.
@@ -7,8 +8,6 @@ import { watch } from 'chokidar';
 import type { FSWatcher } from 'chokidar';
 import { mkdirSync, statSync } from 'node:fs';
 import { basename, join } from 'node:path';
-import { InputError } from '../core/inputError.js';
-import { loadFrameFile } from './frameFiles.js';
 import type { Pipeline } from './pipeline.js';
 import type { Store } from './store.js';
 
@@ -52,14 +51,8 @@ export class FolderWatch {
     } catch { return; }
     if (this.store.watchedFileSeen(region, path, size, mtime)) return;
     const source = `inbox/${region}/${basename(path)}`;
-    let answer;
-    try {
-      const frame = await loadFrameFile(path);
-      answer = await this.pipeline.ingest({ region, payload: { kind: 'frame', frame: { ...frame, provenance: { ...frame.provenance, source } } }, source, mayCreate: true });
-    } catch (e) {
-      const err = e instanceof InputError ? e : new InputError(source, '(file)', String((e as Error).message ?? e));
-      answer = await this.pipeline.ingest({ region, payload: { kind: 'error', error: err, status: 422 }, source, mayCreate: true });
-    }
+    // Read with loadFrameFile in the intake worker.
+    const answer = await this.pipeline.ingest({ region, payload: { kind: 'file', path }, source, mayCreate: true });
     if (answer.status < 500) this.store.markWatchedFile(region, path, size, mtime);
   }
 

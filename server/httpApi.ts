@@ -97,7 +97,7 @@ export function buildApp(ctx: ApiContext): express.Express {
     const body = req.body as Buffer;
     const source = `http:${req.get('x-frame-source')?.slice(0, 200) ?? 'POST'}`;
     let payload;
-    if (type === 'application/json') payload = { kind: 'json' as const, text: Buffer.isBuffer(body) ? body.toString('utf8') : '' };
+    if (type === 'application/json') payload = { kind: 'json' as const, bytes: Buffer.isBuffer(body) ? body : Buffer.alloc(0) };
     else if (type === 'application/fits' || type === 'image/fits') payload = { kind: 'fits' as const, bytes: new Uint8Array(body) };
     else {
       const a = pipeline.refuse(name, 415, source, 'content-type', `content type "${type || '(none)'}" is not a frame: send application/json or application/fits`);

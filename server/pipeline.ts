@@ -14,7 +14,6 @@ import { Subject, concatMap, defer, from, groupBy, map, mergeMap, tap, takeWhile
 import { accumulateBudget } from '../core/budget.js';
 import type { BudgetPoint } from '../core/budget.js';
 import type { Frame } from '../core/frame.js';
-import { parseFrameJson } from '../core/frameJson.js';
 import { sameGrid } from '../core/grid.js';
 import { InputError } from '../core/inputError.js';
 import type { RateSample } from '../core/rateSample.js';
@@ -28,16 +27,20 @@ import { RULES, ruleParams } from '../core/alerts/ruleCatalogue.js';
 import { writeFileAtomic } from './atomicFile.js';
 import type { ComputePool } from './computePool.js';
 import type { WorkerReply } from './computeMessages.js';
-import { framesFromFits } from './fitsIngest.js';
-import { encodeFrame, frameHash } from './mapFile.js';
+import type { Intake } from './frameIntake.js';
+import { frameFromInput, intakeFrame, intakeStatus } from './frameIntake.js';
+import type { IntakePool } from './intakePool.js';
+import { IntakeRefusal } from './intakePool.js';
 import type { RegionSettings } from './regionSettings.js';
 import type { Carry, FrameRow, Store } from './store.js';
 import { emptyCarry } from './store.js';
 
 export type Payload =
-  | { readonly kind: 'json'; readonly text: string }
+  | { readonly kind: 'json'; readonly bytes: Uint8Array }
   | { readonly kind: 'fits'; readonly bytes: Uint8Array }
   | { readonly kind: 'frame'; readonly frame: Frame }
+  /** A frame file in a watched folder (read by loadFrameFile in the intake worker). */
+  | { readonly kind: 'file'; readonly path: string }
   | { readonly kind: 'error'; readonly error: InputError; readonly status: number };
 
 export interface Arrival {
@@ -72,7 +75,7 @@ export interface PipelineOptions {
 
 interface Validated {
   readonly arrival: Arrival;
-  readonly frame?: Frame;
+  readonly intake?: Intake;
   readonly refusal?: { status: number; error: InputError; frameTime?: number };
   readonly resolve: (a: IngestAnswer) => void;
 }
@@ -91,7 +94,7 @@ interface Analysed {
 const isoOrNull = (t: number | undefined) => (t === undefined ? null : new Date(t).toISOString());
 
 export class Pipeline {
-  private readonly arrivals$ = new Subject<Validated | { arrival: Arrival; resolve: (a: IngestAnswer) => void; raw: true }>();
+  private readonly arrivals$ = new Subject<{ arrival: Arrival; resolve: (a: IngestAnswer) => void }>();
   private readonly work$ = new Subject<string>();
   private readonly carries = new Map<string, Carry>();
   private readonly log: (line: string) => void;
@@ -103,14 +106,19 @@ export class Pipeline {
   constructor(
     private readonly store: Store,
     private readonly pool: ComputePool,
+    private readonly intake: IntakePool,
     private readonly hub: Broadcaster,
     private readonly options: PipelineOptions = {},
   ) {
     this.log = options.log ?? (() => undefined);
     this.arrivals$.pipe(
-      map((a) => ('raw' in a ? this.validate(a.arrival, a.resolve) : a)),
-      groupBy((v) => v.arrival.region),
-      mergeMap((group$) => group$.pipe(concatMap((v) => from(this.orderAndStore(v))))),
+      groupBy((a) => a.arrival.region),
+      mergeMap((group$) => group$.pipe(
+        // validate: parse, check, hash and encode (in the intake worker)
+        concatMap((a) => from(this.validate(a.arrival, a.resolve))),
+        // order and store: duplicates, shape, lateness; durable write; the sender's answer
+        concatMap((v) => from(this.orderAndStore(v))),
+      )),
     ).subscribe();
     this.work$.pipe(
       groupBy((region) => region),
@@ -127,7 +135,7 @@ export class Pipeline {
     }
     this.inFlight++;
     return new Promise<IngestAnswer>((resolve) => {
-      this.arrivals$.next({ arrival, raw: true, resolve: (a) => { this.inFlight--; resolve(a); } });
+      this.arrivals$.next({ arrival, resolve: (a) => { this.inFlight--; resolve(a); } });
     });
   }
 
@@ -216,21 +224,20 @@ export class Pipeline {
 
   // Stage 1: validate -----------------------------------------------------------------------
 
-  private validate(arrival: Arrival, resolve: (a: IngestAnswer) => void): Validated {
+  private async validate(arrival: Arrival, resolve: (a: IngestAnswer) => void): Promise<Validated> {
     const p = arrival.payload;
+    const source = arrival.source;
     try {
       if (p.kind === 'error') return { arrival, resolve, refusal: { status: p.status, error: p.error } };
-      if (p.kind === 'frame') return { arrival, resolve, frame: p.frame };
-      if (p.kind === 'json') return { arrival, resolve, frame: parseFrameJson(p.text, arrival.source) };
-      const frames = framesFromFits(p.bytes, arrival.source);
-      if (frames.length !== 1) throw new InputError(arrival.source, '(file)', `holds ${frames.length} frames; send one frame per request`);
-      return { arrival, resolve, frame: frames[0] };
+      let intake: Intake;
+      if (p.kind === 'frame') intake = intakeFrame(frameFromInput(p, source), source);
+      else if (p.kind === 'file') intake = await this.intake.take({ kind: 'file', path: p.path, source });
+      else intake = await this.intake.take({ kind: p.kind, bytes: p.bytes, source });
+      return { arrival, resolve, intake };
     } catch (e) {
-      if (e instanceof InputError) {
-        const status = (e as InputError & { status?: number }).status ?? (e.field === '(json)' ? 400 : 422);
-        return { arrival, resolve, refusal: { status, error: e } };
-      }
-      return { arrival, resolve, refusal: { status: 400, error: new InputError(arrival.source, '(body)', String((e as Error).message ?? e)) } };
+      if (e instanceof IntakeRefusal) return { arrival, resolve, refusal: { status: e.status, error: e.error } };
+      if (e instanceof InputError) return { arrival, resolve, refusal: { status: intakeStatus(e), error: e } };
+      return { arrival, resolve, refusal: { status: 400, error: new InputError(source, '(body)', String((e as Error).message ?? e)) } };
     }
   }
 
@@ -264,7 +271,7 @@ export class Pipeline {
     const name = arrival.region;
     try {
       if (v.refusal) return resolve(this.refusalAnswer(name, v.refusal.status, v.refusal.error, arrival.source));
-      const frame = v.frame!;
+      const { meta: frame, hash, bytes } = v.intake!;
       let region = this.store.region(name);
       if (!region) {
         if (!arrival.mayCreate) {
@@ -273,7 +280,6 @@ export class Pipeline {
         region = this.store.createRegion(name);
         this.log(`region ${name} created`);
       }
-      const hash = frameHash(frame);
       const dup = this.store.frameByHash(name, hash);
       if (dup) {
         this.store.countDuplicate(name);
@@ -296,7 +302,7 @@ export class Pipeline {
           `too late: ${new Date(frame.time).toISOString()} is ${((latest - frame.time) / 1000).toFixed(0)} s before the newest frame (${new Date(latest).toISOString()}), beyond the region's lateness of ${latenessS} s`), arrival.source, frame.time));
       }
       const file = join('frames', name, `${hash}.hlcm`);
-      await writeFileAtomic(join(this.store.dataDir, file), encodeFrame(frame));
+      await writeFileAtomic(join(this.store.dataDir, file), bytes);
       const id = this.store.insertFrame({
         region: name, time: frame.time, hash, nx: frame.nx, ny: frame.ny, dx: frame.dx, dy: frame.dy,
         source: arrival.source, received: Date.now(), file,

@@ -12,6 +12,7 @@ import { loadOrCreateToken } from './auth.js';
 import { ComputePool } from './computePool.js';
 import { DEMO_REGION, DemoFeed } from './demoFeed.js';
 import { FolderWatch } from './folderWatch.js';
+import { IntakePool } from './intakePool.js';
 import { buildApp } from './httpApi.js';
 import { Pipeline } from './pipeline.js';
 import { Store } from './store.js';
@@ -61,6 +62,7 @@ export async function serve(options: ServeOptions): Promise<RunningMonitor> {
   const store = new Store(dataDir);
   const workers = options.workers ?? Math.min(4, Math.max(1, availableParallelism() - 1));
   const pool = new ComputePool(workers, log);
+  const intake = new IntakePool(log);
   const bodyLimit = options.bodyLimit ?? DEFAULT_BODY_LIMIT;
   const readToken = options.readToken ?? false;
   let demo: DemoFeed | undefined;
@@ -80,7 +82,7 @@ export async function serve(options: ServeOptions): Promise<RunningMonitor> {
     };
   };
   const hub = new ViewerHub(snapshot, 4 * 1024 * 1024, log);
-  pipeline = new Pipeline(store, pool, hub, {
+  pipeline = new Pipeline(store, pool, intake, hub, {
     log,
     replayStatus,
     onAlert: (region, alert, change, settings) => {
@@ -139,6 +141,7 @@ export async function serve(options: ServeOptions): Promise<RunningMonitor> {
         await new Promise<void>((ok) => server.close(() => ok()));
         await pipeline.close();
         await pool.close();
+        await intake.close();
         store.close();
       })();
       return closing;

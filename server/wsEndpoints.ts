@@ -81,7 +81,7 @@ export function attachWebSockets(server: Server, ctx: WsContext): WebSocketServe
     let chain = Promise.resolve();
     ws.on('message', (data: RawData, isBinary: boolean) => {
       const buf = Array.isArray(data) ? Buffer.concat(data) : Buffer.from(data as ArrayBuffer);
-      const payload = isBinary ? { kind: 'fits' as const, bytes: new Uint8Array(buf) } : { kind: 'json' as const, text: buf.toString('utf8') };
+      const payload = { kind: isBinary ? 'fits' as const : 'json' as const, bytes: buf };
       const answer = ctx.pipeline.ingest({ region, payload, source: 'ws', mayCreate: true });
       chain = chain.then(async () => {
         const a = await answer;

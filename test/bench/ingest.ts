@@ -1,0 +1,178 @@
+// Load script for the monitor (loopback only, bounded in count and time). The monitor runs in a
+// child process (test/server/launch.mjs, the compiled code) so that its memory is its own.
+//   - sustained ingest of 512^2 frames (bn, vx, vy, labels as JSON) with 20 viewer sockets open,
+//     posting the next frame as soon as fewer than 2 are waiting: frames/s, latency from POST to
+//     the sample's broadcast at the viewers (median, 95th percentile), queue;
+//   - a soak at that pace for HELICORD_SOAK_S seconds (default 30): the monitor's RSS sampled
+//     every 2 s (first, peak, last) to show it stays bounded;
+//   - health answers while a 1024^2 frame is parsed and computed (max and median latency).
+// Parameters (environment): HELICORD_BENCH_FRAMES (default 12), HELICORD_SOAK_S (default 30),
+// HELICORD_BENCH_LIMIT_S (hard stop, default 300).
+import { spawn } from 'node:child_process';
+import { mkdtempSync, readFileSync, rmSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { fileURLToPath } from 'node:url';
+import WebSocket from 'ws';
+import { frameToJson } from '../../core/frameJson.js';
+import { spotFrame } from '../support/scenes.js';
+
+const TOKEN = 'bench-token';
+const T0 = Date.UTC(2026, 2, 14, 0, 0, 0);
+
+function env(name: string, fallback: number): number {
+  const v = Number(process.env[name]);
+  return Number.isFinite(v) && v > 0 ? v : fallback;
+}
+
+function quantile(values: number[], q: number): number {
+  const a = [...values].sort((x, y) => x - y);
+  if (a.length === 0) return NaN;
+  return a[Math.min(a.length - 1, Math.floor(q * (a.length - 1) + 0.5))];
+}
+
+function rssMiBOf(pid: number): number {
+  try {
+    const m = /VmRSS:\s+(\d+) kB/.exec(readFileSync(`/proc/${pid}/status`, 'utf8'));
+    return m ? Number(m[1]) / 1024 : NaN;
+  } catch { return NaN; }
+}
+
+/** A frame's JSON with a placeholder time, so each frame is the text with its own time put in. */
+function frameTemplate(n: number): { head: string; tail: string } {
+  const d = 92 / n;
+  const c = (n * d) / 2;
+  const f = spotFrame(n, n, d, [
+    { x: c - 8, y: c, peak: 1500, sigma: 2.5, omega: 2e-5, vx: 0, vy: -0.3 },
+    { x: c + 8, y: c, peak: -1200, sigma: 2.2, vx: 0, vy: 0.3 },
+    { x: c, y: c + 12, peak: 600, sigma: 1.5, vx: 0.2, vy: 0 },
+  ]);
+  const text = JSON.stringify({ ...frameToJson(f), time: '@TIME@' });
+  const [head, tail] = text.split('"@TIME@"');
+  return { head, tail };
+}
+
+const withTime = (t: { head: string; tail: string }, ms: number) => `${t.head}"${new Date(ms).toISOString()}"${t.tail}`;
+
+async function launch(dataDir: string): Promise<{ url: string; pid: number; stop: () => Promise<void> }> {
+  const launcher = fileURLToPath(new URL('../../../test/server/launch.mjs', import.meta.url));
+  const child = spawn(process.execPath, [launcher, dataDir], { env: { ...process.env, HELICORD_TOKEN: TOKEN }, stdio: ['ignore', 'pipe', 'inherit'] });
+  const url = await new Promise<string>((resolve, reject) => {
+    let out = '';
+    child.stdout!.on('data', (d) => { out += d; const m = /LISTENING (\S+)/.exec(out); if (m) resolve(m[1]); });
+    child.once('exit', (code) => reject(new Error(`monitor exited (${code})`)));
+  });
+  return {
+    url, pid: child.pid!,
+    stop: () => new Promise((r) => { child.once('exit', () => r()); child.kill('SIGTERM'); setTimeout(() => child.kill('SIGKILL'), 5000).unref(); }),
+  };
+}
+
+async function post(url: string, region: string, body: string): Promise<{ status: number; frame_id?: number }> {
+  const r = await fetch(`${url}/api/regions/${region}/frames`, { method: 'POST', headers: { authorization: `Bearer ${TOKEN}`, 'content-type': 'application/json' }, body });
+  const answer = (await r.json()) as { frame_id?: number };
+  return { status: r.status, ...(answer.frame_id !== undefined && { frame_id: answer.frame_id }) };
+}
+
+async function health(url: string): Promise<{ ms: number; queue: number }> {
+  const t = performance.now();
+  const h = (await (await fetch(`${url}/api/health`)).json()) as { queue: number };
+  return { ms: performance.now() - t, queue: h.queue };
+}
+
+export async function bench(): Promise<void> {
+  const frames = env('HELICORD_BENCH_FRAMES', 12);
+  const soakS = env('HELICORD_SOAK_S', 30);
+  const limitS = env('HELICORD_BENCH_LIMIT_S', 300);
+  const deadline = Date.now() + limitS * 1000;
+  const dataDir = mkdtempSync(join(tmpdir(), 'helicord-bench-'));
+  const mon = await launch(dataDir);
+  try {
+    const region = 'load';
+    const template = frameTemplate(512);
+    console.log(`512^2 frame JSON: ${(withTime(template, T0).length / 1e6).toFixed(1)} MB; ${frames} frames, soak ${soakS} s, hard limit ${limitS} s`);
+    // 20 viewers; the broadcast time of each frame's sample is when every viewer has it.
+    const seen = new Map<number, number[]>();
+    const viewers: WebSocket[] = [];
+    // The region must exist before viewers subscribe to it (they may also subscribe first).
+    for (let i = 0; i < 20; i++) {
+      const ws = new WebSocket(`${mon.url.replace('http', 'ws')}/ws/view?region=${region}`);
+      ws.on('message', (d) => {
+        const msg = JSON.parse(d.toString()) as { type: string; sample?: { frame_id: number } };
+        if (msg.type === 'sample' && msg.sample) {
+          const list = seen.get(msg.sample.frame_id) ?? [];
+          list.push(performance.now());
+          seen.set(msg.sample.frame_id, list);
+        }
+      });
+      await new Promise((r) => ws.once('open', r));
+      viewers.push(ws);
+    }
+    const postedAt = new Map<number, number>();
+    let time = T0;
+    let sent = 0;
+    const sendOne = async () => {
+      time += 720_000;
+      const body = withTime(template, time);
+      const t = performance.now();
+      const r = await post(mon.url, region, body);
+      if (r.status !== 201 || r.frame_id === undefined) throw new Error(`ingest answered ${r.status}`);
+      postedAt.set(r.frame_id, t);
+      sent++;
+    };
+    // Warm up (kernel spectra, JIT): 2 frames, not counted.
+    await sendOne(); await sendOne();
+    while ((await health(mon.url)).queue > 0) await new Promise((r) => setTimeout(r, 20));
+    postedAt.clear(); seen.clear();
+    const start = performance.now();
+    const phase = async (until: (i: number) => boolean, sampleRss?: number[]) => {
+      let i = 0;
+      let lastRss = 0;
+      while (until(i) && Date.now() < deadline) {
+        const h = await health(mon.url);
+        if (sampleRss && performance.now() - lastRss > 2000) { sampleRss.push(rssMiBOf(mon.pid)); lastRss = performance.now(); }
+        if (h.queue >= 2) { await new Promise((r) => setTimeout(r, 10)); continue; }
+        await sendOne();
+        i++;
+      }
+      while ((await health(mon.url)).queue > 0 && Date.now() < deadline) await new Promise((r) => setTimeout(r, 20));
+    };
+    await phase((i) => i < frames);
+    const elapsed = (performance.now() - start) / 1000;
+    const latencies: number[] = [];
+    for (const [id, t] of postedAt) {
+      const arrivals = seen.get(id);
+      if (arrivals && arrivals.length === viewers.length) latencies.push(Math.max(...arrivals) - t);
+    }
+    console.log(`sustained ingest: ${postedAt.size} frames in ${elapsed.toFixed(1)} s = ${(postedAt.size / elapsed).toFixed(2)} frames/s with ${viewers.length} viewers`);
+    console.log(`POST to broadcast at all ${viewers.length} viewers: median ${quantile(latencies, 0.5).toFixed(0)} ms, p95 ${quantile(latencies, 0.95).toFixed(0)} ms (${latencies.length} frames)`);
+
+    // Soak.
+    const rss: number[] = [rssMiBOf(mon.pid)];
+    const soakStart = Date.now();
+    const before = sent;
+    await phase(() => Date.now() - soakStart < soakS * 1000, rss);
+    rss.push(rssMiBOf(mon.pid));
+    console.log(`soak ${((Date.now() - soakStart) / 1000).toFixed(0)} s, ${sent - before} frames: monitor RSS first ${rss[0].toFixed(0)} MiB, peak ${Math.max(...rss).toFixed(0)} MiB, last ${rss.at(-1)!.toFixed(0)} MiB (${rss.length} samples)`);
+
+    // Health while a 1024^2 frame is parsed and computed (a region of its own).
+    const big = frameTemplate(1024);
+    const bigBody = withTime(big, T0);
+    const lat: number[] = [];
+    let done = false;
+    const poller = (async () => { while (!done) { lat.push((await health(mon.url)).ms); await new Promise((r) => setTimeout(r, 20)); } })();
+    const tPost = performance.now();
+    const r = await post(mon.url, 'big', bigBody);
+    const tStored = performance.now();
+    const during: number[] = [];
+    while ((await health(mon.url)).queue > 0 && Date.now() < deadline) { const h = await health(mon.url); during.push(h.ms); await new Promise((res) => setTimeout(res, 20)); }
+    done = true;
+    await poller;
+    console.log(`1024^2 frame (${(bigBody.length / 1e6).toFixed(0)} MB JSON, answer ${r.status}): stored after ${(tStored - tPost).toFixed(0)} ms, computed ${(performance.now() - tStored).toFixed(0)} ms later`);
+    console.log(`health while it computes: median ${quantile(during, 0.5).toFixed(1)} ms, max ${Math.max(...during).toFixed(1)} ms (${during.length} calls); over the whole ingest incl. parsing: max ${Math.max(...lat).toFixed(1)} ms`);
+    for (const ws of viewers) ws.close();
+  } finally {
+    await mon.stop();
+    rmSync(dataDir, { recursive: true, force: true });
+  }
+}
