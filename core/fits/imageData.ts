@@ -29,42 +29,63 @@ export function scaleAndBlank(header: FitsHeader, bitpix: number, source: string
 
 const LITTLE_ENDIAN_HOST = new Uint8Array(new Uint16Array([1]).buffer)[0] === 1;
 
-/** A copy of n big-endian values of `size` bytes as a host-order typed array buffer. */
-function hostOrderCopy(bytes: Uint8Array, start: number, n: number, size: number): ArrayBuffer {
-  const copy = bytes.slice(start, start + n * size);
-  if (!LITTLE_ENDIAN_HOST || size === 1) return copy.buffer;
-  if (size === 2) {
-    const u = new Uint16Array(copy.buffer);
-    for (let i = 0; i < n; i++) { const x = u[i]; u[i] = (x >>> 8) | ((x & 0xff) << 8); }
-  } else if (size === 4) {
-    const u = new Uint32Array(copy.buffer);
-    for (let i = 0; i < n; i++) {
-      const x = u[i];
-      u[i] = ((x & 0xff) << 24) | ((x & 0xff00) << 8) | ((x >>> 8) & 0xff00) | (x >>> 24);
-    }
-  } else {
-    const u = new Uint32Array(copy.buffer);
-    for (let i = 0; i < 2 * n; i += 2) {
-      const x = u[i], y = u[i + 1];
-      u[i] = ((y & 0xff) << 24) | ((y & 0xff00) << 8) | ((y >>> 8) & 0xff00) | (y >>> 24);
-      u[i + 1] = ((x & 0xff) << 24) | ((x & 0xff00) << 8) | ((x >>> 8) & 0xff00) | (x >>> 24);
-    }
-  }
-  return copy.buffer;
-}
+/** Values per chunk: big-endian words are assembled into a small host-order buffer that stays in cache. */
+const CHUNK = 65536;
 
-/** Stored values as a typed array in host order (a copy). */
-export function storedValues(bytes: Uint8Array, start: number, n: number, bitpix: number):
-  Uint8Array | Int16Array | Int32Array | BigInt64Array | Float32Array | Float64Array {
-  const size = Math.abs(bitpix) / 8;
-  const buf = hostOrderCopy(bytes, start, n, size);
-  switch (bitpix) {
-    case 8: return new Uint8Array(buf);
-    case 16: return new Int16Array(buf);
-    case 32: return new Int32Array(buf);
-    case 64: return new BigInt64Array(buf);
-    case -32: return new Float32Array(buf);
-    default: return new Float64Array(buf);
+/**
+ * Decodes n stored big-endian values at bytes[start] and writes physical values into out, in one
+ * pass per chunk (no copy of the whole array). `bytes` is not modified.
+ */
+export function decodeStored(bytes: Uint8Array, start: number, n: number, bitpix: number, s: ScaleAndBlank, out: Float64Array): void {
+  const b = bytes;
+  if (bitpix === 64 || !LITTLE_ENDIAN_HOST) {
+    const dv = new DataView(b.buffer, b.byteOffset + start, n * (Math.abs(bitpix) / 8));
+    const size = Math.abs(bitpix) / 8;
+    for (let c = 0; c < n; c += CHUNK) {
+      const m = Math.min(CHUNK, n - c);
+      const stored = bitpix === 64 ? new BigInt64Array(m) : new Float64Array(m);
+      for (let i = 0; i < m; i++) {
+        const at = (c + i) * size;
+        if (bitpix === 64) (stored as BigInt64Array)[i] = dv.getBigInt64(at);
+        else (stored as Float64Array)[i] = bitpix === 8 ? dv.getUint8(at) : bitpix === 16 ? dv.getInt16(at) : bitpix === 32 ? dv.getInt32(at) : bitpix === -32 ? dv.getFloat32(at) : dv.getFloat64(at);
+      }
+      toPhysical(stored, s, out, c);
+    }
+    return;
+  }
+  if (bitpix === 8) {
+    toPhysical(b.subarray(start, start + n), s, out);
+    return;
+  }
+  if (bitpix === 16) {
+    const v = new Int16Array(CHUNK);
+    for (let c = 0; c < n; c += CHUNK) {
+      const m = Math.min(CHUNK, n - c);
+      for (let i = 0, j = start + 2 * c; i < m; i++, j += 2) v[i] = (b[j] << 8) | b[j + 1];
+      toPhysical(m === CHUNK ? v : v.subarray(0, m), s, out, c);
+    }
+    return;
+  }
+  if (bitpix === 32 || bitpix === -32) {
+    const u = new Uint32Array(CHUNK);
+    const v = bitpix === 32 ? new Int32Array(u.buffer) : new Float32Array(u.buffer);
+    for (let c = 0; c < n; c += CHUNK) {
+      const m = Math.min(CHUNK, n - c);
+      for (let i = 0, j = start + 4 * c; i < m; i++, j += 4) u[i] = (b[j] << 24) | (b[j + 1] << 16) | (b[j + 2] << 8) | b[j + 3];
+      toPhysical(m === CHUNK ? v : v.subarray(0, m), s, out, c);
+    }
+    return;
+  }
+  // -64: the high word comes first in the file, second in a little-endian host.
+  const u = new Uint32Array(2 * CHUNK);
+  const v = new Float64Array(u.buffer);
+  for (let c = 0; c < n; c += CHUNK) {
+    const m = Math.min(CHUNK, n - c);
+    for (let i = 0, j = start + 8 * c; i < 2 * m; i += 2, j += 8) {
+      u[i + 1] = (b[j] << 24) | (b[j + 1] << 16) | (b[j + 2] << 8) | b[j + 3];
+      u[i] = (b[j + 4] << 24) | (b[j + 5] << 16) | (b[j + 6] << 8) | b[j + 7];
+    }
+    toPhysical(m === CHUNK ? v : v.subarray(0, m), s, out, c);
   }
 }
 

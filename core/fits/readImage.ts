@@ -7,7 +7,7 @@ import { headerInteger } from './header.js';
 import type { Hdu } from './hduList.js';
 import type { ListOptions } from './hduList.js';
 import { hduLabel, listHdus } from './hduList.js';
-import { scaleAndBlank, storedValues, toPhysical } from './imageData.js';
+import { decodeStored, scaleAndBlank } from './imageData.js';
 import { decodeCompressedImage, isCompressedImage } from './tileCompression.js';
 
 export interface FitsImage {
@@ -38,6 +38,11 @@ export interface ImageSelection {
 export interface ReadOptions extends ListOptions {
   /** Largest image accepted, in pixels (default 2^27: 1 GiB as Float64Array, 8 x a 4096^2 map). */
   readonly maxPixels?: number;
+  /**
+   * A buffer the caller owns, filled instead of a fresh array when it has exactly the image's
+   * pixel count (plain images only): saves the page faults of a new 8-byte-per-pixel array.
+   */
+  readonly into?: Float64Array;
 }
 
 export const DEFAULT_MAX_PIXELS = 2 ** 27;
@@ -75,8 +80,8 @@ export function decodeImageHdu(bytes: Uint8Array, hdu: Hdu, source: string, opti
   const n = hdu.axes.reduce((a, b) => a * b, 1);
   if (n > maxPixels) throw new InputError(source, `${where} NAXIS`, `image of ${hdu.axes.join(' x ')} pixels exceeds the limit of ${maxPixels} pixels`);
   const s = scaleAndBlank(hdu.header, hdu.bitpix, source, where);
-  const values = new Float64Array(n);
-  toPhysical(storedValues(bytes, hdu.dataStart, n, hdu.bitpix), s, values);
+  const values = options.into && options.into.length === n ? options.into : new Float64Array(n);
+  decodeStored(bytes, hdu.dataStart, n, hdu.bitpix, s, values);
   return { ...base, axes: hdu.axes, bitpix: hdu.bitpix, values };
 }
 

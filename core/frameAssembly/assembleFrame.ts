@@ -72,6 +72,11 @@ function convert(values: Float64Array, name: FrameMapName, c: ComponentSource, t
   const inverse = 1 / factor;
   const divide = factor < 1 && Number.isInteger(inverse);
   const sign = t?.negate ? -1 : 1;
+  if (factor === 1 && sign === 1) {
+    // Already in our unit: only infinities need replacing by NaN.
+    for (let i = 0; i < values.length; i++) if (values[i] - values[i] !== 0) values[i] = NaN;
+    return;
+  }
   for (let i = 0; i < values.length; i++) {
     const v = sign * (divide ? values[i] / inverse : values[i] * factor);
     values[i] = Number.isFinite(v) ? v : NaN;
