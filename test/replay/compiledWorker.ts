@@ -1,24 +1,34 @@
 // The batch workers run the compiled dist/ JavaScript. Tests that start them first make sure
-// dist/ is not older than the sources it comes from (a build of replay/ and what it imports).
+// dist/ is not older than the sources the worker imports (followed through their relative
+// imports), and otherwise build replay/ and what it imports.
 import { execFileSync } from 'node:child_process';
-import { existsSync, readdirSync, statSync } from 'node:fs';
-import { join } from 'node:path';
+import { existsSync, readFileSync, statSync } from 'node:fs';
+import { dirname, join, resolve } from 'node:path';
+import { fileURLToPath } from 'node:url';
 
-const root = join(import.meta.dirname ?? new URL('.', import.meta.url).pathname, '..', '..');
+const root = resolve(dirname(fileURLToPath(import.meta.url)), '..', '..');
 
-function newestSource(dir: string): number {
-  let t = 0;
-  for (const e of readdirSync(dir, { withFileTypes: true })) {
-    const p = join(dir, e.name);
-    if (e.isDirectory()) t = Math.max(t, newestSource(p));
-    else if (e.name.endsWith('.ts')) t = Math.max(t, statSync(p).mtimeMs);
+/** Newest modification time among `entry` and every .ts file it imports, directly or not. */
+function newestInClosure(entry: string): number {
+  const seen = new Set<string>();
+  const stack = [entry];
+  let newest = 0;
+  while (stack.length > 0) {
+    const file = stack.pop()!;
+    if (seen.has(file) || !existsSync(file)) continue;
+    seen.add(file);
+    newest = Math.max(newest, statSync(file).mtimeMs);
+    const text = readFileSync(file, 'utf8');
+    for (const m of text.matchAll(/(?:from|import)\s*\(?\s*'(\.{1,2}\/[^']+)\.js'/g)) {
+      stack.push(resolve(dirname(file), `${m[1]}.ts`));
+    }
   }
-  return t;
+  return newest;
 }
 
 export function ensureCompiledWorker(): void {
   const worker = join(root, 'dist', 'replay', 'batchWorker.js');
-  const sources = Math.max(newestSource(join(root, 'replay')), newestSource(join(root, 'core')), newestSource(join(root, 'server')));
+  const sources = newestInClosure(join(root, 'replay', 'batchWorker.ts'));
   if (existsSync(worker) && statSync(worker).mtimeMs >= sources) return;
   try {
     execFileSync(join(root, 'node_modules', '.bin', 'tsc'), ['-p', join(root, 'test', 'replay', 'tsconfig.batch.json')], { cwd: root, stdio: 'pipe' });
