@@ -1,0 +1,140 @@
+// Browser tests of the dashboard against the REAL monitor (dist/server/serve.js in a child process,
+// with its built-in demo region streaming fast): the demo region loads, charts grow as frames are
+// computed, alerts raised by the demo's scripted scenario reach the log and the charts with the
+// thresholds the server's rules carry, replay controls steer the demo, and the page recovers after
+// the monitor is stopped and started again. The page is built into dist/web first (where serve()
+// takes it from). Needs `npm run build` (npm test does it); without the compiled server the suite
+// says so and skips, and under CI=true it fails.
+
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { fileURLToPath } from 'node:url';
+import type { Page } from 'playwright-core';
+import { announceMissingChromium, chromiumPath, inCi, launchChromium, screenshotDir, type LaunchedBrowser } from './support/browser.js';
+import { freePort, RealMonitor, realMonitorAvailable, realServePath } from './support/realMonitor.js';
+
+const root = fileURLToPath(new URL('../..', import.meta.url));
+const haveServer = realMonitorAvailable(root);
+
+type Probe = {
+  region?: string; samples: number; link: string; linkOpens: number; mapFrame: string | number | null;
+  alerts: { id: string; rule: string; state: string }[];
+  map: { footpoints: number; rasterMs: number; highlighted: string | null };
+  rateChart: { markers: number; points: number };
+  budgetChart: { markers: number; points: number; thresholds: number[] };
+};
+const probe = (page: Page): Promise<Probe> => page.evaluate('window.helicordProbe.state()') as Promise<Probe>;
+
+async function until(page: Page, what: string, ok: (p: Probe) => boolean, timeoutMs = 20_000): Promise<Probe> {
+  const end = Date.now() + timeoutMs;
+  let last: Probe | undefined;
+  while (Date.now() < end) {
+    last = await probe(page);
+    if (ok(last)) return last;
+    await page.waitForTimeout(100);
+  }
+  throw new Error(`timed out waiting for ${what}; page state: ${JSON.stringify(last)}`);
+}
+
+if (!chromiumPath && !inCi) announceMissingChromium();
+if (!haveServer && !inCi) {
+  process.stderr.write(`\n!! REAL-MONITOR BROWSER TESTS SKIPPED: ${realServePath(root)} is missing (run npm run build).\n\n`);
+}
+
+describe.skipIf((!chromiumPath || !haveServer) && !inCi)('dashboard in Chromium against the real monitor (demo region)', () => {
+  let browser: LaunchedBrowser;
+  let page: Page;
+  let monitor: RealMonitor;
+  let dataDir: string;
+  const shots = screenshotDir(root);
+  const problems: string[] = [];
+
+  beforeAll(async () => {
+    if (!chromiumPath) throw new Error('CI=true but no Chromium found: the browser tests must run in CI (apt-get install chromium)');
+    if (!haveServer) throw new Error(`CI=true but ${realServePath(root)} is missing: build first`);
+    const { buildPage } = (await import('../../web/build.mjs')) as { buildPage: (dir?: string) => Promise<string[]> };
+    await buildPage(); // dist/web, where serve() looks
+    dataDir = mkdtempSync(join(tmpdir(), 'helicord-real-'));
+    monitor = new RealMonitor(root, dataDir, await freePort());
+    await monitor.start();
+    browser = await launchChromium(chromiumPath);
+    page = await browser.context.newPage();
+    page.on('pageerror', (e) => problems.push(`pageerror: ${e.message}`));
+    page.on('console', (m) => {
+      if (m.type() === 'error' && !m.text().startsWith('Failed to load resource') && !/WebSocket/.test(m.text())) problems.push(m.text());
+    });
+  }, 60_000);
+
+  afterAll(async () => {
+    await browser?.close();
+    await monitor?.stop(1000);
+    if (monitor) writeFileSync(join(shots, 'real-monitor.log'), monitor.log);
+    if (dataDir) rmSync(dataDir, { recursive: true, force: true });
+  });
+
+  it('loads the demo region and its charts grow as frames are computed', async () => {
+    await page.goto(monitor.url + '/');
+    const first = await until(page, 'the demo region with samples and a map', (s) => s.region === 'demo' && s.samples >= 3 && s.link === 'live' && s.mapFrame !== null && s.map.rasterMs > 0);
+    await page.locator('#replay').waitFor({ state: 'visible' }); // the demo is a replay
+    const later = await until(page, 'more samples', (s) => s.samples >= first.samples + 5);
+    expect(later.rateChart.points).toBeGreaterThan(first.rateChart.points);
+    expect(later.budgetChart.points).toBeGreaterThan(first.budgetChart.points);
+    expect(await page.locator('#feed').innerText()).toMatch(/live.*last frame 2026-.*cadence 12 min/s);
+    await page.screenshot({ path: join(shots, 'real-01-loaded.png') });
+  });
+
+  it('shows an alert raised by the demo scenario in the log and as a marker on the budget chart', async () => {
+    const p = await until(page, 'a raised alert', (s) => s.alerts.some((a) => a.state === 'raised' || a.state === 'settled') && s.budgetChart.markers >= 1, 45_000);
+    const raised = p.alerts.find((a) => a.state === 'raised' || a.state === 'settled')!;
+    const item = page.locator(`#alerts li[data-alert="${raised.id}"]`);
+    await item.waitFor({ state: 'visible' });
+    expect(await item.innerText()).toMatch(/source: \S+/);
+    // Thresholds on the budget chart come from the server's budget rules (|H| in Mx²).
+    expect(p.budgetChart.thresholds.length).toBeGreaterThan(0);
+    expect(p.budgetChart.thresholds).toContain(2e42);
+    await page.locator('#h-alerts').scrollIntoViewIfNeeded();
+    await page.screenshot({ path: join(shots, 'real-02-alert.png'), fullPage: true });
+  }, 60_000);
+
+  it('shows the map of the followed frame, and highlights a footpoint from the ledger when the server sends any', async () => {
+    const p = await probe(page);
+    expect(p.mapFrame).not.toBeNull();
+    if (p.map.footpoints === 0) {
+      process.stdout.write('\n[real monitor] the footpoints route answered no footpoints; the ledger-highlight check ran against the test double only\n');
+      expect(await page.locator('#ledger tbody td.empty').count()).toBe(1);
+      return;
+    }
+    const row = page.locator('#ledger tbody tr').first();
+    const id = await row.getAttribute('data-id');
+    await row.click();
+    await until(page, 'the footpoint highlighted', (s) => s.map.highlighted === id);
+    await page.locator('.panel.map').screenshot({ path: join(shots, 'real-03-map-highlight.png') });
+  });
+
+  it('pauses and resumes the demo replay from the page with the token', async () => {
+    await page.locator('#token-button').click();
+    await page.locator('#token-input').fill(monitor.token());
+    await page.locator('#token-form button[value="save"]').click();
+    await page.locator('#replay-pause').click();
+    await page.locator('#replay-text').filter({ hasText: /^paused/ }).waitFor({ timeout: 15_000 });
+    await page.locator('#replay-play').click();
+    await page.locator('#replay-text').filter({ hasText: /^playing/ }).waitFor({ timeout: 15_000 });
+  }, 40_000);
+
+  it('recovers after the monitor stops and starts again', async () => {
+    const before = await probe(page);
+    await monitor.stop(2000);
+    await until(page, 'the page to notice the monitor is gone', (s) => s.link === 'reconnecting');
+    await page.screenshot({ path: join(shots, 'real-04-down.png') });
+    await monitor.start();
+    const after = await until(page, 'reconnected with new samples', (s) => s.link === 'live' && s.linkOpens >= 2 && s.samples > before.samples, 45_000);
+    expect(after.region).toBe('demo');
+    await page.screenshot({ path: join(shots, 'real-05-after-restart.png') });
+  }, 70_000);
+
+  it('logged no page errors', () => {
+    expect(problems).toEqual([]);
+  });
+});
