@@ -305,7 +305,7 @@ export function analyseFootpoints(
 
   // Winding of the pairs among the `windingFootpoints` largest footpoints (by |flux|); steps only
   // between footpoints followed without an event.
-  const prevPairs = new Map<string, PairWinding>();
+  const prevPairs = new Map<number, PairWinding>();
   for (const p of previous?.pairs ?? []) prevPairs.set(pairKey(p.a, p.b), p);
   const windingTurns = new Float64Array(K * K).fill(NaN);
   const pairs: PairWinding[] = [];

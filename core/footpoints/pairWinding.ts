@@ -30,6 +30,7 @@ export function angleStep(from: number, to: number): number {
   return d;
 }
 
-export function pairKey(a: number, b: number): string {
-  return a < b ? `${a}:${b}` : `${b}:${a}`;
+/** A number naming the unordered pair (ids below 2^26 keep it exact). */
+export function pairKey(a: number, b: number): number {
+  return a < b ? a * 67108864 + b : b * 67108864 + a;
 }

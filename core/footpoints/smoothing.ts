@@ -14,13 +14,15 @@ export function smoothMap(map: ArrayLike<number>, nx: number, ny: number, sigma:
   const radius = Math.max(1, Math.floor(3 * sigma + 0.5));
   const kernel = new Float64Array(2 * radius + 1);
   for (let k = -radius; k <= radius; k++) kernel[k + radius] = Math.exp(-(k * k) / (2 * sigma * sigma));
-  // Pass 1 along x: value sums and weight sums.
-  const sv = new Float64Array(n), sw = new Float64Array(n);
   const val = new Float64Array(n), ok = new Float64Array(n);
+  let missing = 0;
   for (let i = 0; i < n; i++) {
     const v = map[i];
-    if (Number.isFinite(v)) { val[i] = v; ok[i] = 1; }
+    if (Number.isFinite(v)) { val[i] = v; ok[i] = 1; } else missing++;
   }
+  if (missing === 0) return smoothComplete(val, nx, ny, kernel, radius);
+  // Pass 1 along x: value sums and weight sums.
+  const sv = new Float64Array(n), sw = new Float64Array(n);
   for (let y = 0; y < ny; y++) {
     const row = y * nx;
     for (let x = 0; x < nx; x++) {
@@ -48,6 +50,45 @@ export function smoothMap(map: ArrayLike<number>, nx: number, ny: number, sigma:
         w += c * sw[j];
       }
       out[i] = a / w;
+    }
+  }
+  return out;
+}
+
+/**
+ * The same without missing pixels: the weight sums are then a product of one sum per column and
+ * one per row (the kernel cut by the grid edge), so only the values need two passes.
+ */
+function smoothComplete(val: Float64Array, nx: number, ny: number, kernel: Float64Array, radius: number): Float64Array {
+  const n = nx * ny;
+  const edgeSum = (len: number) => {
+    const w = new Float64Array(len);
+    for (let x = 0; x < len; x++) {
+      const k0 = Math.max(-radius, -x), k1 = Math.min(radius, len - 1 - x);
+      for (let k = k0; k <= k1; k++) w[x] += kernel[k + radius];
+    }
+    return w;
+  };
+  const wx = edgeSum(nx), wy = edgeSum(ny);
+  const tmp = new Float64Array(n);
+  for (let y = 0; y < ny; y++) {
+    const row = y * nx;
+    for (let x = 0; x < nx; x++) {
+      let a = 0;
+      const k0 = Math.max(-radius, -x), k1 = Math.min(radius, nx - 1 - x);
+      for (let k = k0; k <= k1; k++) a += kernel[k + radius] * val[row + x + k];
+      tmp[row + x] = a / wx[x];
+    }
+  }
+  const out = new Float64Array(n);
+  for (let y = 0; y < ny; y++) {
+    const k0 = Math.max(-radius, -y), k1 = Math.min(radius, ny - 1 - y);
+    const inv = 1 / wy[y];
+    for (let x = 0; x < nx; x++) {
+      const i = y * nx + x;
+      let a = 0;
+      for (let k = k0; k <= k1; k++) a += kernel[k + radius] * tmp[i + k * nx];
+      out[i] = a * inv;
     }
   }
   return out;

@@ -10,7 +10,7 @@ import { seededRandom } from '../support/random.js';
 
 // Reference: scipy.ndimage.gaussian_filter and scipy.stats.norm (Debian's python3-scipy), run by
 // test/fixtures/footpoints/make_smoothing_fixture.py, output committed beside it.
-interface SmoothingFixture { nx: number; ny: number; map: (number | null)[]; cases: { sigma: number; smoothed: (number | null)[] }[]; mad_to_sigma: number; clipped_mad: { k: number; m: number }[] }
+interface SmoothingFixture { nx: number; ny: number; map: (number | null)[]; cases: { sigma: number; smoothed: (number | null)[] }[]; complete_cases: { sigma: number; smoothed: number[] }[]; mad_to_sigma: number; clipped_mad: { k: number; m: number }[] }
 const fx = JSON.parse(readFileSync(new URL('../fixtures/footpoints/smoothing_fixture.json', import.meta.url), 'utf8')) as SmoothingFixture;
 
 describe('noise level and smoothing', () => {
@@ -37,6 +37,14 @@ describe('noise level and smoothing', () => {
         if (v === null) expect(Number.isNaN(out[i])).toBe(true);
         else expect(Math.abs(out[i] - v)).toBeLessThan(1e-10);
       });
+    }
+  });
+
+  it('without missing pixels (the faster path) it equals scipy as well', () => {
+    const map = Float64Array.from(fx.map, (v) => (v === null ? 0 : v));
+    for (const c of fx.complete_cases) {
+      const out = smoothMap(map, fx.nx, fx.ny, c.sigma);
+      c.smoothed.forEach((v, i) => expect(Math.abs(out[i] - v)).toBeLessThan(1e-10));
     }
   });
 
