@@ -10,6 +10,7 @@ import type { ImageToWrite } from '../../core/fits/writeImage.js';
 import { writeFits } from '../../core/fits/writeImage.js';
 import { frameFromFits, framesFromFileSet } from '../../core/frameAssembly/assembleFrame.js';
 import { formatUtc } from '../../core/frameAssembly/frameTime.js';
+import { frameToFits } from '../../core/frameAssembly/frameToFits.js';
 import { LEAP_SECONDS } from '../../core/frameAssembly/leapSeconds.js';
 import { InputError } from '../../core/inputError.js';
 import { MM_PER_HELIOGRAPHIC_DEG } from '../../core/units.js';
@@ -239,5 +240,17 @@ describe('an astropy-written frame file (test/fixtures/fits/checksum_frame.fits)
     expect(Array.from(f.bn)).toEqual(expected['checksum_frame.fits'].values);
     expect(Array.from(f.vx!)).toEqual(expected['checksum_frame.fits#VX'].values.map((v) => v! / 1e3));
     expect(f.provenance?.keywords?.TELESCOP).toBe('invented-scope');
+  });
+});
+
+describe('frameToFits', () => {
+  it('a frame written by our convention reads back with the same time, grid and float32 maps', () => {
+    const f0 = frameFromFits(file([{}, { name: 'VX', bunit: 'km/s', values: ramp(0.1) }, { name: 'VY', bunit: 'km/s', values: ramp(-0.2) }], obs('2017-06-01T00:00:37.250', 'TAI')), 'in.fits');
+    const bytes = frameToFits(f0, { creator: 'helicord test', writtenAt: utc('2026-12-01T00:00:00Z') });
+    const f1 = frameFromFits(bytes, 'out.fits');
+    expect(f1.time).toBe(utc('2017-06-01T00:00:00.25Z'));
+    expect([f1.nx, f1.ny, f1.dx, f1.dy]).toEqual([f0.nx, f0.ny, f0.dx, f0.dy]);
+    expect(Array.from(f1.vy!)).toEqual(Array.from(f0.vy!, (v) => Math.fround(v)));
+    expect(f1.provenance?.keywords).toMatchObject({ CREATOR: 'helicord test', DATE: '2026-12-01T00:00:00.000', SRCFILE: 'in.fits', TIMESYS: 'UTC' });
   });
 });

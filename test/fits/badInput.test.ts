@@ -174,6 +174,21 @@ describe('property: random damage to valid files gives a correct frame or an Inp
     }), { numRuns: 300, seed: 20261201 });
   });
 
+  it('checksummed astropy RICE_1 image: one damaged byte or a cut gives the same values or an InputError', () => {
+    const rice = load('checksum_rice_float.fits');
+    const want = readFitsImage(rice, 'rice.fits', { extname: 'BN' }).values;
+    fc.assert(fc.property(mutation(rice.length), (m) => {
+      let got: Float64Array;
+      try {
+        got = readFitsImage(apply(rice, m), 'rice.fits', { extname: 'BN' }).values;
+      } catch (e) {
+        if (e instanceof InputError) return e.message.startsWith('rice.fits: ');
+        throw e;
+      }
+      return got.length === want.length && got.every((v, i) => Object.is(v, want[i]));
+    }), { numRuns: 300, seed: 99 });
+  });
+
   it('our own file, several damaged bytes: a checked frame of the declared shape, or an InputError', () => {
     fc.assert(fc.property(fc.array(mutation(ours.length), { minLength: 1, maxLength: 6 }), (ms) => {
       let b = ours;
