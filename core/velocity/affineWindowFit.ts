@@ -39,7 +39,8 @@ export interface AffineFitResult {
 
 /**
  * Fits `columns` (n of them) to `target` in Gaussian windows of width `sigma` pixels around every
- * pixel. Returns maps of the parameters listed in `wanted`. With M scaled to unit diagonal, a
+ * pixel. Returns maps of the parameters listed in `wanted` (cheapest to check when they are the
+ * last columns). With M scaled to unit diagonal, a
  * window is ill-conditioned when a wanted parameter p has 1 / [M^-1]_pp < `minPivot` (its column
  * is almost a combination of the others). `ridge[p]` (relative to the unit diagonal) is a penalty on
  * parameter p: it makes the fit prefer small values of it where the data leave it undetermined.
@@ -81,9 +82,12 @@ export function affineWindowFit(
 
   const r = windowRadius(sigma);
   const taps: Float64Array[] = [0, 1, 2, 3, 4].map((power) => gaussianTaps(sigma, r, power));
-  const sums = new Float64Array(size * entries);
+  // One map per matrix entry (entry-major), so that adding a moment into an entry is one
+  // contiguous loop.
+  const sums: Float64Array[] = Array.from({ length: entries }, () => new Float64Array(size));
   const product = new Float64Array(size);
   const rowPassed = new Map<number, Float64Array>();
+  const rowBuffers = [0, 1, 2, 3, 4].map(() => new Float64Array(size));
   const column = new Float64Array(size);
   // Group the moments by channel pair so that a product and its row passes are made once.
   const byPair = new Map<string, Moment[]>();
@@ -100,14 +104,14 @@ export function affineWindowFit(
     for (const m of list) {
       let rows = rowPassed.get(m.px);
       if (!rows) {
-        rows = new Float64Array(size);
+        rows = rowBuffers[m.px];
         correlateRows(product, nx, ny, taps[m.px], rows);
         rowPassed.set(m.px, rows);
       }
       correlateColumns(rows, nx, ny, taps[m.py], column);
       for (const u of m.uses) {
-        const { entry, coef } = u;
-        for (let i = 0, o = entry; i < size; i++, o += entries) sums[o] += coef * column[i];
+        const target = sums[u.entry], coef = u.coef;
+        for (let i = 0; i < size; i++) target[i] += coef * column[i];
       }
     }
   }
@@ -118,33 +122,37 @@ export function affineWindowFit(
   const scale = new Float64Array(n);
   const unit = new Float64Array(n);
   let illConditioned = 0;
+  const diag = Array.from({ length: n }, (_, p) => sums[entryIndex(p, p)]);
+  const upperMaps: Float64Array[] = [], upperP: number[] = [], upperQ: number[] = [];
+  for (let q = 0; q < n; q++) for (let p = 0; p <= q; p++) { upperMaps.push(sums[entryIndex(p, q)]); upperP.push(p); upperQ.push(q); }
+  const nUpper = upperMaps.length;
+  const rhsMaps = Array.from({ length: n }, (_, q) => sums[entryIndex(q, n)]);
   for (let i = 0; i < size; i++) {
     if (!valid[i]) continue;
-    const base = i * entries;
     let ok = true;
     for (let p = 0; p < n; p++) {
-      const d = sums[base + entryIndex(p, p)];
+      const d = diag[p][i];
       if (!(d > 0)) { ok = false; break; }
       scale[p] = 1 / Math.sqrt(d);
     }
     if (ok) {
-      for (let q = 0; q < n; q++) {
-        for (let p = 0; p <= q; p++) {
-          const v = sums[base + entryIndex(p, q)] * scale[p] * scale[q] + (p === q ? RIDGE + ridge[p] : 0);
-          mat[p * n + q] = v;
-          mat[q * n + p] = v;
-        }
-        rhs[q] = -sums[base + entryIndex(q, n)] * scale[q];
+      for (let k = 0; k < nUpper; k++) {
+        const p = upperP[k], q = upperQ[k];
+        const v = upperMaps[k][i] * scale[p] * scale[q] + (p === q ? RIDGE + ridge[p] : 0);
+        mat[p * n + q] = v;
+        mat[q * n + p] = v;
       }
+      for (let q = 0; q < n; q++) rhs[q] = -rhsMaps[q][i] * scale[q];
       ok = cholesky(mat, n);
       // Each wanted parameter must be determined: the part of its (unit) column that the other
       // columns do not explain, 1 / [M^-1]_pp (with the penalties), is at least minPivot.
       for (let w = 0; ok && w < wanted.length; w++) {
+        const start = wanted[w];
         unit.fill(0);
-        unit[wanted[w]] = 1;
-        forwardSubstitute(mat, unit, n);
+        unit[start] = 1;
+        forwardSubstitute(mat, unit, n, start);
         let inv = 0;
-        for (let k = 0; k < n; k++) inv += unit[k] * unit[k];
+        for (let k = start; k < n; k++) inv += unit[k] * unit[k];
         if (!(1 / inv >= minPivot)) ok = false;
       }
     }
@@ -180,11 +188,11 @@ function cholesky(mat: Float64Array, n: number): boolean {
   return true;
 }
 
-/** Solves L y = v in place. */
-function forwardSubstitute(mat: Float64Array, v: Float64Array, n: number): void {
-  for (let i = 0; i < n; i++) {
+/** Solves L y = v in place; v[k] = 0 for k < start (so y[k] = 0 there too). */
+function forwardSubstitute(mat: Float64Array, v: Float64Array, n: number, start = 0): void {
+  for (let i = start; i < n; i++) {
     let s = v[i];
-    for (let k = 0; k < i; k++) s -= mat[i * n + k] * v[k];
+    for (let k = start; k < i; k++) s -= mat[i * n + k] * v[k];
     v[i] = s / mat[i * n + i];
   }
 }

@@ -36,9 +36,10 @@ export function midAndRate(a: ArrayLike<number>, b: ArrayLike<number>, dtS: numb
 
 const t = (channel: number, px = 0, py = 0, coef = 1) => ({ coef, channel, px, py });
 
-// Channels: 0 Gx, 1 Gy, 2 Bz, 3 dBz/dt. Columns in the order U0, V0, Ux, Vy, Uy, Vx.
+// Channels: 0 Gx, 1 Gy, 2 Bz, 3 dBz/dt. Columns in the order Ux, Vy, Uy, Vx, U0, V0 (the wanted
+// ones last, where their determinacy check is cheapest).
 export const DAVE_COLUMNS: readonly ModelColumn[] = [
-  [t(0)], [t(1)], [t(0, 1, 0), t(2)], [t(1, 0, 1), t(2)], [t(0, 0, 1)], [t(1, 1, 0)],
+  [t(0, 1, 0), t(2)], [t(1, 0, 1), t(2)], [t(0, 0, 1)], [t(1, 1, 0)], [t(0)], [t(1)],
 ];
 export const DAVE_TARGET: ModelColumn = [t(3)];
 
@@ -50,7 +51,7 @@ export const DAVE_TARGET: ModelColumn = [t(3)];
  * tests bound its bias).
  */
 export const GRADIENT_RIDGE = 1e-3;
-export const DAVE_RIDGE: readonly number[] = [0, 0, GRADIENT_RIDGE, GRADIENT_RIDGE, GRADIENT_RIDGE, GRADIENT_RIDGE];
+export const DAVE_RIDGE: readonly number[] = [GRADIENT_RIDGE, GRADIENT_RIDGE, GRADIENT_RIDGE, GRADIENT_RIDGE, 0, 0];
 
 /** Velocity between two bn maps dt seconds apart on a grid of nx x ny pixels of dx x dy Mm. */
 export function differentialAffineVelocity(
@@ -59,7 +60,7 @@ export function differentialAffineVelocity(
 ): AffineVelocity {
   const { mid, rate } = midAndRate(a, b, dtS);
   const gx = derivativeX(mid, nx, ny), gy = derivativeY(mid, nx, ny);
-  const fit = affineWindowFit([gx, gy, mid, rate], nx, ny, DAVE_COLUMNS, DAVE_TARGET, options.sigma, options.minPivot, [0, 1], DAVE_RIDGE);
+  const fit = affineWindowFit([gx, gy, mid, rate], nx, ny, DAVE_COLUMNS, DAVE_TARGET, options.sigma, options.minPivot, [4, 5], DAVE_RIDGE);
   const [u, v] = fit.params;
   for (let i = 0; i < u.length; i++) {
     u[i] *= dx * KM_PER_MM; // pixels/s -> km/s

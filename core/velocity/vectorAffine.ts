@@ -5,6 +5,7 @@
 // whose flux Bz V - vz Bh is exactly the transport Bn u = Bn v_t - v_n B_t of core/fluxTransport.ts.
 // Per pixel, with Hx = Bx/dx, Hy = By/dy (so that vz is in Mm/s) and D = dHx/dx + dHy/dy:
 //   dBz/dt + [DAVE terms] - W0 D - Wx (x D + Hx) - Wy (y D + Hy) = 0,  vz = W0 + Wx x + Wy y.
+// The gradients Wx, Wy carry the same small penalty as DAVE's velocity gradients.
 
 import { affineWindowFit } from './affineWindowFit.js';
 import type { ModelColumn } from './affineWindowFit.js';
@@ -23,10 +24,12 @@ export interface VectorAffineVelocity {
 
 const t = (channel: number, px = 0, py = 0, coef = 1) => ({ coef, channel, px, py });
 
-// Channels: 0 Gx, 1 Gy, 2 Bz, 3 dBz/dt, 4 Hx, 5 Hy, 6 D. Columns: DAVE's six, then W0, Wx, Wy.
+// Channels: 0 Gx, 1 Gy, 2 Bz, 3 dBz/dt, 4 Hx, 5 Hy, 6 D. Columns: Wx, Wy, DAVE's six (Ux, Vy,
+// Uy, Vx, U0, V0), then W0: the wanted U0, V0, W0 last.
 export const VECTOR_COLUMNS: readonly ModelColumn[] = [
+  [t(6, 1, 0, -1), t(4, 0, 0, -1)], [t(6, 0, 1, -1), t(5, 0, 0, -1)],
   ...DAVE_COLUMNS,
-  [t(6, 0, 0, -1)], [t(6, 1, 0, -1), t(4, 0, 0, -1)], [t(6, 0, 1, -1), t(5, 0, 0, -1)],
+  [t(6, 0, 0, -1)],
 ];
 
 export interface VectorPair {
@@ -51,7 +54,7 @@ export function vectorAffineVelocity(
   const dhy = derivativeY(hy, nx, ny);
   for (let i = 0; i < n; i++) div[i] += dhy[i];
   const fit = affineWindowFit([gx, gy, mid, rate, hx, hy, div], nx, ny, VECTOR_COLUMNS, DAVE_TARGET,
-    options.sigma, options.minPivot, [0, 1, 6], [...DAVE_RIDGE, 0, GRADIENT_RIDGE, GRADIENT_RIDGE]);
+    options.sigma, options.minPivot, [6, 7, 8], [GRADIENT_RIDGE, GRADIENT_RIDGE, ...DAVE_RIDGE, 0]);
   const [u, v, w] = fit.params;
   for (let i = 0; i < n; i++) {
     u[i] *= dx * KM_PER_MM;

@@ -21,12 +21,38 @@ export function windowRadius(sigma: number): number {
   return Math.max(1, Math.ceil(3 * sigma));
 }
 
+/** +1 when taps[r + d] = taps[r - d] for all d, -1 when taps[r + d] = -taps[r - d], else 0. */
+function tapSymmetry(taps: Float64Array): 1 | -1 | 0 {
+  const r = (taps.length - 1) >> 1;
+  let even = true, odd = taps[r] === 0;
+  for (let d = 1; d <= r; d++) {
+    if (taps[r + d] !== taps[r - d]) even = false;
+    if (taps[r + d] !== -taps[r - d]) odd = false;
+  }
+  return even ? 1 : odd ? -1 : 0;
+}
+
 /** Row pass: out[y][x] = Sum_d taps[d + r] in[y][x + d], NaN and outside counted as zero. */
 export function correlateRows(input: ArrayLike<number>, nx: number, ny: number, taps: Float64Array, out: Float64Array): void {
   const r = (taps.length - 1) >> 1;
+  const sym = tapSymmetry(taps);
   for (let y = 0; y < ny; y++) {
     const row = y * nx;
     for (let x = 0; x < nx; x++) {
+      if (sym !== 0 && x >= r && x < nx - r) {
+        // Interior with symmetric taps: pair x + d with x - d (half the products).
+        let s = 0;
+        const c = input[row + x];
+        if (c === c) s = taps[r] * c;
+        for (let d = 1; d <= r; d++) {
+          let p = input[row + x + d], m = input[row + x - d];
+          if (p !== p) p = 0; // NaN counts as zero
+          if (m !== m) m = 0;
+          s += taps[r + d] * (p + sym * m);
+        }
+        out[row + x] = s;
+        continue;
+      }
       const lo = Math.max(-r, -x), hi = Math.min(r, nx - 1 - x);
       let s = 0;
       for (let d = lo; d <= hi; d++) {
@@ -41,9 +67,22 @@ export function correlateRows(input: ArrayLike<number>, nx: number, ny: number, 
 /** Column pass: out[y][x] = Sum_e taps[e + r] in[y + e][x]; `input` must hold no NaN (row-pass output). */
 export function correlateColumns(input: Float64Array, nx: number, ny: number, taps: Float64Array, out: Float64Array): void {
   const r = (taps.length - 1) >> 1;
-  out.fill(0, 0, nx * ny);
+  const sym = tapSymmetry(taps);
   for (let y = 0; y < ny; y++) {
     const o = y * nx;
+    if (sym !== 0 && y >= r && y < ny - r) {
+      // Interior rows with symmetric taps: add row y + e and sym times row y - e, once per e.
+      const t0 = taps[r];
+      for (let x = 0; x < nx; x++) out[o + x] = t0 * input[o + x];
+      for (let e = 1; e <= r; e++) {
+        const t = taps[r + e];
+        const p = (y + e) * nx, m = (y - e) * nx;
+        if (sym === 1) for (let x = 0; x < nx; x++) out[o + x] += t * (input[p + x] + input[m + x]);
+        else for (let x = 0; x < nx; x++) out[o + x] += t * (input[p + x] - input[m + x]);
+      }
+      continue;
+    }
+    out.fill(0, o, o + nx);
     const lo = Math.max(-r, -y), hi = Math.min(r, ny - 1 - y);
     for (let e = lo; e <= hi; e++) {
       const t = taps[e + r];
