@@ -42,6 +42,8 @@ export class AlertLog {
         'aria-label': a.acknowledged ? `${a.rule} acknowledged` : `Acknowledge ${a.rule}`,
       });
       ack.addEventListener('click', () => this.onAcknowledge?.(a));
+      // A quiet rule has nothing to acknowledge.
+      ack.hidden = a.state === 'quiet';
       const history = el('details', {}, el('summary', { text: `history (${a.history?.length ?? 0})` }),
         el('ol', {}, ...(a.history ?? []).map((h) => el('li', { text: `${formatUtc(isoToMs(h.time))}: ${h.from} → ${h.to}` }))));
       const li = el(

@@ -84,7 +84,7 @@ async function loadRegions(): Promise<void> {
   }
   const current = regionSelect.value;
   regionSelect.replaceChildren(
-    ...state.regions.map((r) => el('option', { value: r.name, text: `${r.name}${r.replay ? ' (replay)' : ''} · ${r.frames} frames` })),
+    ...state.regions.map((r) => el('option', { value: r.name, text: `${r.name}${r.replay ? ' (replay)' : ''}` })),
   );
   if (state.regions.length === 0) {
     regionSelect.append(el('option', { value: '', text: 'no region yet' }));

@@ -9,8 +9,14 @@ const MINUS = '\u2212';
 export function formatSci(value: number | null | undefined, digits = 2): string {
   if (value === null || value === undefined || !Number.isFinite(value)) return NO_VALUE;
   if (value === 0) return '0';
-  const text = Math.abs(value).toExponential(Math.max(0, digits - 1)).replace('e+', 'e');
+  const a = Math.abs(value);
+  // Counts and small plain numbers (3 frames, 0.5) read better without an exponent.
+  const text = a >= 0.01 && a < 1e4 ? trimZeros(a.toPrecision(Math.max(digits, String(Math.round(a)).length))) : a.toExponential(Math.max(0, digits - 1)).replace('e+', 'e');
   return value < 0 ? MINUS + text : text;
+}
+
+function trimZeros(text: string): string {
+  return text.includes('.') && !text.includes('e') ? text.replace(/\.?0+$/, '') : text;
 }
 
 /** Wire unit names to their printed form: Mx^2 -> Mx², Mx^2/s -> Mx²/s. */

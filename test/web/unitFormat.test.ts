@@ -12,6 +12,11 @@ describe('unit formatting', () => {
     expect(formatHelicity(0)).toBe('0 Mx²');
     expect(formatFlux(1.25e21, 3)).toBe('1.25e21 Mx');
     expect(formatSci(1.5e-3, 2)).toBe('1.5e-3');
+    expect(formatSci(3, 2)).toBe('3'); // counts stay plain
+    expect(formatSci(1234.5, 2)).toBe('1235');
+    expect(formatSci(0.5, 2)).toBe('0.5');
+    expect(formatSci(-2.25, 2)).toBe('\u22122.3');
+    expect(formatSci(12000, 2)).toBe('1.2e4');
   });
 
   it('shows missing values as a dash without a unit', () => {
