@@ -3,7 +3,8 @@
 //   0-2 h    a quiet patch with a few small plage footpoints;
 //   2-30 h   a bipole emerges at the centre: its flux grows to 3.2e21 Mx a side while the two
 //            polarities separate along x (the following side in two pieces);
-//   8-44 h   the leading (positive, elliptical) spot turns counter-clockwise by 92 degrees, and the
+//   8-44 h   the leading (positive) spot, an elliptical core with two smaller umbral cores on its
+//            major axis, turns counter-clockwise by 92 degrees as one body, and the
 //            two polarities slide past each other along the polarity line (shear, 8 Mm each way);
 //   10-36 h  small footpoints drift away from the leading spot, two small negative ones converge
 //            and merge (they carry one label after 34 h);
@@ -57,6 +58,7 @@ function glide(t: number, t0: number, t1: number, ax: number, ay: number, bx: nu
 const BIPOLE_FLUX = 3.2e21;
 const SHEAR_MM = 8;
 const TURN_RAD = (92 * Math.PI) / 180;
+const UMBRA_OFFSET_MM = 6;
 
 /** The components of the demo region at scenario hour `t` (0..72). */
 export function demoComponents(t: number): DemoComponent[] {
@@ -71,10 +73,20 @@ export function demoComponents(t: number): DemoComponent[] {
   const out: DemoComponent[] = [];
   if (emerge.value > 0) {
     const f = BIPOLE_FLUX * emerge.value;
-    out.push({
-      label: 1, flux: f, cx: half, cy: 4 - s, vx: halfRate, vy: -sRate,
-      sigmaMajor: 5.0, sigmaMinor: 3.6, angle: 0.35 + TURN_RAD * turn.value, omega: TURN_RAD * turn.rate,
-    });
+    // The leading spot: an elliptical core with two smaller umbral cores on its major axis, all
+    // turning rigidly about the spot centre (a pattern whose rotation can be seen in the frames).
+    const angle = 0.35 + TURN_RAD * turn.value;
+    const omega = TURN_RAD * turn.rate;
+    const cx = half, cy = 4 - s, vx = halfRate, vy = -sRate;
+    out.push({ label: 1, flux: 0.7 * f, cx, cy, vx, vy, sigmaMajor: 4.4, sigmaMinor: 3.0, angle, omega });
+    for (const side of [1, -1]) {
+      const ox = side * UMBRA_OFFSET_MM * Math.cos(angle), oy = side * UMBRA_OFFSET_MM * Math.sin(angle);
+      // A point turning with the spot moves at V + omega z x (c - C).
+      out.push({
+        label: 1, flux: 0.15 * f, cx: cx + ox, cy: cy + oy, vx: vx - omega * oy, vy: vy + omega * ox,
+        sigmaMajor: 2.0, sigmaMinor: 2.0, angle, omega,
+      });
+    }
     out.push({
       label: 2, flux: -0.69 * f, cx: -half, cy: -4 + s, vx: -halfRate, vy: sRate,
       sigmaMajor: 5.5, sigmaMinor: 5.5, angle: 0, omega: 0,

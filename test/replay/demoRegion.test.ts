@@ -87,6 +87,25 @@ describe('demo region', () => {
     expect(spin).toBeLessThan(0);
   });
 
+  it('gives the turning spot a shape whose rotation shows in the frames (not axisymmetric)', () => {
+    // A round footpoint turning in place leaves the frames unchanged; ours is elongated: the
+    // flux-weighted second moments of the spot differ by more than a factor 2 along its axes.
+    const c = demoRegion({ frames: 145 }).cleanFrameAt(72);
+    let w = 0, mx = 0, my = 0;
+    const pts: [number, number, number][] = [];
+    for (let k = 0; k < c.bn.length; k++) {
+      if (c.labels![k] !== 1) continue;
+      const x = (k % c.nx) * c.dx, y = Math.floor(k / c.nx) * c.dy, b = c.bn[k];
+      pts.push([x, y, b]); w += b; mx += b * x; my += b * y;
+    }
+    mx /= w; my /= w;
+    let sxx = 0, syy = 0, sxy = 0;
+    for (const [x, y, b] of pts) { sxx += b * (x - mx) ** 2; syy += b * (y - my) ** 2; sxy += b * (x - mx) * (y - my); }
+    const tr = sxx + syy, det = sxx * syy - sxy * sxy;
+    const l1 = tr / 2 + Math.sqrt(tr * tr / 4 - det), l2 = tr / 2 - Math.sqrt(tr * tr / 4 - det);
+    expect(l1 / l2).toBeGreaterThan(2);
+  });
+
   it('builds up past the default thresholds and then stays on a plateau', () => {
     const d = demoRegion({ frames: 73, size: 96 });
     let budget = 0, peak = 0, prev = 0, crossedAt = -1, budgetAt48 = 0;
