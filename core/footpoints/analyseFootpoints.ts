@@ -99,8 +99,8 @@ export interface FootpointRow {
   readonly peak: number;
   /** Major-axis angle of the flux-weighted second moments, rad, counter-clockwise from +x. */
   readonly orientation: number;
-  /** Axis ratio of the flux-weighted second moments (>= 1). */
-  readonly elongation: number;
+  /** Axis ratio of the flux-weighted second moments (>= 1; null for a region one pixel wide). */
+  readonly elongation: number | null;
   readonly touchesEdge: boolean;
   /** Centroid velocity, km/s, and where it came from (null when unknown). */
   readonly vx: number | null;
@@ -258,7 +258,8 @@ export function analyseFootpoints(
     rows.push({
       id: a.id, polarity: r.polarity, status: a.status, parent: a.parent, born: a.born,
       flux: r.flux, x: r.fluxWeighted.x, y: r.fluxWeighted.y, pixels: r.pixels, area: r.area, peak: r.peak,
-      orientation: r.fluxWeighted.orientation, elongation: r.fluxWeighted.elongation, touchesEdge: r.touchesEdge,
+      orientation: r.fluxWeighted.orientation,
+      elongation: Number.isFinite(r.fluxWeighted.elongation) ? r.fluxWeighted.elongation : null, touchesEdge: r.touchesEdge,
       vx, vy, motionSource, omega, omegaSource, omegaVelocity, omegaPattern, omegaPatternError, patternNote, anisotropy,
       spinExact: null, spinPoint: null,
     });

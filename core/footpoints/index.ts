@@ -22,3 +22,5 @@ export { smoothMap } from './smoothing.js';
 export { downhillTessellation } from './tessellation.js';
 export { TRACKING_DEFAULTS, trackFootpoints } from './tracking.js';
 export type { FootpointEvent, TrackAssignment, TrackedFootpoint, TrackingResult, TrackingSettings, TrackStatus } from './tracking.js';
+export { footpointReport } from './footpointReport.js';
+export type { FootpointReport } from './footpointReport.js';
