@@ -113,6 +113,17 @@ describe('segmentation', () => {
     expect(strong.count).toBe(2);
   });
 
+  it('a saturated spot (a flat plateau, as in a clipped magnetogram) is one footpoint', () => {
+    const bn = sceneField(g, [at(20, 16, 3, 3000), at(40, 16, 2, -2500)], 4, 5).map((v) => Math.max(-1000, Math.min(1000, v)));
+    let flat = 0;
+    for (const v of bn) if (Math.abs(v) === 1000) flat++;
+    expect(flat).toBeGreaterThan(200);
+    for (const smoothing of [0, 1]) {
+      const seg = segmentFootpoints(bn, g, { noise: 4, smoothing });
+      expect(seg.count).toBe(2);
+    }
+  });
+
   it('a noise-free map falls back to a noise floor of 1e-3 of the peak', () => {
     const seg = segmentFootpoints(sceneField(g, [at(15, 16, 1.5, 1000)]), g);
     expect(seg.noiseSource).toBe('floor');
