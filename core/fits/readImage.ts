@@ -3,7 +3,7 @@
 
 import { InputError } from '../inputError.js';
 import type { FitsHeader } from './header.js';
-import { headerInteger } from './header.js';
+import { headerInteger, headerValue } from './header.js';
 import type { Hdu } from './hduList.js';
 import type { ListOptions } from './hduList.js';
 import { hduLabel, listHdus } from './hduList.js';
@@ -71,7 +71,7 @@ export function decodeImageHdu(bytes: Uint8Array, hdu: Hdu, source: string, opti
   const base = { source, hdu: hdu.index, header: hdu.header, ...(hdu.name && { name: hdu.name }) };
   if (isCompressedImage(hdu)) {
     const d = decodeCompressedImage(bytes, hdu, source, maxPixels);
-    const cmp = String(hdu.header.cards[hdu.header.index.get('ZCMPTYPE') ?? 0]?.value ?? '').trim();
+    const cmp = String(headerValue(hdu.header, 'ZCMPTYPE') ?? '').trim();
     return { ...base, axes: d.axes, bitpix: d.bitpix, values: d.values, compression: cmp };
   }
   if (hdu.kind !== 'primary' && hdu.kind !== 'image') throw new InputError(source, where, `is a ${hdu.kind} extension, not an image`);

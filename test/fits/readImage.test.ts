@@ -43,6 +43,7 @@ describe('FITS reader against astropy-decoded fixtures', () => {
       expect(mismatches, mismatches ? `first at ${first}: got ${img.values[first]}, astropy ${exp.values[first]}` : '').toBe(0);
       for (const [k, v] of Object.entries(exp.keywords)) expect(headerValue(img.header, k)).toEqual(v);
       if (exp.table) for (const [k, v] of Object.entries(exp.table)) expect(headerValue(img.header, k)).toEqual(v);
+      expect(img.compression).toBe(exp.table ? exp.table.ZCMPTYPE : undefined);
     });
   }
 
