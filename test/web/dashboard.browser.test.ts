@@ -6,7 +6,7 @@
 
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
-import { tmpdir } from 'node:os';
+import { cpus, loadavg, tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import type { Page } from 'playwright-core';
@@ -53,7 +53,7 @@ describe.skipIf(!chromiumPath && !inCi)('dashboard in Chromium against the test 
   beforeAll(async () => {
     if (!chromiumPath) throw new Error('CI=true but no Chromium found: the browser tests must run in CI (apt-get install chromium)');
     outDir = mkdtempSync(join(tmpdir(), 'helicord-page-'));
-    const { buildPage } = (await import('../../web/build.mjs')) as { buildPage: (dir: string) => Promise<string[]> };
+    const { buildPage } = await import('../../web/build.mjs');
     await buildPage(outDir);
     region = newRegionState('demo');
     for (let k = 0; k < 30; k++) pushFrame(region, k, undefined, { skipGapBefore: k === 18 });
@@ -241,6 +241,7 @@ describe.skipIf(!chromiumPath && !inCi)('dashboard in Chromium against the test 
       `map 1024x1024: base64 decode ${map.decodeMs.toFixed(1)} ms, new frame (raster + draw) ${map.newFrameMs.toFixed(1)} ms (median of 5), ` +
         `highlight redraw ${map.redrawMs.toFixed(1)} ms`,
     ];
+    lines.push(`machine load average while measuring: ${loadavg().map((x) => x.toFixed(1)).join(', ')} on ${cpus().length} cores`);
     process.stdout.write(`\n[dashboard performance, headless Chromium]\n  ${lines.join('\n  ')}\n`);
     writeFileSync(join(shots, 'performance.txt'), lines.join('\n') + '\n');
     // Points drawn stay bounded by the chart width, not the sample count.

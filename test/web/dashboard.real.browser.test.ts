@@ -54,7 +54,7 @@ describe.skipIf((!chromiumPath || !haveServer) && !inCi)('dashboard in Chromium 
   beforeAll(async () => {
     if (!chromiumPath) throw new Error('CI=true but no Chromium found: the browser tests must run in CI (apt-get install chromium)');
     if (!haveServer) throw new Error(`CI=true but ${realServePath(root)} is missing: build first`);
-    const { buildPage } = (await import('../../web/build.mjs')) as { buildPage: (dir?: string) => Promise<string[]> };
+    const { buildPage } = await import('../../web/build.mjs');
     await buildPage(); // dist/web, where serve() looks
     dataDir = mkdtempSync(join(tmpdir(), 'helicord-real-'));
     monitor = new RealMonitor(root, dataDir, await freePort());
