@@ -1,10 +1,11 @@
 // Batch throughput: frames per second of `process` over demo archives (FITS frames) of 256^2
 // and 512^2, one worker against every core, with the peak resident memory of the run (workers
 // are threads of the same process, so the RSS covers them). Frames carry the demo's velocities
-// unless inference exists, in which case a second run without velocities is timed too.
+// unless inference exists, in which case a second run without velocities is timed too. Each is
+// run with the noise estimated from every frame (the default) and with the noise given.
 // HELICORD_BENCH_FRAMES overrides the frame counts (default 120 at 256^2, 60 at 512^2).
 
-import { mkdtemp, rm } from 'node:fs/promises';
+import { mkdtemp, rm, writeFile } from 'node:fs/promises';
 import { availableParallelism, tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { Writable } from 'node:stream';
@@ -14,11 +15,11 @@ import { rssMiB } from './_measure.js';
 
 const quiet = new Writable({ write(_c, _e, done) { done(); } });
 
-async function timed(folder: string, out: string, workers: number): Promise<{ s: number; peak: number; samples: number }> {
+async function timed(folder: string, out: string, workers: number, config?: string): Promise<{ s: number; peak: number; samples: number }> {
   let peak = rssMiB();
   const timer = setInterval(() => { peak = Math.max(peak, rssMiB()); }, 50);
   const t = performance.now();
-  const r = await processFolder({ folder, out, workers, progress: quiet });
+  const r = await processFolder({ folder, out, workers, progress: quiet, ...(config !== undefined && { config }) });
   const s = (performance.now() - t) / 1000;
   clearInterval(timer);
   peak = Math.max(peak, rssMiB());
@@ -29,6 +30,10 @@ export async function bench(): Promise<void> {
   const cores = availableParallelism();
   const override = Number(process.env.HELICORD_BENCH_FRAMES);
   const dir = await mkdtemp(join(tmpdir(), 'helicord-bench-'));
+  // The same runs with the noise level given (--config), to show what the per-frame noise
+  // estimate costs.
+  const noiseGiven = join(dir, 'noise.json');
+  await writeFile(noiseGiven, JSON.stringify({ analysis: { noiseG: 5 } }));
   try {
     for (const [size, defaultFrames] of [[256, 120], [512, 60]] as const) {
       const frames = override > 0 ? override : defaultFrames;
@@ -36,14 +41,17 @@ export async function bench(): Promise<void> {
         const folder = join(dir, `a${size}${withVelocity ? 'v' : ''}`);
         // 12-minute frames from story hour 16 (the build-up) at the story's own pace.
         await synth({ out: folder, frames, size, withVelocity, demo: { cadenceS: 720, storyH: 72, storyStartH: 16 } });
-        for (const workers of [1, cores]) {
-          const r = await timed(folder, join(dir, 'out.csv'), workers);
-          if (!withVelocity && r.samples === 0) {
-            console.log(`${size}^2 without velocities: no samples (analyseFrame does not infer velocities yet); not timed`);
-            break;
+        for (const config of [undefined, noiseGiven]) {
+          for (const workers of [1, cores]) {
+            const r = await timed(folder, join(dir, 'out.csv'), workers, config);
+            if (!withVelocity && r.samples === 0) {
+              console.log(`${size}^2 without velocities: no samples (analyseFrame does not infer velocities yet); not timed`);
+              break;
+            }
+            console.log(`${size}^2 x ${frames} frames, ${withVelocity ? 'given velocities' : 'inferred velocities'}, noise ${config ? 'given' : 'estimated per frame'}, ${workers} worker${workers > 1 ? 's' : ''}: `
+              + `${(frames / r.s).toFixed(2)} frames/s (${r.s.toFixed(1)} s, reading included), peak RSS ${r.peak.toFixed(0)} MiB`);
           }
-          console.log(`${size}^2 x ${frames} frames, ${withVelocity ? 'given velocities' : 'inferred velocities'}, ${workers} worker${workers > 1 ? 's' : ''}: `
-            + `${(frames / r.s).toFixed(2)} frames/s (${r.s.toFixed(1)} s, reading included), peak RSS ${r.peak.toFixed(0)} MiB`);
+          if (!withVelocity) break;
         }
         await rm(folder, { recursive: true, force: true });
       }
