@@ -4,8 +4,9 @@
 import type { Frame } from '../core/frame.js';
 import { checkFrame } from '../core/frame.js';
 import { parseFrameJson } from '../core/frameJson.js';
+import type { FrameAssemblySettings } from '../core/frameAssembly/assembleFrame.js';
+import { frameFromFits } from '../core/frameAssembly/assembleFrame.js';
 import { InputError } from '../core/inputError.js';
-import { framesFromFits } from './fitsIngest.js';
 import { encodeFrame, frameHash } from './mapFile.js';
 
 export interface IntakeMeta {
@@ -28,22 +29,23 @@ export type IntakeInput =
   | { readonly kind: 'fits'; readonly bytes: Uint8Array }
   | { readonly kind: 'frame'; readonly frame: Frame };
 
-/** HTTP status of a refusal at intake: 400 for text that is not JSON, 415 for media we cannot read, 422 for an invalid frame. */
+/** HTTP status of a refusal at intake: 400 for text that is not JSON, 422 for an invalid frame. */
 export function intakeStatus(e: InputError): number {
-  const s = (e as InputError & { status?: number }).status;
-  if (typeof s === 'number') return s;
   return e.field === '(json)' ? 400 : 422;
 }
 
-export function frameFromInput(input: IntakeInput, source: string): Frame {
+/**
+ * A checked frame from what was sent. FITS follows our frame file convention (docs/fits.md:
+ * image HDUs BN, BX, BY, VX, VY, VZ), read by core/frameAssembly with the region's component
+ * settings (unit defaults, sign and mirror corrections, time keyword).
+ */
+export function frameFromInput(input: IntakeInput, source: string, settings: FrameAssemblySettings = {}): Frame {
   if (input.kind === 'frame') {
     checkFrame(input.frame, source);
     return input.frame;
   }
   if (input.kind === 'json') return parseFrameJson(input.text, source);
-  const frames = framesFromFits(input.bytes, source);
-  if (frames.length !== 1) throw new InputError(source, '(file)', `holds ${frames.length} frames; send one frame per request`);
-  return frames[0];
+  return frameFromFits(input.bytes, source, settings);
 }
 
 export function intakeFrame(frame: Frame, source: string): Intake {

@@ -26,6 +26,8 @@ export interface ApiContext {
   readonly onSettings: (region: string) => void;
   readonly replay: (region: string, action: unknown) => { status: number; body: unknown };
   readonly replayStatus: (region: string) => unknown;
+  /** The event loop's delay, ms (max and 99th percentile over the last few seconds). */
+  readonly loopDelay?: () => { max: number; p99: number };
   /** The dashboard page (server/staticPage.ts), mounted at / after the API. */
   readonly page?: express.Router;
 }
@@ -71,7 +73,10 @@ export function buildApp(ctx: ApiContext): express.Express {
   };
 
   app.get('/api/health', (_req, res) => {
-    res.json({ ok: true, uptime_s: (Date.now() - ctx.startedAt) / 1000, regions: store.regions().length, queue: pipeline.queueLength() });
+    res.json({
+      ok: true, uptime_s: (Date.now() - ctx.startedAt) / 1000, regions: store.regions().length, queue: pipeline.queueLength(),
+      ...(ctx.loopDelay && { loop_delay_ms: ctx.loopDelay() }),
+    });
   });
 
   // Reading: open on loopback unless protected.

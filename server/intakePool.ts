@@ -7,9 +7,10 @@ import { Worker } from 'node:worker_threads';
 import { InputError } from '../core/inputError.js';
 import type { Intake, IntakeMeta } from './frameIntake.js';
 
+/** `settings`: the region's component settings (FrameAssemblySettings of core/frameAssembly). */
 export type IntakeJob =
-  | { readonly kind: 'json' | 'fits'; readonly bytes: Uint8Array; readonly source: string }
-  | { readonly kind: 'file'; readonly path: string; readonly source: string };
+  | { readonly kind: 'json' | 'fits'; readonly bytes: Uint8Array; readonly source: string; readonly settings?: Record<string, unknown> }
+  | { readonly kind: 'file'; readonly path: string; readonly source: string; readonly settings?: Record<string, unknown> };
 
 export type IntakeRequest = IntakeJob & { readonly id: number };
 

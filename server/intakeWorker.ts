@@ -1,5 +1,6 @@
 // The intake worker: parses and encodes frames off the event loop (see frameIntake.ts).
 import { parentPort } from 'node:worker_threads';
+import type { FrameAssemblySettings } from '../core/frameAssembly/assembleFrame.js';
 import { InputError } from '../core/inputError.js';
 import { loadFrameFile } from './frameFiles.js';
 import { frameFromInput, intakeFrame, intakeStatus } from './frameIntake.js';
@@ -7,9 +8,10 @@ import type { IntakeReply, IntakeRequest } from './intakePool.js';
 
 async function handle(req: IntakeRequest): Promise<IntakeReply> {
   try {
+    const settings = (req.settings ?? {}) as FrameAssemblySettings;
     const frame = req.kind === 'file'
-      ? await loadFrameFile(req.path)
-      : frameFromInput(req.kind === 'json' ? { kind: 'json', text: Buffer.from(req.bytes).toString('utf8') } : { kind: 'fits', bytes: req.bytes }, req.source);
+      ? await loadFrameFile(req.path, settings)
+      : frameFromInput(req.kind === 'json' ? { kind: 'json', text: Buffer.from(req.bytes).toString('utf8') } : { kind: 'fits', bytes: req.bytes }, req.source, settings);
     const intake = intakeFrame(frame, req.source);
     return { id: req.id, ok: true, meta: intake.meta, hash: intake.hash, bytes: intake.bytes };
   } catch (e) {

@@ -230,9 +230,11 @@ export class Pipeline {
     try {
       if (p.kind === 'error') return { arrival, resolve, refusal: { status: p.status, error: p.error } };
       let intake: Intake;
+      // The region's component settings say how to read its FITS files.
+      const settings = this.store.region(arrival.region)?.settings.components ?? {};
       if (p.kind === 'frame') intake = intakeFrame(frameFromInput(p, source), source);
-      else if (p.kind === 'file') intake = await this.intake.take({ kind: 'file', path: p.path, source });
-      else intake = await this.intake.take({ kind: p.kind, bytes: p.bytes, source });
+      else if (p.kind === 'file') intake = await this.intake.take({ kind: 'file', path: p.path, source, settings });
+      else intake = await this.intake.take({ kind: p.kind, bytes: p.bytes, source, settings });
       return { arrival, resolve, intake };
     } catch (e) {
       if (e instanceof IntakeRefusal) return { arrival, resolve, refusal: { status: e.status, error: e.error } };

@@ -1,6 +1,6 @@
 // A region's settings, stored with it: analysis settings (passed through to the core unread),
 // budget gap handling, lateness of out-of-order frames, alert rule overrides, the webhook, the
-// watched folder switch and the component mapping (kept for the page, passed through).
+// watched folder switch and the component mapping (how FITS files are read, passed through).
 import type { BudgetSettings } from '../core/budget.js';
 import { InputError } from '../core/inputError.js';
 import type { RuleOverrides } from '../core/alerts/ruleCatalogue.js';
@@ -15,6 +15,10 @@ export interface RegionSettings {
   readonly webhookUrl: string | null;
   /** Watch the region's inbox folder (<data>/inbox/<region>/). */
   readonly watchFolder: boolean;
+  /**
+   * How the region's FITS files map to components: the FrameAssemblySettings of
+   * core/frameAssembly (unit defaults, sign/mirror transforms, time keyword; docs/fits.md).
+   */
   readonly components: Record<string, unknown>;
 }
 

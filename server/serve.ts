@@ -4,6 +4,7 @@ import { createServer } from 'node:http';
 import type { AddressInfo } from 'node:net';
 import { mkdirSync } from 'node:fs';
 import { availableParallelism } from 'node:os';
+import { monitorEventLoopDelay } from 'node:perf_hooks';
 import { existsSync } from 'node:fs';
 import { fileURLToPath } from 'node:url';
 import { resolve } from 'node:path';
@@ -48,6 +49,25 @@ export interface RunningMonitor {
 /** Default body limit: a 2048^2 JSON frame with bn, vx, vy is about 120 MB. */
 export const DEFAULT_BODY_LIMIT = 256 * 1024 * 1024;
 
+/** The event loop's delay over a window of 5 to 10 s (perf_hooks histogram, swapped every 5 s). */
+function loopDelayWatch(): { read(): { max: number; p99: number }; stop(): void } {
+  let current = monitorEventLoopDelay({ resolution: 10 });
+  let previous = current;
+  current.enable();
+  const swap = setInterval(() => {
+    previous.disable();
+    previous = current;
+    current = monitorEventLoopDelay({ resolution: 10 });
+    current.enable();
+  }, 5000);
+  swap.unref();
+  const ms = (ns: number) => (Number.isFinite(ns) ? Math.round(ns / 1e4) / 100 : 0);
+  return {
+    read: () => ({ max: ms(Math.max(previous.max, current.max)), p99: ms(Math.max(previous.percentile(99), current.percentile(99))) }),
+    stop: () => { clearInterval(swap); previous.disable(); current.disable(); },
+  };
+}
+
 /** dist/web beside the compiled server (dist/server), or from the sources ../dist/web. */
 function dashboardDir(): string {
   const compiled = existsSync(fileURLToPath(new URL('./serve.js', import.meta.url)));
@@ -68,6 +88,7 @@ export async function serve(options: ServeOptions): Promise<RunningMonitor> {
   let demo: DemoFeed | undefined;
   const replayStatus = (region: string) => (demo && region === DEMO_REGION ? demo.status() : null);
 
+  const loop = loopDelayWatch();
   let pipeline: Pipeline;
   const snapshot = (region: string) => {
     const latest = store.latestTime(region);
@@ -92,7 +113,7 @@ export async function serve(options: ServeOptions): Promise<RunningMonitor> {
   const folders = new FolderWatch(store, pipeline, log);
 
   const app = buildApp({
-    store, pipeline, token, readToken, bodyLimit, startedAt: Date.now(),
+    store, pipeline, token, readToken, bodyLimit, startedAt: Date.now(), loopDelay: () => loop.read(),
     onSettings: (region) => folders.sync(region, store.region(region)?.settings.watchFolder ?? false),
     replay: (region, action) => (demo && region === DEMO_REGION
       ? demo.control(action)
@@ -133,6 +154,7 @@ export async function serve(options: ServeOptions): Promise<RunningMonitor> {
     close() {
       closing ??= (async () => {
         demo?.stop();
+        loop.stop();
         clearInterval(regionPoll);
         await folders.close();
         hub.closeAll();

@@ -8,6 +8,7 @@ import type { AddressInfo } from 'node:net';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import WebSocket from 'ws';
+import { frameToFits } from '../../core/frameAssembly/frameToFits.js';
 import { SERIES_COLUMNS } from '../../core/seriesColumns.js';
 import type { SeriesRow } from '../../core/seriesColumns.js';
 import { labelFlux } from '../support/scenes.js';
@@ -168,6 +169,37 @@ describe('end to end: circling pair posted over HTTP', () => {
     expect(frames.frames[0].source).toBe('inbox/ar2/frame-0001.json');
     await waitIdle(m.url);
     expect((await getJson<{ samples: unknown[] }>(m.url, '/api/regions/ar1/series')).samples).toHaveLength(times.length + 1);
+  });
+});
+
+describe('FITS frames over HTTP and WebSocket (our frame file convention, docs/fits.md)', () => {
+  it('are stored and computed like JSON frames; the rate matches the analytic one within 1%', async () => {
+    const m = await startMonitor();
+    try {
+      const times = irregularTimes(3);
+      const r0 = await postFrame(m.url, 'fitsar', Buffer.from(frameToFits(circlingFrame(times[0]))), { type: 'application/fits' });
+      expect(r0.status).toBe(201);
+      const ws = new WebSocket(`${m.url.replace('http', 'ws')}/ws/ingest?region=fitsar`, { headers: { authorization: `Bearer ${TOKEN}` } });
+      await new Promise((r) => ws.once('open', r));
+      const answers: Record<string, unknown>[] = [];
+      ws.on('message', (d) => answers.push(JSON.parse(d.toString())));
+      ws.send(Buffer.from(frameToFits(circlingFrame(times[1]))), { binary: true });
+      ws.send(Buffer.from(frameToFits(circlingFrame(times[2]))), { binary: true });
+      while (answers.length < 2) await new Promise((r) => setTimeout(r, 10));
+      ws.close();
+      expect(answers.map((a) => a.status)).toEqual(['stored', 'stored']);
+      await waitIdle(m.url);
+      const s = await getJson<{ samples: SeriesRow[] }>(m.url, '/api/regions/fitsar/series');
+      expect(s.samples).toHaveLength(3);
+      const f0 = circlingFrame(T0);
+      const expectedRate = (-1 / Math.PI) * labelFlux(f0, 1) * labelFlux(f0, 2) * OMEGA;
+      for (const row of s.samples) {
+        expect(rel(row.rate_total, expectedRate)).toBeLessThan(0.01);
+        expect(row.split_method).toBe('none'); // FITS frames carry no labels
+      }
+    } finally {
+      await m.stop();
+    }
   });
 });
 

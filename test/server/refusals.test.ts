@@ -62,7 +62,7 @@ describe('refusals and their answers', () => {
       name: 'another frame at a stored time with different content', status: 409, field: 'time',
       send: () => { const f = circlingFrame(times[2]); return postFrame(m.url, 'inorder', frameBody({ ...f, bn: f.bn.map((v) => v * 1.01) })); },
     },
-    { name: 'FITS (no FITS frame reader in core yet)', status: 415, field: '(content-type)', send: () => postFrame(m.url, 'inorder', Buffer.alloc(2880, 32), { type: 'application/fits' }) },
+    { name: 'FITS bytes that are not a FITS file', status: 422, field: /./, send: () => postFrame(m.url, 'inorder', Buffer.alloc(2880, 32), { type: 'application/fits' }) },
     { name: 'unknown content type', status: 415, field: 'content-type', send: () => postFrame(m.url, 'inorder', 'hello', { type: 'text/plain' }) },
     { name: 'a region name that is a path', status: 400, field: 'region', send: () => postFrame(m.url, '..%2F..%2Fetc', frameBody(circlingFrame(times[0]))) },
   ];
