@@ -40,7 +40,7 @@ export async function processCli(args: ParsedArgs, _out: NodeJS.WritableStream, 
   return r.used > 0 ? 0 : 1;
 }
 
-export async function synthCli(args: ParsedArgs, out: NodeJS.WritableStream): Promise<number> {
+export async function synthCli(args: ParsedArgs, out: NodeJS.WritableStream, _err?: NodeJS.WritableStream): Promise<number> {
   const folder = stringFlag(args, 'out');
   if (folder === undefined) throw new Error('--out FOLDER is needed');
   const format = stringFlag(args, 'format', 'fits');
