@@ -86,3 +86,16 @@ describe('vector-magnetogram affine estimator (dave4vm)', () => {
     expect(count).toBeGreaterThan(500);
   });
 });
+
+describe('midFrame', () => {
+  it('averages the maps and the times, and keeps bx, by only when both frames have them', async () => {
+    const { midFrame } = await import('../../core/velocity/midFrame.js');
+    const { a, b } = vectorPair(0.3 / dt, 0, 0);
+    const m = midFrame(a, b);
+    expect(m.time).toBe((a.time + b.time) / 2);
+    expect(m.bn[100]).toBeCloseTo(0.5 * (a.bn[100] + b.bn[100]), 12);
+    expect(m.bx![100]).toBeCloseTo(0.5 * (a.bx![100] + b.bx![100]), 12);
+    expect(midFrame(a, { ...b, bx: undefined, by: undefined }).bx).toBeUndefined();
+    expect(m.provenance?.source).toBe('vector-a + vector-b');
+  });
+});
