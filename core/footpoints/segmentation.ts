@@ -1,12 +1,14 @@
 // Segmentation of a bn map into footpoints of both polarities: noise level (given, or estimated
 // from the map), optional smoothing, a threshold in units of the noise, downhill-gradient
-// tessellation with saddle merging, minimum area and flux. Every pixel gets a label, 0 = background;
+// tessellation with saddle merging (or plain connected patches), minimum area and flux.
+// Every pixel gets a label, 0 = background;
 // NaN pixels are always background.
 
 import type { Grid } from '../grid.js';
 import { pixelFluxMx } from '../units.js';
 import { estimateNoiseLevel } from './noiseLevel.js';
 import { smoothMap } from './smoothing.js';
+import { connectedComponents } from './connectedComponents.js';
 import { downhillTessellation } from './tessellation.js';
 
 export interface SegmentationSettings {
@@ -22,6 +24,11 @@ export interface SegmentationSettings {
   readonly minPixels?: number;
   /** Smallest |flux| of a footpoint, Mx (default 0: no flux limit). */
   readonly minFlux?: number;
+  /**
+   * Split touching concentrations by the downhill tessellation (default true). false: every
+   * 8-connected patch of one polarity above threshold is one footpoint.
+   */
+  readonly split?: boolean;
 }
 
 export const SEGMENTATION_DEFAULTS = {
@@ -30,6 +37,7 @@ export const SEGMENTATION_DEFAULTS = {
   saddleDepth: 3,
   minPixels: 4,
   minFlux: 0,
+  split: true,
 } as const;
 
 /** When the map has no measurable noise (exact zeros, e.g. a synthetic map), use this share of max |bn|. */
@@ -84,6 +92,10 @@ export function segmentFootpoints(bn: ArrayLike<number>, grid: Grid, settings: S
     if (a > thresholdG && a > 0) classes[i] = f > 0 ? 1 : -1;
   }
   const fluxPerUnit = pixelFluxMx(1, dx, dy);
+  if (!s.split) {
+    const { labels, count } = patchesAboveThreshold(classes, bn, nx, ny, s.minPixels, s.minFlux / fluxPerUnit);
+    return { labels, count, noise, noiseSource, thresholdG, field, maskedFraction: missing / n };
+  }
   const { labels, count } = downhillTessellation(strength, classes, nx, ny, {
     dx, dy,
     saddleDepth: s.saddleDepth * noise,
@@ -92,6 +104,24 @@ export function segmentFootpoints(bn: ArrayLike<number>, grid: Grid, settings: S
     fluxMap: bn,
   });
   return { labels, count, noise, noiseSource, thresholdG, field, maskedFraction: missing / n };
+}
+
+/** Connected patches of one polarity, small ones dropped, renumbered 1..count in raster order. */
+function patchesAboveThreshold(classes: Int8Array, bn: ArrayLike<number>, nx: number, ny: number, minPixels: number, minFieldSum: number) {
+  const c = connectedComponents(classes, nx, ny, 8);
+  const pixels = new Float64Array(c.count + 1), sum = new Float64Array(c.count + 1);
+  for (let i = 0; i < c.labels.length; i++) {
+    const l = c.labels[i];
+    if (l === 0) continue;
+    pixels[l]++;
+    if (Number.isFinite(bn[i])) sum[l] += Math.abs(bn[i]);
+  }
+  const renumber = new Int32Array(c.count + 1);
+  let count = 0;
+  for (let l = 1; l <= c.count; l++) if (pixels[l] >= minPixels && sum[l] >= minFieldSum) renumber[l] = ++count;
+  const labels = new Int32Array(c.labels.length);
+  for (let i = 0; i < labels.length; i++) labels[i] = renumber[c.labels[i]];
+  return { labels, count };
 }
 
 function stripUndefined<T extends object>(o: T): Partial<T> {

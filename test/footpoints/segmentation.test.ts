@@ -86,6 +86,15 @@ describe('segmentation', () => {
     expect(props[1].fluxWeighted.x).toBeCloseTo(21, 0);
   });
 
+  it('split: false keeps the touching pair as one connected patch', () => {
+    const spots = [at(15, 16, 1.5, 1000), at(21, 16, 1.5, 800)];
+    const bn = sceneField(g, spots, 4, 1);
+    const seg = segmentFootpoints(bn, g, { noise: 4, split: false });
+    expect(seg.count).toBe(1);
+    const props = regionProperties(seg.labels, bn, g);
+    expect(Math.abs(props[0].flux / (spotFlux(spots[0]) + spotFlux(spots[1])) - 1)).toBeLessThan(0.01);
+  });
+
   it('keeps one footpoint when two spots are closer than two widths (no saddle)', () => {
     const seg = segmentFootpoints(sceneField(g, [at(15, 16, 1.5, 1000), at(17.5, 16, 1.5, 800)], 4, 2), g, { noise: 4 });
     expect(seg.count).toBe(1);
