@@ -1,8 +1,7 @@
 // Segmentation of a bn map into footpoints of both polarities: noise level (given, or estimated
 // from the map), optional smoothing, a threshold in units of the noise, downhill-gradient
 // tessellation with saddle merging (or plain connected patches), minimum area and flux.
-// Every pixel gets a label, 0 = background;
-// NaN pixels are always background.
+// Every pixel gets a label, 0 = background; NaN pixels are always background.
 
 import type { Grid } from '../grid.js';
 import { pixelFluxMx } from '../units.js';
