@@ -12,10 +12,15 @@ Commands:
   serve [--data DIR] [--port N] [--host H] [--demo]
         Start the monitor (HTTP + WebSocket, 127.0.0.1:8750 by default). --demo adds the built-in
         synthetic demo region, streaming live. Data are kept in DIR (default ./data).
-  rate FRAME [FRAME2] [--labels from-file|none|FILE.json] [--footpoints] [--noise G]
-        Helicity injection rate of one frame that carries its velocity, printed as JSON
-        (Mx^2/s): total, total_ga, spin, orbit, background, emergence and shear with vector data.
-        FRAME is a JSON frame (see README).
+  rate FRAME [FRAME2] [--labels detect|from-file|none|FILE.json] [--footpoints]
+       [--method auto|dave|dave4vm|lct] [--window SIGMA_PX] [--noise G]
+        Helicity injection rate printed as JSON (Mx^2/s): total, total_ga, spin, orbit,
+        background, and emergence, shear with vector data. One frame must carry its velocity;
+        with two consecutive frames that carry none, the velocity is inferred between them
+        (--method, default auto: dave4vm with bx, by, else dave) and the rate is at the mid-time.
+        Footpoints are detected and tracked unless the frame has labels (--labels from-file) or
+        --labels none; --footpoints adds the footpoint table, events and pair matrices.
+        FRAME is a JSON or FITS frame (see README).
   help  This text.
 
 These are research indicators, not forecasts: for operational decisions use the official

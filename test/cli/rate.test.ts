@@ -59,3 +59,43 @@ describe('helicord rate', () => {
     expect(err.text()).toMatch(/--help/);
   });
 });
+
+describe('helicord rate with detection and inference', () => {
+  const dir = mkdtempSync(join(tmpdir(), 'helicord-rate2-'));
+  const Omega = 2 * Math.PI / (6 * 3600), cx = 24, cy = 24, R = 6;
+  const frameAt = (step: number) => {
+    const a = Omega * step * 120;
+    const spot = (phase: number, peak: number) => ({ x: cx + R * Math.cos(a + phase), y: cy + R * Math.sin(a + phase), peak, sigma: 1.2 });
+    const f = spotFrame(96, 96, 0.5, [spot(0, 1200), spot(Math.PI, -1000)], Date.parse('2026-05-02T10:00:00Z') + step * 120_000);
+    return { time: f.time, nx: f.nx, ny: f.ny, dx: f.dx, dy: f.dy, bn: f.bn };
+  };
+  const a = join(dir, 'a.json'), b = join(dir, 'b.json');
+  writeFileSync(a, JSON.stringify(frameToJson(frameAt(0))));
+  writeFileSync(b, JSON.stringify(frameToJson(frameAt(1))));
+
+  it('two frames without velocity: inferred velocity at the mid-time, footpoints detected, the caveat stated', async () => {
+    const out = capture();
+    expect(await main(['rate', a, b, '--footpoints'], out.stream, capture().stream)).toBe(0);
+    const r = JSON.parse(out.text());
+    expect(r.velocity_method).toBe('dave');
+    expect(r.time).toBe('2026-05-02T10:01:00.000Z');
+    expect(r.dt_s).toBe(120);
+    expect(r.footpoint_count).toBe(2);
+    expect(r.footpoints.footpoints).toHaveLength(2);
+    expect(r.footpoints.pairMatrix.ids).toHaveLength(2);
+    expect(r.velocity_notes.join(' ')).toMatch(/axisymmetric/);
+    expect(Math.abs(r.spin + r.orbit + r.background - r.total)).toBeLessThan(1e-9 * Math.abs(r.total));
+  });
+
+  it('one frame without velocity says it needs the next frame', async () => {
+    const err = capture();
+    expect(await main(['rate', a], capture().stream, err.stream)).toBe(1);
+    expect(err.text()).toMatch(/a\.json: vx\/vy: .*next frame/);
+  });
+
+  it('an unknown method is refused', async () => {
+    const err = capture();
+    expect(await main(['rate', a, b, '--method', 'guess'], capture().stream, err.stream)).toBe(1);
+    expect(err.text()).toMatch(/--method must be/);
+  });
+});
