@@ -321,15 +321,13 @@ function interpolateLattice(node: Float64Array, xs: number[], ys: number[], nx: 
       const x0 = xs[jx], x1 = xs[Math.min(jx + 1, lx - 1)];
       const tx = x1 === x0 ? 0 : (x - x0) / (x1 - x0);
       const jx1 = Math.min(jx + 1, lx - 1), jy1 = Math.min(jy + 1, ys.length - 1);
-      const corners = [
-        [node[jy * lx + jx], (1 - tx) * (1 - ty)], [node[jy * lx + jx1], tx * (1 - ty)],
-        [node[jy1 * lx + jx], (1 - tx) * ty], [node[jy1 * lx + jx1], tx * ty],
-      ] as const;
+      // A NaN corner with a weight makes the pixel NaN; one with zero weight does not count.
       let s = 0;
-      for (const [v, wgt] of corners) {
-        if (wgt === 0) continue;
-        s += wgt * v; // a NaN corner with weight makes the pixel NaN
-      }
+      const w00 = (1 - tx) * (1 - ty), w10 = tx * (1 - ty), w01 = (1 - tx) * ty, w11 = tx * ty;
+      if (w00 !== 0) s += w00 * node[jy * lx + jx];
+      if (w10 !== 0) s += w10 * node[jy * lx + jx1];
+      if (w01 !== 0) s += w01 * node[jy1 * lx + jx];
+      if (w11 !== 0) s += w11 * node[jy1 * lx + jx1];
       out[y * nx + x] = s;
     }
   }

@@ -54,7 +54,9 @@ export function roundFeatures(
     }
     const cx = sx / sw, cy = sy / sw;
     const radius = (k: number) => { const x = k % nx; return Math.hypot(x - cx, (k - x) / nx - cy); };
-    const bins = Math.ceil(Math.max(...members.map(radius))) + 1;
+    let reach = 0;
+    for (const k of members) reach = Math.max(reach, radius(k));
+    const bins = Math.ceil(reach) + 1;
     const binSum = new Float64Array(bins), binCount = new Float64Array(bins);
     for (const k of members) { const r = Math.round(radius(k)); binSum[r] += Math.abs(bn[k]); binCount[r]++; }
     let dev = 0;
