@@ -1,13 +1,13 @@
 // `helicord synth --out FOLDER`: writes the demo region as frame files, one per frame, and its
 // true series beside them (truth.csv, in the batch CSV's columns). FITS frames by default (the
-// README's frame convention, see fitsFrames.ts), JSON frames on request; the file names sort in
-// time order.
+// README's frame convention, core/frameAssembly/frameToFits.ts), JSON frames on request; the
+// file names sort in time order.
 
 import { mkdir, writeFile } from 'node:fs/promises';
 import { join } from 'node:path';
 import type { Frame } from '../core/frame.js';
 import { frameToJson } from '../core/frameJson.js';
-import { frameToFits } from './fitsFrames.js';
+import { frameToFits } from '../core/frameAssembly/frameToFits.js';
 import { InputError } from '../core/inputError.js';
 import { seriesCsv, seriesRow } from '../core/seriesColumns.js';
 import type { DemoOptions } from './demo/demoRegion.js';
@@ -61,10 +61,13 @@ export async function synth(args: SynthArgs): Promise<void> {
     const frame = region.frameAt(i);
     const name = join(args.out, demoFrameName(i, region.frameCount, format));
     if (format === 'fits') {
-      await writeFile(name, frameToFits(frame, [
-        { key: 'ORIGIN', value: 'helicord demo region', comment: 'synthetic: an invented active region' },
-        { key: 'FRAMENO', value: i }, { key: 'SEED', value: region.seed }, { key: 'NOISE_G', value: region.noiseG, float: true },
-      ]));
+      await writeFile(name, frameToFits(frame, {
+        creator: 'helicord synth',
+        keywords: [
+          { key: 'ORIGIN', value: 'helicord demo region', comment: 'synthetic: an invented active region' },
+          { key: 'FRAMENO', value: i }, { key: 'SEED', value: region.seed }, { key: 'NOISE_G', value: region.noiseG, float: true },
+        ],
+      }));
     } else {
       await writeFile(name, JSON.stringify(frameToJson(frameForFile(frame))));
     }

@@ -15,7 +15,7 @@ beforeAll(async () => { dir = await mkdtemp(join(tmpdir(), 'helicord-synth-')); 
 afterAll(async () => { await rm(dir, { recursive: true, force: true }); });
 
 describe('synth', () => {
-  it('writes one FITS frame per time that reads back as the demo frame (float32), and truth.csv', async () => {
+  it('writes one FITS frame per time that reads back as the demo frame (float32, core frameToFits), and truth.csv', async () => {
     const out = join(dir, 'fits');
     await synth({ out, frames: 5, size: 32, withVelocity: true });
     expect((await readdir(out)).sort()).toEqual(['demo_0000.fits', 'demo_0001.fits', 'demo_0002.fits', 'demo_0003.fits', 'demo_0004.fits', 'truth.csv']);
