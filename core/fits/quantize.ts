@@ -130,17 +130,18 @@ export function quantize(values: ArrayLike<number>, q: Omit<QuantizedTile, 'blan
  * Returns 0 when there are too few finite values.
  */
 export function tileNoise(values: ArrayLike<number>, nx: number, ny: number): number {
-  const rows: number[] = [];
-  const d: number[] = [];
+  const rows = new Float64Array(ny);
+  let nr = 0;
+  const d = new Float64Array(Math.max(0, nx));
   for (let y = 0; y < ny; y++) {
-    d.length = 0;
+    let k = 0;
     for (let x = 2; x + 2 < nx; x++) {
       const a = values[y * nx + x - 2], b = values[y * nx + x], c = values[y * nx + x + 2];
-      if (Number.isFinite(a) && Number.isFinite(b) && Number.isFinite(c)) d.push(Math.abs(2 * b - a - c));
+      if (Number.isFinite(a) && Number.isFinite(b) && Number.isFinite(c)) d[k++] = Math.abs(2 * b - a - c);
     }
-    if (d.length >= 8) { d.sort((p, q) => p - q); rows.push(d[d.length >> 1]); }
+    if (k >= 8) { const s = d.subarray(0, k).sort(); rows[nr++] = s[k >> 1]; }
   }
-  if (rows.length === 0) return 0;
-  rows.sort((p, q) => p - q);
-  return rows[rows.length >> 1] / (0.6745 * Math.sqrt(6));
+  if (nr === 0) return 0;
+  const r = rows.subarray(0, nr).sort();
+  return r[nr >> 1] / (0.6745 * Math.sqrt(6));
 }

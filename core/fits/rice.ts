@@ -134,32 +134,32 @@ class BitWriter {
     }
     this.buf[this.len++] = v;
   }
-  /** Writes the low `n` bits of v (n <= 32). */
+  /** Writes the low n bits of v, n <= 24 (the accumulator stays below 2^31). */
+  private small(v: number, n: number): void {
+    this.acc = (this.acc << n) | (v & ((1 << n) - 1));
+    this.accBits += n;
+    while (this.accBits >= 8) {
+      this.accBits -= 8;
+      this.byte((this.acc >>> this.accBits) & 0xff);
+    }
+    this.acc &= (1 << this.accBits) - 1;
+  }
+  /** Writes the low n bits of v (n <= 32). */
   bits(v: number, n: number): void {
-    while (n > 0) {
-      const room = 8 - this.accBits;
-      const take = n < room ? n : room;
-      const part = Math.floor(v / 2 ** (n - take)) & ((1 << take) - 1);
-      this.acc = (this.acc << take) | part;
-      this.accBits += take;
-      n -= take;
-      if (this.accBits === 8) { this.byte(this.acc); this.acc = 0; this.accBits = 0; }
+    if (n > 24) {
+      this.small((v >>> 16) & 0xffff, n - 16);
+      this.small(v & 0xffff, 16);
+    } else {
+      this.small(v, n);
     }
   }
   /** Writes `count` zero bits then a one bit. */
   unary(count: number): void {
-    while (count >= 8 - this.accBits) {
-      count -= 8 - this.accBits;
-      this.byte(this.acc << (8 - this.accBits));
-      this.acc = 0;
-      this.accBits = 0;
-    }
-    this.acc <<= count;
-    this.accBits += count;
-    this.bits(1, 1);
+    while (count > 16) { this.small(0, 16); count -= 16; }
+    this.small(1, count + 1);
   }
   finish(): Uint8Array {
-    if (this.accBits > 0) { this.byte(this.acc << (8 - this.accBits)); this.acc = 0; this.accBits = 0; }
+    if (this.accBits > 0) { this.byte((this.acc << (8 - this.accBits)) & 0xff); this.acc = 0; this.accBits = 0; }
     return this.buf.slice(0, this.len);
   }
 }

@@ -70,3 +70,16 @@ describe('FITS reader against astropy-decoded fixtures', () => {
       .toThrow(/twoext\.fits: EXTNAME 'BX': not found \(the file has HDU 0 \(primary\), HDU 1 \(BN\), HDU 2 \(VX\)\)/);
   });
 });
+
+describe('reading into a caller-owned buffer', () => {
+  it('fills `into` when it has the pixel count, and allocates otherwise', () => {
+    const bytes = load('bitpix-64.fits');
+    const into = new Float64Array(48).fill(7);
+    const a = readFitsImage(bytes, 'b.fits', {}, { into });
+    expect(a.values).toBe(into);
+    const exp = expected['bitpix-64.fits'].values;
+    expect(Array.from(into, (v) => (Number.isNaN(v) ? null : v))).toEqual(exp);
+    const b = readFitsImage(bytes, 'b.fits', {}, { into: new Float64Array(3) });
+    expect(b.values.length).toBe(48);
+  });
+});
