@@ -172,16 +172,25 @@ export function buildApp(ctx: ApiContext): express.Express {
     return f;
   };
 
+  // Footpoints as the analysis stored them (a table per frame), with tracks: the centroids of each
+  // footpoint id over the last 20 frames up to this one.
+  const tableOf = (stored: unknown): { id?: unknown; x?: unknown; y?: unknown }[] => {
+    if (Array.isArray(stored)) return stored as { id?: unknown; x?: unknown; y?: unknown }[];
+    const inner = (stored as { footpoints?: unknown } | null)?.footpoints;
+    return Array.isArray(inner) ? (inner as { id?: unknown; x?: unknown; y?: unknown }[]) : [];
+  };
   app.get('/api/regions/:region/frames/:id/footpoints', (req, res) => {
     const f = frameOf(req, res);
     if (!f) return;
     const { footpoints } = store.footpoints(f.id);
-    const fp = footpoints as { footpoints?: unknown; tracks?: unknown } | unknown[] | null;
-    res.json({
-      frame_id: f.id, time: iso(f.time),
-      footpoints: Array.isArray(fp) ? fp : (fp && (fp as { footpoints?: unknown }).footpoints) ?? [],
-      tracks: (!Array.isArray(fp) && fp && (fp as { tracks?: unknown }).tracks) ?? {},
-    });
+    const tracks: Record<string, [number, number][]> = {};
+    for (const table of store.recentFootpoints(f.region, f.time, 20).map(tableOf)) {
+      for (const fp of table) {
+        if (typeof fp.x !== 'number' || typeof fp.y !== 'number' || fp.id === undefined) continue;
+        (tracks[String(fp.id)] ??= []).push([fp.x, fp.y]);
+      }
+    }
+    res.json({ frame_id: f.id, time: iso(f.time), footpoints: tableOf(footpoints), tracks });
   });
 
   const LAYERS: Record<string, { unit: string; from: 'frame' | 'maps'; name: string; int?: boolean }> = {

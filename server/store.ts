@@ -253,6 +253,12 @@ export class Store {
     tx();
   }
 
+  /** Stored footpoint tables of the region's processed frames up to `time`, oldest first. */
+  recentFootpoints(region: string, time: number, count: number): unknown[] {
+    const rows = this.db.prepare('SELECT footpoints FROM frames WHERE region = ? AND time <= ? AND footpoints IS NOT NULL ORDER BY time DESC LIMIT ?').all(region, time, count) as { footpoints: string }[];
+    return rows.reverse().map((r) => fromSafeJson(r.footpoints));
+  }
+
   footpoints(id: number): { footpoints: unknown; events: unknown } {
     const r = this.db.prepare('SELECT footpoints, events FROM frames WHERE id = ?').get(id) as { footpoints: string | null; events: string | null } | undefined;
     return { footpoints: r?.footpoints ? fromSafeJson(r.footpoints) : null, events: r?.events ? fromSafeJson(r.events) : null };
