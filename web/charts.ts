@@ -248,9 +248,8 @@ export function createSeriesChart(canvas: HTMLCanvasElement, kind: ChartKind): L
   return chart;
 }
 
-/** Replaces the chart's data from the series, decimated to `buckets` (about its width in px). */
-export function setSeriesData(chart: LineChart, kind: ChartKind, series: readonly SeriesPoint[], gaps: readonly GapSpan[], buckets: number, xRange?: [number, number]): void {
-  inputs.set(chart, [chart, kind, series, gaps, buckets, xRange]);
+/** The six datasets of a chart (band upper, band lower, total, spin, orbit, background), decimated. */
+export function buildSeriesData(kind: ChartKind, series: readonly SeriesPoint[], gaps: readonly GapSpan[], buckets: number, withBackground: boolean): XY[][] {
   const f = FIELDS[kind];
   const n = series.length;
   const times = new Float64Array(n);
@@ -267,20 +266,35 @@ export function setSeriesData(chart: LineChart, kind: ChartKind, series: readonl
   const totals = pick(f.total);
   const line = (values: (number | null)[]): XY[] => decimateMinMax(lineFromBreaks(times, values, flags), buckets);
   const band = bandFromBreaks(times, totals, pick(f.sigma), flags, buckets);
+  return [
+    band.map((p) => ({ x: p.x, y: p.hi })),
+    band.map((p) => ({ x: p.x, y: p.lo })),
+    line(totals),
+    line(pick(f.spin)),
+    line(pick(f.orbit)),
+    // A hidden line is not decimated at all; the legend toggle rebuilds the data.
+    withBackground ? line(pick(f.background)) : [],
+  ];
+}
+
+/** Puts built datasets and the time range into the chart and redraws it. */
+export function applySeriesData(chart: LineChart, data: XY[][], xRange: [number, number] | undefined): void {
   const ds = chart.data.datasets;
-  ds[0].data = band.map((p) => ({ x: p.x, y: p.hi }));
-  ds[1].data = band.map((p) => ({ x: p.x, y: p.lo }));
-  ds[2].data = line(totals);
-  ds[3].data = line(pick(f.spin));
-  ds[4].data = line(pick(f.orbit));
-  // A hidden line costs nothing to draw but its decimation is skipped too.
-  ds[5].data = chart.isDatasetVisible(5) ? line(pick(f.background)) : [];
+  for (let i = 0; i < ds.length; i++) ds[i].data = data[i] ?? [];
   const x = chart.options.scales?.x;
   if (x) {
-    x.min = xRange ? xRange[0] : n > 0 ? series[0].t : undefined;
-    x.max = xRange ? xRange[1] : n > 0 ? series[n - 1].t : undefined;
+    x.min = xRange?.[0];
+    x.max = xRange?.[1];
   }
   chart.update('none');
+}
+
+/** Replaces the chart's data from the series, decimated to `buckets` (about its width in px). */
+export function setSeriesData(chart: LineChart, kind: ChartKind, series: readonly SeriesPoint[], gaps: readonly GapSpan[], buckets: number, xRange?: [number, number]): void {
+  inputs.set(chart, [chart, kind, series, gaps, buckets, xRange]);
+  const n = series.length;
+  const range = xRange ?? (n > 0 ? ([series[0].t, series[n - 1].t] as [number, number]) : undefined);
+  applySeriesData(chart, buildSeriesData(kind, series, gaps, buckets, chart.isDatasetVisible(5)), range);
 }
 
 /** Time (ms) under a canvas x position inside the plot area; undefined outside it. */

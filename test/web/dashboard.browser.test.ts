@@ -233,10 +233,11 @@ describe.skipIf(!chromiumPath && !inCi)('dashboard in Chromium against the test 
   });
 
   it('measures a 20,000-sample chart redraw and a 1024² map draw inside the page (reported)', async () => {
-    const chart = (await page.evaluate('window.helicordProbe.measureChartRedraw(20000)')) as { fullUpdateMs: number; redrawMs: number; pointsDrawn: number; runs: number[] };
+    const chart = (await page.evaluate('window.helicordProbe.measureChartRedraw(20000)')) as { fullUpdateMs: number; prepareMs: number; chartUpdateMs: number; redrawMs: number; pointsDrawn: number; runs: number[] };
     const map = (await page.evaluate('window.helicordProbe.measureMapDraw(1024)')) as { decodeMs: number; newFrameMs: number; redrawMs: number; runs: number[] };
     const lines = [
       `chart, 20,000 samples: update after a new sample ${chart.fullUpdateMs.toFixed(1)} ms (median of 10; merge + decimate + chart.js update), ` +
+        `of which data preparation ${chart.prepareMs.toFixed(1)} ms and chart.js update ${chart.chartUpdateMs.toFixed(1)} ms; ` +
         `redraw ${chart.redrawMs.toFixed(1)} ms, ${chart.pointsDrawn} points drawn over 6 datasets`,
       `map 1024x1024: base64 decode ${map.decodeMs.toFixed(1)} ms, new frame (raster + draw) ${map.newFrameMs.toFixed(1)} ms (median of 5), ` +
         `highlight redraw ${map.redrawMs.toFixed(1)} ms`,
