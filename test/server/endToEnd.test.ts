@@ -172,6 +172,40 @@ describe('end to end: circling pair posted over HTTP', () => {
   });
 });
 
+describe('gaps in the stream', () => {
+  it('are marked in the series, not integrated across unless bridging is set, and raise the data-gap rule', async () => {
+    const m = await startMonitor();
+    try {
+      const t = [0, 60, 120, 180, 240, 300, 1300, 1360, 1420, 2500].map((s) => T0 + s * 1000);
+      for (const x of t.slice(0, 8)) expect((await postFrame(m.url, 'gappy', frameBody(circlingFrame(x)))).status).toBe(201);
+      await waitIdle(m.url);
+      // From here on gaps are bridged (an explicit, recorded setting).
+      const put = await fetch(`${m.url}/api/regions/gappy/settings`, { method: 'PUT', headers: { authorization: `Bearer ${TOKEN}`, 'content-type': 'application/json' }, body: JSON.stringify({ budget: { bridgeGaps: true } }) });
+      expect(put.status).toBe(200);
+      for (const x of t.slice(8)) expect((await postFrame(m.url, 'gappy', frameBody(circlingFrame(x)))).status).toBe(201);
+      await waitIdle(m.url);
+      const s = await getJson<{ samples: SeriesRow[]; gaps: { from: string; to: string; bridged: boolean }[] }>(m.url, '/api/regions/gappy/series');
+      expect(s.gaps).toEqual([
+        { from: new Date(t[5]).toISOString(), to: new Date(t[6]).toISOString(), bridged: false },
+        { from: new Date(t[8]).toISOString(), to: new Date(t[9]).toISOString(), bridged: true },
+      ]);
+      const r = s.samples.map((x) => x.rate_total);
+      const trap = (i: number) => 0.5 * (r[i] + r[i - 1]) * (t[i] - t[i - 1]) / 1000;
+      // Not bridged: the budget holds over the first gap.
+      expect(s.samples[6].budget_total).toBe(s.samples[5].budget_total);
+      // Bridged: the second gap is integrated.
+      expect(rel(s.samples[9].budget_total - s.samples[8].budget_total, trap(9))).toBeLessThan(1e-12);
+      const { alerts } = await getJson<{ alerts: { id: string; history: { to: string; evidence: { value: number } }[] }[] }>(m.url, '/api/regions/gappy/alerts');
+      const gap = alerts.find((a) => a.id === 'data-gap')!;
+      expect(gap.history[0].to).toBe('rising');
+      expect(gap.history[1].to).toBe('raised');
+      expect(gap.history[1].evidence.value).toBe(1000);
+    } finally {
+      await m.stop();
+    }
+  });
+});
+
 describe('FITS frames over HTTP and WebSocket (our frame file convention, docs/fits.md)', () => {
   it('are stored and computed like JSON frames; the rate matches the analytic one within 1%', async () => {
     const m = await startMonitor();
