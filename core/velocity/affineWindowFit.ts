@@ -44,11 +44,13 @@ export interface AffineFitResult {
  * window is ill-conditioned when a wanted parameter p has 1 / [M^-1]_pp < `minPivot` (its column
  * is almost a combination of the others). `ridge[p]` (relative to the unit diagonal) is a penalty on
  * parameter p: it makes the fit prefer small values of it where the data leave it undetermined.
+ * With `solveAt`, only centres where it is non-zero are solved (the others stay NaN).
  */
 export function affineWindowFit(
   channels: readonly ArrayLike<number>[], nx: number, ny: number,
   columns: readonly ModelColumn[], target: ModelColumn,
   sigma: number, minPivot: number, wanted: readonly number[], ridge: readonly number[] = columns.map(() => 0),
+  solveAt?: Uint8Array,
 ): AffineFitResult {
   const n = columns.length;
   const size = nx * ny;
@@ -128,7 +130,7 @@ export function affineWindowFit(
   const nUpper = upperMaps.length;
   const rhsMaps = Array.from({ length: n }, (_, q) => sums[entryIndex(q, n)]);
   for (let i = 0; i < size; i++) {
-    if (!valid[i]) continue;
+    if (!valid[i] || (solveAt !== undefined && solveAt[i] === 0)) continue;
     let ok = true;
     for (let p = 0; p < n; p++) {
       const d = diag[p][i];

@@ -14,6 +14,8 @@ import { KM_PER_MM } from '../units.js';
 export interface AffineOptions {
   readonly sigma: number;
   readonly minPivot: number;
+  /** Solve only at these centres (1), e.g. where the field is above the threshold; others get NaN. */
+  readonly solveAt?: Uint8Array;
 }
 
 export interface AffineVelocity {
@@ -60,7 +62,7 @@ export function differentialAffineVelocity(
 ): AffineVelocity {
   const { mid, rate } = midAndRate(a, b, dtS);
   const gx = derivativeX(mid, nx, ny), gy = derivativeY(mid, nx, ny);
-  const fit = affineWindowFit([gx, gy, mid, rate], nx, ny, DAVE_COLUMNS, DAVE_TARGET, options.sigma, options.minPivot, [4, 5], DAVE_RIDGE);
+  const fit = affineWindowFit([gx, gy, mid, rate], nx, ny, DAVE_COLUMNS, DAVE_TARGET, options.sigma, options.minPivot, [4, 5], DAVE_RIDGE, options.solveAt);
   const [u, v] = fit.params;
   for (let i = 0; i < u.length; i++) {
     u[i] *= dx * KM_PER_MM; // pixels/s -> km/s

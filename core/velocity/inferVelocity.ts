@@ -94,6 +94,15 @@ export function inferVelocity(a: Frame, b: Frame, settings: Partial<VelocitySett
   }
 
   const { mid } = midAndRate(a.bn, b.bn, dtS);
+  // Field strength at each pixel: |Bn| at mid-time, |B| for dave4vm. Weak pixels get no velocity.
+  const strength = new Float64Array(n);
+  for (let i = 0; i < n; i++) {
+    strength[i] = method === 'dave4vm'
+      ? Math.hypot(mid[i], 0.5 * (a.bx![i] + b.bx![i]), 0.5 * (a.by![i] + b.by![i]))
+      : Math.abs(mid[i]);
+  }
+  const strong = new Uint8Array(n);
+  for (let i = 0; i < n; i++) strong[i] = strength[i] >= thresholdG ? 1 : 0;
   let vx: Float64Array, vy: Float64Array, vz: Float64Array | undefined;
   if (method === 'lct') {
     const r = localCorrelationTracking(a.bn, b.bn, nx, ny, {
@@ -102,14 +111,14 @@ export function inferVelocity(a: Frame, b: Frame, settings: Partial<VelocitySett
     const kx = (dx * KM_PER_MM) / dtS, ky = (dy * KM_PER_MM) / dtS;
     vx = r.sx.map((v) => v * kx);
     vy = r.sy.map((v) => v * ky);
-    notes.push(`Local correlation tracking: ${r.windowsValid} of ${r.windows} windows (every ${s.stride} pixels, sigma ${s.sigma} px) gave a shift; shifts above ${r.searchRadius} px per pass are not found.`);
+    notes.push(`Local correlation tracking: ${r.windowsValid} of ${r.windows} windows (every ${s.stride} pixels, sigma ${s.sigma} px) gave a shift; shifts above ${r.searchRadius} px are not found.`);
   } else if (method === 'dave') {
-    const r = differentialAffineVelocity(a.bn, b.bn, nx, ny, dx, dy, dtS, { sigma: s.sigma, minPivot: s.minPivot });
+    const r = differentialAffineVelocity(a.bn, b.bn, nx, ny, dx, dy, dtS, { sigma: s.sigma, minPivot: s.minPivot, solveAt: strong });
     vx = r.vx; vy = r.vy;
     notes.push(`Differential affine velocity estimator, sigma ${s.sigma} px: ${r.illConditioned} windows ill-conditioned.`);
   } else {
     const r = vectorAffineVelocity({ bn: [a.bn, b.bn], bx: [a.bx!, b.bx!], by: [a.by!, b.by!] }, nx, ny, dx, dy, dtS,
-      { sigma: s.sigma, minPivot: s.minPivot });
+      { sigma: s.sigma, minPivot: s.minPivot, solveAt: strong });
     vx = r.vx; vy = r.vy; vz = r.vz;
     notes.push(`Vector-magnetogram affine estimator, sigma ${s.sigma} px: ${r.illConditioned} windows ill-conditioned; vx, vy are the plasma velocity and vz the normal velocity.`);
   }
@@ -118,12 +127,7 @@ export function inferVelocity(a: Frame, b: Frame, settings: Partial<VelocitySett
   // Weak-field pixels and pixels without data in either frame get no velocity.
   let valid = 0;
   for (let i = 0; i < n; i++) {
-    let strength = Math.abs(mid[i]);
-    if (method === 'dave4vm') {
-      const hx = 0.5 * (a.bx![i] + b.bx![i]), hy = 0.5 * (a.by![i] + b.by![i]);
-      strength = Math.hypot(mid[i], hx, hy);
-    }
-    const ok = Number.isFinite(strength) && (method === 'lct' || strength >= thresholdG)
+    const ok = Number.isFinite(strength[i]) && (method === 'lct' || strong[i] === 1)
       && Number.isFinite(vx[i]) && Number.isFinite(vy[i]) && (vz === undefined || Number.isFinite(vz[i]));
     if (ok) valid++;
     else { vx[i] = NaN; vy[i] = NaN; if (vz) vz[i] = NaN; }

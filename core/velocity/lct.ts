@@ -36,7 +36,7 @@ export interface LctResult {
   /** Window centres tried and those that gave a shift. */
   readonly windows: number;
   readonly windowsValid: number;
-  /** Largest shift (pixels) the search can return in one pass. */
+  /** Largest shift (pixels) the first, wide-window search can find. */
   readonly searchRadius: number;
 }
 
@@ -304,7 +304,7 @@ export function localCorrelationTracking(
   const out = { sx: new Float64Array(nx * ny), sy: new Float64Array(nx * ny) };
   interpolateLattice(nodeX, xs, ys, nx, ny, out.sx);
   interpolateLattice(nodeY, xs, ys, nx, ny, out.sy);
-  return { ...out, windows: lx * ly, windowsValid, searchRadius: work.size / 4 - 2 };
+  return { ...out, windows: lx * ly, windowsValid, searchRadius: coarse.size / 4 - 2 };
 }
 
 /** Bilinear interpolation of lattice values to every pixel; NaN when a corner that counts is NaN. */

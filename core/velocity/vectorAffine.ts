@@ -54,7 +54,7 @@ export function vectorAffineVelocity(
   const dhy = derivativeY(hy, nx, ny);
   for (let i = 0; i < n; i++) div[i] += dhy[i];
   const fit = affineWindowFit([gx, gy, mid, rate, hx, hy, div], nx, ny, VECTOR_COLUMNS, DAVE_TARGET,
-    options.sigma, options.minPivot, [6, 7, 8], [GRADIENT_RIDGE, GRADIENT_RIDGE, ...DAVE_RIDGE, 0]);
+    options.sigma, options.minPivot, [6, 7, 8], [GRADIENT_RIDGE, GRADIENT_RIDGE, ...DAVE_RIDGE, 0], options.solveAt);
   const [u, v, w] = fit.params;
   for (let i = 0; i < n; i++) {
     u[i] *= dx * KM_PER_MM;
