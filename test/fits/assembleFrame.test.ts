@@ -79,6 +79,8 @@ describe('time from DATE-OBS / DATE-AVG with TIMESYS', () => {
         process.env.TZ = tz;
         expect(formatUtc(utc('2011-03-13T07:30:00.250Z'))).toBe('2011-03-13T07:30:00.250');
         expect(formatUtc(utc('2026-06-30T23:59:59Z'), 'yyyy-MM-dd HH:mm')).toBe('2026-06-30 23:59');
+        // 02:30 does not exist on New York's clock that day (daylight-saving gap): still right.
+        expect(formatUtc(utc('2011-03-13T02:30:00Z'))).toBe('2011-03-13T02:30:00.000');
       }
     } finally {
       process.env.TZ = old;
