@@ -1,13 +1,16 @@
 // Local correlation tracking (November & Simon 1988). Around each window centre x0 both frames
 // are apodised by a Gaussian of width sigma, the mean inside the window removed, and the
-// cross-correlation C(s) = Sum a(x) b(x + s) taken by FFT; its peak is the shift of the pattern from frame a to frame b. The peak is refined to a fraction of a
-// pixel by a 2-D quadratic fit (see peakOffset2d).
+// cross-correlation C(s) = Sum a(x) b(x + s) taken by FFT; its peak is the shift of the pattern
+// from frame a to frame b, refined to a fraction of a pixel by a 2-D quadratic fit of the log
+// values (peakOffset2d).
 //
 // A window fixed on the same pixels in both frames pulls the peak toward zero shift (the window
-// itself correlates at zero lag). So the windows are re-centred and the search repeated: frame a is
-// apodised about x0 - s/2 and frame b about x0 + s/2 (s the current estimate, not rounded), which
-// also makes the shift belong to the mid-time. Each pass shrinks the window bias by a constant
-// factor; passes stop when the estimate moves less than 0.002 pixel (at most 5 passes).
+// itself correlates best at zero lag). Three things remove that pull: a first look with windows
+// twice as wide finds the rough shift; then frame a is apodised about x0 - s/2 and frame b about
+// x0 + s/2 (s the current estimate, not rounded, which also puts the shift at mid-time), the
+// correlation is divided by the overlap of the two windows before the peak fit, and it is shifted
+// spectrally by the sub-pixel residual so that the fitted peak sits near lag 0. Passes stop when
+// the estimate moves less than 0.001 pixel (at most MAX_PASSES).
 //
 // Masked (NaN), never guessed: windows with any NaN pixel, windows whose Gaussian-weighted rms
 // field is below the threshold, peaks on the edge of the search range, flat or inverted peaks and
