@@ -116,6 +116,7 @@ function openRegion(name: string): void {
   byId<HTMLAnchorElement>('export-csv').setAttribute('download', `${name}-series.csv`);
   byId<HTMLAnchorElement>('export-json').setAttribute('download', `${name}-series.json`);
   mapLoader.reset();
+  mapView.clear();
   renderAll();
   const generation = state.generation;
   // The full history over HTTP; the socket's snapshot and live samples merge into it.
@@ -394,7 +395,8 @@ class MapLoader {
       this.busy = false;
       const next = this.pending;
       this.pending = undefined;
-      if (next !== undefined && generation === state.generation) this.request(next);
+      // reset() drops what was pending at a region switch, so anything pending now is current.
+      if (next !== undefined) this.request(next);
     }
   }
 }

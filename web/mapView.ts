@@ -73,6 +73,15 @@ export class MapView {
     this.draw();
   }
 
+  /** Back to "no frame yet" (a region switch). */
+  clear(): void {
+    this.scene = undefined;
+    this.fit = undefined;
+    this.highlighted = null;
+    this.report = { footpoints: 0, outlines: 0, glyphs: 0, tracks: 0, highlighted: null, rasterMs: 0, drawMs: 0 };
+    this.draw();
+  }
+
   setOverlay(on: boolean): void {
     this.overlay = on;
     if (this.scene) {

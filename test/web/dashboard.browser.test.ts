@@ -158,6 +158,7 @@ describe.skipIf(!chromiumPath && !inCi)('dashboard in Chromium against the test 
     await until(page, 'the alert acknowledged', (s) => s.alerts.some((a) => a.acknowledged));
     expect(await page.locator('#alerts button.ack').first().innerText()).toBe('acknowledged');
     expect(await page.evaluate('sessionStorage.getItem("helicord.token")')).toBe(FAKE_TOKEN);
+    await page.screenshot({ path: join(shots, 'fake-08-full-page.png'), fullPage: true });
   });
 
   it('highlights the footpoint of a clicked ledger row on the map, and sorts the ledger', async () => {
@@ -230,6 +231,19 @@ describe.skipIf(!chromiumPath && !inCi)('dashboard in Chromium against the test 
     await page.locator('#replay-text').filter({ hasText: 'frame 26 of 40' }).waitFor();
     expect(region.replayActions).toEqual([{ action: 'pause' }, { action: 'speed', value: 0 }, { action: 'seek', value: 25 }]);
     await page.screenshot({ path: join(shots, 'fake-07-replay.png') });
+  });
+
+  it('switches regions from the picker and back', async () => {
+    await page.locator('#region').selectOption('quiet-region');
+    const q = await until(page, 'the empty region', (s) => s.region === 'quiet-region' && s.link === 'live');
+    expect(q.samples).toBe(0);
+    expect(q.mapFrame).toBeNull();
+    expect(await page.locator('#ledger tbody td.empty').count()).toBe(1);
+    expect(await page.locator('#alerts li.empty').count()).toBe(1);
+    expect(await page.locator('#export-csv').getAttribute('href')).toBe('/api/regions/quiet-region/export.csv');
+    expect(page.url()).toMatch(/#region=quiet-region$/);
+    await page.locator('#region').selectOption('demo');
+    await until(page, 'the demo region again', (s) => s.region === 'demo' && s.samples === region.samples.length && s.mapFrame === region.frames.at(-1)!.frame_id);
   });
 
   it('measures a 20,000-sample chart redraw and a 1024² map draw inside the page (reported)', async () => {
