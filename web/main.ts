@@ -16,7 +16,7 @@ import { measureChartRedraw, measureMapDraw } from './pagePerformance.js';
 import { isRegionName, routes } from './routes.js';
 import { backfillSince, isoToMs, mergeGaps, mergeSamples, nearestIndex, type GapSpan, type SeriesPoint } from './seriesMerge.js';
 import { tokenStore } from './tokenStore.js';
-import { formatDuration, formatUtc } from './unitFormat.js';
+import { formatDuration, formatHelicity, formatRate, formatUtc } from './unitFormat.js';
 import { ViewerLink, type LinkState } from './viewerSocket.js';
 import type {
   FeedStatus, FootpointsAnswer, LatestFrame, MapAnswer, RegionInfo, ReplayInfo, ViewerMessage, WireAlert, WireGap, WireSample,
@@ -126,6 +126,7 @@ function openRegion(name: string): void {
       addSamples(answer.samples ?? []);
       state.gaps = mergeGaps(state.gaps, answer.gaps ?? []);
       scheduleCharts();
+      renderFeed();
     })
     .catch(() => {
       /* the snapshot still brings the recent samples */
@@ -169,10 +170,12 @@ function onViewerMessage(m: ViewerMessage): void {
     case 'sample':
       addSamples([m.sample]);
       scheduleCharts();
+      renderFeed();
       break;
     case 'backfill':
       addSamples(m.samples ?? []);
       scheduleCharts();
+      renderFeed();
       break;
     case 'alert':
       state.alerts = mergeAlerts(state.alerts, [m.alert]);
@@ -501,6 +504,8 @@ function renderFeed(): void {
     parts.push(`${st.gaps} gap${st.gaps === 1 ? '' : 's'}`);
     parts.push(`queue ${st.queue}`);
   }
+  const latest = state.series[state.series.length - 1]?.s;
+  if (latest) parts.push(`latest rate ${formatRate(latest.rate_total)}, budget ${formatHelicity(latest.budget_total)}`);
   parts.push(`${state.series.length} samples`);
   feedText.replaceChildren(el('span', { class: link === 'live' ? 'live' : 'down', text: linkText }), ` · ${parts.join(' · ')}`);
   const raised = state.alerts.filter((a) => a.state === 'raised').length;
