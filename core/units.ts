@@ -32,13 +32,17 @@ export function mmToCm(x: number): number {
   return x * CM_PER_MM;
 }
 
-/** Length in Mm from a value with a FITS-style unit string (CUNIT); undefined when unknown. */
+/**
+ * Length in Mm from a value with a FITS unit string (CUNIT); undefined when unknown. Unit strings
+ * are case-sensitive as in the FITS standard: 'Mm' is the megametre, 'mm' the millimetre.
+ */
 export function lengthToMm(value: number, unit: string): number | undefined {
-  switch (unit.trim().toLowerCase()) {
-    case 'mm': return value;
+  switch (unit.trim()) {
+    case 'Mm': return value;
     case 'km': return value / KM_PER_MM;
     case 'm': return value / (KM_PER_MM * 1e3);
     case 'cm': return value / CM_PER_MM;
+    case 'mm': return value / (CM_PER_MM * 10);
     default: return undefined;
   }
 }
