@@ -47,11 +47,17 @@ export function clippedMadOfUnitNormal(k: number): number {
   return (lo + hi) / 2;
 }
 
-/** k-th smallest of a[0..n) (0-based), reordering a in place (Hoare's selection). */
+/**
+ * k-th smallest of a[0..n) (0-based), reordering a in place (Hoare's selection). The pivot index
+ * comes from a fixed pseudo-random sequence: a middle pivot degrades badly on the V-shaped arrays
+ * that |x - median| leaves after a first selection.
+ */
 export function selectKth(a: Float64Array, n: number, k: number): number {
   let lo = 0, hi = n - 1;
+  let seed = 0x9e3779b9;
   while (lo < hi) {
-    const pivot = a[(lo + hi) >> 1];
+    seed = (Math.imul(seed, 1103515245) + 12345) >>> 0;
+    const pivot = a[lo + (seed % (hi - lo + 1))];
     let i = lo, j = hi;
     while (i <= j) {
       while (a[i] < pivot) i++;
@@ -103,7 +109,12 @@ export function estimateNoiseLevel(map: ArrayLike<number>, options: NoiseOptions
     }
     if (n === 0) break;
     med = median(work, n);
-    for (let i = 0; i < n; i++) work[i] = Math.abs(work[i] - med);
+    // Deviations refilled in the original order: the order selection leaves behind is slow to select in again.
+    n = 0;
+    for (let i = 0; i < count; i++) {
+      const v = values[i];
+      if (v >= lo && v <= hi) work[n++] = Math.abs(v - med);
+    }
     // The first pass is unclipped; later ones are clipped at +-clip sigma.
     const next = median(work, n) / (iter === 0 ? 1 / MAD_TO_SIGMA : clippedMadOfUnitNormal(clip));
     used = n;
