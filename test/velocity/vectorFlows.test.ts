@@ -87,6 +87,32 @@ describe('vector-magnetogram affine estimator (dave4vm)', () => {
   });
 });
 
+describe('dave4vm output in the convention of core/fluxTransport.ts', () => {
+  it('fluxTransport(midFrame, v) is the true Bn v_t - v_n B_t where the field is strong', async () => {
+    const { midFrame } = await import('../../core/velocity/midFrame.js');
+    const { fluxTransport } = await import('../../core/fluxTransport.js');
+    const ux = 0.2 / dt, uy = -0.15 / dt, w = 0.5 / KM_PER_MM;
+    const { a, b } = vectorPair(ux, uy, w);
+    const v = inferVelocity(a, b);
+    const mid = midFrame(a, b);
+    const t = fluxTransport(mid, v);
+    expect(t.fromVectorData).toBe(true);
+    const vx = ux * dx * KM_PER_MM, vy = uy * dy * KM_PER_MM, vz = 0.5;
+    let count = 0, worst = 0, scale = 0;
+    for (let i = 0; i < nx * ny; i++) scale = Math.max(scale, Math.hypot(mid.bn[i] * vx, mid.bn[i] * vy));
+    for (let y = 8; y < ny - 8; y++) for (let x = 8; x < nx - 8; x++) {
+      const i = y * nx + x;
+      if (!Number.isFinite(v.vx[i]) || Math.hypot(mid.bn[i], mid.bx![i], mid.by![i]) < 300) continue;
+      count++;
+      // Truth: the flux of the imposed flow, Bz V - vz Bh (the equation solved in vectorPair).
+      const fx = mid.bn[i] * vx - vz * mid.bx![i], fy = mid.bn[i] * vy - vz * mid.by![i];
+      worst = Math.max(worst, Math.hypot(t.fx[i] - fx, t.fy[i] - fy) / scale);
+    }
+    expect(count).toBeGreaterThan(500);
+    expect(worst).toBeLessThan(0.05);
+  });
+});
+
 describe('midFrame', () => {
   it('averages the maps and the times, and keeps bx, by only when both frames have them', async () => {
     const { midFrame } = await import('../../core/velocity/midFrame.js');
