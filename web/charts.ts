@@ -101,7 +101,8 @@ const marksPlugin: Plugin<'line'> = {
         ctx.setLineDash([]);
         const text = `${t.label}: ${v < 0 ? '−' : ''}${formatSci(t.value)} ${unit}${t.source ? ' · ' + t.source : ''}`;
         const tw = ctx.measureText(text).width;
-        const ty = v > 0 ? py - 15 : py + 2;
+        // Above the line where it fits, below it at the top edge.
+        const ty = py - 15 >= a.top ? py - 15 : py + 2;
         ctx.fillStyle = 'rgba(255,255,255,0.85)';
         ctx.fillRect(a.right - 6 - tw, ty, tw + 4, 13);
         ctx.fillStyle = '#5a2d4a';
@@ -118,9 +119,14 @@ const marksPlugin: Plugin<'line'> = {
     }
     if (offNotes.length > 0) {
       ctx.fillStyle = '#5a2d4a';
+      // Bottom left, away from the raised markers along the top.
+      const note = `thresholds beyond the scale: ±${offNotes.join(', ±')}`;
+      ctx.fillStyle = 'rgba(255,255,255,0.85)';
+      ctx.fillRect(a.left + 2, a.bottom - 16, ctx.measureText(note).width + 4, 14);
+      ctx.fillStyle = '#5a2d4a';
       ctx.textAlign = 'left';
-      ctx.textBaseline = 'top';
-      ctx.fillText(`thresholds beyond the scale: ±${offNotes.join(', ±')}`, a.left + 4, a.top + 2);
+      ctx.textBaseline = 'bottom';
+      ctx.fillText(note, a.left + 4, a.bottom - 3);
     }
     // Raised moments: a dashed vertical line and a numbered triangle at the top.
     for (const mo of m.moments) {
