@@ -6,6 +6,7 @@ import { parentPort } from 'node:worker_threads';
 import type { FluxKernelCache } from '../core/fluxKernel.js';
 import { analyseFrame } from '../core/frameAnalysis.js';
 import type { AnalysisSettings, AnalysisState } from '../core/frameAnalysis.js';
+import { footpointReport } from '../core/footpoints/footpointReport.js';
 import { InputError } from '../core/inputError.js';
 import { writeFileAtomic } from './atomicFile.js';
 import { decodeFrame, encodeMapFile } from './mapFile.js';
@@ -33,19 +34,19 @@ async function handle(req: WorkerRequest): Promise<WorkerReply> {
   if (maps.gTheta || maps.labels || maps.vx) {
     const bytes = encodeMapFile(
       { time: frame.time, nx: frame.nx, ny: frame.ny, dx: frame.dx, dy: frame.dy },
-      { gtheta: maps.gTheta, vx: maps.vx, vy: maps.vy }, { labels: maps.labels },
+      { gtheta: maps.gTheta, vx: maps.vx, vy: maps.vy, ...(maps.vz && { vz: maps.vz }) }, { labels: maps.labels },
     );
     await writeFileAtomic(req.mapsPath, bytes);
     mapsWritten = true;
   }
-  const extra = result as unknown as { footpoints?: unknown; events?: unknown };
+  // The footpoint table and events, JSON-ready (no maps, no tracking state).
+  const fp = result.footpoints ? footpointReport(result.footpoints, true) : undefined;
   return {
     id: req.id, ok: true,
     ...(result.sample && { sample: result.sample }),
     ...(result.waiting !== undefined && { waiting: result.waiting }),
     mapsWritten,
-    ...(extra.footpoints !== undefined && { footpoints: extra.footpoints }),
-    ...(extra.events !== undefined && { events: extra.events }),
+    ...(fp && { footpoints: { ...fp, events: undefined }, events: fp.events }),
   };
 }
 

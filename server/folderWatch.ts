@@ -10,11 +10,12 @@ import { mkdirSync, statSync } from 'node:fs';
 import { basename, join } from 'node:path';
 import type { Pipeline } from './pipeline.js';
 import type { Store } from './store.js';
+import type { StoreWriter } from './storeWriter.js';
 
 export class FolderWatch {
   private readonly watchers = new Map<string, FSWatcher>();
 
-  constructor(private readonly store: Store, private readonly pipeline: Pipeline, private readonly log: (line: string) => void) {}
+  constructor(private readonly store: Store, private readonly writer: StoreWriter, private readonly pipeline: Pipeline, private readonly log: (line: string) => void) {}
 
   folderOf(region: string): string {
     return join(this.store.dataDir, 'inbox', region);
@@ -53,7 +54,7 @@ export class FolderWatch {
     const source = `inbox/${region}/${basename(path)}`;
     // Read with loadFrameFile in the intake worker.
     const answer = await this.pipeline.ingest({ region, payload: { kind: 'file', path }, source, mayCreate: true });
-    if (answer.status < 500) this.store.markWatchedFile(region, path, size, mtime);
+    if (answer.status < 500) await this.writer.call('markWatchedFile', region, path, size, mtime);
   }
 
   async close(): Promise<void> {

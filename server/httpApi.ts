@@ -15,9 +15,11 @@ import type { Pipeline } from './pipeline.js';
 import { checkRegionName } from './regionName.js';
 import { mergeSettings } from './regionSettings.js';
 import type { Store } from './store.js';
+import type { StoreWriter } from './storeWriter.js';
 
 export interface ApiContext {
   readonly store: Store;
+  readonly writer: StoreWriter;
   readonly pipeline: Pipeline;
   readonly token: string;
   readonly readToken: boolean;
@@ -43,7 +45,7 @@ function inputFail(res: Response, status: number, e: InputError): void {
 const iso = (t: number | undefined | null) => (t === undefined || t === null ? null : new Date(t).toISOString());
 
 export function buildApp(ctx: ApiContext): express.Express {
-  const { store, pipeline, token } = ctx;
+  const { store, writer, pipeline, token } = ctx;
   const app = express();
   app.disable('x-powered-by');
   app.set('trust proxy', false);
@@ -88,11 +90,11 @@ export function buildApp(ctx: ApiContext): express.Express {
 
   // Ingest. The token is checked before the body is read, so an unauthorised sender cannot make
   // us buffer a large body.
-  app.post('/api/regions/:region/frames', (req, res, next) => {
+  app.post('/api/regions/:region/frames', async (req, res, next) => {
     const name = regionOf(req, res);
     if (name === undefined) return;
     if (!canWrite(req)) {
-      const a = pipeline.refuse(name, 401, 'http', 'authorization', 'ingest needs "Authorization: Bearer <token>" with the monitor\'s token');
+      const a = await pipeline.refuse(name, 401, 'http', 'authorization', 'ingest needs "Authorization: Bearer <token>" with the monitor\'s token');
       return void res.status(a.status).json(a.body);
     }
     next();
@@ -105,7 +107,7 @@ export function buildApp(ctx: ApiContext): express.Express {
     if (type === 'application/json') payload = { kind: 'json' as const, bytes: Buffer.isBuffer(body) ? body : Buffer.alloc(0) };
     else if (type === 'application/fits' || type === 'image/fits') payload = { kind: 'fits' as const, bytes: new Uint8Array(body) };
     else {
-      const a = pipeline.refuse(name, 415, source, 'content-type', `content type "${type || '(none)'}" is not a frame: send application/json or application/fits`);
+      const a = await pipeline.refuse(name, 415, source, 'content-type', `content type "${type || '(none)'}" is not a frame: send application/json or application/fits`);
       return void res.status(a.status).json(a.body);
     }
     const answer = await pipeline.ingest({ region: name, payload, source, mayCreate: true });
@@ -127,12 +129,12 @@ export function buildApp(ctx: ApiContext): express.Express {
     if (name === undefined) return;
     if (!canWrite(req)) return fail(res, 401, 'authorization', 'settings changes need "Authorization: Bearer <token>"', 'token needed');
     next();
-  }, express.json({ limit: '1mb', type: () => true }), (req, res) => {
+  }, express.json({ limit: '1mb', type: () => true }), async (req, res) => {
     const name = req.params.region as string;
-    const row = store.region(name) ?? store.createRegion(name);
+    const row = store.region(name) ?? await writer.call('createRegion', name);
     try {
       const next = mergeSettings(row.settings, req.body);
-      store.saveSettings(name, next);
+      await writer.call('saveSettings', name, next);
       ctx.onSettings(name);
       res.json({ region: name, settings: next });
     } catch (e) {
@@ -172,25 +174,48 @@ export function buildApp(ctx: ApiContext): express.Express {
     return f;
   };
 
-  // Footpoints as the analysis stored them (a table per frame), with tracks: the centroids of each
-  // footpoint id over the last 20 frames up to this one.
-  const tableOf = (stored: unknown): { id?: unknown; x?: unknown; y?: unknown }[] => {
-    if (Array.isArray(stored)) return stored as { id?: unknown; x?: unknown; y?: unknown }[];
-    const inner = (stored as { footpoints?: unknown } | null)?.footpoints;
-    return Array.isArray(inner) ? (inner as { id?: unknown; x?: unknown; y?: unknown }[]) : [];
+  // Footpoints of a frame in the shape of docs/api.md (the stored report of the analysis, its
+  // extra columns kept), with tracks: each footpoint id's centroids over the last 20 frames.
+  interface StoredReport {
+    footpoints?: Record<string, unknown>[];
+    pairMatrix?: { ids: number[]; orbitExact: (number | null)[][] | null; orbitPoint: (number | null)[][] };
+  }
+  const apiFootpoints = (stored: unknown): Record<string, unknown>[] => {
+    const r = (stored ?? {}) as StoredReport;
+    const rows = Array.isArray(r.footpoints) ? r.footpoints : [];
+    const ids = r.pairMatrix?.ids ?? [];
+    return rows.map((row) => {
+      const i = ids.indexOf(row.id as number);
+      const partners: { id: number; orbit: number }[] = [];
+      if (i >= 0 && r.pairMatrix) {
+        ids.forEach((other, j) => {
+          if (j === i) return;
+          const orbit = r.pairMatrix!.orbitExact?.[i]?.[j] ?? r.pairMatrix!.orbitPoint[i]?.[j] ?? null;
+          if (orbit !== null) partners.push({ id: other, orbit });
+        });
+        partners.sort((a, b) => Math.abs(b.orbit) - Math.abs(a.orbit));
+      }
+      return {
+        ...row,
+        omega_method: (row.omegaSource as string | null) ?? 'unobservable',
+        spin: (row.spinExact as number | null) ?? (row.spinPoint as number | null) ?? null,
+        spin_point: (row.spinPoint as number | null) ?? null,
+        partners,
+      };
+    });
   };
   app.get('/api/regions/:region/frames/:id/footpoints', (req, res) => {
     const f = frameOf(req, res);
     if (!f) return;
-    const { footpoints } = store.footpoints(f.id);
+    const { footpoints, events } = store.footpoints(f.id);
     const tracks: Record<string, [number, number][]> = {};
-    for (const table of store.recentFootpoints(f.region, f.time, 20).map(tableOf)) {
-      for (const fp of table) {
+    for (const stored of store.recentFootpoints(f.region, f.time, 20)) {
+      for (const fp of ((stored ?? {}) as StoredReport).footpoints ?? []) {
         if (typeof fp.x !== 'number' || typeof fp.y !== 'number' || fp.id === undefined) continue;
         (tracks[String(fp.id)] ??= []).push([fp.x, fp.y]);
       }
     }
-    res.json({ frame_id: f.id, time: iso(f.time), footpoints: tableOf(footpoints), tracks });
+    res.json({ frame_id: f.id, time: iso(f.time), footpoints: apiFootpoints(footpoints), tracks, events: events ?? [] });
   });
 
   const LAYERS: Record<string, { unit: string; from: 'frame' | 'maps'; name: string; int?: boolean }> = {
@@ -239,12 +264,12 @@ export function buildApp(ctx: ApiContext): express.Express {
     res.json({ alerts: pipeline.alerts(name) });
   });
 
-  app.post('/api/regions/:region/alerts/:id/ack', (req, res) => {
+  app.post('/api/regions/:region/alerts/:id/ack', async (req, res) => {
     const name = existing(req, res);
     if (name === undefined) return;
     if (!canWrite(req)) return fail(res, 401, 'authorization', 'acknowledging needs "Authorization: Bearer <token>"', 'token needed');
     const id = String(req.params.id);
-    const alert = pipeline.acknowledge(name, id);
+    const alert = await pipeline.acknowledge(name, id);
     if (!alert) return fail(res, 404, 'id', `region ${name} has no alert "${id.slice(0, 40)}" yet`);
     res.json(alert);
   });
@@ -290,7 +315,7 @@ export function buildApp(ctx: ApiContext): express.Express {
     const isIngest = req.method === 'POST' && m !== null;
     if (e.type === 'entity.too.large') {
       const reason = `the body is larger than the limit of ${ctx.bodyLimit} bytes`;
-      if (isIngest && region) pipeline.refuse(region, 413, 'http', '(body)', reason);
+      if (isIngest && region) return void pipeline.refuse(region, 413, 'http', '(body)', reason).finally(() => fail(res, 413, '(body)', reason, 'too large'));
       return fail(res, 413, '(body)', reason, 'too large');
     }
     if (e.type === 'entity.parse.failed') return fail(res, 400, '(body)', `is not valid JSON: ${e.message}`);

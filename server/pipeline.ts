@@ -33,6 +33,7 @@ import type { IntakePool } from './intakePool.js';
 import { IntakeRefusal } from './intakePool.js';
 import type { RegionSettings } from './regionSettings.js';
 import type { Carry, FrameRow, Store } from './store.js';
+import type { StoreWriter } from './storeWriter.js';
 import { emptyCarry } from './store.js';
 
 export type Payload =
@@ -105,6 +106,7 @@ export class Pipeline {
 
   constructor(
     private readonly store: Store,
+    private readonly writer: StoreWriter,
     private readonly pool: ComputePool,
     private readonly intake: IntakePool,
     private readonly hub: Broadcaster,
@@ -140,8 +142,8 @@ export class Pipeline {
   }
 
   /** Records a refusal decided outside the pipeline (token, body size, content type). */
-  refuse(region: string, status: number, source: string, field: string, reason: string): IngestAnswer {
-    this.recordRefusal(region, { status, source, field, reason });
+  async refuse(region: string, status: number, source: string, field: string, reason: string): Promise<IngestAnswer> {
+    await this.recordRefusal(region, { status, source, field, reason });
     return { status, body: { error: reason, field, problem: reason } };
   }
 
@@ -194,14 +196,14 @@ export class Pipeline {
     return out;
   }
 
-  acknowledge(region: string, id: string, now = Date.now()): AlertRecord | undefined {
+  async acknowledge(region: string, id: string, now = Date.now()): Promise<AlertRecord | undefined> {
     const c = this.carry(region);
     const m = c.rules.machines[id];
     if (!m) return undefined;
     const rules: RulesState = { ...c.rules, machines: { ...c.rules.machines, [id]: acknowledgeAlert(m, now) } };
     const next = { ...c, rules };
     this.setCarry(region, next);
-    this.store.setRegionCarry(region, next);
+    await this.writer.call('setRegionCarry', region, next);
     const alert = rules.machines[id].record;
     this.hub.send(region, { type: 'alert', alert });
     return alert;
@@ -245,14 +247,14 @@ export class Pipeline {
 
   // Stage 2: order and store ----------------------------------------------------------------
 
-  private refusalAnswer(region: string, status: number, e: InputError, source: string, frameTime?: number): IngestAnswer {
-    this.recordRefusal(region, { status, source, field: e.field, reason: e.message, ...(frameTime !== undefined && { frameTime }) });
+  private async refusalAnswer(region: string, status: number, e: InputError, source: string, frameTime?: number): Promise<IngestAnswer> {
+    await this.recordRefusal(region, { status, source, field: e.field, reason: e.message, ...(frameTime !== undefined && { frameTime }) });
     return { status, body: { error: e.message, field: e.field, problem: e.problem } };
   }
 
-  private recordRefusal(region: string, r: { status: number; source: string; field: string; reason: string; frameTime?: number }): void {
+  private async recordRefusal(region: string, r: { status: number; source: string; field: string; reason: string; frameTime?: number }): Promise<void> {
     const now = Date.now();
-    this.store.recordRefusal(region, r, now);
+    await this.writer.call('recordRefusal', region, r, now);
     this.log(`refused (${region}, ${r.source}): ${r.reason}`);
     const row = this.store.region(region);
     if (!row) return;
@@ -263,7 +265,7 @@ export class Pipeline {
     const step = evaluateRules(c.rules, { time: now, refusalTimes: times }, { rules: row.settings.rules });
     const next = { ...c, rules: step.state };
     this.setCarry(region, next);
-    this.store.setRegionCarry(region, next);
+    await this.writer.call('setRegionCarry', region, next);
     for (const ch of step.changes) this.announceAlert(region, ch.alert, ch.change, row.settings);
     this.hub.send(region, { type: 'status', status: this.status(region) });
   }
@@ -272,40 +274,40 @@ export class Pipeline {
     const { arrival, resolve } = v;
     const name = arrival.region;
     try {
-      if (v.refusal) return resolve(this.refusalAnswer(name, v.refusal.status, v.refusal.error, arrival.source));
+      if (v.refusal) return resolve(await this.refusalAnswer(name, v.refusal.status, v.refusal.error, arrival.source));
       const { meta: frame, hash, bytes } = v.intake!;
       let region = this.store.region(name);
       if (!region) {
         if (!arrival.mayCreate) {
-          return resolve(this.refusalAnswer(name, 404, new InputError(arrival.source, 'region', `no region named "${name}"; it is created on the first frame sent with the token`), arrival.source, frame.time));
+          return resolve(await this.refusalAnswer(name, 404, new InputError(arrival.source, 'region', `no region named "${name}"; it is created on the first frame sent with the token`), arrival.source, frame.time));
         }
-        region = this.store.createRegion(name);
+        region = await this.writer.call('createRegion', name);
         this.log(`region ${name} created`);
       }
       const dup = this.store.frameByHash(name, hash);
       if (dup) {
-        this.store.countDuplicate(name);
+        await this.writer.call('countDuplicate', name);
         return resolve({ status: 200, body: { status: 'duplicate', frame_id: dup.id, time: new Date(dup.time).toISOString() } });
       }
       const first = this.store.firstFrame(name);
       if (first && !sameGrid(first, frame)) {
-        return resolve(this.refusalAnswer(name, 409, new InputError(arrival.source, 'grid',
+        return resolve(await this.refusalAnswer(name, 409, new InputError(arrival.source, 'grid',
           `the region's frames are ${first.nx}x${first.ny} pixels of ${first.dx}x${first.dy} Mm; this one is ${frame.nx}x${frame.ny} of ${frame.dx}x${frame.dy} Mm`), arrival.source, frame.time));
       }
       const same = this.store.frameAtTime(name, frame.time);
       if (same) {
-        return resolve(this.refusalAnswer(name, 409, new InputError(arrival.source, 'time',
+        return resolve(await this.refusalAnswer(name, 409, new InputError(arrival.source, 'time',
           `another frame (id ${same.id}) with the time ${new Date(frame.time).toISOString()} is already stored, with different content`), arrival.source, frame.time));
       }
       const latest = this.store.latestTime(name);
       const latenessS = region.settings.latenessS;
       if (latest !== undefined && frame.time < latest - latenessS * 1000) {
-        return resolve(this.refusalAnswer(name, 409, new InputError(arrival.source, 'time',
+        return resolve(await this.refusalAnswer(name, 409, new InputError(arrival.source, 'time',
           `too late: ${new Date(frame.time).toISOString()} is ${((latest - frame.time) / 1000).toFixed(0)} s before the newest frame (${new Date(latest).toISOString()}), beyond the region's lateness of ${latenessS} s`), arrival.source, frame.time));
       }
       const file = join('frames', name, `${hash}.hlcm`);
       await writeFileAtomic(join(this.store.dataDir, file), bytes);
-      const id = this.store.insertFrame({
+      const id = await this.writer.call('insertFrame', {
         region: name, time: frame.time, hash, nx: frame.nx, ny: frame.ny, dx: frame.dx, dy: frame.dy,
         source: arrival.source, received: Date.now(), file,
       });
@@ -320,7 +322,7 @@ export class Pipeline {
   // Stages 3-8: pair, compute, accumulate, evaluate, store, broadcast -----------------------
 
   /** Frames to process in time order, after rewinding the region when one came in late. */
-  private takePending(region: string): FrameRow[] {
+  private async takePending(region: string): Promise<FrameRow[]> {
     const pending = this.store.unprocessed(region);
     if (pending.length === 0) return [];
     const last = this.store.lastProcessed(region);
@@ -336,7 +338,7 @@ export class Pipeline {
         if (now && now.record.state === m.record.state && now.record.acknowledged) machines[id] = { ...m, record: { ...m.record, acknowledged: true } };
       }
       const carry: Carry = { ...restored, rules: { ...restored.rules, machines } };
-      const n = this.store.rewind(region, before?.time ?? Number.MIN_SAFE_INTEGER, carry);
+      const n = await this.writer.call('rewind', region, before?.time ?? Number.MIN_SAFE_INTEGER, carry);
       this.setCarry(region, carry);
       this.pool.forget(region);
       this.log(`${region}: a frame came in late; ${n} later frame(s) are processed again in order`);
@@ -349,10 +351,12 @@ export class Pipeline {
     let rewound = false;
     return defer(() => {
       this.activeWork++;
-      const frames = this.takePending(region);
-      rewound = frames.some((f) => (f as FrameRow & { rewound?: boolean }).rewound);
-      return from(frames);
+      return from(this.takePending(region));
     }).pipe(
+      mergeMap((frames) => {
+        rewound = frames.some((f) => (f as FrameRow & { rewound?: boolean }).rewound);
+        return from(frames);
+      }),
       // stop between frames when the server shuts down (the rest is pending for the restart)
       takeWhile(() => !this.closed),
       // pair: the frame and the last frame processed before it
@@ -364,7 +368,7 @@ export class Pipeline {
       // evaluate the rules
       map((a) => this.evaluate(region, a)),
       // store
-      tap((a) => this.commit(region, a)),
+      concatMap((a) => from(this.commit(region, a).then(() => a))),
       // broadcast
       tap((a) => this.broadcast(region, a)),
       catchError((e) => { this.log(`${region}: processing stopped: ${(e as Error).stack ?? e}`); return EMPTY; }),
@@ -436,9 +440,9 @@ export class Pipeline {
     return a;
   }
 
-  private commit(region: string, a: Analysed): void {
+  private async commit(region: string, a: Analysed): Promise<void> {
     const reply = a.reply;
-    this.store.commitProcessed({
+    await this.writer.call('commitProcessed', {
       region, frameId: a.frame.id, processed: a.failure ? 2 : 1, carry: a.carry,
       ...(a.row && a.sample && { row: a.row, sampleTime: a.sample.time }),
       ...(reply.ok && reply.mapsWritten && { mapsFile: join('maps', region, `${a.frame.id}.hlcm`) }),
@@ -449,7 +453,7 @@ export class Pipeline {
     });
     this.setCarry(region, a.carry);
     if (a.failure) {
-      this.recordRefusal(region, {
+      await this.recordRefusal(region, {
         status: 422, source: a.frame.source, field: a.failure.field,
         reason: `frame ${a.frame.id} (${new Date(a.frame.time).toISOString()}) was stored but its analysis failed: ${a.failure.problem}`,
         frameTime: a.frame.time,

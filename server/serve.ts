@@ -17,6 +17,7 @@ import { IntakePool } from './intakePool.js';
 import { buildApp } from './httpApi.js';
 import { Pipeline } from './pipeline.js';
 import { Store } from './store.js';
+import { StoreWriter } from './storeWriter.js';
 import { ViewerHub } from './viewerHub.js';
 import { postWebhook } from './webhook.js';
 import { attachWebSockets } from './wsEndpoints.js';
@@ -79,7 +80,9 @@ export async function serve(options: ServeOptions): Promise<RunningMonitor> {
   const dataDir = resolve(options.dataDir);
   mkdirSync(dataDir, { recursive: true });
   const token = loadOrCreateToken(dataDir, log);
+  // Reads on the event loop; every write (and its fsync) in the writer thread.
   const store = new Store(dataDir);
+  const writer = new StoreWriter(dataDir, log);
   const workers = options.workers ?? Math.min(4, Math.max(1, availableParallelism() - 1));
   const pool = new ComputePool(workers, log);
   const intake = new IntakePool(log);
@@ -103,17 +106,17 @@ export async function serve(options: ServeOptions): Promise<RunningMonitor> {
     };
   };
   const hub = new ViewerHub(snapshot, 4 * 1024 * 1024, log);
-  pipeline = new Pipeline(store, pool, intake, hub, {
+  pipeline = new Pipeline(store, writer, pool, intake, hub, {
     log,
     replayStatus,
     onAlert: (region, alert, change, settings) => {
       if (settings.webhookUrl && (change.to === 'raised' || change.to === 'settled')) void postWebhook(settings.webhookUrl, region, alert, change, log);
     },
   });
-  const folders = new FolderWatch(store, pipeline, log);
+  const folders = new FolderWatch(store, writer, pipeline, log);
 
   const app = buildApp({
-    store, pipeline, token, readToken, bodyLimit, startedAt: Date.now(), loopDelay: () => loop.read(),
+    store, writer, pipeline, token, readToken, bodyLimit, startedAt: Date.now(), loopDelay: () => loop.read(),
     onSettings: (region) => folders.sync(region, store.region(region)?.settings.watchFolder ?? false),
     replay: (region, action) => (demo && region === DEMO_REGION
       ? demo.control(action)
@@ -164,6 +167,7 @@ export async function serve(options: ServeOptions): Promise<RunningMonitor> {
         await pipeline.close();
         await pool.close();
         await intake.close();
+        await writer.close();
         store.close();
       })();
       return closing;

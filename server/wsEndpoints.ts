@@ -49,7 +49,7 @@ export function attachWebSockets(server: Server, ctx: WsContext): WebSocketServe
       view.handleUpgrade(req, socket, head, (ws) => onViewer(ws, region));
     } else if (url.pathname === '/ws/ingest') {
       if (!tokenMatches(ctx.token, auth, given)) {
-        ctx.pipeline.refuse(region, 401, 'ws', 'authorization', 'ingest over WebSocket needs the token (Authorization header or ?token=)');
+        void ctx.pipeline.refuse(region, 401, 'ws', 'authorization', 'ingest over WebSocket needs the token (Authorization header or ?token=)');
         return reject(socket, 401, 'ingest needs the token');
       }
       ingest.handleUpgrade(req, socket, head, (ws) => onIngest(ws, region));
@@ -93,7 +93,7 @@ export function attachWebSockets(server: Server, ctx: WsContext): WebSocketServe
     });
     ws.on('error', (e: Error & { code?: string }) => {
       if (e.code === 'WS_ERR_UNSUPPORTED_MESSAGE_LENGTH') {
-        ctx.pipeline.refuse(region, 413, 'ws', '(message)', `the message is larger than the limit of ${ctx.bodyLimit} bytes`);
+        void ctx.pipeline.refuse(region, 413, 'ws', '(message)', `the message is larger than the limit of ${ctx.bodyLimit} bytes`);
       }
     });
   }

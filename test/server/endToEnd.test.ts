@@ -123,6 +123,12 @@ describe('end to end: circling pair posted over HTTP', () => {
     let maxDiff = 0;
     for (let i = 0; i < values.length; i++) maxDiff = Math.max(maxDiff, Math.abs(values[i] - f.bn[i]));
     expect(maxDiff).toBeLessThan(1e-3); // float32 of values up to 1000 G
+    // The analysis found the two footpoints; their orbit partner is each other.
+    const fp = await getJson<{ footpoints: { id: number; polarity: number; flux: number; partners: { id: number; orbit: number }[]; omega_method: string }[]; tracks: Record<string, number[][]> }>(m.url, `/api/regions/ar1/frames/${frames.frames.at(-1)!.frame_id}/footpoints`);
+    expect(fp.footpoints).toHaveLength(2);
+    expect(fp.footpoints.every((x) => x.polarity === 1)).toBe(true);
+    expect(fp.footpoints[0].partners[0].id).toBe(fp.footpoints[1].id);
+    expect(Object.values(fp.tracks).every((t) => t.length === times.length)).toBe(true);
     const gt = await getJson<{ unit: string }>(m.url, `/api/regions/ar1/frames/${id}/map?layer=gtheta`);
     expect(gt.unit).toBe('Mx^2 cm^-2 s^-1');
     expect((await fetch(`${m.url}/api/regions/ar1/frames/${id}/map?layer=../../etc`)).status).toBe(400);
@@ -229,7 +235,6 @@ describe('FITS frames over HTTP and WebSocket (our frame file convention, docs/f
       const expectedRate = (-1 / Math.PI) * labelFlux(f0, 1) * labelFlux(f0, 2) * OMEGA;
       for (const row of s.samples) {
         expect(rel(row.rate_total, expectedRate)).toBeLessThan(0.01);
-        expect(row.split_method).toBe('none'); // FITS frames carry no labels
       }
     } finally {
       await m.stop();
