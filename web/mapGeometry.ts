@@ -89,3 +89,23 @@ export function glyphArc(omegaDegPerHour: number | null): GlyphArc | undefined {
   // Canvas angles grow clockwise on screen (y down), so counter-clockwise means decreasing angle.
   return { start, end: ccw ? start - sweep : start + sweep, anticlockwise: ccw };
 }
+
+/**
+ * A track cut into runs where one step jumps further than maxStepMm: such a jump is the tracker
+ * handing the id to another concentration, not motion (photospheric flows move a footpoint well
+ * under 1 Mm between frames minutes apart), and a line across the map would mislead.
+ */
+export function splitTrack(points: readonly (readonly [number, number])[], maxStepMm: number): [number, number][][] {
+  const runs: [number, number][][] = [];
+  let run: [number, number][] = [];
+  for (let i = 0; i < points.length; i++) {
+    const p: [number, number] = [points[i][0], points[i][1]];
+    if (i > 0 && Math.hypot(p[0] - points[i - 1][0], p[1] - points[i - 1][1]) > maxStepMm) {
+      if (run.length > 0) runs.push(run);
+      run = [];
+    }
+    run.push(p);
+  }
+  if (run.length > 0) runs.push(run);
+  return runs;
+}

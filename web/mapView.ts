@@ -4,7 +4,7 @@
 // highlight only redraws the vector layer over the cached image.
 
 import { buildLut, GREYS, niceCeil, PURPLE_ORANGE, rasterize, robustAbsLimit, symmetricTicks } from './colourScale.js';
-import { equalAreaRadius, fitMap, fromCanvas, glyphArc, hitFootpoint, toCanvas, type MapFit } from './mapGeometry.js';
+import { equalAreaRadius, fitMap, fromCanvas, glyphArc, hitFootpoint, splitTrack, toCanvas, type MapFit } from './mapGeometry.js';
 import { OKABE_ITO } from './palette.js';
 import { formatGauss, formatSci, omegaDegPerHour, prettyUnit } from './unitFormat.js';
 import type { WireFootpoint } from './wire.js';
@@ -38,6 +38,8 @@ export interface MapDrawReport {
 }
 
 const PURPLE_ORANGE_LUT = buildLut(PURPLE_ORANGE, 256);
+/** A track step longer than this (or twice the footpoint's radius) is a hand-over, not motion, Mm. */
+const TRACK_JUMP_MM = 5;
 const GREY_LUT = buildLut(GREYS, 256);
 
 export class MapView {
@@ -185,30 +187,37 @@ export class MapView {
     // Tracks first, under everything else.
     ctx.lineCap = 'round';
     ctx.lineJoin = 'round';
+    const areaOf = new Map(s.footpoints.map((fp) => [String(fp.id), fp.area]));
     for (const [id, pts] of Object.entries(s.tracks ?? {})) {
       if (!pts || pts.length < 2) continue;
-      ctx.beginPath();
-      pts.forEach(([x, y], i) => {
-        const [px, py] = toCanvas(fit, x, y);
-        if (i === 0) ctx.moveTo(px, py);
-        else ctx.lineTo(px, py);
-      });
       const hi = String(id) === this.highlighted;
-      ctx.strokeStyle = '#ffffff';
-      ctx.lineWidth = hi ? 5 : 3.5;
-      ctx.stroke();
-      ctx.strokeStyle = hi ? '#000000' : '#222222';
-      ctx.lineWidth = hi ? 2.5 : 1.5;
-      ctx.setLineDash([1, 3]);
-      ctx.stroke();
-      ctx.setLineDash([]);
-      for (const [x, y] of pts) {
-        const [px, py] = toCanvas(fit, x, y);
-        ctx.fillStyle = '#222222';
-        ctx.fillRect(px - 1, py - 1, 2, 2);
+      const maxStep = Math.max(TRACK_JUMP_MM, 2 * equalAreaRadius(areaOf.get(String(id)) ?? 0));
+      for (const run of splitTrack(pts, maxStep)) {
+        if (run.length >= 2) {
+          ctx.beginPath();
+          run.forEach(([x, y], i) => {
+            const [px, py] = toCanvas(fit, x, y);
+            if (i === 0) ctx.moveTo(px, py);
+            else ctx.lineTo(px, py);
+          });
+          ctx.strokeStyle = '#ffffff';
+          ctx.lineWidth = hi ? 5 : 3.5;
+          ctx.stroke();
+          ctx.strokeStyle = hi ? '#000000' : '#222222';
+          ctx.lineWidth = hi ? 2.5 : 1.5;
+          ctx.setLineDash([1, 3]);
+          ctx.stroke();
+          ctx.setLineDash([]);
+        }
+        for (const [x, y] of run) {
+          const [px, py] = toCanvas(fit, x, y);
+          ctx.fillStyle = '#222222';
+          ctx.fillRect(px - 1, py - 1, 2, 2);
+        }
       }
       tracks++;
     }
+    const labels: { text: string; x: number; y: number; hi: boolean }[] = [];
     for (const fp of s.footpoints) {
       const hi = String(fp.id) === this.highlighted;
       if (hi) highlighted = String(fp.id);
@@ -241,18 +250,18 @@ export class MapView {
       }
       outlines++;
       if (this.drawGlyph(ctx, fp, cx, cy, Math.max(6, Math.min(r * 0.6, 18)))) glyphs++;
-      // The id, beside the footpoint, on a light plate.
-      const label = String(fp.id);
-      ctx.font = `${hi ? 'bold 13px' : '12px'} system-ui, sans-serif`;
-      const tw = ctx.measureText(label).width;
-      const lx = cx + r * 0.72 + 2;
-      const ly = cy - r * 0.72 - 2;
-      ctx.fillStyle = hi ? OKABE_ITO.yellow : 'rgba(255,255,255,0.85)';
-      ctx.fillRect(lx - 2, ly - 12, tw + 4, 15);
+      labels.push({ text: String(fp.id), x: cx + r * 0.72 + 2, y: cy - r * 0.72 - 2, hi });
+    }
+    // Ids last, so no outline covers them; on a light plate beside each footpoint.
+    for (const l of labels) {
+      ctx.font = `${l.hi ? 'bold 13px' : '12px'} system-ui, sans-serif`;
+      const tw = ctx.measureText(l.text).width;
+      ctx.fillStyle = l.hi ? OKABE_ITO.yellow : 'rgba(255,255,255,0.85)';
+      ctx.fillRect(l.x - 2, l.y - 12, tw + 4, 15);
       ctx.fillStyle = '#000000';
       ctx.textAlign = 'left';
       ctx.textBaseline = 'alphabetic';
-      ctx.fillText(label, lx, ly);
+      ctx.fillText(l.text, l.x, l.y);
     }
     return { footpoints: s.footpoints.length, outlines, glyphs, tracks, highlighted };
   }

@@ -39,3 +39,14 @@ describe('map geometry', () => {
     expect(glyphArc(null)).toBeUndefined();
   });
 });
+
+import { splitTrack } from '../../web/mapGeometry.js';
+
+describe('tracks', () => {
+  it('cut where the id jumps to another concentration', () => {
+    const pts: [number, number][] = [[0, 0], [0.5, 0], [1, 0.2], [30, 30], [30.4, 30], [1.2, 0.3]];
+    expect(splitTrack(pts, 5)).toEqual([[[0, 0], [0.5, 0], [1, 0.2]], [[30, 30], [30.4, 30]], [[1.2, 0.3]]]);
+    expect(splitTrack([], 5)).toEqual([]);
+    expect(splitTrack(pts.slice(0, 3), 5)).toEqual([pts.slice(0, 3)]);
+  });
+});
