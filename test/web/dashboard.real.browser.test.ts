@@ -1,8 +1,9 @@
 // Browser tests of the dashboard against the REAL monitor (dist/server/serve.js in a child process,
 // with its built-in demo region streaming fast): the demo region loads, charts grow as frames are
 // computed, alerts raised by the demo's scripted scenario reach the log and the charts with the
-// thresholds the server's rules carry, replay controls steer the demo, and the page recovers after
-// the monitor is stopped and started again. The page is built into dist/web first (where serve()
+// thresholds the server's rules carry, the map shows the frame and a ledger row click highlights a
+// footpoint (when the monitor's analysis reports footpoints), replay controls steer the demo, an
+// alert is acknowledged, and the page recovers after the monitor is stopped and started again. The page is built into dist/web first (where serve()
 // takes it from). Needs `npm run build` (npm test does it); without the compiled server the suite
 // says so and skips, and under CI=true it fails.
 
