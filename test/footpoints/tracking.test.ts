@@ -134,3 +134,22 @@ describe('tracking fast motion', () => {
     expect(new Set(ids).size).toBe(1);
   });
 });
+
+describe('footpoints crossing the border of the field of view', () => {
+  it('one that drifts in is logged as appeared at the edge, and vanishes at the edge when it drifts out', () => {
+    const g = { nx: 80, ny: 40, dx: 0.5, dy: 0.5 };
+    let state: FootpointState | undefined;
+    const all: FootpointEvent[] = [];
+    for (let f = 0; f < 40; f++) {
+      // From beyond the left border to beyond the right one, 1.5 Mm per frame; a quiet companion stays inside.
+      const spots: Spot[] = [{ x: -4 + 1.5 * f, y: 10, a: 1.2, b: 1.2, angle: 0, peak: 900 }, { x: 20, y: 16, a: 1.2, b: 1.2, angle: 0, peak: 900 }];
+      const r = analyseFootpoints(state, sceneFrame(g, f * 60_000, spots, 4, 700 + f), { noise: 4 });
+      state = r.state;
+      all.push(...r.events);
+    }
+    expect(all.map((e) => e.kind)).toEqual(['appeared', 'vanished']);
+    expect(all[0].kind === 'appeared' && all[0].cause).toBe('edge');
+    expect(all[1].kind === 'vanished' && all[1].cause).toBe('edge');
+    expect(all[0].id).toBe(all[1].id);
+  });
+});
