@@ -227,8 +227,9 @@ export class Store {
    */
   rewind(region: string, time: number, carry: Carry): number {
     const tx = this.db.transaction(() => {
+      // Samples go by the frame they were made on (a sample of a frame pair sits at the mid-time).
+      this.db.prepare('DELETE FROM samples WHERE frame_id IN (SELECT id FROM frames WHERE region = ? AND time > ? AND processed > 0)').run(region, time);
       const n = this.db.prepare('UPDATE frames SET processed = 0, carry = NULL WHERE region = ? AND time > ? AND processed > 0').run(region, time).changes;
-      this.db.prepare('DELETE FROM samples WHERE region = ? AND time > ?').run(region, time);
       this.setRegionCarry(region, carry);
       return n;
     });

@@ -147,6 +147,17 @@ export async function bench(): Promise<void> {
     console.log(`sustained ingest: ${postedAt.size} frames in ${elapsed.toFixed(1)} s = ${(postedAt.size / elapsed).toFixed(2)} frames/s with ${viewers.length} viewers`);
     console.log(`POST to broadcast at all ${viewers.length} viewers: median ${quantile(latencies, 0.5).toFixed(0)} ms, p95 ${quantile(latencies, 0.95).toFixed(0)} ms (${latencies.length} frames)`);
 
+    // Latency of a single frame into an idle monitor (no queue ahead of it).
+    const single: number[] = [];
+    for (let k = 0; k < 3 && Date.now() < deadline; k++) {
+      const n = postedAt.size;
+      await sendOne();
+      const id = [...postedAt.keys()][n];
+      while ((seen.get(id)?.length ?? 0) < viewers.length && Date.now() < deadline) await new Promise((r) => setTimeout(r, 5));
+      single.push(Math.max(...seen.get(id)!) - postedAt.get(id)!);
+    }
+    console.log(`one frame into an idle monitor, POST to broadcast at all viewers: median ${quantile(single, 0.5).toFixed(0)} ms (${single.length} frames)`);
+
     // Soak.
     const rss: number[] = [rssMiBOf(mon.pid)];
     const soakStart = Date.now();

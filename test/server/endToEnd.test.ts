@@ -178,6 +178,41 @@ describe('end to end: circling pair posted over HTTP', () => {
   });
 });
 
+describe('the demo region', () => {
+  it('streams live from the demo generator, and its replay can be paused and resumed with the token', async () => {
+    const m = await startMonitor({ demo: true, demoIntervalMs: 50 });
+    try {
+      const until = Date.now() + 30_000;
+      let n = 0;
+      while (n < 3 && Date.now() < until) {
+        const regions = await getJson<{ regions: { name: string }[] }>(m.url, '/api/regions');
+        if (regions.regions.some((r) => r.name === 'demo')) n = (await getJson<{ samples: unknown[] }>(m.url, '/api/regions/demo/series')).samples.length;
+        await new Promise((r) => setTimeout(r, 50));
+      }
+      expect(n).toBeGreaterThanOrEqual(3);
+      const control = (body: unknown, token: string | null = TOKEN) => fetch(`${m.url}/api/regions/demo/replay`, {
+        method: 'POST', headers: { 'content-type': 'application/json', ...(token && { authorization: `Bearer ${token}` }) }, body: JSON.stringify(body),
+      });
+      expect((await control({ action: 'pause' }, null)).status).toBe(401);
+      const paused = await control({ action: 'pause' });
+      expect(paused.status).toBe(200);
+      expect(((await paused.json()) as { replay: { state: string } }).replay.state).toBe('paused');
+      await waitIdle(m.url);
+      const a = (await getJson<{ regions: { name: string; frames: number; replay: { state: string; total: number } }[] }>(m.url, '/api/regions')).regions.find((r) => r.name === 'demo')!;
+      expect(a.replay.state).toBe('paused');
+      expect(a.replay.total).toBeGreaterThan(a.frames);
+      await new Promise((r) => setTimeout(r, 300));
+      const b = (await getJson<{ regions: { name: string; frames: number }[] }>(m.url, '/api/regions')).regions.find((r) => r.name === 'demo')!;
+      expect(b.frames).toBe(a.frames); // nothing streams while paused
+      expect((await control({ action: 'speed', value: -1 })).status).toBe(400);
+      expect((await control({ action: 'resume' })).status).toBe(200);
+      expect((await fetch(`${m.url}/api/regions/nodemo/replay`, { method: 'POST', headers: { authorization: `Bearer ${TOKEN}` } })).status).toBe(404);
+    } finally {
+      await m.stop();
+    }
+  });
+});
+
 describe('gaps in the stream', () => {
   it('are marked in the series, not integrated across unless bridging is set, and raise the data-gap rule', async () => {
     const m = await startMonitor();
