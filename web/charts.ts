@@ -327,5 +327,6 @@ export function readoutLines(kind: ChartKind, s: WireSample, t: number): string[
     `spin ${withU(v(f.spin))}`,
     `orbit ${withU(v(f.orbit))}`,
     `background ${withU(v(f.background))}`,
+    ...(s.flags && s.flags.length > 0 ? [`flags: ${s.flags.join(', ')}`] : []),
   ];
 }

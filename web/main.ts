@@ -67,6 +67,9 @@ const mapFrameText = byId('map-frame');
 const mapFits = byId<HTMLAnchorElement>('map-fits');
 
 // --- region choice -------------------------------------------------------------------------------
+/** Set when the monitor refused to answer reads without the token; the socket then carries it too. */
+let readProtected = false;
+
 function regionFromHash(): string | undefined {
   const m = /region=([^&]+)/.exec(location.hash);
   const name = m ? decodeURIComponent(m[1]) : undefined;
@@ -78,6 +81,14 @@ async function loadRegions(): Promise<void> {
     const answer = await getJson<{ regions: RegionInfo[] }>(routes.regions());
     state.regions = answer.regions ?? [];
   } catch (err) {
+    if (err instanceof ApiError && err.status === 401) {
+      // Reading is protected on this monitor: the token is needed to see anything.
+      readProtected = true;
+      byId('region-note').textContent = 'this monitor needs the token for reading';
+      tokenStore.clear();
+      askToken(() => void loadRegions());
+      return;
+    }
     byId('region-note').textContent = `regions unavailable: ${(err as Error).message}`;
     if (!state.region) setTimeout(() => void loadRegions(), 3000);
     return;
@@ -133,7 +144,8 @@ function openRegion(name: string): void {
     });
   state.link = new ViewerLink({
     region: name,
-    token: tokenStore.get(),
+    // Only a monitor that protects reading gets the token in the socket URL.
+    token: readProtected ? tokenStore.get() : undefined,
     onMessage: (m) => {
       if (generation === state.generation) onViewerMessage(m);
     },

@@ -246,6 +246,23 @@ describe.skipIf(!chromiumPath && !inCi)('dashboard in Chromium against the test 
     await until(page, 'the demo region again', (s) => s.region === 'demo' && s.samples === region.samples.length && s.mapFrame === region.frames.at(-1)!.frame_id);
   });
 
+  it('asks for the token first on a monitor that protects reading, then loads', async () => {
+    const guarded = new FakeMonitor(regions, outDir, { protectReads: true });
+    await guarded.listen();
+    const other = await browser.context.newPage();
+    try {
+      await other.goto(guarded.url + '/');
+      await other.locator('#token-dialog').waitFor({ state: 'visible' });
+      expect(await other.locator('#region-note').innerText()).toMatch(/needs the token for reading/);
+      await other.locator('#token-input').fill(FAKE_TOKEN);
+      await other.locator('#token-form button[value="save"]').click();
+      await until(other, 'the guarded region to load', (s) => s.region === 'demo' && s.link === 'live' && s.samples === region.samples.length && s.map.footpoints === 3);
+    } finally {
+      await other.close();
+      await guarded.close();
+    }
+  });
+
   it('measures a 20,000-sample chart redraw and a 1024² map draw inside the page (reported)', async () => {
     const chart = (await page.evaluate('window.helicordProbe.measureChartRedraw(20000)')) as { fullUpdateMs: number; prepareMs: number; chartUpdateMs: number; redrawMs: number; pointsDrawn: number; runs: number[] };
     const map = (await page.evaluate('window.helicordProbe.measureMapDraw(1024)')) as { decodeMs: number; newFrameMs: number; redrawMs: number; runs: number[] };

@@ -89,7 +89,7 @@ export class FakeMonitor {
   /** Messages viewers sent (backfill requests), for the tests to inspect. */
   received: unknown[] = [];
 
-  constructor(readonly regions: Map<string, FakeRegionState>, private readonly pageDir: string) {}
+  constructor(readonly regions: Map<string, FakeRegionState>, private readonly pageDir: string, private readonly options: { protectReads?: boolean } = {}) {}
 
   get url(): string {
     return `http://127.0.0.1:${this.port}`;
@@ -109,6 +109,12 @@ export class FakeMonitor {
       res.status(401).json({ error: 'token needed', field: 'Authorization', problem: 'missing or wrong bearer token' });
       return false;
     };
+    if (this.options.protectReads) {
+      app.use('/api', (req, res, next) => {
+        if (req.get('authorization') === `Bearer ${FAKE_TOKEN}`) return next();
+        res.status(401).json({ error: 'token needed', field: 'Authorization', problem: 'reading is protected' });
+      });
+    }
     app.get('/api/health', (_req, res) => res.json({ ok: true, uptime_s: 1, regions: this.regions.size, queue: 0 }));
     app.get('/api/regions', (_req, res) => {
       res.json({
@@ -198,7 +204,8 @@ export class FakeMonitor {
     this.server.on('upgrade', (req, socket, head) => {
       const u = new URL(req.url ?? '/', 'http://x');
       const r = this.regions.get(u.searchParams.get('region') ?? '');
-      if (u.pathname !== '/ws/view' || !r) {
+      const readOk = !this.options.protectReads || u.searchParams.get('token') === FAKE_TOKEN;
+      if (u.pathname !== '/ws/view' || !r || !readOk) {
         socket.destroy();
         return;
       }
