@@ -418,10 +418,10 @@ class MapLoader {
 const mapLoader = new MapLoader();
 
 overlayBox.addEventListener('change', () => {
+  // The switch takes effect at once on what is shown; the G_theta layer follows when loaded.
+  mapView.setOverlay(overlayBox.checked);
   const id = mapView.currentFrameId();
   if (overlayBox.checked && id !== undefined) mapLoader.request(id);
-  else mapView.setOverlay(false);
-  if (overlayBox.checked) mapView.setOverlay(true);
 });
 
 function selectFootpoint(id: string | null): void {
@@ -443,7 +443,7 @@ let afterToken: (() => void) | undefined;
 function askToken(then?: () => void): void {
   afterToken = then;
   tokenInput.value = '';
-  tokenDialog.showModal();
+  if (!tokenDialog.open) tokenDialog.showModal();
   tokenInput.focus();
 }
 byId('token-button').addEventListener('click', () => askToken());
@@ -650,7 +650,7 @@ window.helicordProbe = {
     follow: state.follow,
     mapFrame: mapView.currentFrameId() ?? null,
     selectedFootpoint: state.selectedFootpoint,
-    map: mapView.report,
+    map: { ...mapView.report, colourBar: mapView.colourBarUnit() },
     rateChart: { ...chartMarks(charts.rate).drawn, points: charts.rate.data.datasets[2].data.length },
     budgetChart: {
       ...chartMarks(charts.budget).drawn,

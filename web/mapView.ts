@@ -96,6 +96,11 @@ export class MapView {
     return this.overlay;
   }
 
+  /** The unit the colour bar shows now: G for bn, the G_theta unit under the overlay. */
+  colourBarUnit(): string {
+    return this.barUnit;
+  }
+
   setHighlight(id: string | number | null): void {
     this.highlighted = id === null ? null : String(id);
     this.draw();

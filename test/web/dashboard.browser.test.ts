@@ -19,7 +19,7 @@ type Probe = {
   region?: string; samples: number; lastSampleTime: string | null; link: string; linkOpens: number; follow: boolean;
   mapFrame: string | number | null; selectedFootpoint: string | null;
   alerts: { id: string; state: string; acknowledged: boolean }[];
-  map: { footpoints: number; outlines: number; glyphs: number; tracks: number; highlighted: string | null };
+  map: { footpoints: number; outlines: number; glyphs: number; tracks: number; highlighted: string | null; colourBar: string };
   rateChart: { markers: number; points: number; thresholdLines: number };
   budgetChart: { markers: number; points: number; thresholdLines: number; thresholds: number[] };
 };
@@ -181,9 +181,10 @@ describe.skipIf(!chromiumPath && !inCi)('dashboard in Chromium against the test 
     expect(await page.locator('#ledger th[data-key="id"]').getAttribute('aria-sort')).toBe('ascending');
     // The G_theta overlay switches the colour bar to the density.
     await page.locator('#overlay').check();
-    await page.waitForTimeout(300);
+    await until(page, 'the G_theta overlay', (s) => s.map.colourBar === 'Mx^2 s^-1 cm^-2');
     await page.locator('.panel.map').screenshot({ path: join(shots, 'fake-05-map-gtheta.png') });
     await page.locator('#overlay').uncheck();
+    await until(page, 'bn again', (s) => s.map.colourBar === 'G');
   });
 
   it('offers the series CSV and the map and charts as PNG', async () => {
