@@ -129,7 +129,8 @@ function withExactSplit(fp: FootpointAnalysis, split: ReturnType<typeof rateSamp
   });
   const pairs = fp.pairs.map((pair) => {
     const p = index.get(pair.a), q = index.get(pair.b);
-    return { ...pair, orbitExact: p !== undefined && q !== undefined ? split.orbit[p * k + q] : null };
+    const v = p !== undefined && q !== undefined ? split.orbit[p * k + q] : NaN;
+    return { ...pair, orbitExact: Number.isFinite(v) ? v : null };
   }).sort((x, y) => Math.abs(y.orbitExact ?? 0) - Math.abs(x.orbitExact ?? 0));
   return {
     ...fp, footpoints, pairs,

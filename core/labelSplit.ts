@@ -10,6 +10,12 @@
 // directly; a large footpoint instead gets one FFT convolution of its own pixels, whose field is
 // then summed over every labelled pixel: cost is chosen per footpoint. Background is the
 // remainder of the total, so spin + orbit + background = total to rounding.
+//
+// Direct pair sums grow as the square of the labelled pixels. When the whole pair matrix would
+// cost more than `pairBudget` visits, it is filled for the largest footpoints only (the others'
+// entries are NaN and `pairsComplete` is false); every spin is still exact, and the orbit total
+// stays exact because it is taken as the labelled-labelled double sum (one more convolution, of
+// all labelled pixels together) minus the spins.
 
 import type { FluxKernel } from './fluxKernel.js';
 import type { FluxTransport } from './fluxTransport.js';
@@ -29,6 +35,8 @@ export interface LabelSplit {
   readonly total: number;
   /** How many footpoints were handled by their own FFT convolution (the rest by direct sums). */
   readonly convolvedFootpoints: number;
+  /** False when the pair matrix holds only the pairs among the largest footpoints (NaN elsewhere). */
+  readonly pairsComplete: boolean;
 }
 
 export interface LabelSplitOptions {
@@ -40,6 +48,8 @@ export interface LabelSplitOptions {
    * pair visits per padded pixel. Infinity forces direct sums, 0 forces FFTs.
    */
   readonly directPairsPerPaddedPixel?: number;
+  /** Most direct pair visits spent on the pair matrix (default 4e7, about 0.15 s here). */
+  readonly pairBudget?: number;
 }
 
 export function splitByLabels(
@@ -72,6 +82,22 @@ export function splitByLabels(
       smallPixels -= counts[j];
     }
   }
+
+  // Footpoints whose mutual pairs are summed: all of them when the budget allows, else the
+  // largest until it is spent (big ones are always in, their FFT rows cost nothing more).
+  const pairBudget = options.pairBudget ?? 4e7;
+  const inPairs = new Uint8Array(k);
+  {
+    let spent = 0, pixelsIn = 0;
+    for (const j of order) {
+      const cost = big[j] ? 0 : counts[j] * pixelsIn;
+      if (!big[j] && spent + cost > pairBudget) continue;
+      inPairs[j] = 1;
+      spent += cost;
+      if (!big[j]) pixelsIn += counts[j];
+    }
+  }
+  const pairsComplete = inPairs.every((v) => v === 1);
 
   // Ordered-pair sums S[a][b] = Sum_{x in a, x' in b} (pair bracket), before physical factors.
   const sums = new Float64Array(k * k);
@@ -108,6 +134,7 @@ export function splitByLabels(
     for (let i = groupStart[ga]; i < groupStart[ga + 1]; i++) {
       const xi = xs[i], yi = ys[i], bi = bs[i], fxi = fxs[i], fyi = fys[i];
       for (let gb = ga; gb < groups; gb++) {
+        if (gb !== ga && !(inPairs[la] && inPairs[groupLabel[gb]])) continue;
         const from = gb === ga ? i + 1 : groupStart[gb];
         const to = groupStart[gb + 1];
         let s = 0;
@@ -151,6 +178,8 @@ export function splitByLabels(
   let spinTotal = 0, orbitTotal = 0;
   for (let a = 0; a < k; a++) {
     for (let b = a; b < k; b++) {
+      const known = a === b || big[a] || big[b] || (inPairs[a] && inPairs[b]);
+      if (!known) { orbit[a * k + b] = NaN; orbit[b * k + a] = NaN; continue; }
       // Direct sums sit in the upper triangle; FFT sums at [target][source] for source a big.
       let v = directFactor * (sums[a * k + b] + (a === b ? 0 : sums[b * k + a]));
       if (a === b) v += fftFactor * fftSums[a * k + a];
@@ -159,9 +188,18 @@ export function splitByLabels(
       else { orbit[a * k + b] = v; orbit[b * k + a] = v; orbitTotal += v; }
     }
   }
+  if (!pairsComplete) {
+    // Orbit total = (labelled-labelled double sum) - spins, by one convolution of all labelled pixels.
+    mb.fill(0); mfx.fill(0); mfy.fill(0);
+    for (let i = 0; i < n; i++) if (valid[i] && labels[i] > 0) { mb[i] = bn[i]; mfx[i] = fx[i]; mfy[i] = fy[i]; }
+    const { p, q, r } = convolveTransport(kernel, { bn: mb, fx: mfx, fy: mfy });
+    let labelled = 0;
+    for (let i = 0; i < n; i++) if (valid[i] && labels[i] > 0) labelled += fy[i] * p[i] - fx[i] * q[i] - bn[i] * r[i];
+    orbitTotal = fftFactor * labelled - spinTotal;
+  }
   const total = options.total ?? helicityFluxTotal(kernel, t);
   return {
     ids, spin, orbit, spinTotal, orbitTotal, background: total - spinTotal - orbitTotal, total,
-    convolvedFootpoints: big.reduce((s, v) => s + v, 0),
+    convolvedFootpoints: big.reduce((s, v) => s + v, 0), pairsComplete,
   };
 }

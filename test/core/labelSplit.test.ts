@@ -61,4 +61,19 @@ describe('exact split by labels', () => {
       close(s.spinTotal + s.orbitTotal + s.background, helicityFlux(kernel, t).total);
     });
   }
+
+  it('a pair budget too small for every pair: spins and totals stay exact, pairs among the largest are kept, the rest are NaN', () => {
+    const full = splitByLabels(kernel, t, labels, { directPairsPerPaddedPixel: Infinity });
+    expect(full.pairsComplete).toBe(true);
+    // Pixel counts: label 3 has 16, 7 has 25, 9 has 21: a budget of 600 pair visits fits 7 with 9 only.
+    const part = splitByLabels(kernel, t, labels, { directPairsPerPaddedPixel: Infinity, pairBudget: 600 });
+    expect(part.pairsComplete).toBe(false);
+    const scale = Math.abs(full.total) + Math.abs(full.spinTotal) + Math.abs(full.orbitTotal);
+    for (let a = 0; a < 3; a++) expect(Math.abs(part.spin[a] - full.spin[a]) / scale).toBeLessThan(1e-12);
+    expect(Math.abs(part.orbitTotal - full.orbitTotal) / scale).toBeLessThan(1e-9);
+    expect(Math.abs(part.background - full.background) / scale).toBeLessThan(1e-9);
+    expect(part.orbit[1 * 3 + 2]).toBeCloseTo(full.orbit[1 * 3 + 2], 20);
+    expect(Number.isNaN(part.orbit[0 * 3 + 1])).toBe(true);
+    expect(Number.isNaN(part.orbit[0 * 3 + 2])).toBe(true);
+  });
 });
