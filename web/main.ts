@@ -14,7 +14,7 @@ import { Ledger } from './ledger.js';
 import { MapView, type MapLayer, type MapScene } from './mapView.js';
 import { measureChartRedraw, measureMapDraw } from './pagePerformance.js';
 import { isRegionName, routes } from './routes.js';
-import { backfillSince, isoToMs, mergeGaps, mergeSamples, nearestIndex, type GapSpan, type SeriesPoint } from './seriesMerge.js';
+import { applySnapshot, backfillSince, isoToMs, mergeGaps, mergeSamples, nearestIndex, type GapSpan, type SeriesPoint } from './seriesMerge.js';
 import { tokenStore } from './tokenStore.js';
 import { formatDuration, formatHelicity, formatRate, formatUtc } from './unitFormat.js';
 import { ViewerLink, type LinkState } from './viewerSocket.js';
@@ -169,9 +169,12 @@ function addSamples(samples: readonly WireSample[]): void {
 
 function onViewerMessage(m: ViewerMessage): void {
   switch (m.type) {
-    case 'snapshot':
-      addSamples(m.samples ?? []);
-      state.gaps = mergeGaps(state.gaps, m.gaps ?? []);
+    case 'snapshot': {
+      // Authoritative over its span: after a rewind the monitor resends one.
+      const pickedT = state.pickedIndex >= 0 ? state.series[state.pickedIndex]?.t : undefined;
+      state.series = applySnapshot(state.series, m.samples ?? []);
+      if (pickedT !== undefined) state.pickedIndex = nearestIndex(state.series, pickedT);
+      state.gaps = mergeGaps([], m.gaps ?? []);
       state.alerts = mergeAlerts([], m.alerts ?? []);
       state.status = m.status;
       if (m.latest_frame) onFrame(m.latest_frame);
@@ -179,6 +182,7 @@ function onViewerMessage(m: ViewerMessage): void {
       renderFeed();
       scheduleCharts();
       break;
+    }
     case 'sample':
       addSamples([m.sample]);
       scheduleCharts();

@@ -105,3 +105,19 @@ export function medianStepMs(series: readonly SeriesPoint[], maxSteps = 4096): n
   steps.sort((a, b) => a - b);
   return steps[steps.length >> 1];
 }
+
+/**
+ * Applies a snapshot: the monitor's newest samples, authoritative from the first of them on. Held
+ * samples at or after that time are replaced by the snapshot's (a rewind after a late frame moves
+ * pair samples to other mid-times, so merging alone would keep stale ones); older held samples
+ * stay. An empty snapshot means the region holds no sample at all.
+ */
+export function applySnapshot(series: readonly SeriesPoint[], snapshot: readonly WireSample[]): SeriesPoint[] {
+  const fresh = mergeSamples([], snapshot);
+  if (fresh.length === 0) return [];
+  const from = fresh[0].t;
+  const kept: SeriesPoint[] = [];
+  for (const p of series) if (p.t < from) kept.push(p);
+  for (const p of fresh) kept.push(p);
+  return kept;
+}

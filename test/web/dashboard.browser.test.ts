@@ -219,6 +219,17 @@ describe.skipIf(!chromiumPath && !inCi)('dashboard in Chromium against the test 
     await until(page, 'a live sample after the restart', (s) => s.samples === 37);
   });
 
+  it('takes a snapshot sent after a rewind as the truth over its span', async () => {
+    const before = await probe(page);
+    // A late frame moved the newest pair sample to another mid-time.
+    const dropped = region.samples.pop()!;
+    const moved = { ...dropped, time: new Date(Date.parse(dropped.time) - 6 * 60_000).toISOString(), rate_total: 1.23e36 };
+    region.samples.push(moved);
+    monitor.resync(region);
+    const p = await until(page, 'the rewound series', (s) => s.lastSampleTime === moved.time);
+    expect(p.samples).toBe(before.samples);
+  });
+
   it('shows replay controls for a replayed region and sends the actions', async () => {
     region.replay = { state: 'playing', speed: 60, position: 10, total: 40 };
     monitor.broadcast({ type: 'status', status: monitor.status(region) });

@@ -88,3 +88,18 @@ describe('gaps and lookups', () => {
     expect(medianStepMs(s)).toBe(12 * 60_000);
   });
 });
+
+import { applySnapshot } from '../../web/seriesMerge.js';
+
+describe('applySnapshot', () => {
+  it('replaces held samples from the snapshot start on (a rewind moved pair mid-times) and keeps older ones', () => {
+    const held = mergeSamples([], [sample(at(0), 1), sample(at(12), 2), sample(at(24), 3), sample(at(36), 4)]);
+    // After a late frame at 18 min the monitor's newest samples sit at 15 and 21 instead of 24.
+    const snap = [sample(at(15), 20), sample(at(21), 30), sample(at(36), 40)];
+    const next = applySnapshot(held, snap);
+    expect(next.map((p) => [new Date(p.t).toISOString(), p.s.rate_total])).toEqual([
+      [at(0), 1], [at(12), 2], [at(15), 20], [at(21), 30], [at(36), 40],
+    ]);
+    expect(applySnapshot(held, [])).toEqual([]);
+  });
+});

@@ -225,12 +225,7 @@ export class FakeMonitor {
             ws.send(JSON.stringify({ type: 'backfill', samples: r.samples.filter((s) => Date.parse(s.time) > since) }));
           }
         });
-        const last = r.frames.at(-1);
-        // A short snapshot (the last 50 samples): the page must merge it with its HTTP history.
-        ws.send(JSON.stringify({
-          type: 'snapshot', region: r.name, samples: r.samples.slice(-50), gaps: r.gaps, alerts: r.alerts, status: this.status(r),
-          latest_frame: last ? { frame_id: last.frame_id, time: last.time } : null,
-        }));
+        ws.send(JSON.stringify(this.snapshot(r)));
       });
     });
     await new Promise<void>((resolve, reject) => {
@@ -250,6 +245,20 @@ export class FakeMonitor {
       this.server.closeAllConnections();
     });
     this.server = undefined;
+  }
+
+  /** A short snapshot (the last 50 samples): the page must combine it with its HTTP history. */
+  snapshot(r: FakeRegionState): unknown {
+    const last = r.frames.at(-1);
+    return {
+      type: 'snapshot', region: r.name, samples: r.samples.slice(-50), gaps: r.gaps, alerts: r.alerts, status: this.status(r),
+      latest_frame: last ? { frame_id: last.frame_id, time: last.time } : null,
+    };
+  }
+
+  /** What the monitor does after a rewind: a fresh snapshot to every viewer. */
+  resync(r: FakeRegionState): void {
+    this.broadcast(this.snapshot(r));
   }
 
   status(r: FakeRegionState): FeedStatus {
