@@ -1,34 +1,129 @@
-// A robust noise level of a magnetogram from the frame itself: 1.4826 times the median absolute
-// deviation (the Gaussian-consistent MAD, common practice) of the weak-field pixels, found by
-// iterating: pixels beyond `clip` sigma are strong field, not noise.
+// The noise level of a bn map from the map itself: the median absolute deviation of the weak-field
+// pixels, found by clipping strong fields away until the estimate settles. The MAD ignores the
+// footpoints (they are far from the median) as long as most pixels are quiet, and clipping at a few
+// sigma removes most of their weak tails too. The MAD of Gaussian noise clipped at +-k sigma is
+// smaller than the unclipped one; that known factor is divided out. Large maps are sampled on a
+// regular stride: 65536 pixels fix the MAD to about 0.5 %.
 
-/** Median of the finite values (NaN when there are none). Sorts a copy. */
-export function median(values: ArrayLike<number>): number {
-  const a: number[] = [];
-  for (let i = 0; i < values.length; i++) if (Number.isFinite(values[i])) a.push(values[i]);
-  if (a.length === 0) return NaN;
-  const f = Float64Array.from(a).sort();
-  const m = f.length >> 1;
-  return f.length % 2 ? f[m] : 0.5 * (f[m - 1] + f[m]);
+/** MAD to sigma for Gaussian noise: 1 / Phi^-1(3/4). */
+export const MAD_TO_SIGMA = 1.482602218505602;
+
+export interface NoiseLevel {
+  /** Standard deviation of the noise, G (0 when most pixels are exactly equal, e.g. noise-free synthetic maps). */
+  readonly sigma: number;
+  /** Median of the weak-field pixels, G. */
+  readonly median: number;
+  /** Pixels the last estimate used. */
+  readonly used: number;
 }
 
-/** Noise sigma (same unit as the map) from weak-field pixels; NaN when the map has no data. */
-export function noiseLevel(map: ArrayLike<number>, clip = 3, iterations = 5): number {
-  let sigma = Infinity;
-  let centre = 0;
-  for (let it = 0; it < iterations; it++) {
-    const weak: number[] = [];
-    for (let i = 0; i < map.length; i++) {
-      const v = map[i];
-      if (Number.isFinite(v) && Math.abs(v - centre) <= clip * sigma) weak.push(v);
-    }
-    if (weak.length === 0) break;
-    centre = median(weak);
-    const dev = weak.map((v) => Math.abs(v - centre));
-    const next = 1.4826 * median(dev);
-    if (!(next > 0)) return next === 0 ? 0 : NaN;
-    if (Math.abs(next - sigma) <= 1e-6 * next) { sigma = next; break; }
-    sigma = next;
+export interface NoiseOptions {
+  /** Pixels farther than this many sigma from the median are strong field and left out (default 2). */
+  readonly clip?: number;
+  /** Most pixels sampled (default 65536). */
+  readonly maxSamples?: number;
+}
+
+/** The standard normal distribution function, from erf (Abramowitz & Stegun 7.1.26, |error| < 1.5e-7). */
+export function normalCdf(x: number): number {
+  const z = Math.abs(x) / Math.SQRT2;
+  const t = 1 / (1 + 0.3275911 * z);
+  const erf = 1 - t * (0.254829592 + t * (-0.284496736 + t * (1.421413741 + t * (-1.453152027 + t * 1.061405429)))) * Math.exp(-z * z);
+  return x >= 0 ? 0.5 * (1 + erf) : 0.5 * (1 - erf);
+}
+
+/**
+ * Median of |x| / sigma for Gaussian noise clipped to |x| < k sigma: the m with
+ * P(|x| < m) = P(|x| < k) / 2, i.e. Phi(m) = 1/4 + Phi(k)/2 (bisection). 1/MAD_TO_SIGMA for k = Infinity.
+ */
+export function clippedMadOfUnitNormal(k: number): number {
+  if (!Number.isFinite(k)) return 1 / MAD_TO_SIGMA;
+  const target = 0.25 + 0.5 * normalCdf(k);
+  let lo = 0, hi = k;
+  for (let i = 0; i < 60; i++) {
+    const mid = (lo + hi) / 2;
+    if (normalCdf(mid) < target) lo = mid; else hi = mid;
   }
-  return Number.isFinite(sigma) ? sigma : NaN;
+  return (lo + hi) / 2;
+}
+
+/**
+ * k-th smallest of a[0..n) (0-based), reordering a in place (Hoare's selection). The pivot index
+ * comes from a fixed pseudo-random sequence: a middle pivot degrades badly on the V-shaped arrays
+ * that |x - median| leaves after a first selection.
+ */
+export function selectKth(a: Float64Array, n: number, k: number): number {
+  let lo = 0, hi = n - 1;
+  let seed = 0x9e3779b9;
+  while (lo < hi) {
+    seed = (Math.imul(seed, 1103515245) + 12345) >>> 0;
+    const pivot = a[lo + (seed % (hi - lo + 1))];
+    let i = lo, j = hi;
+    while (i <= j) {
+      while (a[i] < pivot) i++;
+      while (a[j] > pivot) j--;
+      if (i <= j) {
+        const t = a[i]; a[i] = a[j]; a[j] = t;
+        i++; j--;
+      }
+    }
+    if (k <= j) hi = j;
+    else if (k >= i) lo = i;
+    else return a[k];
+  }
+  return a[k];
+}
+
+function median(a: Float64Array, n: number): number {
+  if (n % 2 === 1) return selectKth(a, n, (n - 1) >> 1);
+  const hi = selectKth(a, n, n >> 1);
+  // After selection everything below index n/2 is <= hi: the lower middle is their maximum.
+  let lo = -Infinity;
+  for (let i = 0; i < n >> 1; i++) if (a[i] > lo) lo = a[i];
+  return (lo + hi) / 2;
+}
+
+/** Robust noise level of the finite values of `map`; throws RangeError when none is finite. */
+export function estimateNoiseLevel(map: ArrayLike<number>, options: NoiseOptions = {}): NoiseLevel {
+  const clip = options.clip ?? 2;
+  const maxSamples = options.maxSamples ?? 65536;
+  let finite = 0;
+  for (let i = 0; i < map.length; i++) if (Number.isFinite(map[i])) finite++;
+  if (finite === 0) throw new RangeError('no finite value to estimate the noise from');
+  const stride = Math.max(1, Math.floor(finite / maxSamples));
+  const values = new Float64Array(Math.ceil(finite / stride));
+  let count = 0;
+  for (let i = 0, seen = 0; i < map.length; i++) {
+    const v = map[i];
+    if (!Number.isFinite(v)) continue;
+    if (seen++ % stride === 0) values[count++] = v;
+  }
+  const work = new Float64Array(count);
+  let lo = -Infinity, hi = Infinity;
+  let med = 0, sigma = 0, used = 0;
+  for (let iter = 0; iter < 12; iter++) {
+    let n = 0;
+    for (let i = 0; i < count; i++) {
+      const v = values[i];
+      if (v >= lo && v <= hi) work[n++] = v;
+    }
+    if (n === 0) break;
+    med = median(work, n);
+    // Deviations refilled in the original order: the order selection leaves behind is slow to select in again.
+    n = 0;
+    for (let i = 0; i < count; i++) {
+      const v = values[i];
+      if (v >= lo && v <= hi) work[n++] = Math.abs(v - med);
+    }
+    // The first pass is unclipped; later ones are clipped at +-clip sigma.
+    const next = median(work, n) / (iter === 0 ? 1 / MAD_TO_SIGMA : clippedMadOfUnitNormal(clip));
+    used = n;
+    // Settled to 0.1 %: far below the sampling scatter of a MAD.
+    const settled = iter > 0 && Math.abs(next - sigma) <= 1e-3 * next;
+    sigma = next;
+    if (settled || sigma === 0) break;
+    lo = med - clip * sigma;
+    hi = med + clip * sigma;
+  }
+  return { sigma, median: med, used };
 }

@@ -12,7 +12,7 @@ import { convolveTransport, helicityFluxFromConvolutions } from './helicityFlux.
 import type { LabelSplit } from './labelSplit.js';
 import { splitByLabels } from './labelSplit.js';
 import { emergenceShear } from './emergenceShear.js';
-import { noiseLevel } from './noiseLevel.js';
+import { estimateNoiseLevel } from './noiseLevel.js';
 import { rateSigmaFromNoise } from './rateUncertainty.js';
 
 export interface RateSample {
@@ -83,7 +83,7 @@ export function rateSample(input: RateInput): RateResult {
   const es = vector
     ? emergenceShear({ ...frame, vx: input.velocity?.vx ?? frame.vx, vy: input.velocity?.vy ?? frame.vy, vz: input.velocity?.vz ?? frame.vz }, flux.apx, flux.apy)
     : undefined;
-  const noiseG = input.noiseG ?? noiseLevel(frame.bn);
+  const noiseG = input.noiseG ?? estimateNoiseLevel(frame.bn).sigma;
   // The uncertainty needs u itself; where the flux transport is Bn u with u given, use it.
   const ux = input.velocity?.vx ?? frame.vx!;
   const uy = input.velocity?.vy ?? frame.vy!;

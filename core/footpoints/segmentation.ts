@@ -5,7 +5,7 @@
 
 import type { Grid } from '../grid.js';
 import { pixelFluxMx } from '../units.js';
-import { estimateNoiseLevel } from './noiseLevel.js';
+import { estimateNoiseLevel } from '../noiseLevel.js';
 import { smoothMap } from './smoothing.js';
 import { connectedComponents } from './connectedComponents.js';
 import { downhillTessellation } from './tessellation.js';

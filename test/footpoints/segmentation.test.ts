@@ -1,6 +1,6 @@
 import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
-import { clippedMadOfUnitNormal, estimateNoiseLevel, MAD_TO_SIGMA } from '../../core/footpoints/noiseLevel.js';
+import { clippedMadOfUnitNormal, estimateNoiseLevel, MAD_TO_SIGMA } from '../../core/noiseLevel.js';
 import { segmentFootpoints } from '../../core/footpoints/segmentation.js';
 import { smoothMap } from '../../core/footpoints/smoothing.js';
 import { regionProperties } from '../../core/footpoints/regionProperties.js';
