@@ -94,6 +94,8 @@ describe.skipIf(!chromiumPath && !inCi)('dashboard in Chromium against the test 
     expect(await page.locator('#ledger tbody tr').count()).toBe(3);
     expect(await page.locator('#region option').count()).toBe(2);
     expect(await page.locator('#caution').innerText()).toMatch(/research indicators, not forecasts.*NOAA SWPC/);
+    // Said once on the page, not repeated per panel.
+    expect(((await page.locator('body').innerText()).match(/research indicators/g) ?? []).length).toBe(1);
     expect(await page.locator('#feed').innerText()).toMatch(/live.*last frame 2026-03-14 11:48:00 UTC.*cadence 12 min.*1 gap/s);
     // Before any alert, the budget chart shows the published default thresholds.
     expect(p.budgetChart.thresholds).toEqual([2e42, 9e41]);
