@@ -10,7 +10,7 @@
 // A restart just asks every region to process what is pending.
 import { join } from 'node:path';
 import type { Observable } from 'rxjs';
-import { Subject, concatMap, defer, from, groupBy, map, mergeMap, tap, takeWhile, catchError, EMPTY } from 'rxjs';
+import { Subject, concatMap, defer, from, groupBy, map, mergeMap, of, tap, catchError, EMPTY } from 'rxjs';
 import { accumulateBudget } from '../core/budget.js';
 import type { BudgetPoint } from '../core/budget.js';
 import type { Frame } from '../core/frame.js';
@@ -357,20 +357,22 @@ export class Pipeline {
         rewound = frames.some((f) => (f as FrameRow & { rewound?: boolean }).rewound);
         return from(frames);
       }),
-      // stop between frames when the server shuts down (the rest is pending for the restart)
-      takeWhile(() => !this.closed),
-      // pair: the frame and the last frame processed before it
-      map((frame) => ({ frame, previous: this.store.lastGood(region, frame.time) })),
-      // compute in a worker
-      concatMap(({ frame, previous }) => from(this.compute(region, frame, previous))),
-      // accumulate the budget
-      map((a) => this.accumulate(region, a)),
-      // evaluate the rules
-      map((a) => this.evaluate(region, a)),
-      // store
-      concatMap((a) => from(this.commit(region, a).then(() => a))),
-      // broadcast
-      tap((a) => this.broadcast(region, a)),
+      // One frame at a time through the stages, so each is paired with a committed predecessor;
+      // on shutdown the rest stays pending for the restart.
+      concatMap((frame) => defer(() => (this.closed ? EMPTY : of(frame))).pipe(
+        // pair: with the last frame processed before it
+        map((f) => ({ frame: f, previous: this.store.lastGood(region, f.time) })),
+        // compute in a worker
+        concatMap(({ frame: f, previous }) => from(this.compute(region, f, previous))),
+        // accumulate the budget
+        map((a) => this.accumulate(region, a)),
+        // evaluate the rules
+        map((a) => this.evaluate(region, a)),
+        // store
+        concatMap((a) => from(this.commit(region, a).then(() => a))),
+        // broadcast
+        tap((a) => this.broadcast(region, a)),
+      )),
       catchError((e) => { this.log(`${region}: processing stopped: ${(e as Error).stack ?? e}`); return EMPTY; }),
       tap({
         finalize: () => {
