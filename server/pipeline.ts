@@ -338,8 +338,8 @@ export class Pipeline {
         if (now && now.record.state === m.record.state && now.record.acknowledged) machines[id] = { ...m, record: { ...m.record, acknowledged: true } };
       }
       const carry: Carry = { ...restored, rules: { ...restored.rules, machines } };
-      const n = await this.writer.call('rewind', region, before?.time ?? Number.MIN_SAFE_INTEGER, carry);
       this.setCarry(region, carry);
+      const n = await this.writer.call('rewind', region, before?.time ?? Number.MIN_SAFE_INTEGER, carry);
       this.pool.forget(region);
       this.log(`${region}: a frame came in late; ${n} later frame(s) are processed again in order`);
       return this.store.unprocessed(region).map((f) => ({ ...f, rewound: true }) as FrameRow);
@@ -444,6 +444,9 @@ export class Pipeline {
 
   private async commit(region: string, a: Analysed): Promise<void> {
     const reply = a.reply;
+    // In memory first (synchronously after the rules), so that an acknowledgement or a refusal
+    // arriving while the write is under way builds on this state, and its own write comes after.
+    this.setCarry(region, a.carry);
     await this.writer.call('commitProcessed', {
       region, frameId: a.frame.id, processed: a.failure ? 2 : 1, carry: a.carry,
       ...(a.row && a.sample && { row: a.row, sampleTime: a.sample.time }),
@@ -453,7 +456,6 @@ export class Pipeline {
       ...(reply.ok && reply.footpoints !== undefined && { footpoints: reply.footpoints }),
       ...(reply.ok && reply.events !== undefined && { events: reply.events }),
     });
-    this.setCarry(region, a.carry);
     if (a.failure) {
       await this.recordRefusal(region, {
         status: 422, source: a.frame.source, field: a.failure.field,
