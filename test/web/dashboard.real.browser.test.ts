@@ -20,7 +20,7 @@ const root = fileURLToPath(new URL('../..', import.meta.url));
 const haveServer = realMonitorAvailable(root);
 
 type Probe = {
-  region?: string; samples: number; link: string; linkOpens: number; mapFrame: string | number | null;
+  region?: string; samples: number; link: string; linkOpens: number; mapFrame: string | number | null; follow: boolean; selectedFootpoint: string | null;
   alerts: { id: string; rule: string; state: string }[];
   map: { footpoints: number; rasterMs: number; highlighted: string | null };
   rateChart: { markers: number; points: number };
@@ -99,19 +99,24 @@ describe.skipIf((!chromiumPath || !haveServer) && !inCi)('dashboard in Chromium 
     await page.screenshot({ path: join(shots, 'real-02-alert.png'), fullPage: true });
   }, 60_000);
 
-  it('shows the map of the followed frame, and highlights a footpoint from the ledger when the server sends any', async () => {
-    const p = await probe(page);
-    expect(p.mapFrame).not.toBeNull();
+  it('shows the map of a picked frame, and highlights a footpoint from the ledger when the server sends any', async () => {
+    // Pick the newest sample on the chart (keyboard), so the map and the ledger stay on one frame
+    // while the demo streams on.
+    await page.locator('#rate-chart').focus();
+    await page.keyboard.press('End');
+    const p = await until(page, 'a picked frame on the map', (s) => !s.follow && s.mapFrame !== null && s.map.rasterMs > 0);
     if (p.map.footpoints === 0) {
       process.stdout.write('\n[real monitor] the footpoints route answered no footpoints; the ledger-highlight check ran against the test double only\n');
       expect(await page.locator('#ledger tbody td.empty').count()).toBe(1);
       return;
     }
-    const row = page.locator('#ledger tbody tr').first();
-    const id = await row.getAttribute('data-id');
-    await row.click();
-    await until(page, 'the footpoint highlighted', (s) => s.map.highlighted === id);
+    expect(await page.locator('#ledger tbody tr').count()).toBe(p.map.footpoints);
+    const id = (await page.locator('#ledger tbody tr').first().getAttribute('data-id'))!;
+    await page.locator(`#ledger tbody tr[data-id="${id}"]`).click();
+    await until(page, 'the footpoint highlighted', (s) => s.selectedFootpoint === id && s.map.highlighted === id);
     await page.locator('.panel.map').screenshot({ path: join(shots, 'real-03-map-highlight.png') });
+    await page.locator('#follow').click();
+    await until(page, 'following again', (s) => s.follow);
   });
 
   it('pauses and resumes the demo replay from the page with the token', async () => {
