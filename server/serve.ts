@@ -129,10 +129,18 @@ export async function serve(options: ServeOptions): Promise<RunningMonitor> {
   const sockets = attachWebSockets(server, { store, pipeline, hub, token, readToken, bodyLimit, snapshot });
 
   const host = options.host ?? '127.0.0.1';
-  await new Promise<void>((ok, fail) => {
-    server.once('error', fail);
-    server.listen(options.port, host, () => { server.off('error', fail); ok(); });
-  });
+  try {
+    await new Promise<void>((ok, fail) => {
+      server.once('error', fail);
+      server.listen(options.port, host, () => { server.off('error', fail); ok(); });
+    });
+  } catch (e) {
+    // Port taken or not allowed: give the threads and the database back before reporting it.
+    loop.stop();
+    await Promise.all([pool.close(), intake.close(), writer.close()]);
+    store.close();
+    throw new Error(`cannot listen on ${host}:${options.port}: ${(e as Error).message}`);
+  }
   const port = (server.address() as AddressInfo).port;
   const url = `http://${host.includes(':') ? `[${host}]` : host}:${port}`;
 

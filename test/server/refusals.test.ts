@@ -1,10 +1,11 @@
 // Every kind of awkward frame gets its documented answer (docs/api.md) and leaves the stored
 // state as it was; every refusal is recorded with its reason. Out-of-order frames within the
 // lateness are put back in order: the result equals the in-order run exactly.
+import { rmSync } from 'node:fs';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { SeriesRow } from '../../core/seriesColumns.js';
 import type { TestMonitor } from './support.js';
-import { TOKEN, T0, circlingFrame, frameBody, getJson, irregularTimes, postFrame, startMonitor, waitIdle } from './support.js';
+import { TOKEN, T0, circlingFrame, frameBody, getJson, irregularTimes, postFrame, startMonitor, tempDir, waitIdle } from './support.js';
 
 interface Stored { series: unknown; frames: unknown; alerts: unknown }
 
@@ -126,6 +127,47 @@ describe('reading protected', () => {
       expect((await fetch(`${m.url}/api/health`)).status).toBe(200);
     } finally {
       await m.stop();
+    }
+  });
+});
+
+describe('start-up', () => {
+  it('a port in use is reported, and the threads are given back', async () => {
+    const a = await startMonitor();
+    const port = Number(new URL(a.url).port);
+    try {
+      await expect(startMonitor({ port })).rejects.toThrow(/cannot listen on 127\.0\.0\.1:\d+/);
+    } finally {
+      await a.stop();
+    }
+  });
+
+  it('without HELICORD_TOKEN a token is made at first start, stored with mode 0600 and shown once', async () => {
+    const { statSync, readFileSync } = await import('node:fs');
+    const { join } = await import('node:path');
+    const { serve } = await import('../../server/serve.js');
+    const saved = process.env.HELICORD_TOKEN;
+    delete process.env.HELICORD_TOKEN;
+    const dir = tempDir();
+    const lines: string[] = [];
+    try {
+      let m = await serve({ dataDir: dir, port: 0, workers: 1, log: (l) => lines.push(l) });
+      await m.close();
+      const file = join(dir, 'token');
+      expect(statSync(file).mode & 0o777).toBe(0o600);
+      const token = readFileSync(file, 'utf8').trim();
+      expect(lines.filter((l) => l.includes(token))).toHaveLength(1);
+      m = await serve({ dataDir: dir, port: 0, workers: 1, log: (l) => lines.push(l) });
+      try {
+        expect(lines.filter((l) => l.includes(token))).toHaveLength(1); // not shown again
+        const ok = await fetch(`${m.url}/api/regions/x/settings`, { method: 'PUT', headers: { authorization: `Bearer ${token}`, 'content-type': 'application/json' }, body: '{}' });
+        expect(ok.status).toBe(200);
+      } finally {
+        await m.close();
+      }
+    } finally {
+      process.env.HELICORD_TOKEN = saved;
+      rmSync(dir, { recursive: true, force: true });
     }
   });
 });
