@@ -63,7 +63,7 @@ export function formatOmega(radPerS: number | null | undefined): string {
   if (radPerS === null || radPerS === undefined || !Number.isFinite(radPerS)) return NO_VALUE;
   const d = radPerS * DEG_PER_H_PER_RAD_PER_S;
   const a = Math.abs(d);
-  const text = a >= 100 ? a.toFixed(0) : a >= 10 ? a.toFixed(1) : a.toPrecision(2);
+  const text = a >= 100 ? a.toFixed(0) : a >= 10 ? a.toFixed(1) : a >= 0.01 ? a.toPrecision(2) : formatSci(a, 2);
   if (Number(text) === 0) return '0°/h';
   return `${d < 0 ? MINUS : '+'}${text}°/h`;
 }

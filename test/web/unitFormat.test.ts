@@ -35,6 +35,7 @@ describe('unit formatting', () => {
     expect(formatOmega((3.1 * Math.PI) / 180 / 3600)).toBe('+3.1°/h');
     expect(formatOmega((-12.34 * Math.PI) / 180 / 3600)).toBe('\u221212.3°/h');
     expect(formatOmega(0)).toBe('0°/h');
+    expect(formatOmega((7.9e-6 * Math.PI) / 180 / 3600)).toBe('+7.9e-6°/h'); // near-still spots stay short
   });
 
   it('writes UTC times and durations', () => {
