@@ -8,6 +8,8 @@ import { analyseFrame } from '../core/frameAnalysis.js';
 import type { FluxKernelCache } from '../core/fluxKernel.js';
 import type { Frame } from '../core/frame.js';
 import type { RateSample } from '../core/rateSample.js';
+import type { FootpointAnalysis } from '../core/footpoints/analyseFootpoints.js';
+import { footpointReport } from '../core/footpoints/footpointReport.js';
 import { loadFrameFile } from '../server/frameFiles.js';
 import { reasonOf } from './archiveSource.js';
 
@@ -66,12 +68,18 @@ export async function analyseChunk(
     if (primer) continue;
     const { sample, waiting, maps, state: _next, ...rest } = result as FrameAnalysis & Record<string, unknown>;
     void _next;
+    // Footpoints travel as their JSON-ready report (table, events, pairs), without the label
+    // map and the tracker state, which stay in the worker.
+    const extra: Record<string, unknown> = { ...rest };
+    const fp = extra.footpoints as FootpointAnalysis | undefined;
+    if (fp && fp.labels instanceof Int32Array && fp.state !== undefined) extra.footpoints = footpointReport(fp, true);
+    if (Array.isArray(extra.velocityNotes) && extra.velocityNotes.length === 0) delete extra.velocityNotes;
     if (options.writeMaps) await options.writeMaps(job, frame, maps, sample);
     onOutcome({
       index: job.index, file: job.file, time: frame.time,
       ...(sample && { sample }),
       ...(waiting !== undefined && { waiting }),
-      ...(Object.keys(rest).length > 0 && { extra: rest }),
+      ...(Object.keys(extra).length > 0 && { extra }),
     });
   }
 }

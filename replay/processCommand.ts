@@ -169,6 +169,19 @@ function buildSeries(samples: { sample: RateSample; index: number; file: string 
   return { rows, budget, rules, alertChanges };
 }
 
+/** Times of footpoints and events (UTC ms in core) as ISO strings. */
+const TIME_KEYS = new Set(['time', 'born', 'died', 'since']);
+
+/** JSON.stringify replacer: typed arrays as arrays, NaN and infinities as null, times as ISO. */
+function jsonValue(key: string, v: unknown): unknown {
+  if (ArrayBuffer.isView(v)) return Array.from(v as unknown as ArrayLike<number>);
+  if (typeof v === 'number') {
+    if (!Number.isFinite(v)) return null;
+    if (TIME_KEYS.has(key)) return new Date(v).toISOString();
+  }
+  return v;
+}
+
 function median(values: number[]): number | undefined {
   if (values.length === 0) return undefined;
   const a = [...values].sort((p, q) => p - q);
@@ -218,20 +231,28 @@ export async function processFolder(args: ProcessArgs): Promise<ProcessSummary> 
 
   await writeFile(args.out, seriesCsv(series.rows));
   if (args.json !== undefined) {
-    const footpoints = extras.filter((e) => 'footpoints' in e.extra).map((e) => ({ file: basename(e.file), time: e.time !== undefined ? new Date(e.time).toISOString() : null, footpoints: e.extra.footpoints }));
-    const events = extras.flatMap((e) => (Array.isArray(e.extra.events) ? e.extra.events : []));
+    // Footpoints: one report per analysed frame (at the time the rate was taken); events from
+    // the reports (or from the analysis itself), with the frame they came from.
+    const footpoints = extras.filter((e) => e.extra.footpoints !== undefined)
+      .map((e) => ({ file: basename(e.file), ...(e.extra.footpoints as Record<string, unknown>) }));
+    const events = extras.flatMap((e) => {
+      const list = (e.extra.footpoints as { events?: unknown } | undefined)?.events ?? e.extra.events;
+      return Array.isArray(list) ? list.map((ev: unknown) => ({ file: basename(e.file), ...(ev as Record<string, unknown>) })) : [];
+    });
+    const velocityNotes = [...new Set(extras.flatMap((e) => (Array.isArray(e.extra.velocityNotes) ? e.extra.velocityNotes as string[] : [])))];
     const json = {
       folder: args.folder,
       frames: { used, skipped, reordered: index.reordered, waiting },
       columns: SERIES_COLUMNS,
       samples: series.rows,
       gaps: series.budget.gaps.map((g) => ({ from: new Date(g.from).toISOString(), to: new Date(g.to).toISOString(), bridged: g.bridged, median_cadence_s: g.medianCadenceS })),
+      ...(velocityNotes.length > 0 && { velocity_notes: velocityNotes }),
       ...(footpoints.length > 0 && { footpoints }),
       ...(events.length > 0 && { events }),
       alerts: alertRecords(series.rules),
       alert_changes: series.alertChanges,
     };
-    await writeFile(args.json, JSON.stringify(json, (_k, v: unknown) => (ArrayBuffer.isView(v) ? Array.from(v as unknown as ArrayLike<number>) : typeof v === 'number' && !Number.isFinite(v) ? null : v), 2));
+    await writeFile(args.json, JSON.stringify(json, jsonValue, 2));
   }
   progress.line(`used ${used} frame${used === 1 ? '' : 's'}, skipped ${skipped.length}; ${series.rows.length} rate samples written to ${args.out}`);
   for (const s of skipped) progress.line(`  skipped ${s.file}: ${s.reason}`);

@@ -34,6 +34,23 @@ function parseCsv(text: string): Record<string, string>[] {
   return lines.map((l) => Object.fromEntries(l.split(',').map((v, i) => [cols[i], v])));
 }
 
+/**
+ * Same rows, same columns; numbers equal to 1e-12 relative. Footpoint ids restart in each
+ * worker's chunk, so the label split is summed in another order there: the spin, orbit and
+ * background agree to rounding, not bit for bit.
+ */
+async function expectSameRows(a: string, b: string): Promise<void> {
+  const ra = parseCsv(await readFile(a, 'utf8')), rb = parseCsv(await readFile(b, 'utf8'));
+  expect(ra.length).toBe(rb.length);
+  ra.forEach((row, i) => {
+    for (const [k, v] of Object.entries(row)) {
+      const x = Number(v), y = Number(rb[i][k]);
+      if (v !== '' && Number.isFinite(x)) expect(Math.abs(x - y)).toBeLessThanOrEqual(1e-12 * Math.abs(y));
+      else expect(v).toBe(rb[i][k]);
+    }
+  });
+}
+
 let dir: string;
 const DEMO = { frames: 25, size: 80 } as const; // 3 h cadence over the 72 h story
 
@@ -96,6 +113,12 @@ describe('process on the demo region', () => {
     const raised = doc.alerts.filter((a: { state: string; history: unknown[] }) => a.history.length > 0).map((a: { rule: string }) => a.rule);
     expect(raised).toContain('budget');
     expect(raised).toContain('peak-rate');
+    // Footpoints of every analysed frame, with their events, times in ISO 8601.
+    expect(doc.footpoints).toHaveLength(25);
+    expect(doc.footpoints[12].count).toBeGreaterThan(1);
+    expect(doc.footpoints[12].time).toBe(rows[12].time);
+    expect(Array.isArray(doc.events)).toBe(true);
+    for (const e of doc.events) expect(e.time).toMatch(/^\d{4}-\d{2}-\d{2}T/);
     // --maps: G_theta of a frame integrates back to its rate (float32 maps).
     const mapFile = join(maps, 'demo_0013.maps.fits');
     expect(existsSync(mapFile)).toBe(true);
@@ -109,21 +132,21 @@ describe('process on the demo region', () => {
 
   it('gives the same rows with one worker as with several (pairs at chunk borders are kept)', async () => {
     const folder = join(dir, 'twelve');
-    await synth({ out: folder, frames: 9, size: 32, withVelocity: true });
+    await synth({ out: folder, frames: 6, size: 32, withVelocity: true });
     const one = join(dir, 'one.csv'), three = join(dir, 'three.csv');
     await processFolder({ folder, out: one, workers: 1, progress: new Collect(false) });
     await processFolder({ folder, out: three, workers: 3, progress: new Collect(false) });
-    expect(await readFile(three, 'utf8')).toBe(await readFile(one, 'utf8'));
-    expect(parseCsv(await readFile(one, 'utf8'))).toHaveLength(9);
+    await expectSameRows(three, one);
+    expect(parseCsv(await readFile(one, 'utf8'))).toHaveLength(6);
     // Frames without velocity pair up across chunk borders: once inference exists, the same
     // samples must come out of one worker and of three (one per consecutive pair).
     const plain = join(dir, 'twelve-plain');
-    await synth({ out: plain, frames: 9, size: 32, withVelocity: false, demo: { cadenceS: 720, storyH: 72, storyStartH: 20 } });
+    await synth({ out: plain, frames: 6, size: 32, withVelocity: false, demo: { cadenceS: 720, storyH: 72, storyStartH: 20 } });
     await processFolder({ folder: plain, out: one, workers: 1, progress: new Collect(false) });
     await processFolder({ folder: plain, out: three, workers: 3, progress: new Collect(false) });
-    expect(await readFile(three, 'utf8')).toBe(await readFile(one, 'utf8'));
+    await expectSameRows(three, one);
     const inferred = parseCsv(await readFile(one, 'utf8'));
-    expect(inferred.length === 0 || inferred.length === 8).toBe(true);
+    expect(inferred).toHaveLength(5);
   });
 
   it('with inferred velocities, reproduces the true budget within the tolerance docs/velocity.md states', async (ctx) => {
@@ -142,19 +165,19 @@ describe('process on the demo region', () => {
       console.warn('skipped: docs/velocity.md states no helicity-rate tolerance ("**Helicity rate** ... within N %")');
       ctx.skip();
     }
-    // 12 hours of the build-up at its own pace, 12-minute frames (pairs within the default
+    // 6 hours of the build-up at its own pace, 12-minute frames (pairs within the default
     // largest interval of inference).
-    const options = { frames: 61, size: 96, cadenceS: 720, storyH: 72, storyStartH: 14 } as const;
+    const options = { frames: 31, size: 96, cadenceS: 720, storyH: 72, storyStartH: 20 } as const;
     const folder = join(dir, 'demo-novel');
     await synth({ out: folder, frames: options.frames, size: options.size, withVelocity: false, demo: options });
     const out = join(dir, 'novel.csv');
     await processFolder({ folder, out, workers: 2, progress: new Collect(false) });
     const rows = parseCsv(await readFile(out, 'utf8'));
-    expect(rows).toHaveLength(60);
+    expect(rows).toHaveLength(30);
     // The samples sit at the pairs' mid-times: compare with the truth there (the mean of the two
     // frames' true rates), integrated by the same trapezoid.
     const d = demoRegion(options);
-    const mids = Array.from({ length: 60 }, (_, i) => 0.5 * (d.truthAt(i).total + d.truthAt(i + 1).total));
+    const mids = Array.from({ length: 30 }, (_, i) => 0.5 * (d.truthAt(i).total + d.truthAt(i + 1).total));
     const trueBudget = mids.slice(1).reduce((h, m, i) => h + 0.5 * (m + mids[i]) * d.cadenceS, 0);
     expect(Math.abs(Number(rows.at(-1)!.budget_total) / trueBudget - 1)).toBeLessThan(Number(stated![1]) / 100);
   });
