@@ -65,9 +65,12 @@ export class IntakePool {
       this.pending.set(id, { resolve, source: req.source });
       if (full.kind === 'file') this.worker.postMessage(full);
       else {
-        // Copy into a buffer of our own and hand it over (the request body is not reused).
-        const copy = new Uint8Array(full.bytes);
-        this.worker.postMessage({ ...full, bytes: copy }, [copy.buffer as ArrayBuffer]);
+        // Hand the body over without copying when it owns its whole memory (a large request body
+        // does); a slice of a shared pool is copied first. The body is not used after this.
+        const b = full.bytes;
+        const own = b.byteOffset === 0 && b.byteLength === b.buffer.byteLength && b.buffer instanceof ArrayBuffer;
+        const bytes = own ? new Uint8Array(b.buffer) : new Uint8Array(b);
+        this.worker.postMessage({ ...full, bytes }, [bytes.buffer as ArrayBuffer]);
       }
     });
     if (!reply.ok) throw new IntakeRefusal(reply.status, new InputError(reply.error.source, reply.error.field, reply.error.problem));
