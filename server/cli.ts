@@ -1,17 +1,21 @@
 // The command line: `helicord <command> [options]`. Each command composes core and the server;
 // none computes on its own.
 
-import { rateCommand } from './commands/rate.js';
+import { PROCESS_HELP, SYNTH_HELP, processCli, synthCli } from '../replay/commands.js';
 import { parseArgs, type ParsedArgs } from './commands/args.js';
+import { rateCommand } from './commands/rate.js';
+import { serveCommand } from './commands/serveCommand.js';
 
 export const HELP = `helicord — live monitor of magnetic-helicity injection through the photosphere
 
 Usage: helicord <command> [options]
 
 Commands:
-  serve [--data DIR] [--port N] [--host H] [--demo]
+  serve [--data DIR] [--port N] [--host H] [--demo] [--read-token] [--workers N]
         Start the monitor (HTTP + WebSocket, 127.0.0.1:8750 by default). --demo adds the built-in
-        synthetic demo region, streaming live. Data are kept in DIR (default ./data).
+        synthetic demo region, streaming live. Data are kept in DIR (default ./data); the ingest
+        token is created there at first start and printed once (or set HELICORD_TOKEN).
+        --read-token makes reading need the token too.
   rate FRAME [FRAME2] [--labels detect|from-file|none|FILE.json] [--footpoints]
        [--method auto|dave|dave4vm|lct] [--window SIGMA_PX] [--noise G]
         Helicity injection rate printed as JSON (Mx^2/s): total, total_ga, spin, orbit,
@@ -21,6 +25,8 @@ Commands:
         Footpoints are detected and tracked unless the frame has labels (--labels from-file) or
         --labels none; --footpoints adds the footpoint table, events and pair matrices.
         FRAME is a JSON or FITS frame (see README).
+${PROCESS_HELP}
+${SYNTH_HELP}
   help  This text.
 
 These are research indicators, not forecasts: for operational decisions use the official
@@ -30,7 +36,10 @@ space-weather services.
 type Command = (args: ParsedArgs, out: NodeJS.WritableStream, err: NodeJS.WritableStream) => Promise<number>;
 
 const COMMANDS: Record<string, Command> = {
+  serve: serveCommand,
   rate: rateCommand,
+  process: processCli,
+  synth: synthCli,
 };
 
 export async function main(argv: string[], out: NodeJS.WritableStream = process.stdout, err: NodeJS.WritableStream = process.stderr): Promise<number> {

@@ -6,7 +6,7 @@ export interface ParsedArgs {
 }
 
 /** Options that never take a value. */
-const BOOLEAN = new Set(['help', 'demo', 'footpoints', 'json-lines', 'read-token', 'bridge-gaps']);
+const BOOLEAN = new Set(['help', 'demo', 'footpoints', 'read-token', 'with-velocity']);
 
 export function parseArgs(argv: readonly string[]): ParsedArgs {
   const positional: string[] = [];
