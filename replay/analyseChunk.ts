@@ -10,7 +10,7 @@ import type { Frame } from '../core/frame.js';
 import type { RateSample } from '../core/rateSample.js';
 import type { FootpointAnalysis } from '../core/footpoints/analyseFootpoints.js';
 import { footpointReport } from '../core/footpoints/footpointReport.js';
-import { loadFrameFile } from '../server/frameFiles.js';
+import { loadFrameFile } from './frameFiles.js';
 import { reasonOf } from './archiveSource.js';
 
 export interface ChunkJob {

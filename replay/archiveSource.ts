@@ -8,7 +8,7 @@ import { join } from 'node:path';
 import type { Frame } from '../core/frame.js';
 import { hasVelocity } from '../core/frame.js';
 import { InputError } from '../core/inputError.js';
-import { loadFrameFile } from '../server/frameFiles.js';
+import { loadFrameFile } from './frameFiles.js';
 import type { ArchiveIndex, ScanResult, ScannedFrame } from './archiveOrder.js';
 import { orderArchive } from './archiveOrder.js';
 

@@ -1,7 +1,7 @@
 // The command line: `helicord <command> [options]`. Each command composes core and the server;
 // none computes on its own.
 
-import { PROCESS_HELP, SYNTH_HELP, processCli, synthCli } from '../replay/commands.js';
+import { PROCESS_HELP, SYNTH_HELP, processCli, synthCli } from './commands/batch.js';
 import { parseArgs, type ParsedArgs } from './commands/args.js';
 import { rateCommand } from './commands/rate.js';
 import { serveCommand } from './commands/serveCommand.js';

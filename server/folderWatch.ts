@@ -1,5 +1,5 @@
 // The watched folder of a region: <data>/inbox/<region>/. Files that land there (fully written:
-// chokidar waits until the size is stable) are read with loadFrameFile (server/frameFiles.ts, in
+// chokidar waits until the size is stable) are read with loadFrameFile (replay/frameFiles.ts, in
 // the intake worker) and go into the pipeline
 // like any other frame. Files already taken (same path, size and mtime) are skipped at restart.
 // Only the folder the server made from a checked region name is watched; nothing from a request

@@ -2,7 +2,7 @@
 import { parentPort } from 'node:worker_threads';
 import type { FrameAssemblySettings } from '../core/frameAssembly/assembleFrame.js';
 import { InputError } from '../core/inputError.js';
-import { loadFrameFile } from './frameFiles.js';
+import { loadFrameFile } from '../replay/frameFiles.js';
 import { frameFromInput, intakeFrame, intakeStatus } from './frameIntake.js';
 import type { IntakeReply, IntakeRequest } from './intakePool.js';
 

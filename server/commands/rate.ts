@@ -10,7 +10,7 @@ import { InputError } from '../../core/inputError.js';
 import type { RateSample } from '../../core/rateSample.js';
 import { rateSample } from '../../core/rateSample.js';
 import type { VelocityMethod } from '../../core/velocity/velocitySettings.js';
-import { loadFrameFile } from '../frameFiles.js';
+import { loadFrameFile } from '../../replay/frameFiles.js';
 import type { ParsedArgs } from './args.js';
 import { numberFlag, stringFlag } from './args.js';
 

@@ -14,7 +14,7 @@ import { frameToFits } from '../../core/frameAssembly/frameToFits.js';
 import { LEAP_SECONDS } from '../../core/frameAssembly/leapSeconds.js';
 import { InputError } from '../../core/inputError.js';
 import { MM_PER_HELIOGRAPHIC_DEG } from '../../core/units.js';
-import { loadFrameFile, loadFrameFileSet } from '../../server/frameFiles.js';
+import { loadFrameFile, loadFrameFileSet } from '../../replay/frameFiles.js';
 
 const nx = 4, ny = 3;
 const ramp = (k: number) => Float32Array.from({ length: nx * ny }, (_, i) => k * (i + 1));

@@ -11,12 +11,12 @@ import { analyseFrame } from '../../core/frameAnalysis.js';
 import { frameToJson } from '../../core/frameJson.js';
 import { readFitsImage } from '../../core/fits/readImage.js';
 import { CM_PER_MM } from '../../core/units.js';
-import { loadFrameFile } from '../../server/frameFiles.js';
+import { loadFrameFile } from '../../replay/frameFiles.js';
 import { demoRegion } from '../../replay/demo/demoRegion.js';
 import { truthSeries } from '../../replay/demo/demoTruth.js';
 import { contiguousChunks, processFolder, readBatchConfig } from '../../replay/processCommand.js';
 import { synth } from '../../replay/synthCommand.js';
-import { processCli, synthCli } from '../../replay/commands.js';
+import { processCli, synthCli } from '../../server/commands/batch.js';
 import { parseArgs } from '../../server/commands/args.js';
 import { ensureCompiledWorker } from './compiledWorker.js';
 

@@ -6,7 +6,7 @@ import { mkdtemp, readFile, readdir, rm } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { loadFrameFile } from '../../server/frameFiles.js';
+import { loadFrameFile } from '../../replay/frameFiles.js';
 import { demoRegion } from '../../replay/demo/demoRegion.js';
 import { synth } from '../../replay/synthCommand.js';
 

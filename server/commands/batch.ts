@@ -1,10 +1,10 @@
-// The command-line faces of `process` and `synth`, in the shape of server/cli.ts's commands
-// (parsed arguments in, exit code out), for the lead to add to the command table.
+// The command-line faces of `process` and `synth` (replay/), in the shape of server/cli.ts's commands
+// (parsed arguments in, exit code out).
 
-import type { ParsedArgs } from '../server/commands/args.js';
-import { numberFlag, stringFlag } from '../server/commands/args.js';
-import { processFolder } from './processCommand.js';
-import { synth } from './synthCommand.js';
+import type { ParsedArgs } from './args.js';
+import { numberFlag, stringFlag } from './args.js';
+import { processFolder } from '../../replay/processCommand.js';
+import { synth } from '../../replay/synthCommand.js';
 
 export const PROCESS_HELP = `  process FOLDER --out RESULT.csv [--json RESULT.json] [--maps DIR] [--config FILE] [--workers N]
         Compute a whole archive (JSON and FITS frames, taken in time order) without a server, on
