@@ -31,14 +31,24 @@ function checkSpeed(speed: number): number {
   return speed;
 }
 
-/** Starts a replay of frames at `times` (ascending) at `speed`, the first frame due at `now`. */
-export function startPacing(times: readonly number[], speed: number, now: number, options: { maxWaitMs?: number } = {}): Pacing {
+/** Options of a replay's start. */
+export interface PacingOptions {
+  /** Longest wait between two frames, wall ms. Default: no cap. */
+  readonly maxWaitMs?: number;
+  /** Index of the first frame to hand out (a replay resumed after a restart). Default 0. */
+  readonly start?: number;
+}
+
+/** Starts a replay of frames at `times` (ascending) at `speed`, frame `start` (0) due at `now`. */
+export function startPacing(times: readonly number[], speed: number, now: number, options: PacingOptions = {}): Pacing {
   for (let i = 1; i < times.length; i++) {
     if (!(times[i] > times[i - 1])) throw new RangeError(`frame times must increase: frame ${i} is not after frame ${i - 1}`);
   }
+  const start = options.start ?? 0;
+  if (!Number.isInteger(start) || start < 0 || start > times.length) throw new RangeError(`replay start: frame index ${start} is outside 0..${times.length}`);
   return {
-    times, speed: checkSpeed(speed), position: 0,
-    anchorTime: times[0] ?? 0, anchorWall: now, maxWaitMs: options.maxWaitMs ?? Infinity,
+    times, speed: checkSpeed(speed), position: start,
+    anchorTime: times[Math.min(start, times.length - 1)] ?? 0, anchorWall: now, maxWaitMs: options.maxWaitMs ?? Infinity,
   };
 }
 
@@ -139,7 +149,7 @@ export interface PacingControl {
  * (a sleeping driver is woken). With speed 0 every frame is due immediately: the consumer's own
  * pace (awaiting each frame through the pipeline) sets the rate.
  */
-export function paceFrames(times: readonly number[], speed: number, clock: PacingClock, options: { maxWaitMs?: number } = {}): { control: PacingControl; indices: AsyncGenerator<number> } {
+export function paceFrames(times: readonly number[], speed: number, clock: PacingClock, options: PacingOptions = {}): { control: PacingControl; indices: AsyncGenerator<number> } {
   let pacing = startPacing(times, speed, clock.now(), options);
   let stopped = false;
   let wake = new AbortController();

@@ -6,9 +6,18 @@
 
 import type { Frame } from '../core/frame.js';
 import { InputError } from '../core/inputError.js';
-import type { Archive } from './archiveSource.js';
 import type { PacingClock, PacingStateName } from './pacing.js';
 import { paceFrames, pacingState } from './pacing.js';
+
+/**
+ * What a replay plays: frames in time order, each read when it falls due. An Archive (a folder)
+ * is one; so are the demo region and a region's stored frames (server/replayFeed.ts).
+ */
+export interface ReplaySource<F = Frame> {
+  /** The frames' times, UTC ms, ascending. */
+  readonly entries: readonly { readonly time: number }[];
+  frame(i: number): Promise<F>;
+}
 
 export interface ReplayStatus {
   readonly state: PacingStateName;
@@ -41,13 +50,14 @@ export const wallClock: PacingClock = {
   }),
 };
 
-export function startReplay(
-  archive: Archive, speed: number, consume: (frame: Frame, index: number) => Promise<void>,
-  options: { clock?: PacingClock; maxWaitMs?: number } = {},
+export function startReplay<F = Frame>(
+  archive: ReplaySource<F>, speed: number, consume: (frame: F, index: number) => Promise<void>,
+  options: { clock?: PacingClock; maxWaitMs?: number; start?: number } = {},
 ): ReplaySession {
   const times = archive.entries.map((e) => e.time);
   const { control, indices } = paceFrames(times, speed, options.clock ?? wallClock, {
     ...(options.maxWaitMs !== undefined && { maxWaitMs: options.maxWaitMs }),
+    ...(options.start !== undefined && { start: options.start }),
   });
   let finished = false;
   const done = (async () => {

@@ -4,6 +4,7 @@
 import { PROCESS_HELP, SYNTH_HELP, processCli, synthCli } from './commands/batch.js';
 import { parseArgs, type ParsedArgs } from './commands/args.js';
 import { rateCommand } from './commands/rate.js';
+import { REPLAY_HELP, replayCommand } from './commands/replayCommand.js';
 import { serveCommand } from './commands/serveCommand.js';
 
 export const HELP = `helicord — live monitor of magnetic-helicity injection through the photosphere
@@ -25,6 +26,7 @@ Commands:
         Footpoints are detected and tracked unless the frame has labels (--labels from-file) or
         --labels none; --footpoints adds the footpoint table, events and pair matrices.
         FRAME is a JSON or FITS frame (see README).
+${REPLAY_HELP}
 ${PROCESS_HELP}
 ${SYNTH_HELP}
   help  This text.
@@ -38,6 +40,7 @@ type Command = (args: ParsedArgs, out: NodeJS.WritableStream, err: NodeJS.Writab
 const COMMANDS: Record<string, Command> = {
   serve: serveCommand,
   rate: rateCommand,
+  replay: replayCommand,
   process: processCli,
   synth: synthCli,
 };

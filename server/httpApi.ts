@@ -26,7 +26,8 @@ export interface ApiContext {
   readonly bodyLimit: number;
   readonly startedAt: number;
   readonly onSettings: (region: string) => void;
-  readonly replay: (region: string, action: unknown) => { status: number; body: unknown };
+  /** Replay control and start (server/replayFeeds.ts). */
+  readonly replay: (region: string, action: unknown) => { status: number; body: unknown } | Promise<{ status: number; body: unknown }>;
   readonly replayStatus: (region: string) => unknown;
   /** The event loop's delay, ms (max and 99th percentile over the last few seconds). */
   readonly loopDelay?: () => { max: number; p99: number };
@@ -293,13 +294,17 @@ export function buildApp(ctx: ApiContext): express.Express {
     res.json({ region: name, columns: SERIES_COLUMNS, samples: store.samples(name), gaps });
   });
 
+  // Replay control; `start` may name a region that does not exist yet (the replay creates it).
   app.post('/api/regions/:region/replay', (req, res, next) => {
-    const name = existing(req, res);
+    const name = regionOf(req, res);
     if (name === undefined) return;
     if (!canWrite(req)) return fail(res, 401, 'authorization', 'replay control needs "Authorization: Bearer <token>"', 'token needed');
     next();
-  }, express.json({ limit: '64kb', type: () => true }), (req, res) => {
-    const r = ctx.replay(req.params.region as string, req.body);
+  }, express.json({ limit: '64kb', type: () => true }), async (req, res) => {
+    const name = req.params.region as string;
+    const start = (req.body as { action?: unknown } | undefined)?.action === 'start';
+    if (!start && !store.region(name)) return fail(res, 404, 'region', `no region named "${name}"`);
+    const r = await ctx.replay(name, req.body);
     res.status(r.status).json(r.body);
   });
 

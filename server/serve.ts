@@ -11,7 +11,9 @@ import { resolve } from 'node:path';
 import { pageRouter } from './staticPage.js';
 import { loadOrCreateToken } from './auth.js';
 import { ComputePool } from './computePool.js';
-import { DEMO_REGION, DemoFeed } from './demoFeed.js';
+import { DEMO_REGION } from './replayFeed.js';
+import type { ReplayStart } from './replayFeeds.js';
+import { ReplayFeeds } from './replayFeeds.js';
 import { FolderWatch } from './folderWatch.js';
 import { IntakePool } from './intakePool.js';
 import { buildApp } from './httpApi.js';
@@ -40,10 +42,16 @@ export interface ServeOptions {
   readonly workers?: number;
   /** Demo frame interval at speed 1, ms. Default 2000. */
   readonly demoIntervalMs?: number;
+  /** Replays to start once listening (`helicord replay`; server/replayFeeds.ts). */
+  readonly replays?: readonly ReplayStart[];
+  /** Folder under which the API may start folder replays; without it only stored regions. */
+  readonly replayRoot?: string;
 }
 
 export interface RunningMonitor {
   readonly url: string;
+  /** The monitor's replays (the demo's, the command line's, the API's). */
+  readonly replays: ReplayFeeds;
   close(): Promise<void>;
 }
 
@@ -88,8 +96,9 @@ export async function serve(options: ServeOptions): Promise<RunningMonitor> {
   const intake = new IntakePool(log);
   const bodyLimit = options.bodyLimit ?? DEFAULT_BODY_LIMIT;
   const readToken = options.readToken ?? false;
-  let demo: DemoFeed | undefined;
-  const replayStatus = (region: string) => (demo && region === DEMO_REGION ? demo.status() : null);
+  // Set once the pipeline exists (below); read only after that.
+  let replays: ReplayFeeds | undefined;
+  const replayStatus = (region: string) => replays?.status(region) ?? null;
 
   const loop = loopDelayWatch();
   let pipeline: Pipeline;
@@ -114,13 +123,17 @@ export async function serve(options: ServeOptions): Promise<RunningMonitor> {
     },
   });
   const folders = new FolderWatch(store, writer, pipeline, log);
+  const feeds = new ReplayFeeds({
+    store, writer, pipeline, log,
+    ...(options.replayRoot !== undefined && { replayRoot: options.replayRoot }),
+    onSettings: (region) => folders.sync(region, store.region(region)?.settings.watchFolder ?? false),
+  });
+  replays = feeds;
 
   const app = buildApp({
     store, writer, pipeline, token, readToken, bodyLimit, startedAt: Date.now(), loopDelay: () => loop.read(),
     onSettings: (region) => folders.sync(region, store.region(region)?.settings.watchFolder ?? false),
-    replay: (region, action) => (demo && region === DEMO_REGION
-      ? demo.control(action)
-      : { status: 409, body: { error: `region ${region} is not a replay`, field: 'region', problem: 'replay controls apply to replayed regions (the demo)' } }),
+    replay: (region, action) => feeds.control(region, action),
     replayStatus,
     page: pageRouter(dashboardDir()),
   });
@@ -153,32 +166,33 @@ export async function serve(options: ServeOptions): Promise<RunningMonitor> {
     for (const r of store.regions()) if (!known.has(r.name)) { known.add(r.name); folders.sync(r.name, r.settings.watchFolder); }
   }, 1000);
   regionPoll.unref();
-  if (options.demo) {
-    demo = new DemoFeed(pipeline, store, options.demoIntervalMs ?? 2000, log);
-    demo.start();
-  }
+  if (options.demo) feeds.startDemo(DEMO_REGION, options.demoIntervalMs ?? 2000);
   log(`helicord monitor listening at ${url} (data in ${dataDir})`);
 
   let closing: Promise<void> | undefined;
-  return {
-    url,
-    close() {
-      closing ??= (async () => {
-        demo?.stop();
-        loop.stop();
-        clearInterval(regionPoll);
-        await folders.close();
-        hub.closeAll();
-        for (const s of sockets) s.close();
-        server.closeAllConnections();
-        await new Promise<void>((ok) => server.close(() => ok()));
-        await pipeline.close();
-        await pool.close();
-        await intake.close();
-        await writer.close();
-        store.close();
-      })();
-      return closing;
-    },
+  const close = () => {
+    closing ??= (async () => {
+      await feeds.close();
+      loop.stop();
+      clearInterval(regionPoll);
+      await folders.close();
+      hub.closeAll();
+      for (const s of sockets) s.close();
+      server.closeAllConnections();
+      await new Promise<void>((ok) => server.close(() => ok()));
+      await pipeline.close();
+      await pool.close();
+      await intake.close();
+      await writer.close();
+      store.close();
+    })();
+    return closing;
   };
+  try {
+    for (const r of options.replays ?? []) await feeds.start(r);
+  } catch (e) {
+    await close();
+    throw e;
+  }
+  return { url, replays: feeds, close };
 }
