@@ -11,7 +11,7 @@ import { openArchive } from '../replay/archiveSource.js';
 import type { PacingClock } from '../replay/pacing.js';
 import type { Pipeline } from './pipeline.js';
 import { checkRegionName } from './regionName.js';
-import { mergeSettings } from './regionSettings.js';
+import { DEFAULT_SETTINGS, mergeSettings } from './regionSettings.js';
 import type { Store } from './store.js';
 import type { StoreWriter } from './storeWriter.js';
 import type { FeedSource } from './replayFeed.js';
@@ -71,7 +71,8 @@ export class ReplayFeeds {
       if (spec.from.archive.entries.length === 0) throw new InputError(spec.from.archive.folder, '(folder)', 'holds no usable frame');
       source = folderSource(spec.from.archive);
     } else {
-      const from = checkRegionName(spec.from.region, 'from_region');
+      const from = spec.from.region;
+      try { checkRegionName(from, 'replay'); } catch (e) { throw new InputError('replay', 'from_region', (e as InputError).problem); }
       if (from === region) throw new InputError('replay', 'from_region', 'must differ from the region replayed into (the original stays untouched)');
       if (!store.region(from)) throw new InputError('replay', 'from_region', `no region named "${from}"`);
       source = storedRegionSource(store, from);
@@ -81,8 +82,10 @@ export class ReplayFeeds {
       if (existing && store.frameCount(region) > 0) {
         throw new InputError('replay', 'settings', `region "${region}" already has frames; settings are given to a new region (pick another name)`);
       }
-      const row = existing ?? await writer.call('createRegion', region);
-      await writer.call('saveSettings', region, mergeSettings(row.settings, spec.settings));
+      // Checked before the region is made, so that bad settings leave nothing behind.
+      const settings = mergeSettings(existing?.settings ?? DEFAULT_SETTINGS, spec.settings);
+      if (!existing) await writer.call('createRegion', region);
+      await writer.call('saveSettings', region, settings);
       this.options.onSettings?.(region);
     }
     return this.launch(region, source, spec.speed ?? 1);
@@ -106,6 +109,8 @@ export class ReplayFeeds {
         if (!['action', 'from_region', 'folder', 'speed', 'settings'].includes(k)) throw new InputError('replay', k, 'is not a field of a replay start (from_region or folder, speed, settings)');
       }
       if ((b.from_region === undefined) === (b.folder === undefined)) throw new InputError('replay', 'from_region', 'give exactly one of from_region (a stored region) and folder (under the replay root)');
+      // A request starts a replay into a new region only (the command line may resume one).
+      if (this.options.store.frameCount(region) > 0) throw new InputError('replay', 'region', `region "${region}" already has frames; replay into a new region`);
       const speed = b.speed === undefined ? 1 : b.speed;
       if (typeof speed !== 'number' || !Number.isFinite(speed) || speed < 0) throw new InputError('replay', 'speed', 'must be a factor >= 0 (0 = as fast as possible)');
       let from: ReplayStart['from'];
@@ -119,7 +124,7 @@ export class ReplayFeeds {
       return { status: 201, body: { replay: feed.status() } };
     } catch (e) {
       if (!(e instanceof InputError)) throw e;
-      const status = e.field === 'region' || (e.field === 'settings' && /already has frames/.test(e.problem)) ? 409 : e.field === 'from_region' && /no region named/.test(e.problem) ? 404 : 400;
+      const status = e.field === 'region' ? 409 : e.field === 'from_region' && /no region named/.test(e.problem) ? 404 : 400;
       return refusal(status, e.field, e.problem);
     }
   }
