@@ -225,18 +225,19 @@ export function realFftRow(
   if (len & 1) { zr[pairs] = x[inOffset + len - 1]; zi[pairs] = 0; next++; }
   if (next < m) { zr.fill(0, next); zi.fill(0, next); }
   fftRow(plan.half, zr, zi, 0, -1);
-  // X[k] = E[k] + W^k O[k], E = (Z[k] + conj Z[m-k]) / 2, O = (Z[k] - conj Z[m-k]) / 2i.
-  for (let k = 0; k <= m; k++) {
-    const a = k === m ? 0 : k;
-    const b = k === 0 ? 0 : m - k;
-    const zkr = zr[a], zki = zi[a], zmr = zr[b], zmi = -zi[b];
-    const er = 0.5 * (zkr + zmr), ei = 0.5 * (zki + zmi);
-    // (Z - conj Z') / 2i = (dr + i di) / 2i = (di - i dr) / 2
-    const dr = zkr - zmr, di = zki - zmi;
-    const or = 0.5 * di, oi = -0.5 * dr;
-    const wr = cos[k], wi = -sin[k];
-    outRe[outOffset + k] = er + wr * or - wi * oi;
-    outIm[outOffset + k] = ei + wr * oi + wi * or;
+  // X[k] = E[k] + W^k O[k] with E = (Z[k] + conj Z[m-k]) / 2, O = (Z[k] - conj Z[m-k]) / 2i,
+  // W = exp(-2 pi i / N); and X[m-k] = conj(E[k] - W^k O[k]): one pass serves k and m-k.
+  outRe[outOffset] = zr[0] + zi[0]; outIm[outOffset] = 0;
+  outRe[outOffset + m] = zr[0] - zi[0]; outIm[outOffset + m] = 0;
+  for (let k = 1, h = m >> 1; k <= h; k++) {
+    const b = m - k;
+    const zkr = zr[k], zki = zi[k], zbr = zr[b], zbi = zi[b];
+    const er = 0.5 * (zkr + zbr), ei = 0.5 * (zki - zbi);
+    const or = 0.5 * (zki + zbi), oi = -0.5 * (zkr - zbr);
+    const c = cos[k], sn = sin[k];
+    const tr = c * or + sn * oi, ti = c * oi - sn * or;
+    outRe[outOffset + k] = er + tr; outIm[outOffset + k] = ei + ti;
+    outRe[outOffset + b] = er - tr; outIm[outOffset + b] = ti - ei;
   }
 }
 
@@ -251,17 +252,25 @@ export function realInverseFftRow(
 ): void {
   const m = plan.n >> 1;
   const { zr, zi, cos, sin } = plan;
-  // E[k] = (X[k] + conj X[m-k]) / 2, O[k] = (X[k] - conj X[m-k]) / (2 W^k), Z = E + i O.
-  for (let k = 0; k < m; k++) {
+  // Z[k] = E[k] + i O[k] with E = (X[k] + conj X[m-k]) / 2, O = (X[k] - conj X[m-k]) / (2 W^k);
+  // and Z[m-k] = conj(E[k]) + i conj(O[k]): one pass serves k and m-k.
+  {
+    const xr = re[inOffset], xi = im[inOffset], yr = re[inOffset + m], yi = -im[inOffset + m];
+    const er = 0.5 * (xr + yr), ei = 0.5 * (xi + yi), or = 0.5 * (xr - yr), oi = 0.5 * (xi - yi);
+    zr[0] = er - oi; zi[0] = ei + or;
+  }
+  for (let k = 1, h = m >> 1; k <= h; k++) {
+    const b = m - k;
     const xr = re[inOffset + k], xi = im[inOffset + k];
-    const yr = re[inOffset + m - k], yi = -im[inOffset + m - k];
+    const yr = re[inOffset + b], yi = -im[inOffset + b];
     const er = 0.5 * (xr + yr), ei = 0.5 * (xi + yi);
     const dr = 0.5 * (xr - yr), di = 0.5 * (xi - yi);
-    // divide by W^k = cos - i sin  ->  multiply by cos + i sin
-    const wr = cos[k], wi = sin[k];
-    const or = dr * wr - di * wi, oi = dr * wi + di * wr;
-    zr[k] = er - oi;
-    zi[k] = ei + or;
+    // divide by W^k = cos - i sin: multiply by cos + i sin
+    const c = cos[k], sn = sin[k];
+    const or = dr * c - di * sn, oi = dr * sn + di * c;
+    zr[k] = er - oi; zi[k] = ei + or;
+    // conj(E) + i conj(O) = (er + oi) + i (or - ei)
+    zr[b] = er + oi; zi[b] = or - ei;
   }
   fftRow(plan.half, zr, zi, 0, 1);
   const s = scale / m;
