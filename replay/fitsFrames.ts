@@ -18,8 +18,8 @@ function timeKeywords(time: number): FitsKeyword[] {
   ];
 }
 
-/** One image of a frame's grid. */
-export function gridImage(frame: Frame, name: string, values: ArrayLike<number>, bunit: string): ImageToWrite {
+/** One image of a frame's grid (a frame, or anything with its grid and time: a stored frame's row). */
+export function gridImage(frame: Pick<Frame, 'nx' | 'ny' | 'dx' | 'dy' | 'time'>, name: string, values: ArrayLike<number>, bunit: string): ImageToWrite {
   return {
     name, nx: frame.nx, ny: frame.ny, values, bunit,
     wcs: { cdelt: [frame.dx, frame.dy] },

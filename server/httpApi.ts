@@ -9,6 +9,7 @@ import { parseIsoTime } from '../core/frameJson.js';
 import { seriesCsv, SERIES_COLUMNS } from '../core/seriesColumns.js';
 import { writeFits } from '../core/fits/writeImage.js';
 import type { ImageToWrite } from '../core/fits/writeImage.js';
+import { gridImage } from '../replay/fitsFrames.js';
 import { isLoopback, tokenMatches } from './auth.js';
 import { decodeMapFile } from './mapFile.js';
 import type { Pipeline } from './pipeline.js';
@@ -248,13 +249,11 @@ export function buildApp(ctx: ApiContext): express.Express {
     if (!f) return;
     const frame = decodeMapFile(await readFile(join(store.dataDir, f.file)), f.file);
     const maps = f.mapsFile ? decodeMapFile(await readFile(join(store.dataDir, f.mapsFile)), f.mapsFile) : undefined;
-    const wcs = { cdelt: [f.dx, f.dy] as const };
-    const dateObs = { key: 'DATE-OBS', value: new Date(f.time).toISOString().replace('Z', '') };
-    const images: ImageToWrite[] = [{ name: 'BN', nx: f.nx, ny: f.ny, values: frame.float.bn, bunit: 'G', wcs, keywords: [dateObs] }];
-    if (maps?.float.gtheta) images.push({ name: 'GTHETA', nx: f.nx, ny: f.ny, values: maps.float.gtheta, bunit: 'Mx2 cm-2 s-1', wcs, keywords: [dateObs] });
-    if (maps?.int.labels) images.push({ name: 'LABELS', nx: f.nx, ny: f.ny, values: maps.int.labels, wcs, keywords: [dateObs] });
-    if (maps?.float.vx) images.push({ name: 'VX', nx: f.nx, ny: f.ny, values: maps.float.vx, bunit: 'km/s', wcs, keywords: [dateObs] });
-    if (maps?.float.vy) images.push({ name: 'VY', nx: f.nx, ny: f.ny, values: maps.float.vy, bunit: 'km/s', wcs, keywords: [dateObs] });
+    // The same images as the batch's --maps files (replay/fitsFrames.ts), with bn first.
+    const images: ImageToWrite[] = [gridImage(f, 'BN', frame.float.bn, 'G')];
+    if (maps?.float.gtheta) images.push(gridImage(f, 'GTHETA', maps.float.gtheta, 'Mx2 cm-2 s-1'));
+    if (maps?.int.labels) images.push(gridImage(f, 'LABELS', maps.int.labels, ''));
+    if (maps?.float.vx && maps.float.vy) images.push(gridImage(f, 'VX', maps.float.vx, 'km/s'), gridImage(f, 'VY', maps.float.vy, 'km/s'));
     const bytes = writeFits({ primary: [{ key: 'ORIGIN', value: 'helicord' }, { key: 'REGION', value: f.region }, { key: 'FRAMEID', value: f.id }], images });
     res.type('application/fits').set('content-disposition', `attachment; filename="${f.region}-${f.id}.fits"`).send(Buffer.from(bytes));
   });

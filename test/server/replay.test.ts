@@ -10,10 +10,16 @@
 // - a stored region replayed with other settings: the replayed region's samples carry the new
 //   settings (noise_g is the given noiseG, DESIGN's sigma grows with it) at the same times, and
 //   the original region's series, frames and settings are byte-for-byte what they were.
+// - exports: the CSV header is the batch CSV's (both core/seriesColumns.ts); the maps FITS passes
+//   fitsverify (Debian's fitsverify, when installed) and its BN image is the frame's bn in float32.
 // Frames: the demo region written by `synth` (replay/synthCommand.ts), 48^2, 12-min cadence.
-import { readFileSync, rmSync } from 'node:fs';
+import { execFileSync } from 'node:child_process';
+import { existsSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { readFitsImages } from '../../core/fits/readImage.js';
+import { SERIES_COLUMNS } from '../../core/seriesColumns.js';
+import { loadFrameFile } from '../../replay/frameFiles.js';
 import { openArchive } from '../../replay/archiveSource.js';
 import { processFolder } from '../../replay/processCommand.js';
 import { synth } from '../../replay/synthCommand.js';
@@ -163,6 +169,36 @@ describe('replay into the live monitor', () => {
     expect(ok.status).toBe(201);
     await replayDone(m, 'fromfolder');
     expectSameSamples((await series(m, 'fromfolder')).samples, batchGiven);
+  }, 60_000);
+
+  it('exports the replayed series as the batch writes it, and a frame\'s maps as FITS', async () => {
+    await replayDone(m, 'given');
+    const csv = await (await fetch(`${m.url}/api/regions/given/export.csv`)).text();
+    const batchCsv = readFileSync(join(root, 'given.csv'), 'utf8');
+    const head = (t: string) => t.split('\n')[0];
+    expect(head(csv)).toBe(head(batchCsv));
+    expect(head(csv).split(',')).toEqual([...SERIES_COLUMNS]);
+    expect(csv.trim().split('\n')).toHaveLength(batchCsv.trim().split('\n').length);
+    const json = await getJson<{ columns: string[]; samples: Row[] }>(m.url, '/api/regions/given/export.json');
+    expect(json.columns).toEqual([...SERIES_COLUMNS]);
+    expect(json.samples).toEqual((await series(m, 'given')).samples);
+
+    const frames = (await getJson<{ frames: { frame_id: number; time: string }[] }>(m.url, '/api/regions/given/frames')).frames;
+    const r = await fetch(`${m.url}/api/regions/given/frames/${frames[5].frame_id}/maps.fits`);
+    expect(r.status).toBe(200);
+    const bytes = new Uint8Array(await r.arrayBuffer());
+    const images = readFitsImages(bytes, 'maps.fits');
+    expect(images.map((i) => i.name)).toEqual(['BN', 'GTHETA', 'LABELS', 'VX', 'VY']);
+    const archive = await openArchive(given);
+    const want = await loadFrameFile(archive.entries[5].file);
+    expect(new Date(want.time).toISOString()).toBe(frames[5].time);
+    const bn = images[0].values;
+    for (let i = 0; i < want.bn.length; i += 97) expect(bn[i]).toBe(Math.fround(want.bn[i]));
+    const tool = ['/usr/bin/fitsverify', '/usr/local/bin/fitsverify'].find((p) => existsSync(p));
+    if (!tool) { console.warn('fitsverify is not installed: the FITS check is skipped'); return; }
+    const file = join(root, 'maps.fits');
+    writeFileSync(file, bytes);
+    expect(execFileSync(tool, [file], { encoding: 'utf8' })).toMatch(/\*\*\*\* Verification found 0 warning\(s\) and 0 error\(s\). \*\*\*\*/);
   }, 60_000);
 
   it('pauses, resumes, seeks back and forward and changes speed through the API, as documented', async () => {
