@@ -61,3 +61,25 @@ export function hasVelocity(frame: Frame): boolean {
 export function hasVectorData(frame: Frame): boolean {
   return frame.bx !== undefined && frame.by !== undefined && frame.vz !== undefined && hasVelocity(frame);
 }
+
+/**
+ * A checked Frame from its grid, time and maps (bn required; the optional maps are kept only when
+ * present). Throws InputError naming `source`.
+ */
+export function frameFromMaps(
+  base: Grid & { readonly time: number },
+  maps: Partial<Record<FrameMapName, Float64Array>>,
+  source: string,
+  extra: { readonly labels?: Int32Array; readonly provenance?: Provenance } = {},
+): Frame {
+  if (!maps.bn) throw new InputError(source, 'bn', 'is missing; every frame needs the normal field');
+  const frame: Frame = {
+    time: base.time, nx: base.nx, ny: base.ny, dx: base.dx, dy: base.dy,
+    bn: maps.bn,
+    ...Object.fromEntries(FRAME_MAPS.filter((m) => m !== 'bn' && maps[m]).map((m) => [m, maps[m]])),
+    ...(extra.labels && { labels: extra.labels }),
+    provenance: extra.provenance ?? { source },
+  };
+  checkFrame(frame, source);
+  return frame;
+}

@@ -2,7 +2,7 @@
 // vx, vy, vz, labels }, flat row-major arrays with x fastest; null stands for NaN (no data).
 
 import type { Frame } from './frame.js';
-import { FRAME_MAPS, checkFrame } from './frame.js';
+import { FRAME_MAPS, frameFromMaps } from './frame.js';
 import { InputError } from './inputError.js';
 
 function toMap(value: unknown, field: string, source: string): Float64Array {
@@ -57,23 +57,11 @@ export function frameFromJson(json: unknown, source = 'frame.json'): Frame {
   for (const name of FRAME_MAPS) {
     if (o[name] !== undefined && o[name] !== null) maps[name] = toMap(o[name], name, source);
   }
-  const frame: Frame = {
-    time: parseIsoTime(o.time, 'time', source),
-    nx: o.nx as number,
-    ny: o.ny as number,
-    dx: o.dx as number,
-    dy: o.dy as number,
-    bn: maps.bn!,
-    ...(maps.bx && { bx: maps.bx }),
-    ...(maps.by && { by: maps.by }),
-    ...(maps.vx && { vx: maps.vx }),
-    ...(maps.vy && { vy: maps.vy }),
-    ...(maps.vz && { vz: maps.vz }),
-    ...(o.labels !== undefined && o.labels !== null && { labels: toLabels(o.labels, source) }),
-    provenance: { source },
-  };
-  checkFrame(frame, source);
-  return frame;
+  return frameFromMaps(
+    { time: parseIsoTime(o.time, 'time', source), nx: o.nx as number, ny: o.ny as number, dx: o.dx as number, dy: o.dy as number },
+    maps, source,
+    o.labels !== undefined && o.labels !== null ? { labels: toLabels(o.labels, source) } : {},
+  );
 }
 
 /** Parses JSON text into a Frame; syntax errors become an InputError naming the source. */

@@ -7,7 +7,7 @@
 // per component for archives whose axes differ from ours. Non-finite pixels become NaN.
 
 import type { Frame, FrameMapName } from '../frame.js';
-import { FRAME_MAPS, checkFrame } from '../frame.js';
+import { FRAME_MAPS, checkFrame, frameFromMaps } from '../frame.js';
 import { InputError } from '../inputError.js';
 import type { FitsHeader, FitsValue } from '../fits/header.js';
 import { headerRecord, headerString, headerValue } from '../fits/header.js';
@@ -136,18 +136,7 @@ export function assembleFrame(components: Partial<Record<FrameMapName, Component
   for (const h of [...bnSrc.headers].reverse()) {
     for (const [k, v] of Object.entries(headerRecord(h))) if (!STRUCTURAL.test(k)) keywords[k] = v;
   }
-  const frame: Frame = {
-    time: time.utcMs, nx, ny, dx, dy,
-    bn: maps.bn!,
-    ...(maps.bx && { bx: maps.bx }),
-    ...(maps.by && { by: maps.by }),
-    ...(maps.vx && { vx: maps.vx }),
-    ...(maps.vy && { vy: maps.vy }),
-    ...(maps.vz && { vz: maps.vz }),
-    provenance: { source: bnSrc.source, keywords },
-  };
-  checkFrame(frame, bnSrc.source);
-  return frame;
+  return frameFromMaps({ time: time.utcMs, nx, ny, dx, dy }, maps, bnSrc.source, { provenance: { source: bnSrc.source, keywords } });
 }
 
 /** One FITS file per time, components named by EXTNAME (BN required). */
