@@ -54,6 +54,20 @@ describe('replay session', () => {
     expect(() => s.seek('yesterday')).toThrow(/neither a frame index nor an ISO 8601 time/);
   });
 
+  it('plays any source of timed frames, from a given start (a replay resumed after a restart)', async () => {
+    const clock = new FakeClock();
+    // A source that is not a folder: frame i is just its index (the shape server/replayFeed.ts uses).
+    const times = [0, 60_000, 180_000, 240_000];
+    const source = { entries: times.map((time) => ({ time })), frame: async (i: number) => ({ i }) };
+    const got: [number, number][] = [];
+    const s = startReplay(source, 60, async (f) => { got.push([f.i, clock.t]); }, { clock, start: 1 });
+    expect(s.status()).toMatchObject({ position: 2, total: 4 }); // frame 1 was due at once and is handed over
+    await s.done;
+    // Frame 1 at once, then the archive's 2 and 1 minutes at 60x: 2 s and 1 s.
+    expect(got).toEqual([[1, 0], [2, 2000], [3, 3000]]);
+    expect(() => startReplay(source, 1, async () => undefined, { clock, start: 5 })).toThrow(/outside 0\.\.4/);
+  });
+
   it('rejects when the consumer fails', async () => {
     const archive = await openArchive(dir);
     const s = startReplay(archive, 0, async () => { throw new Error('store full'); }, { clock: new FakeClock() });
