@@ -79,6 +79,19 @@ describe.skipIf(!built)('helicord replay (command line)', () => {
     expect(r.out()).toMatch(/stopping/);
   }, 90_000);
 
+  it('run again on the same data, goes on after the frames the region holds (nothing sent twice)', async () => {
+    const r = run(['replay', folder, '--region', 'cli', '--speed', '0', '--data', data, '--port', '0', '--workers', '1']);
+    try {
+      const url = await r.url;
+      const info = await waitReplayDone(url, 'cli');
+      expect(info).toMatchObject({ frames: 12, replay: { state: 'done', total: 12, sent: 0 } });
+      expect(r.out()).toMatch(/from frame 12/);
+    } finally {
+      r.child.kill('SIGTERM');
+    }
+    expect(await r.exit).toBe(0);
+  }, 90_000);
+
   it('replays the stored region with --config into a new region beside it', async () => {
     const r = run(['replay', '--from-region', 'cli', '--region', 'cli-noisy', '--config', join(dir, 'noisy.json'), '--speed', '0', '--data', data, '--port', '0', '--workers', '1']);
     try {
