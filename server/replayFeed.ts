@@ -92,6 +92,8 @@ export interface FeedOptions {
   readonly speed?: number;
   readonly log?: (line: string) => void;
   readonly clock?: PacingClock;
+  /** Called when a run of the source is through. */
+  readonly onEnd?: () => void;
 }
 
 type Answer = { status: number; body: unknown };
@@ -134,7 +136,11 @@ export class ReplayFeed {
     if (paused) session.pause();
     this.session = session;
     this.current = session.done.then(
-      () => { if (!this.stopped && session === this.session && session.status().state === 'done') this.log(`replay into "${this.region}" done: ${this.sent} frames stored, ${this.duplicates} already there, ${this.skippedLate} too late`); },
+      () => {
+        if (this.stopped || session !== this.session) return;
+        this.log(`replay into "${this.region}" done: ${this.sent} frames stored, ${this.duplicates} already there, ${this.skippedLate} too late`);
+        this.options.onEnd?.();
+      },
       (e) => { this.log(`replay into "${this.region}" stopped: ${(e as Error).message}`); },
     );
   }

@@ -36,6 +36,8 @@ export interface ReplayFeedsOptions {
   readonly replayRoot?: string;
   /** Called after a replay gave a region its settings (the watched folder follows them). */
   readonly onSettings?: (region: string) => void;
+  /** Called when a replay's state changed outside the frame flow (a control, the end): viewers are told. */
+  readonly onChange?: (region: string) => void;
   readonly clock?: PacingClock;
 }
 
@@ -100,7 +102,9 @@ export class ReplayFeeds {
     if (b.action === 'start') return this.startFromRequest(region, b);
     const feed = this.feeds.get(region);
     if (!feed) return refusal(409, 'region', `region ${region} is not a replay (start one with { action: 'start', from_region })`);
-    return feed.control(body);
+    const answer = feed.control(body);
+    if (answer.status === 200) this.options.onChange?.(region);
+    return answer;
   }
 
   private async startFromRequest(region: string, b: Record<string, unknown>): Promise<Answer> {
@@ -152,7 +156,10 @@ export class ReplayFeeds {
 
   private launch(region: string, source: FeedSource, speed: number): ReplayFeed {
     const { store, pipeline, log } = this.options;
-    const feed = new ReplayFeed({ region, source, pipeline, store, speed, log, ...(this.options.clock && { clock: this.options.clock }) });
+    const feed = new ReplayFeed({
+      region, source, pipeline, store, speed, log, ...(this.options.clock && { clock: this.options.clock }),
+      onEnd: () => this.options.onChange?.(region),
+    });
     this.feeds.set(region, feed);
     feed.start();
     return feed;

@@ -127,6 +127,7 @@ export async function serve(options: ServeOptions): Promise<RunningMonitor> {
     store, writer, pipeline, log,
     ...(options.replayRoot !== undefined && { replayRoot: options.replayRoot }),
     onSettings: (region) => folders.sync(region, store.region(region)?.settings.watchFolder ?? false),
+    onChange: (region) => { if (store.region(region)) hub.send(region, { type: 'status', status: pipeline.status(region) }); },
   });
   replays = feeds;
 

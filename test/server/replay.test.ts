@@ -17,6 +17,7 @@ import { execFileSync } from 'node:child_process';
 import { existsSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { WebSocket } from 'ws';
 import { readFitsImages } from '../../core/fits/readImage.js';
 import { SERIES_COLUMNS } from '../../core/seriesColumns.js';
 import { loadFrameFile } from '../../replay/frameFiles.js';
@@ -211,6 +212,12 @@ describe('replay into the live monitor', () => {
     const p1 = ((await paused.json()) as { replay: ReplayInfo }).replay;
     expect(p1.state).toBe('paused');
     await waitIdle(m.url);
+    // A viewer connected now (nothing flows) hears of the next control at once.
+    const viewer = new WebSocket(`${m.url.replace('http', 'ws')}/ws/view?region=steered`);
+    const heard: { type: string; status?: { replay: ReplayInfo | null } }[] = [];
+    viewer.on('message', (d) => heard.push(JSON.parse(d.toString())));
+    await new Promise((r) => viewer.once('open', r));
+    await until('the snapshot', async () => (heard.length > 0 ? true : undefined));
     const n1 = (await regionInfo(m.url, 'steered')).frames;
     expect(n1).toBe(p1.position); // every frame handed out is stored, none after the pause
     await new Promise((r) => setTimeout(r, 400));
@@ -220,6 +227,8 @@ describe('replay into the live monitor', () => {
     // Seek back while paused: the position moves, the state stays.
     const back = ((await (await control(m.url, 'steered', { action: 'seek', value: 0 })).json()) as { replay: ReplayInfo }).replay;
     expect(back).toMatchObject({ state: 'paused', position: 0 });
+    await until('a status with the seek', async () => (heard.some((h) => h.type === 'status' && h.status?.replay?.position === 0) ? true : undefined), 5000);
+    viewer.close();
     await control(m.url, 'steered', { action: 'resume' });
     // Frames 0..n1-1 are sent again (duplicates, stored once), then play goes on into new ones.
     await until('two new frames after the seek back', async () => ((await regionInfo(m.url, 'steered')).frames >= n1 + 2 ? true : undefined));
