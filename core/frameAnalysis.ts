@@ -20,6 +20,7 @@ import { rateSample } from './rateSample.js';
 import { inferVelocity } from './velocity/inferVelocity.js';
 import { midFrame } from './velocity/midFrame.js';
 import type { VelocitySettings } from './velocity/velocitySettings.js';
+import { resolveVelocitySettings } from './velocity/velocitySettings.js';
 
 export interface AnalysisSettings {
   /** Noise of bn in G; estimated from each frame when not given. */
@@ -70,6 +71,14 @@ export function analyseFrame(
     return {
       waiting: 'the frame carries no velocity: waiting for the next frame to infer it', velocityNotes: [],
       maps: {}, state: { previous: frame, ...(state.footpoints && { footpoints: state.footpoints }) },
+    };
+  } else if (frame.time - state.previous.time > 1000 * resolveVelocitySettings(settings.velocity).maxIntervalS) {
+    // Too far apart to infer a velocity: this pair gives no sample (the budget marks the hole),
+    // and the next pair starts from this frame.
+    const dtS = (frame.time - state.previous.time) / 1000;
+    return {
+      waiting: `${dtS} s since the previous frame, more than the ${resolveVelocitySettings(settings.velocity).maxIntervalS} s over which a velocity is inferred: no sample for this pair; the next pair starts here`,
+      velocityNotes: [], maps: {}, state: { previous: frame, ...(state.footpoints && { footpoints: state.footpoints }) },
     };
   } else {
     const v = inferVelocity(state.previous, frame, settings.velocity);

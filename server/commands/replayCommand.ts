@@ -7,7 +7,7 @@ import type { ReplayStart } from '../replayFeeds.js';
 import { serve } from '../serve.js';
 import type { ParsedArgs } from './args.js';
 import { numberFlag, stringFlag } from './args.js';
-import { DEFAULT_PORT } from './serveCommand.js';
+import { monitorOptions, runUntilSignal } from './serveCommand.js';
 
 export const REPLAY_HELP = `  replay FOLDER --region NAME [--speed X] [--config FILE] [--data DIR] [--port N] [--host H]
          [--workers N] [--read-token] [--replay-root DIR]
@@ -29,11 +29,6 @@ export async function replayCommand(args: ParsedArgs, out: NodeJS.WritableStream
   if ((folder === undefined) === (fromRegion === undefined)) throw new Error('replay needs either a FOLDER or --from-region OLD (not both)');
   const speed = numberFlag(args, 'speed', 1)!;
   if (speed < 0) throw new Error(`option --speed must be 0 (as fast as possible) or a positive factor, got ${speed}`);
-  const port = numberFlag(args, 'port', DEFAULT_PORT)!;
-  if (!Number.isInteger(port) || port < 0 || port > 65535) throw new Error(`option --port must be a TCP port (0-65535), got ${port}`);
-  const workers = numberFlag(args, 'workers');
-  const host = stringFlag(args, 'host');
-  const replayRoot = stringFlag(args, 'replay-root');
   const configFile = stringFlag(args, 'config');
   let settings: Record<string, unknown> | undefined;
   if (configFile !== undefined) {
@@ -53,24 +48,6 @@ export async function replayCommand(args: ParsedArgs, out: NodeJS.WritableStream
     from = { region: fromRegion! };
   }
 
-  const monitor = await serve({
-    dataDir: stringFlag(args, 'data', './data')!,
-    port,
-    ...(host !== undefined && { host }),
-    readToken: args.flags['read-token'] === true,
-    ...(workers !== undefined && { workers }),
-    ...(replayRoot !== undefined && { replayRoot }),
-    replays: [{ region, from, speed, ...(settings && { settings }) }],
-    log: (line) => out.write(line + '\n'),
-  });
-  out.write(`helicord monitor running: open ${monitor.url} (region ${region} is being replayed)\n`);
-  out.write('Research indicators, not forecasts: for operational decisions use the official space-weather services.\n');
-  await new Promise<void>((resolve) => {
-    const stop = () => { process.off('SIGINT', stop); process.off('SIGTERM', stop); resolve(); };
-    process.on('SIGINT', stop);
-    process.on('SIGTERM', stop);
-  });
-  out.write('helicord monitor stopping...\n');
-  await monitor.close();
-  return 0;
+  const monitor = await serve({ ...monitorOptions(args, out), replays: [{ region, from, speed, ...(settings && { settings }) }] });
+  return runUntilSignal(monitor, out, ` (region ${region} is being replayed)`);
 }

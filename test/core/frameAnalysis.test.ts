@@ -62,4 +62,16 @@ describe('analyseFrame', () => {
     expect(Math.abs(second.sample!.total - expected) / Math.abs(expected)).toBeLessThan(0.1);
     expect(second.footpoints!.footpoints).toHaveLength(2);
   });
+
+  it('frames too far apart for inference give no sample for that pair, and the next pair starts from the later frame', () => {
+    const strip = (f: Frame, t: number): Frame => ({ time: t, nx: f.nx, ny: f.ny, dx: f.dx, dy: f.dy, bn: f.bn });
+    const t0 = circling(0).time;
+    let r = analyseFrame(strip(circling(0), t0), {}, {});
+    r = analyseFrame(strip(circling(1), t0 + 3600_000), r.state, { velocity: { maxIntervalS: 1800 } });
+    expect(r.sample).toBeUndefined();
+    expect(r.waiting).toMatch(/3600 s since the previous frame, more than the 1800 s/);
+    expect(r.state.previous!.time).toBe(t0 + 3600_000);
+    r = analyseFrame(strip(circling(2), t0 + 3720_000), r.state, { velocity: { maxIntervalS: 1800 } });
+    expect(r.sample!.time).toBe(t0 + 3660_000);
+  });
 });
