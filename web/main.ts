@@ -568,7 +568,17 @@ function renderReplay(r: ReplayInfo | null): void {
     replaySeek.max = String(Math.max(0, r.total - 1));
     replaySeek.value = String(r.position);
   }
-  if (document.activeElement !== replaySpeed) replaySpeed.value = String(r.speed);
+  if (document.activeElement !== replaySpeed) {
+    // A speed set elsewhere (the command line, the API) that the menu does not list joins it.
+    const value = String(r.speed);
+    if (![...replaySpeed.options].some((o) => o.value === value)) {
+      const option = document.createElement('option');
+      option.value = value;
+      option.textContent = `×${r.speed}`;
+      replaySpeed.insertBefore(option, [...replaySpeed.options].find((o) => Number(o.value) > r.speed || o.value === '0') ?? null);
+    }
+    replaySpeed.value = value;
+  }
   byId('replay-text').textContent = `${r.state} · frame ${Math.min(r.position + 1, r.total)} of ${r.total} · ${r.speed === 0 ? 'as fast as possible' : `×${r.speed}`}`;
   byId<HTMLButtonElement>('replay-play').disabled = r.state === 'playing';
   byId<HTMLButtonElement>('replay-pause').disabled = r.state !== 'playing';
