@@ -17,7 +17,9 @@
 // stays exact because it is taken as the labelled-labelled double sum (one more convolution, of
 // all labelled pixels together) minus the spins.
 
-import type { FluxKernel } from './fluxKernel.js';
+import type { FluxKernel, FluxKernelCache } from './fluxKernel.js';
+import { fluxKernelFor } from './fluxKernel.js';
+import { nextPowerOfTwo } from './fft.js';
 import type { FluxTransport } from './fluxTransport.js';
 import { convolveTransport, helicityFluxTotal } from './helicityFlux.js';
 import { CM_PER_KM, CM_PER_MM, pixelAreaCm2 } from './units.js';
@@ -50,6 +52,14 @@ export interface LabelSplitOptions {
   readonly directPairsPerPaddedPixel?: number;
   /** Most direct pair visits spent on the pair matrix (default 1e7, about 40 ms here). */
   readonly pairBudget?: number;
+  /**
+   * Most large footpoints that get a full-grid convolution (their whole row of the pair matrix;
+   * default 4). The other large ones get their spin from a convolution over their own bounding
+   * box, which is far cheaper, and their pairs stay NaN.
+   */
+  readonly maxFullRows?: number;
+  /** Caller-owned cache for the kernels of those bounding boxes. */
+  readonly cache?: FluxKernelCache;
 }
 
 export function splitByLabels(
@@ -97,7 +107,10 @@ export function splitByLabels(
       if (!big[j]) pixelsIn += counts[j];
     }
   }
-  const pairsComplete = inPairs.every((v) => v === 1);
+  let pairsComplete = inPairs.every((v) => v === 1);
+
+  // Large footpoints without a full row leave their pairs unknown.
+  if (big.reduce((c, v) => c + v, 0) > (options.maxFullRows ?? 4)) pairsComplete = false;
 
   // Ordered-pair sums S[a][b] = Sum_{x in a, x' in b} (pair bracket), before physical factors.
   const sums = new Float64Array(k * k);
@@ -153,11 +166,19 @@ export function splitByLabels(
   const area = pixelAreaCm2(dx, dy);
   const directFactor = (-1 / (2 * Math.PI)) * (CM_PER_KM / CM_PER_MM) * area * area;
 
-  // FFT path: the field of each big footpoint, summed over every labelled pixel.
+  // FFT path: the field of each big footpoint, summed over every labelled pixel (full rows for
+  // the largest `maxFullRows`), or over its own pixels only, from a convolution of its bounding box.
+  const maxFullRows = options.maxFullRows ?? 4;
+  const hasRow = new Uint8Array(k);
+  {
+    let rows = 0;
+    for (const j of order) if (big[j] && rows < maxFullRows) { hasRow[j] = 1; rows++; }
+  }
   const fftSums = new Float64Array(k * k);
   const mb = new Float64Array(n), mfx = new Float64Array(n), mfy = new Float64Array(n);
   for (let a = 0; a < k; a++) {
     if (!big[a]) continue;
+    if (!hasRow[a]) { fftSums[a * k + a] = boxSpinSum(a); continue; }
     mb.fill(0); mfx.fill(0); mfy.fill(0);
     for (let i = 0; i < n; i++) {
       if (valid[i] && labels[i] === ids[a]) { mb[i] = bn[i]; mfx[i] = fx[i]; mfy[i] = fy[i]; }
@@ -166,9 +187,31 @@ export function splitByLabels(
     for (let i = 0; i < n; i++) {
       if (!valid[i] || labels[i] <= 0) continue;
       const b = index.get(labels[i])!;
-      if (big[b] && b < a) continue; // that pair was taken from b's convolution
+      if (hasRow[b] && b < a) continue; // that pair was taken from b's convolution
       fftSums[b * k + a] += fy[i] * p[i] - fx[i] * q[i] - bn[i] * r[i];
     }
+  }
+
+  /** The within-footpoint sum of footpoint `a` from a convolution over its bounding box. */
+  function boxSpinSum(a: number): number {
+    let x0 = nx, x1 = -1, y0 = ny, y1 = -1;
+    for (let i = 0; i < n; i++) {
+      if (!valid[i] || labels[i] !== ids[a]) continue;
+      const x = i % nx, y = (i - x) / nx;
+      if (x < x0) x0 = x; if (x > x1) x1 = x; if (y < y0) y0 = y; if (y > y1) y1 = y;
+    }
+    // Box sides rounded up to powers of two: the padded transform has the same size either way
+    // (2^ceil(log2(2w - 1)) = 2 nextPow2(w)), and the cache then holds few kernels.
+    const w = nextPowerOfTwo(x1 - x0 + 1), h = nextPowerOfTwo(y1 - y0 + 1);
+    const sb = new Float64Array(w * h), sfx = new Float64Array(w * h), sfy = new Float64Array(w * h);
+    for (let y = y0; y <= y1; y++) for (let x = x0; x <= x1; x++) {
+      const i = y * nx + x;
+      if (valid[i] && labels[i] === ids[a]) { const j = (y - y0) * w + (x - x0); sb[j] = bn[i]; sfx[j] = fx[i]; sfy[j] = fy[i]; }
+    }
+    const { p, q, r } = convolveTransport(fluxKernelFor({ nx: w, ny: h, dx, dy }, options.cache), { bn: sb, fx: sfx, fy: sfy });
+    let sum = 0;
+    for (let j = 0; j < w * h; j++) if (sb[j] !== 0 || sfx[j] !== 0 || sfy[j] !== 0) sum += sfy[j] * p[j] - sfx[j] * q[j] - sb[j] * r[j];
+    return sum;
   }
   // The convolution includes dS' and the Mm -> cm step; apply -(1/2pi), km -> cm and dS.
   const fftFactor = (-1 / (2 * Math.PI)) * CM_PER_KM * area;
@@ -178,7 +221,7 @@ export function splitByLabels(
   let spinTotal = 0, orbitTotal = 0;
   for (let a = 0; a < k; a++) {
     for (let b = a; b < k; b++) {
-      const known = a === b || big[a] || big[b] || (inPairs[a] && inPairs[b]);
+      const known = a === b || hasRow[a] || hasRow[b] || (!big[a] && !big[b] && inPairs[a] && inPairs[b]);
       if (!known) { orbit[a * k + b] = NaN; orbit[b * k + a] = NaN; continue; }
       // Direct sums sit in the upper triangle; FFT sums at [target][source] for source a big.
       let v = directFactor * (sums[a * k + b] + (a === b ? 0 : sums[b * k + a]));

@@ -74,7 +74,7 @@ export function rateSample(input: RateInput): RateResult {
   const labels = input.labels === undefined ? frame.labels : input.labels ?? undefined;
   let split: LabelSplit | undefined;
   if (labels) {
-    split = splitByLabels(kernel, t, labels, { total: flux.total });
+    split = splitByLabels(kernel, t, labels, { total: flux.total, ...(input.cache && { cache: input.cache }) });
     if (split.ids.length === 0) { flags.push('no-footpoints'); split = undefined; }
   } else {
     flags.push('no-footpoints');

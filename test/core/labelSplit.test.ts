@@ -76,4 +76,23 @@ describe('exact split by labels', () => {
     expect(Number.isNaN(part.orbit[0 * 3 + 1])).toBe(true);
     expect(Number.isNaN(part.orbit[0 * 3 + 2])).toBe(true);
   });
+
+  it('large footpoints beyond maxFullRows: spins from their bounding boxes equal the direct double sum, the orbit total stays exact', () => {
+    const cache = new Map();
+    const s = splitByLabels(kernel, t, labels, { directPairsPerPaddedPixel: 0, maxFullRows: 1, cache });
+    expect(s.convolvedFootpoints).toBe(3);
+    expect(s.pairsComplete).toBe(false);
+    const scale = Math.abs(s.total) + Math.abs(s.spinTotal) + Math.abs(s.orbitTotal);
+    const close = (a: number, b: number) => expect(Math.abs(a - b) / scale).toBeLessThan(1e-9);
+    close(s.spin[0], brute.get('3-3')!);
+    close(s.spin[1], brute.get('7-7')!);
+    close(s.spin[2], brute.get('9-9')!);
+    close(s.orbitTotal, brute.get('3-7')! + brute.get('3-9')! + brute.get('7-9')!);
+    close(s.background, brute.get('bg')!);
+    // The one full row belongs to the largest footpoint (label 7, 25 pixels): its pairs are known.
+    close(s.orbit[0 * 3 + 1], brute.get('3-7')!);
+    close(s.orbit[1 * 3 + 2], brute.get('7-9')!);
+    expect(Number.isNaN(s.orbit[0 * 3 + 2])).toBe(true);
+    expect(cache.size).toBe(2); // the bounding boxes of labels 3 (4x4) and 9 (7x3, rounded up to 8x4)
+  });
 });
