@@ -10,7 +10,7 @@ import { cpus, loadavg, tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import type { Page } from 'playwright-core';
-import { announceMissingChromium, chromiumPath, inCi, launchChromium, screenshotDir, type LaunchedBrowser } from './support/browser.js';
+import { announceMissingChromium, chromiumPath, inCi, launchChromium, screenshotDir, type LaunchedBrowser, waitForProbe } from './support/browser.js';
 import { FAKE_TOKEN, FakeMonitor, newRegionState, pushFrame, raiseBudgetAlert, type FakeRegionState } from './support/fakeMonitor.js';
 
 const root = fileURLToPath(new URL('../..', import.meta.url));
@@ -26,16 +26,8 @@ type Probe = {
 
 const probe = (page: Page): Promise<Probe> => page.evaluate('window.helicordProbe.state()') as Promise<Probe>;
 
-async function until(page: Page, what: string, ok: (p: Probe) => boolean, timeoutMs = 10_000): Promise<Probe> {
-  const end = Date.now() + timeoutMs;
-  let last: Probe | undefined;
-  while (Date.now() < end) {
-    last = await probe(page);
-    if (ok(last)) return last;
-    await page.waitForTimeout(50);
-  }
-  throw new Error(`timed out waiting for ${what}; page state: ${JSON.stringify(last)}`);
-}
+const until = (page: Page, what: string, ok: (p: Probe) => boolean, timeoutMs = 10_000): Promise<Probe> =>
+  waitForProbe<Probe>(page, what, ok, timeoutMs, 50);
 
 if (!chromiumPath && !inCi) announceMissingChromium();
 

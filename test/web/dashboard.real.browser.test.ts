@@ -13,7 +13,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import type { Page } from 'playwright-core';
-import { announceMissingChromium, chromiumPath, inCi, launchChromium, screenshotDir, type LaunchedBrowser } from './support/browser.js';
+import { announceMissingChromium, chromiumPath, inCi, launchChromium, screenshotDir, type LaunchedBrowser, waitForProbe } from './support/browser.js';
 import { freePort, RealMonitor, realMonitorAvailable, realServePath } from './support/realMonitor.js';
 
 const root = fileURLToPath(new URL('../..', import.meta.url));
@@ -28,16 +28,8 @@ type Probe = {
 };
 const probe = (page: Page): Promise<Probe> => page.evaluate('window.helicordProbe.state()') as Promise<Probe>;
 
-async function until(page: Page, what: string, ok: (p: Probe) => boolean, timeoutMs = 20_000): Promise<Probe> {
-  const end = Date.now() + timeoutMs;
-  let last: Probe | undefined;
-  while (Date.now() < end) {
-    last = await probe(page);
-    if (ok(last)) return last;
-    await page.waitForTimeout(100);
-  }
-  throw new Error(`timed out waiting for ${what}; page state: ${JSON.stringify(last)}`);
-}
+const until = (page: Page, what: string, ok: (p: Probe) => boolean, timeoutMs = 20_000): Promise<Probe> =>
+  waitForProbe<Probe>(page, what, ok, timeoutMs, 100);
 
 if (!chromiumPath && !inCi) announceMissingChromium();
 if (!haveServer && !inCi) {

@@ -4,7 +4,7 @@
 import { existsSync, mkdirSync, mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { chromium, type BrowserContext } from 'playwright-core';
+import { chromium, type BrowserContext, type Page } from 'playwright-core';
 
 const CANDIDATES = [process.env.HELICORD_CHROMIUM, '/usr/bin/chromium', '/usr/bin/chromium-browser'].filter((p): p is string => Boolean(p));
 
@@ -48,4 +48,16 @@ export function screenshotDir(root: string): string {
   const dir = join(root, 'test-output', 'web');
   mkdirSync(dir, { recursive: true });
   return dir;
+}
+
+/** Polls the page's probe (window.helicordProbe.state()) until `ok` holds; fails with the last state seen. */
+export async function waitForProbe<P>(page: Page, what: string, ok: (p: P) => boolean, timeoutMs: number, stepMs: number): Promise<P> {
+  const end = Date.now() + timeoutMs;
+  let last: P | undefined;
+  while (Date.now() < end) {
+    last = (await page.evaluate('window.helicordProbe.state()')) as P;
+    if (ok(last)) return last;
+    await page.waitForTimeout(stepMs);
+  }
+  throw new Error(`timed out waiting for ${what}; page state: ${JSON.stringify(last)}`);
 }
