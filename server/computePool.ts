@@ -3,23 +3,16 @@
 // which frame each region's worker state follows; when that is not the frame before the one to
 // analyse (first use, restart, rewind, a worker that died), it asks the worker to rebuild the
 // state from the last processed frame first.
-import { existsSync } from 'node:fs';
-import { fileURLToPath } from 'node:url';
-import { Worker } from 'node:worker_threads';
 import type { WorkerReply, WorkerRequest } from './computeMessages.js';
+import { RestartingWorker, compiledWorkerUrl } from './restartingWorker.js';
 
-/** The compiled worker beside this module; from the TypeScript sources (tests) use dist/. */
+/** The compiled compute worker. */
 export function computeWorkerUrl(): URL {
-  const here = new URL('./computeWorker.js', import.meta.url);
-  if (existsSync(fileURLToPath(here))) return here;
-  const dist = new URL('../dist/server/computeWorker.js', import.meta.url);
-  if (existsSync(fileURLToPath(dist))) return dist;
-  throw new Error(`the compiled compute worker is missing (${fileURLToPath(here)}); run \`npm run build\``);
+  return compiledWorkerUrl('computeWorker.js');
 }
 
 interface Slot {
-  worker: Worker;
-  pending: Map<number, { resolve: (r: WorkerReply) => void; reject: (e: Error) => void; region: string }>;
+  worker: RestartingWorker<WorkerRequest, WorkerReply>;
   regions: Set<string>;
 }
 
@@ -49,24 +42,12 @@ export class ComputePool {
   }
 
   private spawn(index: number): Slot {
-    const slot: Slot = { worker: new Worker(this.url), pending: new Map(), regions: this.slots[index]?.regions ?? new Set() };
-    slot.worker.on('message', (reply: WorkerReply) => {
-      const p = slot.pending.get(reply.id);
-      if (!p) return;
-      slot.pending.delete(reply.id);
-      p.resolve(reply);
+    const regions = new Set<string>();
+    // A worker that died loses the states of its regions: they are rebuilt on their next frame.
+    const worker = new RestartingWorker<WorkerRequest, WorkerReply>(this.url, `compute worker ${index}`, this.log, () => {
+      for (const r of regions) this.position.delete(r);
     });
-    const fail = (why: string) => {
-      if (this.closed) return;
-      for (const r of slot.regions) this.position.delete(r);
-      for (const [, p] of slot.pending) p.reject(new Error(`compute worker stopped: ${why}`));
-      slot.pending.clear();
-      this.log(`compute worker ${index} stopped (${why}); starting a new one`);
-      this.slots[index] = this.spawn(index);
-    };
-    slot.worker.on('error', (e) => fail(e.message));
-    slot.worker.on('exit', (code) => { if (!this.closed) fail(`exit code ${code}`); });
-    return slot;
+    return { worker, regions };
   }
 
   private slotFor(region: string): number {
@@ -99,10 +80,7 @@ export class ComputePool {
     this.position.delete(job.region);
     this.busy++;
     try {
-      const reply = await new Promise<WorkerReply>((resolve, reject) => {
-        slot.pending.set(req.id, { resolve, reject, region: job.region });
-        slot.worker.postMessage(req);
-      });
+      const reply = await slot.worker.request(req);
       if (reply.ok) this.position.set(job.region, job.frameId);
       return reply;
     } finally {
@@ -112,6 +90,6 @@ export class ComputePool {
 
   async close(): Promise<void> {
     this.closed = true;
-    await Promise.all(this.slots.map((s) => s.worker.terminate()));
+    await Promise.all(this.slots.map((s) => s.worker.close()));
   }
 }
