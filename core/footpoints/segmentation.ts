@@ -19,6 +19,12 @@ export interface SegmentationSettings {
   readonly smoothing?: number;
   /** Neighbouring regions merge when their saddle is less than this many noise units below the lower peak (default 3). */
   readonly saddleDepth?: number;
+  /**
+   * Neighbouring regions also merge when their saddle stands at least this share of the lower peak
+   * (default 0.5): cores that overlap above half their height are one body, as umbral cores inside
+   * one penumbra are; two equal Gaussian spots split only when more than 3.3 widths apart. 0 = off.
+   */
+  readonly saddleRatio?: number;
   /** Smallest footpoint, pixels (default 4: a 2x2 patch is the smallest resolved concentration). */
   readonly minPixels?: number;
   /** Smallest |flux| of a footpoint, Mx (default 0: no flux limit). */
@@ -34,6 +40,7 @@ export const SEGMENTATION_DEFAULTS = {
   threshold: 5,
   smoothing: 1,
   saddleDepth: 3,
+  saddleRatio: 0.5,
   minPixels: 4,
   minFlux: 0,
   split: true,
@@ -98,6 +105,7 @@ export function segmentFootpoints(bn: ArrayLike<number>, grid: Grid, settings: S
   const { labels, count } = downhillTessellation(strength, classes, nx, ny, {
     dx, dy,
     saddleDepth: s.saddleDepth * noise,
+    saddleRatio: s.saddleRatio,
     minPixels: s.minPixels,
     minFieldSum: s.minFlux / fluxPerUnit,
     fluxMap: bn,

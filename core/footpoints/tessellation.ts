@@ -2,7 +2,9 @@
 // the steepest ascent of |bn| through pixels of its own polarity until it reaches a local maximum;
 // pixels that reach the same maximum form one region. Noise makes spurious maxima, so neighbouring
 // regions are then merged when the saddle between them is shallow: the lower of the two peaks
-// stands less than `saddleDepth` above the highest point of their common boundary. Regions too
+// stands less than `saddleDepth` above the highest point of their common boundary. One body with
+// several cores (umbral cores inside one penumbra) is merged too: the saddle stands at least
+// `saddleRatio` of the lower peak, i.e. the cores overlap above half their height. Regions too
 // small in area or flux join the neighbour they share the highest saddle with, or are dropped.
 
 export interface TessellationOptions {
@@ -11,6 +13,8 @@ export interface TessellationOptions {
   readonly dy: number;
   /** Merge two neighbours when min(peak) - saddle < saddleDepth (same unit as the field). */
   readonly saddleDepth: number;
+  /** Merge two neighbours when saddle >= saddleRatio * min(peak) (0 turns this off). */
+  readonly saddleRatio?: number;
   /** Smallest region kept, pixels. */
   readonly minPixels: number;
   /** Smallest |flux| kept, in units of the field times pixel count (sum of |field|). */
@@ -130,11 +134,13 @@ export function downhillTessellation(
     pixels[keep] += pixels[gone];
     fluxSum[keep] += fluxSum[gone];
   };
+  const ratio = options.saddleRatio && options.saddleRatio > 0 ? options.saddleRatio : Infinity;
   // Highest saddles first: the first edge met between two merged groups is their true saddle.
   for (const { a, b, s } of edges) {
     const ra = root(parent, a), rb = root(parent, b);
     if (ra === rb) continue;
-    if (Math.min(peak[ra], peak[rb]) - s < options.saddleDepth) union(ra, rb);
+    const lower = Math.min(peak[ra], peak[rb]);
+    if (lower - s < options.saddleDepth || s >= ratio * lower) union(ra, rb);
   }
   const small = (r: number) => pixels[r] < options.minPixels || fluxSum[r] < options.minFieldSum;
   for (const { a, b } of edges) {

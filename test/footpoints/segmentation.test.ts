@@ -103,8 +103,20 @@ describe('segmentation', () => {
   it('noise maxima on a broad plateau are merged by the saddle depth, not kept as footpoints', () => {
     const bn = sceneField(g, [at(24, 32, 5, 120)], 10, 3);
     expect(segmentFootpoints(bn, g, { noise: 10, smoothing: 0 }).count).toBe(1);
-    // With no saddle depth every noise bump would be a footpoint.
-    expect(segmentFootpoints(bn, g, { noise: 10, smoothing: 0, saddleDepth: 0 }).count).toBeGreaterThan(3);
+    // With no saddle criterion (neither depth nor ratio) every noise bump would be a footpoint.
+    expect(segmentFootpoints(bn, g, { noise: 10, smoothing: 0, saddleDepth: 0, saddleRatio: 0 }).count).toBeGreaterThan(3);
+  });
+
+  it('one body with several cores is one footpoint; spots whose saddle is below half the lower peak stay two', () => {
+    // An elliptical core with two smaller cores on its major axis (the shape of a spot with several
+    // umbrae in one penumbra): the saddles dip 1.5% below the smaller cores, far more than 3 noise
+    // units, but stand above half their height.
+    const body = sceneField(g, [{ x: 24, y: 16, a: 4.4, b: 3, angle: 0, peak: 1500 }, at(30, 16, 2, 1100), at(18, 16, 2, 1100)], 5, 4);
+    expect(segmentFootpoints(body, g, { noise: 5 }).count).toBe(1);
+    expect(segmentFootpoints(body, g, { noise: 5, saddleRatio: 0 }).count).toBe(3);
+    // Two equal round spots 4 widths apart: saddle 2 exp(-2) = 0.27 of the peak: two footpoints.
+    const two = sceneField(g, [at(18, 16, 1.5, 1000), at(24, 16, 1.5, 1000)], 5, 5);
+    expect(segmentFootpoints(two, g, { noise: 5 }).count).toBe(2);
   });
 
   it('opposite polarities side by side stay apart; minimum area and flux drop small concentrations', () => {
