@@ -30,3 +30,19 @@ export function emergenceShear(frame: Frame, apx: ArrayLike<number>, apy: ArrayL
   const k = CM_PER_KM * pixelAreaCm2(frame.dx, frame.dy);
   return { emergence: e * k, shear: s * k };
 }
+
+/**
+ * The emergence term alone, 2 Int (A_p . B_t) v_n dS (Mx^2/s), over the pixels where every input is
+ * finite: for a velocity field given as the footpoint velocity u, whose shear term is then the total
+ * rate minus this one (u carries both: Bn u = Bn v_t - v_n B_t).
+ */
+export function emergenceTerm(
+  apx: ArrayLike<number>, apy: ArrayLike<number>, bx: ArrayLike<number>, by: ArrayLike<number>, vz: ArrayLike<number>, dx: number, dy: number,
+): number {
+  let e = 0;
+  for (let i = 0; i < apx.length; i++) {
+    const pe = 2 * (apx[i] * bx[i] + apy[i] * by[i]) * vz[i];
+    if (Number.isFinite(pe)) e += pe;
+  }
+  return e * CM_PER_KM * pixelAreaCm2(dx, dy);
+}

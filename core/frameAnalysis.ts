@@ -7,14 +7,26 @@
 // - A frame without velocity gives a sample at the mid-time of it and the previous frame: the
 //   velocity is inferred between them (core/velocity) and belongs to the mid-time frame (the
 //   average of the two), so the rate, the footpoints and the split are all taken on that frame.
-//   The first such frame of a sequence only waits for its partner.
+//   The first such frame of a sequence only waits for its partner. With footpoints on, each
+//   footpoint's rigid motion over the pair is measured from its pattern (core/footpoints/
+//   pairMotion.ts) and the velocity the rate uses is built from those motions, the non-rigid part
+//   of the inferred field inside footpoints and the inferred field elsewhere
+//   (core/footpoints/footpointVelocity.ts).
+//
+// The split flows one way: footpoints are segmented and tracked, the sample is computed with their
+// labels (one flux transport, one split), and the footpoint table takes the sample's split.
 
 import type { FluxKernelCache } from './fluxKernel.js';
 import type { Frame } from './frame.js';
 import { checkFrame, hasVelocity } from './frame.js';
 import type { VelocityMaps } from './fluxTransport.js';
 import type { FootpointAnalysis, FootpointSettings, FootpointState } from './footpoints/analyseFootpoints.js';
-import { analyseFootpoints } from './footpoints/analyseFootpoints.js';
+import { describeFootpoints, trackFrame } from './footpoints/analyseFootpoints.js';
+import type { FootpointVelocityOptions } from './footpoints/footpointVelocity.js';
+import { footpointVelocityField } from './footpoints/footpointVelocity.js';
+import { pairMotions } from './footpoints/pairMotion.js';
+import { SEGMENTATION_DEFAULTS } from './footpoints/segmentation.js';
+import { smoothMap } from './footpoints/smoothing.js';
 import type { RateSample } from './rateSample.js';
 import { rateSample } from './rateSample.js';
 import { inferVelocity } from './velocity/inferVelocity.js';
@@ -29,11 +41,30 @@ export interface AnalysisSettings {
   readonly velocity?: Partial<VelocitySettings>;
   /** Segmentation and tracking of footpoints; `false` turns footpoints off. */
   readonly footpoints?: Omit<FootpointSettings, 'kernelCache'> | false;
+  /**
+   * The velocity used with inferred velocities and footpoints on: 'footpoints' (default) builds it
+   * from each footpoint's measured rigid motion; 'inferred' uses the inferred field as it is.
+   */
+  readonly motionModel?: 'footpoints' | 'inferred';
+  readonly footpointVelocity?: FootpointVelocityOptions;
+  /**
+   * Footpoint motions are measured over at least this many seconds when earlier frames allow
+   * (default 720): at short cadences the displacement over one interval is far below the noise, so
+   * the motion is taken between the newest frame and the oldest kept frame within this span.
+   */
+  readonly motionBaselineS?: number;
 }
+
+export const DEFAULT_MOTION_BASELINE_S = 720;
 
 export interface AnalysisState {
   /** The previous frame (needed to infer velocities). */
   readonly previous?: Frame;
+  /**
+   * Earlier frames' smoothed bn within the motion baseline (oldest first, the previous frame's
+   * included), for footpoint motions over a longer interval than one pair.
+   */
+  readonly history?: readonly { readonly time: number; readonly field: Float64Array }[];
   /** The footpoint tracker's state. */
   readonly footpoints?: FootpointState;
 }
@@ -56,95 +87,110 @@ export interface FrameAnalysis {
   readonly state: AnalysisState;
 }
 
+/** Share of the field's flux (sum |Bn|) without a velocity above which a sample is flagged. */
+export const LEFT_OUT_FLAG_SHARE = 0.01;
+
 export function analyseFrame(
   frame: Frame, state: AnalysisState, settings: AnalysisSettings = {}, cache?: FluxKernelCache,
 ): FrameAnalysis {
   checkFrame(frame);
-  let rateFrame: Frame;
-  let velocity: VelocityMaps | undefined;
-  let method = 'given';
-  let notes: readonly string[] = [];
-  let time = frame.time, dtS = 0;
-  if (hasVelocity(frame)) {
-    rateFrame = frame;
-  } else if (!state.previous) {
+  const keepFootpoints = state.footpoints && { footpoints: state.footpoints };
+  const baselineS = settings.motionBaselineS ?? DEFAULT_MOTION_BASELINE_S;
+  const smoothing = (settings.footpoints || undefined)?.smoothing ?? SEGMENTATION_DEFAULTS.smoothing;
+  const smoothed = () => smoothMap(frame.bn, frame.nx, frame.ny, smoothing);
+  // History for the next frame: this frame's smoothed field added, frames older than the baseline
+  // (beyond the one just inside it) dropped.
+  const nextHistory = (field: Float64Array, from = state.history ?? []) => {
+    const kept = from.filter((h) => frame.time - h.time <= 1000 * baselineS && h.time < frame.time);
+    return [...kept, { time: frame.time, field }];
+  };
+  if (!hasVelocity(frame) && !state.previous) {
     return {
       waiting: 'the frame carries no velocity: waiting for the next frame to infer it', velocityNotes: [],
-      maps: {}, state: { previous: frame, ...(state.footpoints && { footpoints: state.footpoints }) },
+      maps: {}, state: { previous: frame, history: nextHistory(smoothed(), []), ...keepFootpoints },
     };
-  } else if (frame.time - state.previous.time > 1000 * resolveVelocitySettings(settings.velocity).maxIntervalS) {
+  }
+  const maxIntervalS = resolveVelocitySettings(settings.velocity).maxIntervalS;
+  if (!hasVelocity(frame) && frame.time - state.previous!.time > 1000 * maxIntervalS) {
     // Too far apart to infer a velocity: this pair gives no sample (the budget marks the hole),
     // and the next pair starts from this frame.
-    const dtS = (frame.time - state.previous.time) / 1000;
+    const dtS = (frame.time - state.previous!.time) / 1000;
     return {
-      waiting: `${dtS} s since the previous frame, more than the ${resolveVelocitySettings(settings.velocity).maxIntervalS} s over which a velocity is inferred: no sample for this pair; the next pair starts here`,
-      velocityNotes: [], maps: {}, state: { previous: frame, ...(state.footpoints && { footpoints: state.footpoints }) },
+      waiting: `${dtS} s since the previous frame, more than the ${maxIntervalS} s over which a velocity is inferred: no sample for this pair; the next pair starts here`,
+      velocityNotes: [], maps: {}, state: { previous: frame, history: nextHistory(smoothed(), []), ...keepFootpoints },
     };
-  } else {
-    const v = inferVelocity(state.previous, frame, settings.velocity);
-    rateFrame = midFrame(state.previous, frame);
-    velocity = { vx: v.vx, vy: v.vy, ...(v.vz && { vz: v.vz }) };
-    method = v.method;
-    notes = v.notes;
-    time = v.time;
-    dtS = v.dtS;
+  }
+  const fpSettings = settings.footpoints === false ? undefined : { ...settings.footpoints, ...(cache && { kernelCache: cache }) };
+  const noise = settings.noiseG !== undefined ? { noiseG: settings.noiseG } : {};
+
+  if (hasVelocity(frame)) {
+    const tracked = fpSettings && trackFrame(state.footpoints, frame, fpSettings);
+    const r = rateSample({ frame, labels: tracked ? tracked.labels : null, velocityMethod: 'given', ...noise, ...(cache && { cache }) });
+    const footpoints = tracked && describeFootpoints(state.footpoints, frame, tracked, fpSettings!, {
+      transport: r.transport, ...(r.split && { split: r.split }),
+    });
+    return {
+      sample: r.sample, ...(footpoints && { footpoints }), velocityNotes: [],
+      maps: { gTheta: r.gTheta, ...(footpoints && { labels: footpoints.labels }), vx: frame.vx, vy: frame.vy, ...(frame.vz && { vz: frame.vz }) },
+      state: { previous: frame, ...(footpoints ? { footpoints: footpoints.state } : keepFootpoints) },
+    };
   }
 
-  const fpSettings = settings.footpoints;
-  const footpoints = fpSettings === false
-    ? undefined
-    : analyseFootpoints(state.footpoints, rateFrame, { ...fpSettings, exactSplit: false, ...(cache && { kernelCache: cache }) }, velocity);
+  const previous = state.previous!;
+  const v = inferVelocity(previous, frame, settings.velocity);
+  const rateFrame = midFrame(previous, frame);
+  const inferred: VelocityMaps = { vx: v.vx, vy: v.vy, ...(v.vz && { vz: v.vz }) };
+  const common = { frame: rateFrame, velocityMethod: v.method, time: v.time, dtS: v.dtS, ...noise, ...(cache && { cache }) };
+  if (!fpSettings) {
+    const r = rateSample({ ...common, velocity: inferred, labels: null });
+    return {
+      sample: r.sample, velocityNotes: v.notes,
+      maps: { gTheta: r.gTheta, vx: v.vx, vy: v.vy, ...(v.vz && { vz: v.vz }) },
+      state: { previous: frame, ...keepFootpoints },
+    };
+  }
+  const tracked = trackFrame(state.footpoints, rateFrame, fpSettings);
+  let velocity: VelocityMaps = inferred;
+  let labels = tracked.labels;
+  let motions: ReturnType<typeof pairMotions> | undefined;
+  const notes = [...v.notes];
+  const flags: string[] = [];
+  const field1 = smoothed();
+  if ((settings.motionModel ?? 'footpoints') === 'footpoints') {
+    // The footpoints' own motions from their patterns on the smoothed frames: over the pair, and
+    // over the longest interval within the baseline where earlier frames are kept (preferred).
+    const history = state.history ?? [];
+    const previousField = history.length > 0 && history[history.length - 1].time === previous.time
+      ? history[history.length - 1].field : smoothMap(previous.bn, frame.nx, frame.ny, smoothing);
+    const options = { noiseCorrelation: Math.max(1, 4 * Math.PI * smoothing * smoothing), ...fpSettings.rotation };
+    motions = pairMotions(previousField, field1, tracked.labels, tracked.grid, v.dtS, options);
+    const oldest = history.find((h) => frame.time - h.time <= 1000 * baselineS);
+    if (oldest && oldest.time < previous.time) {
+      const longer = pairMotions(oldest.field, field1, tracked.labels, tracked.grid, (frame.time - oldest.time) / 1000, options);
+      for (const [id, m] of longer) motions.set(id, m);
+      notes.push(`Footpoint motions over ${((frame.time - oldest.time) / 1000).toFixed(0)} s (the motion baseline), centred ${((previous.time - oldest.time) / 2000).toFixed(0)} s before the sample.`);
+    }
+    const field = footpointVelocityField(tracked.grid, rateFrame.bn, tracked.labels, motions, inferred, settings.footpointVelocity);
+    velocity = { vx: field.vx, vy: field.vy };
+    labels = field.labels;
+    const round = [...motions.values()].filter((m) => m.omega === null).length;
+    notes.push(`Footpoint motions measured from their patterns over the pair: ${motions.size} footpoints, ${round} without a visible rotation (no spin put on them).`);
+    if (field.leftOutFluxShare > LEFT_OUT_FLAG_SHARE) {
+      flags.push('flux-left-out');
+      notes.push(`${(100 * field.leftOutFluxShare).toFixed(1)}% of the unsigned flux had no velocity (weak field away from footpoints) and was left out.`);
+    }
+  }
   const r = rateSample({
-    frame: rateFrame,
-    labels: footpoints ? footpoints.labels : null,
-    ...(velocity && { velocity }),
-    velocityMethod: method,
-    time,
-    dtS,
-    ...(settings.noiseG !== undefined && { noiseG: settings.noiseG }),
-    ...(cache && { cache }),
+    ...common, velocity, labels, flags,
+    ...(motions && { motions }),
+    ...(motions && v.vz && { normalVelocity: v.vz }),
+  });
+  const footpoints = describeFootpoints(state.footpoints, rateFrame, tracked, fpSettings, {
+    transport: r.transport, ...(r.split && { split: r.split }), ...(motions && { motions }),
   });
   return {
-    sample: r.sample,
-    ...(footpoints && { footpoints: withExactSplit(footpoints, r.split) }),
-    velocityNotes: notes,
-    maps: {
-      gTheta: r.gTheta,
-      ...(footpoints && { labels: footpoints.labels }),
-      vx: velocity?.vx ?? frame.vx,
-      vy: velocity?.vy ?? frame.vy,
-      ...((velocity?.vz ?? frame.vz) && { vz: velocity?.vz ?? frame.vz }),
-    },
-    state: { previous: frame, ...(footpoints && { footpoints: footpoints.state }) },
-  };
-}
-
-/** The footpoint table and pair matrix with the exact split of the rate sample filled in. */
-function withExactSplit(fp: FootpointAnalysis, split: ReturnType<typeof rateSample>['split']): FootpointAnalysis {
-  if (!split) return fp;
-  const index = new Map<number, number>();
-  split.ids.forEach((id, j) => index.set(id, j));
-  const k = split.ids.length;
-  const ids = fp.pairMatrix.ids;
-  const K = ids.length;
-  const orbitExact = new Float64Array(K * K);
-  for (let a = 0; a < K; a++) for (let b = 0; b < K; b++) {
-    const p = index.get(ids[a]), q = index.get(ids[b]);
-    orbitExact[a * K + b] = a === b ? 0 : p !== undefined && q !== undefined ? split.orbit[p * k + q] : NaN;
-  }
-  const footpoints = fp.footpoints.map((row) => {
-    const p = index.get(row.id);
-    return { ...row, spinExact: p === undefined ? null : split.spin[p] };
-  });
-  const pairs = fp.pairs.map((pair) => {
-    const p = index.get(pair.a), q = index.get(pair.b);
-    const v = p !== undefined && q !== undefined ? split.orbit[p * k + q] : NaN;
-    return { ...pair, orbitExact: Number.isFinite(v) ? v : null };
-  }).sort((x, y) => Math.abs(y.orbitExact ?? 0) - Math.abs(x.orbitExact ?? 0));
-  return {
-    ...fp, footpoints, pairs,
-    exact: { spin: split.spinTotal, orbit: split.orbitTotal, background: split.background, total: split.total },
-    pairMatrix: { ...fp.pairMatrix, orbitExact },
-    flags: fp.flags.filter((f) => f !== 'no-velocity'),
+    sample: r.sample, footpoints, velocityNotes: notes,
+    maps: { gTheta: r.gTheta, labels: footpoints.labels, vx: velocity.vx, vy: velocity.vy, ...(v.vz && { vz: v.vz }) },
+    state: { previous: frame, history: nextHistory(field1), footpoints: footpoints.state },
   };
 }

@@ -11,9 +11,11 @@ import { fluxTransport } from './fluxTransport.js';
 import { convolveTransport, helicityFluxFromConvolutions } from './helicityFlux.js';
 import type { LabelSplit } from './labelSplit.js';
 import { splitByLabels } from './labelSplit.js';
-import { emergenceShear } from './emergenceShear.js';
+import { emergenceShear, emergenceTerm } from './emergenceShear.js';
 import { estimateNoiseLevel } from './noiseLevel.js';
 import { rateSigmaFromNoise } from './rateUncertainty.js';
+import type { MotionCovariance } from './motionUncertainty.js';
+import { rateSigmaFromMotions } from './motionUncertainty.js';
 
 export interface RateSample {
   /** Sample time, UTC ms (the frame time, or the mid-time of a frame pair). */
@@ -28,8 +30,16 @@ export interface RateSample {
   readonly background: number;
   readonly emergence?: number;
   readonly shear?: number;
-  /** 1-sigma of the total from field noise, Mx^2/s. */
+  /**
+   * 1-sigma of the total, Mx^2/s: field noise through the flux transport, and, when the footpoint
+   * motions were measured, their errors (core/motionUncertainty.ts).
+   */
   readonly sigmaTotal: number;
+  /** 1-sigma of spin and orbit from the measured motions' errors, Mx^2/s (0 when the velocity was given). */
+  readonly sigmaSpin: number;
+  readonly sigmaOrbit: number;
+  /** The part of sigmaTotal from the motions' errors alone, Mx^2/s. */
+  readonly sigmaMotion: number;
   /** Noise level used, G. */
   readonly noiseG: number;
   /** How the velocity was obtained: 'given' or the inference method. */
@@ -54,6 +64,15 @@ export interface RateInput {
   /** Noise of bn in G; estimated from the frame when not given. */
   readonly noiseG?: number;
   readonly cache?: FluxKernelCache;
+  /** Errors of the footpoint motions the velocity was built from (for the uncertainty). */
+  readonly motions?: ReadonlyMap<number, MotionCovariance>;
+  /**
+   * Normal plasma velocity (km/s) when `velocity` is the footpoint velocity u of vector data: the
+   * emergence term comes from it and the horizontal field, the shear term is the rest of the total.
+   */
+  readonly normalVelocity?: Float64Array;
+  /** Quality flags to add (e.g. from the velocity model). */
+  readonly flags?: readonly string[];
 }
 
 export interface RateResult {
@@ -61,6 +80,8 @@ export interface RateResult {
   readonly split?: LabelSplit;
   /** G_theta density, Mx^2 cm^-2 s^-1, NaN where no data. */
   readonly gTheta: Float64Array;
+  /** The flux transport the rate was computed from (for the footpoints' motions). */
+  readonly transport: ReturnType<typeof fluxTransport>;
 }
 
 export function rateSample(input: RateInput): RateResult {
@@ -69,7 +90,7 @@ export function rateSample(input: RateInput): RateResult {
   const t = fluxTransport(frame, input.velocity);
   const conv = convolveTransport(kernel, t);
   const flux = helicityFluxFromConvolutions(kernel, t, conv);
-  const flags: string[] = [];
+  const flags: string[] = [...(input.flags ?? [])];
   if (flux.maskedFraction > 0) flags.push('masked-pixels');
   const labels = input.labels === undefined ? frame.labels : input.labels ?? undefined;
   let split: LabelSplit | undefined;
@@ -80,14 +101,21 @@ export function rateSample(input: RateInput): RateResult {
     flags.push('no-footpoints');
   }
   const vector = input.velocity ? (input.velocity.vz !== undefined && frame.bx !== undefined) : hasVectorData(frame);
-  const es = vector
-    ? emergenceShear({ ...frame, vx: input.velocity?.vx ?? frame.vx, vy: input.velocity?.vy ?? frame.vy, vz: input.velocity?.vz ?? frame.vz }, flux.apx, flux.apy)
-    : undefined;
+  let es: { emergence: number; shear: number } | undefined;
+  if (vector) {
+    es = emergenceShear({ ...frame, vx: input.velocity?.vx ?? frame.vx, vy: input.velocity?.vy ?? frame.vy, vz: input.velocity?.vz ?? frame.vz }, flux.apx, flux.apy);
+  } else if (input.normalVelocity && frame.bx && frame.by) {
+    const emergence = emergenceTerm(flux.apx, flux.apy, frame.bx, frame.by, input.normalVelocity, frame.dx, frame.dy);
+    es = { emergence, shear: flux.total - emergence };
+  }
   const noiseG = input.noiseG ?? estimateNoiseLevel(frame.bn).sigma;
   // The uncertainty needs u itself; where the flux transport is Bn u with u given, use it.
   const ux = input.velocity?.vx ?? frame.vx!;
   const uy = input.velocity?.vy ?? frame.vy!;
-  const sigmaTotal = rateSigmaFromNoise(conv, ux, uy, t.valid, Number.isFinite(noiseG) ? noiseG : 0, frame.dx, frame.dy);
+  const sigmaNoise = rateSigmaFromNoise(conv, ux, uy, t.valid, Number.isFinite(noiseG) ? noiseG : 0, frame.dx, frame.dy);
+  const motion = input.motions && labels
+    ? rateSigmaFromMotions(t, conv, labels, input.motions, frame)
+    : { total: 0, spin: 0, orbit: 0 };
   const sample: RateSample = {
     time: input.time ?? frame.time,
     dtS: input.dtS ?? 0,
@@ -97,12 +125,15 @@ export function rateSample(input: RateInput): RateResult {
     orbit: split?.orbitTotal ?? 0,
     background: split?.background ?? flux.total,
     ...(es && { emergence: es.emergence, shear: es.shear }),
-    sigmaTotal,
+    sigmaTotal: Math.hypot(sigmaNoise, motion.total),
+    sigmaSpin: motion.spin,
+    sigmaOrbit: motion.orbit,
+    sigmaMotion: motion.total,
     noiseG,
     velocityMethod: input.velocityMethod ?? 'given',
     splitMethod: split ? 'labels' : 'none',
     maskedFraction: flux.maskedFraction,
     flags,
   };
-  return { sample, ...(split && { split }), gTheta: flux.gTheta };
+  return { sample, ...(split && { split }), gTheta: flux.gTheta, transport: t };
 }

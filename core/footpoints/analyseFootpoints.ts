@@ -6,14 +6,18 @@
 
 import type { FluxKernelCache } from '../fluxKernel.js';
 import { fluxKernelFor } from '../fluxKernel.js';
-import type { VelocityMaps } from '../fluxTransport.js';
+import type { FluxTransport, VelocityMaps } from '../fluxTransport.js';
 import { fluxTransport } from '../fluxTransport.js';
 import type { Frame } from '../frame.js';
 import { checkFrame } from '../frame.js';
 import type { Grid } from '../grid.js';
 import { sameGrid } from '../grid.js';
 import { InputError } from '../inputError.js';
+import type { LabelSplit } from '../labelSplit.js';
 import { splitByLabels } from '../labelSplit.js';
+import type { MeasuredMotion } from './pairMotion.js';
+import type { Segmentation } from './segmentation.js';
+import type { TrackingResult } from './tracking.js';
 import type { PointFootpoint } from '../pointFootpoints.js';
 import { pointFootpointEstimate } from '../pointFootpoints.js';
 import { KM_PER_MM } from '../units.js';
@@ -46,6 +50,8 @@ export interface FootpointSettings extends SegmentationSettings, TrackingSetting
 /** A footpoint as the state keeps it for the next frame. */
 export interface StoredFootpoint extends TrackedFootpoint {
   readonly box: RegionProperties['box'];
+  /** Time integral of this footpoint's exact spin since it was first seen, Mx^2 (0 without a split). */
+  readonly spinBudget?: number;
 }
 
 export interface FootpointBudget {
@@ -118,6 +124,10 @@ export interface FootpointRow {
   /** Spin of this footpoint, Mx^2/s. */
   readonly spinExact: number | null;
   readonly spinPoint: number | null;
+  /** Time integral of its exact spin since it was first seen (carried through merges and splits by the parent), Mx^2. */
+  readonly spinBudget: number | null;
+  /** 1-sigma of the centroid velocity, km/s, when measured from the pattern over the frame pair. */
+  readonly vError: number | null;
 }
 
 export interface PairRow {
@@ -160,6 +170,28 @@ export const RECENT_FRAMES = 3;
 
 const EMPTY_BUDGET: FootpointBudget = { spinPoint: 0, orbitPoint: 0, secondsPoint: 0, spinExact: 0, orbitExact: 0, backgroundExact: 0, secondsExact: 0 };
 
+/** A frame segmented and its footpoints followed from the previous frame: the first half of the analysis. */
+export interface TrackedFrame {
+  readonly grid: Grid;
+  /** Seconds since the previous frame (null on the first). */
+  readonly dt: number | null;
+  readonly seg: Segmentation;
+  readonly regions: RegionProperties[];
+  readonly track: TrackingResult;
+  /** Labels as stable ids. */
+  readonly labels: Int32Array;
+}
+
+/** What the second half takes from the rate: the flux transport, the exact split, the measured motions. */
+export interface FootpointInputs {
+  /** Flux transport of the frame (its velocity, given or modelled); gives the motion of footpoints not in `motions`. */
+  readonly transport?: FluxTransport;
+  /** The exact split of the rate by label, made by the rate sample. */
+  readonly split?: LabelSplit;
+  /** Rigid motions measured from the pattern over the frame pair, by id. */
+  readonly motions?: ReadonlyMap<number, MeasuredMotion>;
+}
+
 /**
  * Analyses `frame` after `previous` (undefined for the first frame of a sequence). `velocity`
  * overrides the frame's own vx, vy (e.g. inferred between two frames). Throws InputError on a bad
@@ -168,6 +200,17 @@ const EMPTY_BUDGET: FootpointBudget = { spinPoint: 0, orbitPoint: 0, secondsPoin
 export function analyseFootpoints(
   previous: FootpointState | undefined, frame: Frame, settings: FootpointSettings = {}, velocity?: VelocityMaps,
 ): FootpointAnalysis {
+  const tracked = trackFrame(previous, frame, settings);
+  const withVelocity = velocity !== undefined || (frame.vx !== undefined && frame.vy !== undefined);
+  const transport = withVelocity ? fluxTransport(frame, velocity) : undefined;
+  const split = transport && settings.exactSplit !== false
+    ? splitByLabels(fluxKernelFor(tracked.grid, settings.kernelCache), transport, tracked.labels)
+    : undefined;
+  return describeFootpoints(previous, frame, tracked, settings, { ...(transport && { transport }), ...(split && { split }) });
+}
+
+/** Segments `frame` and follows its footpoints from `previous`. Throws InputError as analyseFootpoints. */
+export function trackFrame(previous: FootpointState | undefined, frame: Frame, settings: FootpointSettings = {}): TrackedFrame {
   const source = frame.provenance?.source ?? 'frame';
   checkFrame(frame, source);
   const grid: Grid = { nx: frame.nx, ny: frame.ny, dx: frame.dx, dy: frame.dy };
@@ -180,29 +223,30 @@ export function analyseFootpoints(
       throw new InputError(source, 'time', `${new Date(frame.time).toISOString()} is not after the previous frame (${new Date(previous.time).toISOString()})`);
     }
   }
-  const flags: FootpointFlag[] = [];
-  if (!previous) flags.push('first-frame');
   const dt = previous ? (frame.time - previous.time) / 1000 : null;
-
   const seg = segmentFootpoints(frame.bn, grid, settings);
-  if (seg.noiseSource === 'floor') flags.push('noise-floor');
-  if (seg.count === 0) flags.push('no-footpoints');
   const regions = regionProperties(seg.labels, frame.bn, grid);
   const track = trackFootpoints(previous, frame.time, seg.labels, regions, grid, previous?.nextId ?? 1, settings);
-  const labels = track.labels;
+  return { grid, dt, seg, regions, track, labels: track.labels };
+}
 
-  // Velocity field: exact split and per-footpoint motion.
-  const withVelocity = velocity !== undefined || (frame.vx !== undefined && frame.vy !== undefined);
-  if (!withVelocity) flags.push('no-velocity');
-  let split: ReturnType<typeof splitByLabels> | null = null;
+/**
+ * The footpoint table, pair matrices, windings, budgets and the next state of a tracked frame,
+ * with the rate's flux transport, split and measured motions where there are some.
+ */
+export function describeFootpoints(
+  previous: FootpointState | undefined, frame: Frame, tracked: TrackedFrame, settings: FootpointSettings, inputs: FootpointInputs,
+): FootpointAnalysis {
+  const { grid, dt, seg, regions, track, labels } = tracked;
+  const flags: FootpointFlag[] = [];
+  if (!previous) flags.push('first-frame');
+  if (seg.noiseSource === 'floor') flags.push('noise-floor');
+  if (seg.count === 0) flags.push('no-footpoints');
+  const split = inputs.split ?? null;
+  const measured = inputs.motions;
+  if (!inputs.transport && !measured) flags.push('no-velocity');
   const motionById = new Map<number, { vx: number; vy: number; omega: number }>();
-  if (withVelocity) {
-    const transport = fluxTransport(frame, velocity);
-    for (const m of footpointMotion(transport, labels, grid)) motionById.set(m.label, m);
-    if (settings.exactSplit !== false) {
-      split = splitByLabels(fluxKernelFor(grid, settings.kernelCache), transport, labels);
-    }
-  }
+  if (inputs.transport) for (const m of footpointMotion(inputs.transport, labels, grid)) motionById.set(m.label, m);
 
   const prevById = new Map<number, StoredFootpoint>();
   for (const f of previous?.footpoints ?? []) prevById.set(f.id, f);
@@ -219,7 +263,13 @@ export function analyseFootpoints(
     // Pattern rotation.
     let omegaPattern: number | null = null, omegaPatternError: number | null = null, anisotropy: number | null = null;
     let patternNote: RotationNote | null;
-    if (settings.patternRotation === false) patternNote = 'off';
+    const mm = measured?.get(a.id);
+    if (mm) {
+      omegaPattern = mm.omega;
+      omegaPatternError = mm.omegaError;
+      patternNote = mm.omegaNote;
+      anisotropy = mm.anisotropy;
+    } else if (settings.patternRotation === false) patternNote = 'off';
     else if (!previous) patternNote = 'first-frame';
     else if (!reliable) patternNote = a.status === 'continued' ? 'appeared' : a.status;
     else {
@@ -238,15 +288,17 @@ export function analyseFootpoints(
     const m = motionById.get(a.id);
     const omegaVelocity = m && Number.isFinite(m.omega) ? m.omega : null;
     let vx: number | null = null, vy: number | null = null, motionSource: FootpointRow['motionSource'] = null;
-    if (m && Number.isFinite(m.vx)) { vx = m.vx; vy = m.vy; motionSource = 'velocity'; }
+    if (mm) { vx = mm.ux; vy = mm.uy; motionSource = 'tracking'; }
+    else if (m && Number.isFinite(m.vx)) { vx = m.vx; vy = m.vy; motionSource = 'velocity'; }
     else if (reliable) {
       vx = ((r.fluxWeighted.x - before!.x) / dt!) * KM_PER_MM;
       vy = ((r.fluxWeighted.y - before!.y) / dt!) * KM_PER_MM;
       motionSource = 'tracking';
     }
-    const omega = omegaVelocity ?? omegaPattern;
-    const omegaSource = omegaVelocity !== null ? 'velocity' : omegaPattern !== null ? 'pattern' : null;
-    if (motionSource === 'velocity') {
+    // A rotation measured over the frame pair is what the velocity field was built from.
+    const omega = mm ? omegaPattern : omegaVelocity ?? omegaPattern;
+    const omegaSource = omega === null ? null : mm || omegaVelocity === null ? 'pattern' : 'velocity';
+    if (motionSource === 'velocity' || mm) {
       points.push({ id: a.id, flux: r.flux, x: r.fluxWeighted.x, y: r.fluxWeighted.y, vx: vx!, vy: vy!, omega: omega ?? NaN });
     } else if (motionSource === 'tracking') {
       // Over the frame pair: midpoint position, mean flux.
@@ -261,7 +313,7 @@ export function analyseFootpoints(
       orientation: r.fluxWeighted.orientation,
       elongation: Number.isFinite(r.fluxWeighted.elongation) ? r.fluxWeighted.elongation : null, touchesEdge: r.touchesEdge,
       vx, vy, motionSource, omega, omegaSource, omegaVelocity, omegaPattern, omegaPatternError, patternNote, anisotropy,
-      spinExact: null, spinPoint: null,
+      spinExact: null, spinPoint: null, spinBudget: null, vError: mm ? Math.hypot(mm.uxError, mm.uyError) : null,
     });
   });
   rows.sort((p, q) => p.id - q.id);
@@ -300,6 +352,10 @@ export function analyseFootpoints(
     const row = rows[j] as { -readonly [P in keyof FootpointRow]: FootpointRow[P] };
     row.spinPoint = Number.isFinite(spinPoint[j]) ? spinPoint[j] : null;
     row.spinExact = split && Number.isFinite(spinExact[j]) ? spinExact[j] : null;
+    // The spin budget goes on from the parent (the footpoint it continues, or the larger one it came
+    // from); the rectangle rule over the interval since the previous frame, as the footpoint budget.
+    const carried = row.parent !== null ? prevById.get(row.parent)?.spinBudget ?? 0 : 0;
+    row.spinBudget = split ? carried + (dt !== null && row.spinExact !== null ? row.spinExact * dt : 0) : null;
   }
   if (motionUnknown.length > 0 && K > 0) flags.push('motion-unknown');
   if (est.spinUnknown.length > 0 || (motionUnknown.length > 0 && K > 0)) flags.push('spin-unknown');
@@ -375,6 +431,7 @@ export function analyseFootpoints(
     return {
       id: a.id, polarity: r.polarity, flux: r.flux, x: r.fluxWeighted.x, y: r.fluxWeighted.y, pixels: r.pixels,
       radius: regionRadius(r), touchesEdge: r.touchesEdge, vx: row.vx, vy: row.vy, born: a.born, box: r.box,
+      ...(row.spinBudget !== null && { spinBudget: row.spinBudget }),
     };
   });
   const state: FootpointState = {

@@ -61,6 +61,14 @@ export interface PatternRotation {
   readonly angle: number | null;
   /** 1-sigma error of the angle, rad (null when no fit was made). */
   readonly angleError: number | null;
+  /**
+   * Displacement of the footprint's centre from frame 1 to frame 2, Mm: b's centre plus the fitted
+   * shift, minus a's centre (null when no fit converged). Fitted also when the angle cannot be
+   * seen (then with the angle held at 0).
+   */
+  readonly shift: { readonly x: number; readonly y: number } | null;
+  /** 1-sigma errors of the shift, Mm, and their correlation (null with `shift`). */
+  readonly shiftError: { readonly x: number; readonly y: number; readonly correlation: number } | null;
   /** Why no angle is given. */
   readonly note: PatternNote | null;
   readonly anisotropy: number;
@@ -120,11 +128,17 @@ function solve4(A: Float64Array, b: Float64Array, p: Float64Array): boolean {
   return true;
 }
 
-/** Inverse of the symmetric 4x4 matrix's [0][0] entry (the variance factor of phi). */
-function inverse00(A: Float64Array): number {
-  const e = new Float64Array([1, 0, 0, 0]);
-  const p = new Float64Array(4);
-  return solve4(A, e, p) ? p[0] : Infinity;
+/** Inverse of the symmetric 4x4 matrix (row-major), or null when singular. */
+function inverse(A: Float64Array): Float64Array | null {
+  const out = new Float64Array(16);
+  const e = new Float64Array(4), p = new Float64Array(4);
+  for (let c = 0; c < 4; c++) {
+    e.fill(0);
+    e[c] = 1;
+    if (!solve4(A, e, p)) return null;
+    for (let r = 0; r < 4; r++) out[r * 4 + c] = p[r];
+  }
+  return out;
 }
 
 /**
@@ -158,10 +172,9 @@ export function patternRotation(a: PatternFootprint, b: PatternFootprint, grid: 
   }
   const anisotropy = sRad > 0 ? Math.sqrt(sAng / sRad) : 0;
   // Fewer pixels than a 3x3 patch cannot pin down four parameters.
-  if (m < 9) return { angle: null, angleError: null, note: 'too-small', anisotropy, misfit: NaN, samples: m };
-  if (!(anisotropy >= o.minAnisotropy)) {
-    return { angle: null, angleError: null, note: 'axisymmetric', anisotropy, misfit: NaN, samples: m };
-  }
+  if (m < 9) return { angle: null, angleError: null, shift: null, shiftError: null, note: 'too-small', anisotropy, misfit: NaN, samples: m };
+  // Without angular structure the angle is held at 0 and only the shift (and gain) are fitted.
+  const angleVisible = anisotropy >= o.minAnisotropy;
 
   const s = new Float64Array(3);
   // Cost at (phi, tx, ty) with the best gain; also fills the normal equations when asked.
@@ -203,17 +216,25 @@ export function patternRotation(a: PatternFootprint, b: PatternFootprint, grid: 
   // Coarse scan in 2-degree steps: the misfit valley of a footpoint a few pixels across is far wider.
   const step = Math.PI / 90;
   let bestPhi = 0, bestCost = Infinity;
-  for (let phi = -o.maxAngle; phi <= o.maxAngle + 1e-12; phi += step) {
+  const scanTo = angleVisible ? o.maxAngle : 0;
+  for (let phi = -scanTo; phi <= scanTo + 1e-12; phi += step) {
     const { cost, used } = evaluate(phi, 0, 0, null, false);
     if (used >= 0.8 * m && cost < bestCost) { bestCost = cost; bestPhi = phi; }
   }
   if (!Number.isFinite(bestCost)) {
-    return { angle: null, angleError: null, note: 'poor-fit', anisotropy, misfit: NaN, samples: m };
+    return { angle: null, angleError: null, shift: null, shiftError: null, note: 'poor-fit', anisotropy, misfit: NaN, samples: m };
   }
-  // Gauss-Newton on (phi, tx, ty, gain).
+  // Gauss-Newton on (phi, tx, ty, gain); phi held (its row and column made trivial) when not visible.
+  const freeze = () => {
+    if (angleVisible) return;
+    for (let k = 0; k < 4; k++) { JtJ[k] = 0; JtJ[k * 4] = 0; }
+    JtJ[0] = 1;
+    Jtr[0] = 0;
+  };
   const p = new Float64Array([bestPhi, 0, 0, evaluate(bestPhi, 0, 0, null, false).bestGain]);
   const d = new Float64Array(4);
   let last = evaluate(p[0], p[1], p[2], p[3], true);
+  freeze();
   for (let iter = 0; iter < 20; iter++) {
     if (!solve4(JtJ, Jtr, d)) break;
     const trial = new Float64Array([p[0] - d[0], p[1] - d[1], p[2] - d[2], p[3] - d[3]]);
@@ -221,18 +242,29 @@ export function patternRotation(a: PatternFootprint, b: PatternFootprint, grid: 
     if (!(next.rss <= last.rss * (1 + 1e-12)) || next.used < 0.8 * m) {
       // A worse step: go back to the last normal equations and stop.
       evaluate(p[0], p[1], p[2], p[3], true);
+      freeze();
       break;
     }
     p.set(trial);
     last = next;
-    if (Math.abs(d[0]) < 1e-9) break;
+    freeze();
+    if (Math.abs(d[0]) < 1e-9 && Math.abs(d[1]) < 1e-9 * Math.max(dx, dy) && Math.abs(d[2]) < 1e-9 * Math.max(dx, dy)) break;
   }
-  const dof = Math.max(1, last.used - 4);
-  const angleError = Math.sqrt((last.rss / dof) * inverse00(JtJ) * Math.max(1, o.noiseCorrelation));
+  const dof = Math.max(1, last.used - (angleVisible ? 4 : 3));
+  const varianceScale = (last.rss / dof) * Math.max(1, o.noiseCorrelation);
+  const inv = inverse(JtJ);
   const misfit = Math.sqrt(last.rss / Math.max(sum1 * (last.used / m), 1e-300));
+  const shiftOk = inv !== null && misfit <= o.maxMisfit;
+  const sx = shiftOk ? Math.sqrt(varianceScale * inv[5]) : NaN, sy = shiftOk ? Math.sqrt(varianceScale * inv[10]) : NaN;
+  const shift = shiftOk ? { x: b.x + p[1] - a.x, y: b.y + p[2] - a.y } : null;
+  const shiftError = shiftOk ? { x: sx, y: sy, correlation: (varianceScale * inv[6]) / (sx * sy) } : null;
+  if (!angleVisible) {
+    return { angle: null, angleError: null, shift, shiftError, note: 'axisymmetric', anisotropy, misfit, samples: m };
+  }
+  const angleError = inv !== null ? Math.sqrt(varianceScale * inv[0]) : Infinity;
   const angle = p[0];
   let note: PatternNote | null = null;
   if (!(misfit <= o.maxMisfit) || Math.abs(angle) > o.maxAngle) note = 'poor-fit';
   else if (!(angleError <= o.maxAngleError)) note = 'too-noisy';
-  return { angle: note ? null : angle, angleError, note, anisotropy, misfit, samples: m };
+  return { angle: note ? null : angle, angleError, shift, shiftError, note, anisotropy, misfit, samples: m };
 }

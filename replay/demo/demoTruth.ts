@@ -12,7 +12,7 @@ export function truthSample(region: DemoRegion, i: number): RateSample {
   const t = region.truthAt(i);
   return {
     time: t.time, dtS: 0, total: t.total, totalGa: t.total, spin: t.spin, orbit: t.orbit, background: t.background,
-    sigmaTotal: 0, noiseG: 0, velocityMethod: 'imposed', splitMethod: 'labels', maskedFraction: 0, flags: [],
+    sigmaTotal: 0, sigmaSpin: 0, sigmaOrbit: 0, sigmaMotion: 0, noiseG: 0, velocityMethod: 'imposed', splitMethod: 'labels', maskedFraction: 0, flags: [],
   };
 }
 

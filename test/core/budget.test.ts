@@ -7,7 +7,7 @@ import { seededRandom } from '../support/random.js';
 function sample(time: number, total: number, extra: Partial<RateSample> = {}): RateSample {
   return {
     time, dtS: 0, total, totalGa: total, spin: 0.25 * total, orbit: 0.5 * total, background: 0.25 * total,
-    sigmaTotal: 0, noiseG: 5, velocityMethod: 'given', splitMethod: 'labels', maskedFraction: 0, flags: [], ...extra,
+    sigmaTotal: 0, sigmaSpin: 0, sigmaOrbit: 0, sigmaMotion: 0, noiseG: 5, velocityMethod: 'given', splitMethod: 'labels', maskedFraction: 0, flags: [], ...extra,
   };
 }
 

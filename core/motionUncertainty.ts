@@ -1,0 +1,66 @@
+// The 1-sigma of the rate, spin and orbit from the errors of the footpoint motions the velocity
+// field was built from (core/footpoints/footpointVelocity.ts). The rate is linear in the velocity:
+// in the G_A form (Pariat, Demoulin & Berger 2005) dH/dt = -2 Sum_i (A_p . u_i) Bn_i dS, so
+//   d(dH/dt)/du_i = -2 A_p(i) Bn_i dS,
+// and a footpoint moving rigidly with u = U + omega z x (x - c) has the sensitivities
+//   dT/dU = Sum_{i in k} d(dH/dt)/du_i,   dT/domega = Sum_{i in k} d(dH/dt)/du_i . (z x (x_i - c)).
+// Its spin is exactly -(omega/2pi) Phi_k^2 for a rigid rotation (every pixel pair turns at omega),
+// so d spin_k / d omega = -Phi_k^2 / 2pi, and a translation leaves the spin unchanged; the orbit
+// takes the rest. Errors of different footpoints are independent (separate fits).
+
+import type { FluxTransport } from './fluxTransport.js';
+import type { Grid } from './grid.js';
+import type { KernelConvolutions } from './helicityFlux.js';
+import { CM_PER_KM, KM_PER_MM, pixelAreaCm2 } from './units.js';
+
+/** What the uncertainty needs of a measured motion. */
+export interface MotionCovariance {
+  /** Translation errors, km/s, and their correlation. */
+  readonly uxError: number;
+  readonly uyError: number;
+  readonly uCorrelation: number;
+  /** Rotation rate error, rad/s (null when no rotation was put on the footpoint). */
+  readonly omegaError: number | null;
+  /** Rotation centre, Mm. */
+  readonly cx: number;
+  readonly cy: number;
+}
+
+/** sigma (Mx^2/s) of total, spin and orbit from the motions of the footpoints labelled in `labels`. */
+export function rateSigmaFromMotions(
+  t: FluxTransport, conv: KernelConvolutions, labels: Int32Array, motions: ReadonlyMap<number, MotionCovariance>, grid: Grid,
+): { total: number; spin: number; orbit: number } {
+  const { nx, dx, dy } = grid;
+  const area = pixelAreaCm2(dx, dy);
+  const k = (2 * CM_PER_KM * area) / (2 * Math.PI);
+  const { bn, valid } = t;
+  const { p, q } = conv;
+  type Acc = { sx: number; sy: number; r: number; flux: number };
+  const acc = new Map<number, Acc>();
+  for (let i = 0; i < labels.length; i++) {
+    const l = labels[i];
+    if (l <= 0 || !valid[i]) continue;
+    const m = motions.get(l);
+    if (!m) continue;
+    let a = acc.get(l);
+    if (!a) { a = { sx: 0, sy: 0, r: 0, flux: 0 }; acc.set(l, a); }
+    // d(dH/dt)/du_x and /du_y of this pixel, Mx^2/s per km/s.
+    const gx = k * bn[i] * q[i], gy = -k * bn[i] * p[i];
+    const rx = ((i % nx) * dx - m.cx) * KM_PER_MM, ry = (Math.floor(i / nx) * dy - m.cy) * KM_PER_MM;
+    a.sx += gx;
+    a.sy += gy;
+    a.r += -gx * ry + gy * rx;
+    a.flux += bn[i] * area;
+  }
+  let total = 0, spin = 0, orbit = 0;
+  for (const [l, a] of acc) {
+    const m = motions.get(l)!;
+    const translation = (a.sx * m.uxError) ** 2 + (a.sy * m.uyError) ** 2 + 2 * a.sx * a.sy * m.uCorrelation * m.uxError * m.uyError;
+    const so = m.omegaError ?? 0;
+    const dSpin = -(a.flux * a.flux) / (2 * Math.PI);
+    total += translation + (a.r * so) ** 2;
+    spin += (dSpin * so) ** 2;
+    orbit += translation + ((a.r - dSpin) * so) ** 2;
+  }
+  return { total: Math.sqrt(total), spin: Math.sqrt(spin), orbit: Math.sqrt(orbit) };
+}
