@@ -6,6 +6,15 @@
 // windowed moments  Sum w x^m y^n q_j q_k, each of them one separable convolution (two 1-D passes),
 // computed once and shared by all entries that need it. Pixels where any channel is NaN leave
 // every window (see windowedSum's NaN policy); centres that are such pixels get NaN.
+//
+// Noisy regressors bias ordinary least squares toward zero (errors in variables): the expected
+// value of a windowed moment Sum w x^m y^n q_j q_j carries the noise variance of channel j times
+// Sum w x^m y^n. Given each channel's noise variance per pixel (channels whose noise is
+// uncorrelated at a pixel, as central differences with a zero centre tap are with the field
+// itself), that expectation is subtracted from the normal matrix: the corrected (consistent)
+// least-squares estimator of the errors-in-variables literature (e.g. Fuller 1987, Measurement
+// Error Models). A window where the correction leaves the matrix not positive definite has too
+// little signal above the noise and is counted as ill-conditioned.
 
 import { correlateColumns, correlateRows, gaussianTaps, windowRadius } from './windowedSum.js';
 
@@ -50,7 +59,7 @@ export function affineWindowFit(
   channels: readonly ArrayLike<number>[], nx: number, ny: number,
   columns: readonly ModelColumn[], target: ModelColumn,
   sigma: number, minPivot: number, wanted: readonly number[], ridge: readonly number[] = columns.map(() => 0),
-  solveAt?: Uint8Array,
+  solveAt?: Uint8Array, noiseVariance?: readonly number[],
 ): AffineFitResult {
   const n = columns.length;
   const size = nx * ny;
@@ -118,6 +127,30 @@ export function affineWindowFit(
     }
   }
 
+  // Before the noise correction, the diagonal (to judge how much of it was noise).
+  const rawDiag = noiseVariance ? Array.from({ length: n }, (_, p) => Float64Array.from(sums[entryIndex(p, p)])) : undefined;
+  if (noiseVariance) {
+    // Expected noise in the moments Sum w x^px y^py q_j q_j: variance_j times the window's own
+    // moment over the valid pixels.
+    const validMoment = new Map<string, Float64Array>();
+    for (const m of moments.values()) {
+      const v = m.j === m.k ? noiseVariance[m.j] ?? 0 : 0;
+      if (!(v > 0)) continue;
+      const key = `${m.px},${m.py}`;
+      let w = validMoment.get(key);
+      if (!w) {
+        w = new Float64Array(size);
+        correlateRows(valid, nx, ny, taps[m.px], rowBuffers[0]);
+        correlateColumns(rowBuffers[0], nx, ny, taps[m.py], w);
+        validMoment.set(key, w);
+      }
+      for (const u of m.uses) {
+        const target = sums[u.entry], c = u.coef * v;
+        for (let i = 0; i < size; i++) target[i] -= c * w[i];
+      }
+    }
+  }
+
   const params = wanted.map(() => new Float64Array(size).fill(NaN));
   const mat = new Float64Array(n * n);
   const rhs = new Float64Array(n);
@@ -134,7 +167,9 @@ export function affineWindowFit(
     let ok = true;
     for (let p = 0; p < n; p++) {
       const d = diag[p][i];
-      if (!(d > 0)) { ok = false; break; }
+      // A column more than half noise cannot be corrected reliably (the corrected estimator's
+      // variance grows without bound as its signal goes to zero): no fit there.
+      if (!(d > 0) || (rawDiag !== undefined && !(d >= MIN_SIGNAL_SHARE * rawDiag[p][i]))) { ok = false; break; }
       scale[p] = 1 / Math.sqrt(d);
     }
     if (ok) {
@@ -172,6 +207,9 @@ export function affineWindowFit(
  * parameter that is not asked for is undetermined.
  */
 const RIDGE = 1e-9;
+
+/** Least share of a column's windowed power that must remain after the noise correction. */
+const MIN_SIGNAL_SHARE = 0.5;
 
 /** Cholesky factor L (lower triangle of `mat`, in place); false if not positive definite. */
 function cholesky(mat: Float64Array, n: number): boolean {

@@ -16,6 +16,25 @@ export interface AffineOptions {
   readonly minPivot: number;
   /** Solve only at these centres (1), e.g. where the field is above the threshold; others get NaN. */
   readonly solveAt?: Uint8Array;
+  /**
+   * Noise of each frame's maps, G (bn; bx, by for the vector estimator): the fit is corrected for
+   * the noise in its regressors (core/velocity/affineWindowFit.ts). Absent: no correction.
+   */
+  readonly noise?: { readonly bn: number; readonly bt?: number };
+}
+
+/** Sum of the squared taps of the fourth-order central difference (core/velocity/gradient.ts): 130/144. */
+export const DERIVATIVE_NOISE_GAIN = (1 + 64 + 64 + 1) / 144;
+
+/**
+ * Noise variances per pixel of DAVE's channels (Gx, Gy, Bz, dBz/dt) for frames with noise sigma
+ * (G) each, dt seconds apart: the mid-time field (a + b)/2 has sigma^2/2, its derivatives
+ * sigma^2/2 times the derivative's gain, the rate 2 sigma^2/dt^2; the rate's noise is
+ * uncorrelated with the mid-time field's, so only the regressors' variances matter.
+ */
+export function daveNoiseVariance(sigma: number, dtS: number): number[] {
+  const mid = (sigma * sigma) / 2;
+  return [mid * DERIVATIVE_NOISE_GAIN, mid * DERIVATIVE_NOISE_GAIN, mid, (2 * sigma * sigma) / (dtS * dtS)];
 }
 
 export interface AffineVelocity {
@@ -62,7 +81,8 @@ export function differentialAffineVelocity(
 ): AffineVelocity {
   const { mid, rate } = midAndRate(a, b, dtS);
   const gx = derivativeX(mid, nx, ny), gy = derivativeY(mid, nx, ny);
-  const fit = affineWindowFit([gx, gy, mid, rate], nx, ny, DAVE_COLUMNS, DAVE_TARGET, options.sigma, options.minPivot, [4, 5], DAVE_RIDGE, options.solveAt);
+  const noise = options.noise ? daveNoiseVariance(options.noise.bn, dtS) : undefined;
+  const fit = affineWindowFit([gx, gy, mid, rate], nx, ny, DAVE_COLUMNS, DAVE_TARGET, options.sigma, options.minPivot, [4, 5], DAVE_RIDGE, options.solveAt, noise);
   const [u, v] = fit.params;
   for (let i = 0; i < u.length; i++) {
     u[i] *= dx * KM_PER_MM; // pixels/s -> km/s

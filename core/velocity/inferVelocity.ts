@@ -82,15 +82,19 @@ export function inferVelocity(a: Frame, b: Frame, settings: Partial<VelocitySett
   }
   const notes: string[] = [ROTATION_CAVEAT];
 
-  let thresholdG: number;
-  if (s.threshold.unit === 'G') thresholdG = s.threshold.value;
-  else {
-    let noise = s.threshold.noise;
-    if (noise === undefined) {
-      noise = pairNoise(a.bn, b.bn);
-      notes.push(`Noise level estimated from the frame-to-frame difference: ${noise.toPrecision(3)} G.`);
-    }
-    thresholdG = s.threshold.value * noise;
+  // The noise of bn: given, or estimated from the frame-to-frame difference when the threshold or
+  // the noise correction needs it.
+  let noise = s.threshold.unit === 'noise' ? s.threshold.noise : undefined;
+  if (noise === undefined && (s.threshold.unit === 'noise' || (s.noiseCorrection && method !== 'lct'))) {
+    noise = pairNoise(a.bn, b.bn);
+    notes.push(`Noise level estimated from the frame-to-frame difference: ${noise.toPrecision(3)} G.`);
+  }
+  const thresholdG = s.threshold.unit === 'G' ? s.threshold.value : s.threshold.value * noise!;
+  let fitNoise: { bn: number; bt?: number } | undefined;
+  if (s.noiseCorrection && method !== 'lct' && Number.isFinite(noise)) {
+    const bt = method === 'dave4vm' ? Math.hypot(pairNoise(a.bx!, b.bx!), pairNoise(a.by!, b.by!)) / Math.SQRT2 : undefined;
+    fitNoise = { bn: noise!, ...(bt !== undefined && Number.isFinite(bt) && { bt }) };
+    notes.push(`The affine fit is corrected for the noise in its regressors (${noise!.toPrecision(3)} G${bt !== undefined ? `; horizontal field ${bt.toPrecision(3)} G` : ''}).`);
   }
 
   const { mid } = midAndRate(a.bn, b.bn, dtS);
@@ -113,12 +117,12 @@ export function inferVelocity(a: Frame, b: Frame, settings: Partial<VelocitySett
     vy = r.sy.map((v) => v * ky);
     notes.push(`Local correlation tracking: ${r.windowsValid} of ${r.windows} windows (every ${s.stride} pixels, sigma ${s.sigma} px) gave a shift; shifts above ${r.searchRadius} px are not found.`);
   } else if (method === 'dave') {
-    const r = differentialAffineVelocity(a.bn, b.bn, nx, ny, dx, dy, dtS, { sigma: s.sigma, minPivot: s.minPivot, solveAt: strong });
+    const r = differentialAffineVelocity(a.bn, b.bn, nx, ny, dx, dy, dtS, { sigma: s.sigma, minPivot: s.minPivot, solveAt: strong, ...(fitNoise && { noise: fitNoise }) });
     vx = r.vx; vy = r.vy;
     notes.push(`Differential affine velocity estimator, sigma ${s.sigma} px: ${r.illConditioned} windows ill-conditioned.`);
   } else {
     const r = vectorAffineVelocity({ bn: [a.bn, b.bn], bx: [a.bx!, b.bx!], by: [a.by!, b.by!] }, nx, ny, dx, dy, dtS,
-      { sigma: s.sigma, minPivot: s.minPivot, solveAt: strong });
+      { sigma: s.sigma, minPivot: s.minPivot, solveAt: strong, ...(fitNoise && { noise: fitNoise }) });
     vx = r.vx; vy = r.vy; vz = r.vz;
     notes.push(`Vector-magnetogram affine estimator, sigma ${s.sigma} px: ${r.illConditioned} windows ill-conditioned; vx, vy are the plasma velocity and vz the normal velocity.`);
   }

@@ -9,7 +9,7 @@
 
 import { affineWindowFit } from './affineWindowFit.js';
 import type { ModelColumn } from './affineWindowFit.js';
-import { DAVE_COLUMNS, DAVE_RIDGE, DAVE_TARGET, GRADIENT_RIDGE, midAndRate } from './differentialAffine.js';
+import { DAVE_COLUMNS, DAVE_RIDGE, DAVE_TARGET, DERIVATIVE_NOISE_GAIN, GRADIENT_RIDGE, daveNoiseVariance, midAndRate } from './differentialAffine.js';
 import type { AffineOptions } from './differentialAffine.js';
 import { derivativeX, derivativeY } from './gradient.js';
 import { KM_PER_MM } from '../units.js';
@@ -53,8 +53,15 @@ export function vectorAffineVelocity(
   const div = derivativeX(hx, nx, ny);
   const dhy = derivativeY(hy, nx, ny);
   for (let i = 0; i < n; i++) div[i] += dhy[i];
+  // Noise of Hx = Bx/dx, Hy = By/dy (mid-time: sigma^2/2) and of D, the sum of their derivatives.
+  let noise: number[] | undefined;
+  if (options.noise) {
+    const st = options.noise.bt ?? options.noise.bn;
+    const hx2 = (st * st) / 2 / (dx * dx), hy2 = (st * st) / 2 / (dy * dy);
+    noise = [...daveNoiseVariance(options.noise.bn, dtS), hx2, hy2, (hx2 + hy2) * DERIVATIVE_NOISE_GAIN];
+  }
   const fit = affineWindowFit([gx, gy, mid, rate, hx, hy, div], nx, ny, VECTOR_COLUMNS, DAVE_TARGET,
-    options.sigma, options.minPivot, [6, 7, 8], [GRADIENT_RIDGE, GRADIENT_RIDGE, ...DAVE_RIDGE, 0], options.solveAt);
+    options.sigma, options.minPivot, [6, 7, 8], [GRADIENT_RIDGE, GRADIENT_RIDGE, ...DAVE_RIDGE, 0], options.solveAt, noise);
   const [u, v, w] = fit.params;
   for (let i = 0; i < n; i++) {
     u[i] *= dx * KM_PER_MM;
