@@ -7,6 +7,7 @@ import { parseFrameJson } from '../core/frameJson.js';
 import type { FrameAssemblySettings } from '../core/frameAssembly/assembleFrame.js';
 import { frameFromFits } from '../core/frameAssembly/assembleFrame.js';
 import { InputError } from '../core/inputError.js';
+import { checkPhysicalLimits } from '../core/physicalLimits.js';
 import { encodeFrame, frameHash } from './mapFile.js';
 
 export interface IntakeMeta {
@@ -29,9 +30,14 @@ export type IntakeInput =
   | { readonly kind: 'fits'; readonly bytes: Uint8Array }
   | { readonly kind: 'frame'; readonly frame: Frame };
 
-/** HTTP status of a refusal at intake: 400 for text that is not JSON, 422 for an invalid frame. */
+/**
+ * HTTP status of a refusal at intake: 400 for text that is not JSON, 413 for a frame over the
+ * pixel budget, 422 for an invalid frame.
+ */
 export function intakeStatus(e: InputError): number {
-  return e.field === '(json)' ? 400 : 422;
+  if (e.field === '(json)') return 400;
+  if (/pixels exceeds the limit of \d+ pixels|bytes exceeds the limit of \d+ bytes/.test(e.problem)) return 413;
+  return 422;
 }
 
 /**
@@ -39,16 +45,29 @@ export function intakeStatus(e: InputError): number {
  * image HDUs BN, BX, BY, VX, VY, VZ), read by core/frameAssembly with the region's component
  * settings (unit defaults, sign and mirror corrections, time keyword).
  */
-export function frameFromInput(input: IntakeInput, source: string, settings: FrameAssemblySettings = {}): Frame {
+export function frameFromInput(input: IntakeInput, source: string, settings: FrameAssemblySettings = {}, maxPixels?: number): Frame {
   if (input.kind === 'frame') {
     checkFrame(input.frame, source);
     return input.frame;
   }
-  if (input.kind === 'json') return parseFrameJson(input.text, source);
-  return frameFromFits(input.bytes, source, settings);
+  if (input.kind === 'json') return parseFrameJson(input.text, source, maxPixels !== undefined ? { maxPixels } : {});
+  return frameFromFits(input.bytes, source, withPixelBudget(settings, maxPixels));
+}
+
+/** The region's FITS settings with the monitor's pixel budget (the smaller one wins). */
+export function withPixelBudget(settings: FrameAssemblySettings, maxPixels: number | undefined): FrameAssemblySettings {
+  if (maxPixels === undefined) return settings;
+  const own = settings.read?.maxPixels;
+  return { ...settings, read: { ...settings.read, maxPixels: own !== undefined ? Math.min(own, maxPixels) : maxPixels } };
+}
+
+/** Refuses values no photosphere has (core/physicalLimits.ts). */
+export function checkIntake(frame: Frame, source: string): void {
+  checkPhysicalLimits(frame, source);
 }
 
 export function intakeFrame(frame: Frame, source: string): Intake {
+  checkIntake(frame, source);
   const withSource: Frame = { ...frame, provenance: { ...frame.provenance, source } };
   return {
     meta: { time: frame.time, nx: frame.nx, ny: frame.ny, dx: frame.dx, dy: frame.dy },
