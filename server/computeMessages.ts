@@ -15,4 +15,5 @@ export interface WorkerRequest {
 
 export type WorkerReply =
   | { readonly id: number; readonly ok: true; readonly sample?: RateSample; readonly waiting?: string; readonly mapsWritten: boolean; readonly footpoints?: unknown; readonly events?: unknown }
-  | { readonly id: number; readonly ok: false; readonly error: { source: string; field: string; problem: string; message: string } };
+  /** `diskFull`: the maps could not be written for lack of space (the frame waits, it is not at fault). */
+  | { readonly id: number; readonly ok: false; readonly error: { source: string; field: string; problem: string; message: string; diskFull?: boolean } };

@@ -9,6 +9,7 @@ import type { AnalysisSettings, AnalysisState } from '../core/frameAnalysis.js';
 import { footpointReport } from '../core/footpoints/footpointReport.js';
 import { InputError } from '../core/inputError.js';
 import { writeFileAtomic } from './atomicFile.js';
+import { isDiskFull } from './diskFull.js';
 import { decodeFrame, encodeMapFile } from './mapFile.js';
 import type { WorkerReply, WorkerRequest } from './computeMessages.js';
 
@@ -36,7 +37,7 @@ async function handle(req: WorkerRequest): Promise<WorkerReply> {
       { time: frame.time, nx: frame.nx, ny: frame.ny, dx: frame.dx, dy: frame.dy },
       { gtheta: maps.gTheta, vx: maps.vx, vy: maps.vy, ...(maps.vz && { vz: maps.vz }) }, { labels: maps.labels },
     );
-    await writeFileAtomic(req.mapsPath, bytes);
+    await writeFileAtomic(req.mapsPath, bytes, 0o600);
     mapsWritten = true;
   }
   // The footpoint table and events, JSON-ready (no maps, no tracking state).
@@ -57,7 +58,7 @@ parentPort!.on('message', (req: WorkerRequest) => {
       states.delete(req.region);
       const err = e instanceof InputError
         ? { source: e.source, field: e.field, problem: e.problem, message: e.message }
-        : { source: 'analysis', field: '(frame)', problem: (e as Error).message ?? String(e), message: String((e as Error).stack ?? e) };
+        : { source: 'analysis', field: '(frame)', problem: (e as Error).message ?? String(e), message: String((e as Error).stack ?? e), ...(isDiskFull(e) && { diskFull: true }) };
       parentPort!.postMessage({ id: req.id, ok: false, error: err } satisfies WorkerReply);
     },
   );

@@ -1,21 +1,65 @@
-// The watched folder of a region: <data>/inbox/<region>/. Files that land there (fully written:
-// chokidar waits until the size is stable) are read with loadFrameFile (replay/frameFiles.ts, in
-// the intake worker) and go into the pipeline
-// like any other frame. Files already taken (same path, size and mtime) are skipped at restart.
-// Only the folder the server made from a checked region name is watched; nothing from a request
-// names a path.
+// The watched folder of a region: <data>/inbox/<region>/. Files that land there are taken in the
+// order of their frames' times, not in the order the file system reports them:
+//   - events are gathered until the folder has been quiet for a moment (a burst of files renamed
+//     in at once is one batch; chokidar also waits until each file's size is stable);
+//   - each file of the batch is read once to learn its frame's time (in the intake worker), then
+//     the batch goes into the pipeline in time order, each frame held until the region's queue
+//     has room;
+//   - a file that cannot be read yet and was written only moments ago (a copy paused half-way)
+//     is looked at again after a grace period before it counts as bad;
+//   - a file the pipeline refuses (too late, another grid, not a frame, a link) is moved to
+//     <inbox>/refused/ - still visible, to be moved back for a retry - and its refusal is
+//     recorded with the reason; one that could not be stored (a full disk) stays and is tried again.
+// Files already taken (same path, size and mtime) are skipped at restart; a kill at any moment
+// leaves every file either stored (a resend is a duplicate) or still in the inbox. Links are not
+// followed, special files (folders, pipes) are left alone, and only the folder the server made
+// from a checked region name is watched: nothing from a request names a path.
 import { watch } from 'chokidar';
 import type { FSWatcher } from 'chokidar';
-import { mkdirSync, statSync } from 'node:fs';
+import { mkdirSync } from 'node:fs';
+import { lstat, mkdir, rename } from 'node:fs/promises';
 import { basename, join } from 'node:path';
+import type { IntakePool } from './intakePool.js';
+import { IntakeRefusal } from './intakePool.js';
 import type { Pipeline } from './pipeline.js';
 import type { Store } from './store.js';
 import type { StoreWriter } from './storeWriter.js';
 
-export class FolderWatch {
-  private readonly watchers = new Map<string, FSWatcher>();
+export interface FolderWatchOptions {
+  /** A batch is taken once no event came for this long, ms. Default 300. */
+  readonly quietMs?: number;
+  /** A file that cannot be read and changed less than this long ago is looked at again later, ms. Default 5000. */
+  readonly graceMs?: number;
+}
 
-  constructor(private readonly store: Store, private readonly writer: StoreWriter, private readonly pipeline: Pipeline, private readonly log: (line: string) => void) {}
+/** The subfolder refused files are moved to. */
+export const REFUSED_FOLDER = 'refused';
+
+interface Watched {
+  readonly watcher: FSWatcher;
+  /** Paths waiting for the next batch. */
+  readonly queue: Set<string>;
+  timer?: ReturnType<typeof setTimeout>;
+  draining?: Promise<void>;
+  again: boolean;
+  readonly later: Set<ReturnType<typeof setTimeout>>;
+}
+
+interface Candidate { path: string; size: number; mtime: number; time: number }
+
+export class FolderWatch {
+  private readonly watched = new Map<string, Watched>();
+  private readonly quietMs: number;
+  private readonly graceMs: number;
+  private closed = false;
+
+  constructor(
+    private readonly store: Store, private readonly writer: StoreWriter, private readonly pipeline: Pipeline,
+    private readonly intake: IntakePool, private readonly log: (line: string) => void, options: FolderWatchOptions = {},
+  ) {
+    this.quietMs = options.quietMs ?? 300;
+    this.graceMs = options.graceMs ?? 5000;
+  }
 
   folderOf(region: string): string {
     return join(this.store.dataDir, 'inbox', region);
@@ -23,42 +67,147 @@ export class FolderWatch {
 
   /** Starts (or stops) watching a region's folder as its settings say. */
   sync(region: string, wanted: boolean): void {
-    const have = this.watchers.get(region);
+    const have = this.watched.get(region);
     if (wanted && !have) this.start(region);
-    if (!wanted && have) { void have.close(); this.watchers.delete(region); }
+    if (!wanted && have) this.stop(region, have);
   }
 
   private start(region: string): void {
     const dir = this.folderOf(region);
-    mkdirSync(dir, { recursive: true });
-    const w = watch(dir, {
+    mkdirSync(dir, { recursive: true, mode: 0o700 });
+    const watcher = watch(dir, {
       depth: 0,
       ignoreInitial: false,
+      followSymlinks: false,
       ignored: (path: string) => basename(path).startsWith('.') || /\.(tmp|part)$/i.test(path),
       awaitWriteFinish: { stabilityThreshold: 200, pollInterval: 50 },
     });
-    w.on('add', (path) => void this.take(region, path));
-    w.on('change', (path) => void this.take(region, path));
-    w.on('error', (e) => this.log(`watching ${dir}: ${(e as Error).message}`));
-    this.watchers.set(region, w);
+    const w: Watched = { watcher, queue: new Set(), again: false, later: new Set() };
+    const enqueue = (path: string) => { w.queue.add(path); this.schedule(region, w, this.quietMs); };
+    watcher.on('add', enqueue);
+    watcher.on('change', enqueue);
+    watcher.on('unlink', (path) => w.queue.delete(path));
+    watcher.on('error', (e) => this.log(`watching ${dir}: ${(e as Error).message}`));
+    this.watched.set(region, w);
   }
 
-  private async take(region: string, path: string): Promise<void> {
-    let size: number, mtime: number;
+  private stop(region: string, w: Watched): void {
+    if (w.timer) clearTimeout(w.timer);
+    for (const t of w.later) clearTimeout(t);
+    void w.watcher.close().catch(() => undefined);
+    this.watched.delete(region);
+  }
+
+  /** A drain of the region's batch after `ms` of quiet (each event pushes it back). */
+  private schedule(region: string, w: Watched, ms: number): void {
+    if (this.closed) return;
+    if (w.timer) clearTimeout(w.timer);
+    w.timer = setTimeout(() => { w.timer = undefined; this.drain(region, w); }, ms);
+    w.timer.unref();
+  }
+
+  /** Looks at `path` again after `ms` (a file still being written, or waiting for disk space). */
+  private retryLater(region: string, w: Watched, path: string, ms: number): void {
+    const t = setTimeout(() => { w.later.delete(t); w.queue.add(path); this.schedule(region, w, 0); }, ms);
+    t.unref();
+    w.later.add(t);
+  }
+
+  private drain(region: string, w: Watched): void {
+    if (w.draining) { w.again = true; return; }
+    w.draining = this.takeBatch(region, w)
+      .catch((e: unknown) => this.log(`watched folder of ${region}: ${(e as Error).stack ?? e}`))
+      .finally(() => {
+        w.draining = undefined;
+        if (w.again || w.queue.size > 0) { w.again = false; this.schedule(region, w, 0); }
+      });
+  }
+
+  private async takeBatch(region: string, w: Watched): Promise<void> {
+    const batch = [...w.queue];
+    w.queue.clear();
+    const good: Candidate[] = [];
+    const bad: Omit<Candidate, 'time'>[] = [];
+    const settings = () => this.store.region(region)?.settings.components ?? {};
+    for (const path of batch) {
+      if (this.closed) return;
+      let st;
+      try { st = await lstat(path); } catch { continue; } // gone already
+      if (!st.isFile() && !st.isSymbolicLink()) {
+        this.log(`watched folder of ${region}: ${basename(path)} is not a file; left alone`);
+        continue;
+      }
+      const size = st.size, mtime = Math.round(st.mtimeMs);
+      if (this.store.watchedFileSeen(region, path, size, mtime)) continue;
+      // Read once for the frame's time (nothing stored, nothing recorded).
+      try {
+        const peek = await this.intake.take({ kind: 'file', path, source: this.sourceOf(region, path), settings: settings(), peek: true });
+        good.push({ path, size, mtime, time: peek.meta.time });
+      } catch (e) {
+        if (!(e instanceof IntakeRefusal) || e.status >= 500) { this.retryLater(region, w, path, 5000); continue; }
+        // Written moments ago: perhaps still being written (a copy that paused). Look again later.
+        if (Date.now() - st.mtimeMs < this.graceMs) this.retryLater(region, w, path, this.graceMs);
+        else bad.push({ path, size, mtime });
+      }
+    }
+    good.sort((a, b) => a.time - b.time || (a.path < b.path ? -1 : 1));
+    // In time order; the files that are not frames after them (each refused with its reason).
+    for (const c of [...good, ...bad]) {
+      if (this.closed) return;
+      await this.pipeline.waitForRoom(region, () => this.closed);
+      if (this.closed) return;
+      await this.takeFile(region, w, c.path, c.size, c.mtime);
+    }
+  }
+
+  private sourceOf(region: string, path: string): string {
+    return `inbox/${region}/${basename(path)}`;
+  }
+
+  private async takeFile(region: string, w: Watched, path: string, size: number, mtime: number): Promise<void> {
+    // Changed since it was looked at: it comes back with its change event.
     try {
-      const st = statSync(path);
-      if (!st.isFile()) return;
-      size = st.size; mtime = Math.round(st.mtimeMs);
+      const st = await lstat(path);
+      if (st.size !== size || Math.round(st.mtimeMs) !== mtime) return;
     } catch { return; }
-    if (this.store.watchedFileSeen(region, path, size, mtime)) return;
-    const source = `inbox/${region}/${basename(path)}`;
-    // Read with loadFrameFile in the intake worker.
-    const answer = await this.pipeline.ingest({ region, payload: { kind: 'file', path }, source, mayCreate: true });
-    if (answer.status < 500) await this.writer.call('markWatchedFile', region, path, size, mtime);
+    const answer = await this.pipeline.ingest({ region, payload: { kind: 'file', path }, source: this.sourceOf(region, path), mayCreate: true });
+    if (answer.status < 300) {
+      await this.writer.call('markWatchedFile', region, path, size, mtime).catch((e: unknown) => {
+        // A resend after a restart is a duplicate: nothing is lost when this mark is.
+        this.log(`watched folder of ${region}: ${basename(path)} stored, but marking it taken failed: ${(e as Error).message}`);
+      });
+    } else if (answer.status >= 500) {
+      // Not stored (a full disk, a shutdown): it stays in the inbox and is tried again.
+      if (!this.closed) this.retryLater(region, w, path, 1000 * ('retryAfterS' in answer && answer.retryAfterS ? Math.min(answer.retryAfterS, 30) : 5));
+    } else {
+      await this.moveToRefused(region, path, size, mtime);
+    }
+  }
+
+  /** Moves a refused file (or link) to <inbox>/refused/, under a free name. */
+  private async moveToRefused(region: string, path: string, size: number, mtime: number): Promise<void> {
+    const dir = join(this.folderOf(region), REFUSED_FOLDER);
+    try {
+      await mkdir(dir, { recursive: true, mode: 0o700 });
+      const name = basename(path);
+      for (let i = 0; i < 1000; i++) {
+        const target = join(dir, i === 0 ? name : `${name}.${i}`);
+        try { await lstat(target); continue; } catch { /* free */ }
+        await rename(path, target);
+        this.log(`watched folder of ${region}: ${name} refused; moved to ${REFUSED_FOLDER}/${basename(target)} (reason in the region's refusals)`);
+        return;
+      }
+      throw new Error('no free name');
+    } catch (e) {
+      this.log(`watched folder of ${region}: ${basename(path)} refused but could not be moved (${(e as Error).message}); left in place`);
+      await this.writer.call('markWatchedFile', region, path, size, mtime).catch(() => undefined);
+    }
   }
 
   async close(): Promise<void> {
-    await Promise.all([...this.watchers.values()].map((w) => w.close()));
-    this.watchers.clear();
+    this.closed = true;
+    const drains = [...this.watched.values()].map((w) => w.draining).filter(Boolean);
+    for (const [region, w] of this.watched) this.stop(region, w);
+    await Promise.all(drains);
   }
 }

@@ -11,6 +11,9 @@ import { writeFits } from '../core/fits/writeImage.js';
 import type { ImageToWrite } from '../core/fits/writeImage.js';
 import { gridImage } from '../replay/fitsFrames.js';
 import { isLoopback, tokenMatches } from './auth.js';
+import { isDiskFull } from './diskFull.js';
+import type { HostPolicy } from './hostCheck.js';
+import { hostAllowed, originAllowed } from './hostCheck.js';
 import { decodeMapFile } from './mapFile.js';
 import type { Pipeline } from './pipeline.js';
 import { checkRegionName } from './regionName.js';
@@ -34,6 +37,8 @@ export interface ApiContext {
   readonly loopDelay?: () => { max: number; p99: number };
   /** The dashboard page (server/staticPage.ts), mounted at / after the API. */
   readonly page?: express.Router;
+  /** Host names (besides loopback) this monitor answers to (server/hostCheck.ts). */
+  readonly hosts: HostPolicy;
 }
 
 function fail(res: Response, status: number, field: string, problem: string, error = problem): void {
@@ -54,6 +59,23 @@ export function buildApp(ctx: ApiContext): express.Express {
 
   const canRead = (req: Request) => (!ctx.readToken && isLoopback(req.socket.remoteAddress)) || tokenMatches(token, req.get('authorization'));
   const canWrite = (req: Request) => tokenMatches(token, req.get('authorization'));
+  /** 401 for a request without a valid token: counted in memory, nothing stored. */
+  const needToken = (req: Request, res: Response, what: string): void => {
+    pipeline.noteUnauthorized(`${req.method} ${req.path.slice(0, 120)} from ${req.socket.remoteAddress ?? '?'}`);
+    fail(res, 401, 'authorization', `${what} needs "Authorization: Bearer <token>" with the monitor's token`, 'token needed');
+  };
+
+  // Only requests addressed to this monitor by a loopback name (or one the operator allowed):
+  // a page on another site that points its name at 127.0.0.1 gets nothing (DNS rebinding).
+  app.use((req, res, next) => {
+    if (!hostAllowed(ctx.hosts, req.get('host'))) return fail(res, 403, 'host', `this monitor does not answer to the host name "${String(req.get('host') ?? '').slice(0, 80)}" (loopback names, or those given with --allow-host)`, 'host not allowed');
+    // A browser page of another origin may not change anything (reads are guarded by the
+    // browser's same-origin rule and by Host above).
+    if (req.method !== 'GET' && req.method !== 'HEAD' && !originAllowed(ctx.hosts, req.get('origin'))) {
+      return fail(res, 403, 'origin', `requests from a page at "${String(req.get('origin')).slice(0, 80)}" are not accepted`, 'origin not allowed');
+    }
+    next();
+  });
 
   // A region name from the path, checked (400 otherwise).
   const regionOf = (req: Request, res: Response): string | undefined => {
@@ -76,29 +98,37 @@ export function buildApp(ctx: ApiContext): express.Express {
     return parseIsoTime(String(v), key, 'query');
   };
 
+  // Open to every caller, also with --read-token: a supervisor probes it without the token. It
+  // names no region and carries no data, only the monitor's own state.
   app.get('/api/health', (_req, res) => {
     res.json({
       ok: true, uptime_s: (Date.now() - ctx.startedAt) / 1000, regions: store.regions().length, queue: pipeline.queueLength(),
+      queue_peak: pipeline.queuePeak, queue_limit: pipeline.queueLimit,
+      disk: pipeline.diskState(), unauthorized: pipeline.unauthorizedCount(),
       ...(ctx.loopDelay && { loop_delay_ms: ctx.loopDelay() }),
     });
   });
 
-  // Reading: open on loopback unless protected.
+  // Reading (GET, and HEAD, which express answers with the GET route): open on loopback unless protected.
   app.use('/api', (req, res, next) => {
-    if (req.method !== 'GET') return next();
+    if (req.method !== 'GET' && req.method !== 'HEAD') return next();
     if (canRead(req)) return next();
     fail(res, 401, 'authorization', 'reading needs "Authorization: Bearer <token>" here', 'token needed');
   });
 
-  // Ingest. The token is checked before the body is read, so an unauthorised sender cannot make
-  // us buffer a large body.
-  app.post('/api/regions/:region/frames', async (req, res, next) => {
+  // Ingest. The token and the region's queue are checked before the body is read, so an
+  // unauthorised sender cannot make us buffer a large body, and a sender faster than the
+  // computation is told to wait (503 with Retry-After) instead of growing the queue.
+  app.post('/api/regions/:region/frames', (req, res, next) => {
     const name = regionOf(req, res);
     if (name === undefined) return;
-    if (!canWrite(req)) {
-      const a = await pipeline.refuse(name, 401, 'http', 'authorization', 'ingest needs "Authorization: Bearer <token>" with the monitor\'s token');
-      return void res.status(a.status).json(a.body);
+    if (!canWrite(req)) return needToken(req, res, 'ingest');
+    if (!pipeline.admit(name)) {
+      res.set('Retry-After', String(pipeline.retryAfterS()));
+      return fail(res, 503, '(queue)', `region ${name} has ${pipeline.regionQueue(name)} frames waiting (the bound is ${pipeline.queueLimit}): send this one again after Retry-After seconds`, 'queue full');
     }
+    // The place in the queue is held until the answer has gone (or the sender went away).
+    res.once('close', () => pipeline.release(name));
     next();
   }, express.raw({ type: () => true, limit: ctx.bodyLimit }), async (req, res) => {
     const name = req.params.region as string;
@@ -112,7 +142,8 @@ export function buildApp(ctx: ApiContext): express.Express {
       const a = await pipeline.refuse(name, 415, source, 'content-type', `content type "${type || '(none)'}" is not a frame: send application/json or application/fits`);
       return void res.status(a.status).json(a.body);
     }
-    const answer = await pipeline.ingest({ region: name, payload, source, mayCreate: true });
+    const answer = await pipeline.ingest({ region: name, payload, source, mayCreate: true, admitted: true });
+    if ('retryAfterS' in answer && answer.retryAfterS !== undefined) res.set('Retry-After', String(answer.retryAfterS));
     res.status(answer.status).json(answer.body);
   });
 
@@ -129,7 +160,7 @@ export function buildApp(ctx: ApiContext): express.Express {
   app.put('/api/regions/:region/settings', (req, res, next) => {
     const name = regionOf(req, res);
     if (name === undefined) return;
-    if (!canWrite(req)) return fail(res, 401, 'authorization', 'settings changes need "Authorization: Bearer <token>"', 'token needed');
+    if (!canWrite(req)) return needToken(req, res, 'a settings change');
     next();
   }, express.json({ limit: '1mb', type: () => true }), async (req, res) => {
     const name = req.params.region as string;
@@ -176,6 +207,15 @@ export function buildApp(ctx: ApiContext): express.Express {
     return f;
   };
 
+  // Removing a frame (token): the region's series is recomputed from its other stored frames.
+  app.delete('/api/regions/:region/frames/:id', async (req, res) => {
+    if (!canWrite(req)) return needToken(req, res, 'removing a frame');
+    const f = frameOf(req, res);
+    if (!f) return;
+    const r = await pipeline.removeFrame(f.region, f.id);
+    res.json({ region: f.region, removed: r });
+  });
+
   // Footpoints of a frame in the shape of docs/api.md (the stored report of the analysis, its
   // extra columns kept), with tracks: each footpoint id's centroids over the last 20 frames.
   interface StoredReport {
@@ -220,22 +260,23 @@ export function buildApp(ctx: ApiContext): express.Express {
     res.json({ frame_id: f.id, time: iso(f.time), footpoints: apiFootpoints(footpoints), tracks, events: events ?? [] });
   });
 
-  const LAYERS: Record<string, { unit: string; from: 'frame' | 'maps'; name: string; int?: boolean }> = {
-    bn: { unit: 'G', from: 'frame', name: 'bn' },
-    gtheta: { unit: 'Mx^2 cm^-2 s^-1', from: 'maps', name: 'gtheta' },
-    labels: { unit: '', from: 'maps', name: 'labels', int: true },
-  };
+  // A Map, not an object: a layer named after an Object.prototype member ("toString") is no layer.
+  const LAYERS = new Map<string, { unit: string; from: 'frame' | 'maps'; name: string; int?: boolean }>([
+    ['bn', { unit: 'G', from: 'frame', name: 'bn' }],
+    ['gtheta', { unit: 'Mx^2 cm^-2 s^-1', from: 'maps', name: 'gtheta' }],
+    ['labels', { unit: '', from: 'maps', name: 'labels', int: true }],
+  ]);
 
   app.get('/api/regions/:region/frames/:id/map', async (req, res) => {
     const f = frameOf(req, res);
     if (!f) return;
     const layer = String(req.query.layer ?? 'bn');
-    const spec = LAYERS[layer];
+    const spec = LAYERS.get(layer);
     if (!spec) return fail(res, 400, 'layer', `"${layer.slice(0, 40)}" is not a layer (bn, gtheta, labels)`);
     const file = spec.from === 'frame' ? f.file : f.mapsFile;
     if (!file) return fail(res, 404, 'layer', `frame ${f.id} has no ${layer} map (not computed)`);
     const content = decodeMapFile(await readFile(join(store.dataDir, file)), file);
-    const values = spec.int ? content.int[spec.name] : content.float[spec.name];
+    const values = spec.int ? (Object.hasOwn(content.int, spec.name) ? content.int[spec.name] : undefined) : (Object.hasOwn(content.float, spec.name) ? content.float[spec.name] : undefined);
     if (!values) return fail(res, 404, 'layer', `frame ${f.id} has no ${layer} map`);
     const f32 = Float32Array.from(values);
     res.json({
@@ -267,7 +308,7 @@ export function buildApp(ctx: ApiContext): express.Express {
   app.post('/api/regions/:region/alerts/:id/ack', async (req, res) => {
     const name = existing(req, res);
     if (name === undefined) return;
-    if (!canWrite(req)) return fail(res, 401, 'authorization', 'acknowledging needs "Authorization: Bearer <token>"', 'token needed');
+    if (!canWrite(req)) return needToken(req, res, 'acknowledging');
     const id = String(req.params.id);
     const alert = await pipeline.acknowledge(name, id);
     if (!alert) return fail(res, 404, 'id', `region ${name} has no alert "${id.slice(0, 40)}" yet`);
@@ -297,7 +338,7 @@ export function buildApp(ctx: ApiContext): express.Express {
   app.post('/api/regions/:region/replay', (req, res, next) => {
     const name = regionOf(req, res);
     if (name === undefined) return;
-    if (!canWrite(req)) return fail(res, 401, 'authorization', 'replay control needs "Authorization: Bearer <token>"', 'token needed');
+    if (!canWrite(req)) return needToken(req, res, 'replay control');
     next();
   }, express.json({ limit: '64kb', type: () => true }), async (req, res) => {
     const name = req.params.region as string;
@@ -319,12 +360,18 @@ export function buildApp(ctx: ApiContext): express.Express {
     const isIngest = req.method === 'POST' && m !== null;
     if (e.type === 'entity.too.large') {
       const reason = `the body is larger than the limit of ${ctx.bodyLimit} bytes`;
-      if (isIngest && region) return void pipeline.refuse(region, 413, 'http', '(body)', reason).finally(() => fail(res, 413, '(body)', reason, 'too large'));
+      // refuse() never rejects: the answer goes out whether or not the record could be written.
+      if (isIngest && region) return void pipeline.refuse(region, 413, 'http', '(body)', reason).then(() => fail(res, 413, '(body)', reason, 'too large'));
       return fail(res, 413, '(body)', reason, 'too large');
     }
-    if (e.type === 'entity.parse.failed') return fail(res, 400, '(body)', `is not valid JSON: ${e.message}`);
+    // The parser's message quotes the body: give the position only.
+    if (e.type === 'entity.parse.failed') return fail(res, 400, '(body)', `is not valid JSON${/position \d+/.exec(e.message ?? '') ? ` (at ${/position \d+/.exec(e.message ?? '')![0]})` : ''}`);
     if (err instanceof InputError) return inputFail(res, 400, err);
     if (e.status && e.status >= 400 && e.status < 500) return fail(res, e.status, '(request)', e.message ?? 'bad request');
+    if (isDiskFull(err)) {
+      res.set('Retry-After', '30');
+      return fail(res, 507, '(disk)', 'the monitor\'s disk is full: nothing was changed; try again later', 'disk full');
+    }
     fail(res, 500, '(server)', String(e.message ?? err), 'internal error');
   });
 

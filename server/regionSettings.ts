@@ -11,6 +11,12 @@ export interface RegionSettings {
   readonly budget: BudgetSettings;
   /** Frames up to this much older (observation time, s) than the newest are put back in order. */
   readonly latenessS: number;
+  /**
+   * Live frames (HTTP, WebSocket, watched folder) dated more than this many seconds after the
+   * monitor's clock are refused: an observation cannot come from the future, and one such frame
+   * would make every later frame "too late". Replays are not held to it.
+   */
+  readonly maxAheadS: number;
   readonly rules: RuleOverrides;
   readonly webhookUrl: string | null;
   /** Watch the region's inbox folder (<data>/inbox/<region>/). */
@@ -27,6 +33,8 @@ export const DEFAULT_SETTINGS: RegionSettings = {
   budget: { gapFactor: 3, bridgeGaps: false, minIntervals: 3 },
   // One hour: several frames at the usual 12-minute cadence may arrive out of order.
   latenessS: 3600,
+  // Ten minutes: room for a sender's clock that runs ahead, never for a date typed wrong.
+  maxAheadS: 600,
   rules: {},
   webhookUrl: null,
   watchFolder: true,
@@ -86,8 +94,9 @@ export function mergeSettings(base: RegionSettings, patch: unknown): RegionSetti
         out = { ...out, budget: { ...out.budget, ...checkBudget(v) } };
         break;
       case 'latenessS':
+      case 'maxAheadS':
         if (typeof v !== 'number' || !(v >= 0) || !Number.isFinite(v)) throw new InputError(SOURCE, k, 'must be a number of seconds, 0 or more');
-        out = { ...out, latenessS: v };
+        out = { ...out, [k]: v };
         break;
       case 'rules': {
         const r = checkRules(v);
@@ -109,7 +118,7 @@ export function mergeSettings(base: RegionSettings, patch: unknown): RegionSetti
         out = { ...out, watchFolder: v };
         break;
       default:
-        throw new InputError(SOURCE, k, 'is not a region setting (analysis, budget, latenessS, rules, webhookUrl, watchFolder, components)');
+        throw new InputError(SOURCE, k, 'is not a region setting (analysis, budget, latenessS, maxAheadS, rules, webhookUrl, watchFolder, components)');
     }
   }
   return out;

@@ -15,9 +15,10 @@ import { DEMO_REGION } from './replayFeed.js';
 import type { ReplayStart } from './replayFeeds.js';
 import { ReplayFeeds } from './replayFeeds.js';
 import { FolderWatch } from './folderWatch.js';
-import { IntakePool } from './intakePool.js';
+import { hostPolicy } from './hostCheck.js';
+import { DEFAULT_INTAKE_MEMORY_MB, DEFAULT_MAX_FRAME_PIXELS, IntakePool } from './intakePool.js';
 import { buildApp } from './httpApi.js';
-import { Pipeline } from './pipeline.js';
+import { DEFAULT_QUEUE_LIMIT, Pipeline } from './pipeline.js';
 import { Store } from './store.js';
 import { StoreWriter } from './storeWriter.js';
 import { ViewerHub } from './viewerHub.js';
@@ -46,6 +47,16 @@ export interface ServeOptions {
   readonly replays?: readonly ReplayStart[];
   /** Folder under which the API may start folder replays; without it only stored regions. */
   readonly replayRoot?: string;
+  /** Host names answered besides the loopback ones (Host header, browser Origin). */
+  readonly allowedHosts?: readonly string[];
+  /** Frames a region may have waiting before senders are held back (503 / paused socket). Default 16. */
+  readonly queueLimit?: number;
+  /** Largest frame accepted, in pixels (nx * ny), checked before decompressing or allocating. Default 2048^2. */
+  readonly maxFramePixels?: number;
+  /** Memory bound of the intake worker's JavaScript heap, MiB. Default 1024. */
+  readonly intakeMemoryMb?: number;
+  /** Viewer sockets open at once. Default 1000. */
+  readonly maxViewers?: number;
 }
 
 export interface RunningMonitor {
@@ -86,14 +97,15 @@ function dashboardDir(): string {
 export async function serve(options: ServeOptions): Promise<RunningMonitor> {
   const log = options.log ?? ((line: string) => process.stdout.write(line + '\n'));
   const dataDir = resolve(options.dataDir);
-  mkdirSync(dataDir, { recursive: true });
+  mkdirSync(dataDir, { recursive: true, mode: 0o700 });
   const token = loadOrCreateToken(dataDir, log);
   // Reads on the event loop; every write (and its fsync) in the writer thread.
   const store = new Store(dataDir);
   const writer = new StoreWriter(dataDir, log);
   const workers = options.workers ?? Math.min(4, Math.max(1, availableParallelism() - 1));
   const pool = new ComputePool(workers, log);
-  const intake = new IntakePool(log);
+  const maxFramePixels = options.maxFramePixels ?? DEFAULT_MAX_FRAME_PIXELS;
+  const intake = new IntakePool(log, { maxFramePixels, memoryMb: options.intakeMemoryMb ?? DEFAULT_INTAKE_MEMORY_MB });
   const bodyLimit = options.bodyLimit ?? DEFAULT_BODY_LIMIT;
   const readToken = options.readToken ?? false;
   // Set once the pipeline exists (below); read only after that.
@@ -114,15 +126,16 @@ export async function serve(options: ServeOptions): Promise<RunningMonitor> {
       latest_frame: frames.length ? { frame_id: frames[0].id, time: new Date(frames[0].time).toISOString() } : null,
     };
   };
-  const hub = new ViewerHub(snapshot, 4 * 1024 * 1024, log);
+  const hub = new ViewerHub(snapshot, 4 * 1024 * 1024, log, options.maxViewers ?? 1000);
   pipeline = new Pipeline(store, writer, pool, intake, hub, {
     log,
     replayStatus,
+    queueLimit: options.queueLimit ?? DEFAULT_QUEUE_LIMIT,
     onAlert: (region, alert, change, settings) => {
       if (settings.webhookUrl && (change.to === 'raised' || change.to === 'settled')) void postWebhook(settings.webhookUrl, region, alert, change, log);
     },
   });
-  const folders = new FolderWatch(store, writer, pipeline, log);
+  const folders = new FolderWatch(store, writer, pipeline, intake, log);
   const feeds = new ReplayFeeds({
     store, writer, pipeline, log,
     ...(options.replayRoot !== undefined && { replayRoot: options.replayRoot }),
@@ -131,8 +144,10 @@ export async function serve(options: ServeOptions): Promise<RunningMonitor> {
   });
   replays = feeds;
 
+  const host = options.host ?? '127.0.0.1';
+  const hosts = hostPolicy(options.allowedHosts, host);
   const app = buildApp({
-    store, writer, pipeline, token, readToken, bodyLimit, startedAt: Date.now(), loopDelay: () => loop.read(),
+    store, writer, pipeline, token, readToken, bodyLimit, startedAt: Date.now(), loopDelay: () => loop.read(), hosts,
     onSettings: (region) => folders.sync(region, store.region(region)?.settings.watchFolder ?? false),
     replay: (region, action) => feeds.control(region, action),
     replayStatus,
@@ -140,9 +155,7 @@ export async function serve(options: ServeOptions): Promise<RunningMonitor> {
   });
   const server = createServer(app);
   server.requestTimeout = 0; // large frames on slow links; the body limit bounds them
-  const sockets = attachWebSockets(server, { store, pipeline, hub, token, readToken, bodyLimit, snapshot });
-
-  const host = options.host ?? '127.0.0.1';
+  const sockets = attachWebSockets(server, { store, pipeline, hub, token, readToken, bodyLimit, snapshot, hosts, log });
   try {
     await new Promise<void>((ok, fail) => {
       server.once('error', fail);
@@ -157,6 +170,12 @@ export async function serve(options: ServeOptions): Promise<RunningMonitor> {
   }
   const port = (server.address() as AddressInfo).port;
   const url = `http://${host.includes(':') ? `[${host}]` : host}:${port}`;
+
+  // The last line of defence: an error nobody handled is logged and the monitor keeps running
+  // (every path is meant to handle its own; a line here is a defect to fix).
+  const onUnhandled = (e: unknown) => log(`internal error, unhandled (the monitor keeps running): ${(e as Error)?.stack ?? e}`);
+  process.on('unhandledRejection', onUnhandled);
+  process.on('uncaughtException', onUnhandled);
 
   pipeline.resumeAll();
   for (const r of store.regions()) folders.sync(r.name, r.settings.watchFolder);
@@ -186,6 +205,8 @@ export async function serve(options: ServeOptions): Promise<RunningMonitor> {
       await intake.close();
       await writer.close();
       store.close();
+      process.off('unhandledRejection', onUnhandled);
+      process.off('uncaughtException', onUnhandled);
     })();
     return closing;
   };

@@ -5,6 +5,7 @@
 // Frames' maps live as files beside the database (written atomically), referenced by path
 // relative to the data folder.
 import Database from 'better-sqlite3';
+import { chmodSync, closeSync, existsSync, openSync } from 'node:fs';
 import { join } from 'node:path';
 import type { BudgetState } from '../core/budget.js';
 import { emptyBudget } from '../core/budget.js';
@@ -80,6 +81,9 @@ CREATE TABLE IF NOT EXISTS refusals (
   id INTEGER PRIMARY KEY AUTOINCREMENT, region TEXT NOT NULL, time_received INTEGER NOT NULL,
   source TEXT NOT NULL, reason TEXT NOT NULL, field TEXT NOT NULL, status INTEGER NOT NULL, frame_time INTEGER);
 CREATE INDEX IF NOT EXISTS refusals_by_region ON refusals (region, time_received);
+CREATE TABLE IF NOT EXISTS removed_frames (
+  region TEXT NOT NULL, hash TEXT NOT NULL, time INTEGER NOT NULL, removed INTEGER NOT NULL,
+  PRIMARY KEY (region, hash));
 CREATE TABLE IF NOT EXISTS watched_files (
   region TEXT NOT NULL, path TEXT NOT NULL, size INTEGER NOT NULL, mtime INTEGER NOT NULL,
   PRIMARY KEY (region, path));
@@ -101,7 +105,12 @@ export class Store {
 
   constructor(dataDir: string) {
     this.dataDir = dataDir;
-    this.db = new Database(join(dataDir, 'helicord.sqlite'));
+    const file = join(dataDir, 'helicord.sqlite');
+    // Readable by the owner only, like the token: SQLite gives the -wal and -shm files the
+    // database file's permissions, so the database is made (or set) 0600 before it is opened.
+    if (!existsSync(file)) closeSync(openSync(file, 'a', 0o600));
+    for (const f of [file, `${file}-wal`, `${file}-shm`]) if (existsSync(f)) chmodSync(f, 0o600);
+    this.db = new Database(file);
     this.db.pragma('journal_mode = WAL');
     this.db.pragma('synchronous = FULL');
     this.db.pragma('foreign_keys = ON');
@@ -199,6 +208,11 @@ export class Store {
     return (this.db.prepare('SELECT * FROM frames WHERE region = ? AND processed = 0 ORDER BY time').all(region) as RawFrame[]).map(toFrame);
   }
 
+  /** Frames of the region stored and not yet processed. */
+  unprocessedCount(region: string): number {
+    return (this.db.prepare('SELECT COUNT(*) AS n FROM frames WHERE region = ? AND processed = 0').get(region) as { n: number }).n;
+  }
+
   pendingCount(): number {
     return (this.db.prepare('SELECT COUNT(*) AS n FROM frames WHERE processed = 0').get() as { n: number }).n;
   }
@@ -234,6 +248,31 @@ export class Store {
       return n;
     });
     return tx();
+  }
+
+  /**
+   * Removes a frame: its row and sample go, every processed frame after `before` is put back to
+   * "stored" without its sample (processed again in order), the region's carry goes back to
+   * `carry`, and the frame's hash is remembered as removed. One transaction; returns how many
+   * frames are to be processed again.
+   */
+  removeFrame(region: string, id: number, before: number, carry: Carry, now = Date.now()): number {
+    const tx = this.db.transaction(() => {
+      const f = this.db.prepare('SELECT hash, time FROM frames WHERE region = ? AND id = ?').get(region, id) as { hash: string; time: number } | undefined;
+      if (!f) return 0;
+      this.db.prepare('DELETE FROM samples WHERE frame_id = ? OR frame_id IN (SELECT id FROM frames WHERE region = ? AND time > ? AND processed > 0)').run(id, region, before);
+      this.db.prepare('DELETE FROM frames WHERE id = ?').run(id);
+      const n = this.db.prepare('UPDATE frames SET processed = 0, carry = NULL WHERE region = ? AND time > ? AND processed > 0').run(region, before).changes;
+      this.db.prepare('INSERT OR REPLACE INTO removed_frames (region, hash, time, removed) VALUES (?, ?, ?, ?)').run(region, f.hash, f.time, now);
+      this.setRegionCarry(region, carry);
+      return n;
+    });
+    return tx();
+  }
+
+  /** The removal record of a frame's content, if it was removed. */
+  removedFrame(region: string, hash: string): { time: number; removed: number } | undefined {
+    return this.db.prepare('SELECT time, removed FROM removed_frames WHERE region = ? AND hash = ?').get(region, hash) as { time: number; removed: number } | undefined;
   }
 
   /** Stores the outcome of one frame's processing in one transaction. */

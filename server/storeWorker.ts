@@ -19,7 +19,10 @@ parentPort!.on('message', (req: WriteRequest | { id: 0; method: 'close' }) => {
     const fn = (store as unknown as Record<string, (...a: unknown[]) => unknown>)[req.method];
     reply = { id: req.id, ok: true, result: fn.apply(store, req.args) };
   } catch (e) {
-    reply = { id: req.id, ok: false, error: String((e as Error).stack ?? e) };
+    // The code (SQLITE_FULL, ENOSPC, ...) goes back with the error: the pipeline tells a full
+    // disk from other failures by it.
+    const code = (e as { code?: unknown }).code;
+    reply = { id: req.id, ok: false, error: String((e as Error).stack ?? e), ...(typeof code === 'string' && { code }) };
   }
   parentPort!.postMessage(reply);
 });

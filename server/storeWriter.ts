@@ -7,12 +7,12 @@ import type { Store } from './store.js';
 
 export const WRITE_METHODS = [
   'createRegion', 'saveSettings', 'countDuplicate', 'setRegionCarry', 'insertFrame', 'rewind',
-  'commitProcessed', 'recordRefusal', 'markWatchedFile',
+  'commitProcessed', 'recordRefusal', 'markWatchedFile', 'removeFrame',
 ] as const;
 export type WriteMethod = (typeof WRITE_METHODS)[number];
 
 export interface WriteRequest { readonly id: number; readonly method: WriteMethod; readonly args: unknown[] }
-export type WriteReply = { readonly id: number; readonly ok: true; readonly result: unknown } | { readonly id: number; readonly ok: false; readonly error: string };
+export type WriteReply = { readonly id: number; readonly ok: true; readonly result: unknown } | { readonly id: number; readonly ok: false; readonly error: string; readonly code?: string };
 
 function workerUrl(): URL {
   const here = new URL('./storeWorker.js', import.meta.url);
@@ -35,7 +35,7 @@ export class StoreWriter {
       if (!p) return;
       this.pending.delete(r.id);
       if (r.ok) p.resolve(r.result);
-      else p.reject(new Error(r.error));
+      else p.reject(Object.assign(new Error(r.error), r.code !== undefined ? { code: r.code } : {}));
     });
     const fail = (why: string) => {
       // Without its writer the monitor cannot promise durability: every pending and later write fails.
