@@ -95,3 +95,62 @@ export function irregularTimes(n: number): number[] {
   for (let i = 1; i < n; i++) out.push(out[i - 1] + steps[i % steps.length] * 1000);
   return out;
 }
+
+/** A monitor in its own process (test/server/launch.mjs, compiled dist/ code): it can be killed with SIGKILL and its memory is its own. */
+export interface ChildMonitor {
+  readonly child: import('node:child_process').ChildProcess;
+  readonly url: string;
+  /** Everything it logged (stderr) so far. */
+  log(): string;
+  /** True while the process runs. */
+  alive(): boolean;
+  /** Resident memory of the process, MiB (Linux /proc). */
+  rssMiB(): number;
+  kill9(): Promise<void>;
+  stop(): Promise<void>;
+}
+
+export async function launchMonitor(dataDir: string, options: Record<string, unknown> = {}): Promise<ChildMonitor> {
+  const { spawn } = await import('node:child_process');
+  const { readFileSync } = await import('node:fs');
+  const { fileURLToPath } = await import('node:url');
+  const launcher = fileURLToPath(new URL('./launch.mjs', import.meta.url));
+  const child = spawn(process.execPath, [launcher, dataDir], {
+    env: { ...process.env, HELICORD_TOKEN: TOKEN, HELICORD_TEST_OPTIONS: JSON.stringify(options) },
+    stdio: ['ignore', 'pipe', 'pipe'],
+  });
+  let err = '';
+  let exited = false;
+  child.stderr!.on('data', (d) => (err += d));
+  child.once('exit', () => { exited = true; });
+  const url = await new Promise<string>((resolve, reject) => {
+    let out = '';
+    const timer = setTimeout(() => reject(new Error(`monitor did not listen within 30 s: ${err}`)), 30_000);
+    child.stdout!.on('data', (d) => {
+      out += d;
+      const m = /LISTENING (\S+)/.exec(out);
+      if (m) { clearTimeout(timer); resolve(m[1]); }
+    });
+    child.once('exit', (code) => { clearTimeout(timer); reject(new Error(`monitor exited (${code}) before listening: ${err}`)); });
+  });
+  const exit = () => new Promise<void>((r) => { if (exited) r(); else child.once('exit', () => r()); });
+  return {
+    child, url,
+    log: () => err,
+    alive: () => !exited,
+    rssMiB: () => {
+      try {
+        const m = /VmRSS:\s+(\d+) kB/.exec(readFileSync(`/proc/${child.pid}/status`, 'utf8'));
+        return m ? Number(m[1]) / 1024 : NaN;
+      } catch { return NaN; }
+    },
+    kill9: async () => { const e = exit(); child.kill('SIGKILL'); await e; },
+    stop: async () => {
+      const e = exit();
+      child.kill('SIGTERM');
+      const t = setTimeout(() => child.kill('SIGKILL'), 20_000);
+      await e;
+      clearTimeout(t);
+    },
+  };
+}
