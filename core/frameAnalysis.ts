@@ -153,6 +153,7 @@ export function analyseFrame(
   let velocity: VelocityMaps = inferred;
   let labels = tracked.labels;
   let motions: ReturnType<typeof pairMotions> | undefined;
+  let motionFrom = previous.time;
   const notes = [...v.notes];
   const flags: string[] = [];
   const field1 = smoothed();
@@ -168,6 +169,7 @@ export function analyseFrame(
     if (oldest && oldest.time < previous.time) {
       const longer = pairMotions(oldest.field, field1, tracked.labels, tracked.grid, (frame.time - oldest.time) / 1000, options);
       for (const [id, m] of longer) motions.set(id, m);
+      motionFrom = oldest.time;
       notes.push(`Footpoint motions over ${((frame.time - oldest.time) / 1000).toFixed(0)} s (the motion baseline), centred ${((previous.time - oldest.time) / 2000).toFixed(0)} s before the sample.`);
     }
     const field = footpointVelocityField(tracked.grid, rateFrame.bn, tracked.labels, motions, inferred, settings.footpointVelocity);
@@ -182,7 +184,7 @@ export function analyseFrame(
   }
   const r = rateSample({
     ...common, velocity, labels, flags,
-    ...(motions && { motions }),
+    ...(motions && { motions, motionFrom, motionTo: frame.time }),
     ...(motions && v.vz && { normalVelocity: v.vz }),
   });
   const footpoints = describeFootpoints(state.footpoints, rateFrame, tracked, fpSettings, {

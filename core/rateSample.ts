@@ -40,6 +40,9 @@ export interface RateSample {
   readonly sigmaOrbit: number;
   /** The part of sigmaTotal from the motions' errors alone, Mx^2/s. */
   readonly sigmaMotion: number;
+  /** The frames the footpoint motions were measured between, UTC ms (for the budget's errors); absent when none. */
+  readonly motionFrom?: number;
+  readonly motionTo?: number;
   /** Noise level used, G. */
   readonly noiseG: number;
   /** How the velocity was obtained: 'given' or the inference method. */
@@ -66,6 +69,9 @@ export interface RateInput {
   readonly cache?: FluxKernelCache;
   /** Errors of the footpoint motions the velocity was built from (for the uncertainty). */
   readonly motions?: ReadonlyMap<number, MotionCovariance>;
+  /** The frames those motions were measured between, UTC ms. */
+  readonly motionFrom?: number;
+  readonly motionTo?: number;
   /**
    * Normal plasma velocity (km/s) when `velocity` is the footpoint velocity u of vector data: the
    * emergence term comes from it and the horizontal field, the shear term is the rest of the total.
@@ -129,6 +135,7 @@ export function rateSample(input: RateInput): RateResult {
     sigmaSpin: motion.spin,
     sigmaOrbit: motion.orbit,
     sigmaMotion: motion.total,
+    ...(input.motions && input.motionFrom !== undefined && input.motionTo !== undefined && { motionFrom: input.motionFrom, motionTo: input.motionTo }),
     noiseG,
     velocityMethod: input.velocityMethod ?? 'given',
     splitMethod: split ? 'labels' : 'none',
