@@ -141,10 +141,13 @@ export function analyseFrame(
   const rateFrame = midFrame(previous, frame);
   const inferred: VelocityMaps = { vx: v.vx, vy: v.vy, ...(v.vz && { vz: v.vz }) };
   const common = { frame: rateFrame, velocityMethod: v.method, time: v.time, dtS: v.dtS, ...noise, ...(cache && { cache }) };
+  // Without footpoint motions the 1-sigma covers the field noise only, not the inference's errors.
+  const incomplete = 'sigma-without-velocity-error';
+  const incompleteNote = 'The 1-sigma covers the field noise only: the errors of the inferred velocity are not in it (they are when the velocity is built from footpoint motions).';
   if (!fpSettings) {
-    const r = rateSample({ ...common, velocity: inferred, labels: null });
+    const r = rateSample({ ...common, velocity: inferred, labels: null, flags: [incomplete] });
     return {
-      sample: r.sample, velocityNotes: v.notes,
+      sample: r.sample, velocityNotes: [...v.notes, incompleteNote],
       maps: { gTheta: r.gTheta, vx: v.vx, vy: v.vy, ...(v.vz && { vz: v.vz }) },
       state: { previous: frame, ...keepFootpoints },
     };
@@ -181,6 +184,9 @@ export function analyseFrame(
       flags.push('flux-left-out');
       notes.push(`${(100 * field.leftOutFluxShare).toFixed(1)}% of the unsigned flux had no velocity (weak field away from footpoints) and was left out.`);
     }
+  } else {
+    flags.push(incomplete);
+    notes.push(incompleteNote);
   }
   const r = rateSample({
     ...common, velocity, labels, flags,

@@ -40,9 +40,15 @@ export function emptyRules(): RulesState {
 
 const iso = (t: number) => new Date(t).toISOString();
 
-function reading(value: number, threshold: number, p: RuleParams, from: number, to: number, more: Record<string, unknown> = {}): ConditionReading {
-  const evidence: Evidence = { value, window_from: iso(from), window_to: iso(to), threshold, ...more };
-  return { met: value > threshold, gone: value < threshold * (1 - p.hysteresis), evidence };
+/**
+ * A threshold reading: met when the value stands above the threshold by sigmaFactor times its
+ * 1-sigma (so noise does not raise it), gone when it falls below the hysteresis band.
+ */
+function reading(value: number, sigma: number, threshold: number, p: RuleParams, from: number, to: number): ConditionReading {
+  const k = Number(p.sigmaFactor ?? 0);
+  const s = Number.isFinite(sigma) ? sigma : 0;
+  const evidence: Evidence = { value, window_from: iso(from), window_to: iso(to), threshold, sigma: s, sigma_factor: k };
+  return { met: value - k * s > threshold, gone: value < threshold * (1 - p.hysteresis), evidence };
 }
 
 /** The condition of one rule on one input, or undefined when the input does not concern it. */
@@ -53,10 +59,10 @@ function readRule(def: RuleDefinition, p: RuleParams, input: RuleInput, state: R
     case 'budget':
     case 'budget-emerging':
       if (!hasSample) return undefined;
-      return reading(Math.abs(input.budget!), p.threshold, p, input.time, input.time, { sigma: input.sigmaBudget ?? 0 });
+      return reading(Math.abs(input.budget!), input.sigmaBudget ?? 0, p.threshold, p, input.time, input.time);
     case 'peak-rate':
       if (!hasSample) return undefined;
-      return reading(Math.abs(input.rate!), p.threshold, p, from, input.time, { sigma: input.sigmaRate ?? 0 });
+      return reading(Math.abs(input.rate!), input.sigmaRate ?? 0, p.threshold, p, from, input.time);
     case 'build-up-plateau': {
       if (!hasSample || !buildUp) return undefined;
       const v = viewBuildUp(buildUp, input.time);

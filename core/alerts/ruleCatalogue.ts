@@ -35,6 +35,15 @@ export interface RuleDefinition {
 
 const common = { holdOffS: 0, hysteresis: 0.1, clearSamples: 3 };
 
+/**
+ * The threshold rules on the rate and the budget count a sample only when the value stands above
+ * the threshold by `sigmaFactor` times its 1-sigma (default 2): for a Gaussian error a single
+ * sample passes by chance with probability 0.023 when the true value sits exactly at the
+ * threshold, and the hold-off asks it of 3 successive samples (their errors correlate through shared
+ * frames, so the chance is larger than 0.023^3 but far below one sample's).
+ */
+export const DEFAULT_SIGMA_FACTOR = 2;
+
 export const RULES: readonly RuleDefinition[] = [
   {
     id: 'budget',
@@ -42,7 +51,7 @@ export const RULES: readonly RuleDefinition[] = [
     watches: '|budget_total|',
     unit: 'Mx^2',
     source: 'Tziotziou, Georgoulis & Raouafi 2012 (ApJL 759, L4): eruptive active regions sit above 2e42 Mx^2',
-    defaults: { ...common, enabled: true, threshold: 2e42, holdOffSamples: 3 },
+    defaults: { ...common, enabled: true, threshold: 2e42, holdOffSamples: 3, sigmaFactor: DEFAULT_SIGMA_FACTOR },
   },
   {
     id: 'budget-emerging',
@@ -50,7 +59,7 @@ export const RULES: readonly RuleDefinition[] = [
     watches: '|budget_total|',
     unit: 'Mx^2',
     source: 'Liokati, Nindos & Liu 2022 (A&A 662, A6): emerging regions that erupted had accumulated 9e41 Mx^2',
-    defaults: { ...common, enabled: false, threshold: 9e41, holdOffSamples: 3 },
+    defaults: { ...common, enabled: false, threshold: 9e41, holdOffSamples: 3, sigmaFactor: DEFAULT_SIGMA_FACTOR },
   },
   {
     id: 'peak-rate',
@@ -58,7 +67,7 @@ export const RULES: readonly RuleDefinition[] = [
     watches: '|rate_total|',
     unit: 'Mx^2/s',
     source: 'LaBonte, Georgoulis & Rust 2007 (ApJ 671, 955): peak |dH/dt| above 6e36 Mx^2/s was necessary for X-class flares in 393 regions',
-    defaults: { ...common, enabled: true, threshold: 6e36, holdOffSamples: 3 },
+    defaults: { ...common, enabled: true, threshold: 6e36, holdOffSamples: 3, sigmaFactor: DEFAULT_SIGMA_FACTOR },
   },
   {
     id: 'build-up-plateau',

@@ -103,6 +103,16 @@ describe('sustained rate rule (6e36 Mx^2/s, LaBonte et al. 2007)', () => {
     expect(rates.filter((r) => Math.abs(r) > 6e36).length).toBeGreaterThan(30);
     expect(runRules(fromRates(rates), settings).states).not.toContain('raised');
   });
+  it('counts a sample only when the rate stands 2 sigma above the level (sigma 0.5e36 passes at 7.5e36, sigma 1e36 does not)', () => {
+    // |r| - 2 sigma against 6e36: 7.5e36 - 2 x 0.5e36 = 6.5e36 passes, 7.5e36 - 2 x 1e36 = 5.5e36 does not.
+    expect(runRules(fromRates(Array(8).fill(7.5e36), 0.5e36), settings).states.at(-1)).toBe('raised');
+    expect(runRules(fromRates(Array(8).fill(7.5e36), 1e36), settings).states.every((s) => s === 'quiet')).toBe(true);
+    // The factor is a setting: with 1 sigma the same series raises.
+    expect(runRules(fromRates(Array(8).fill(7.5e36), 1e36), only('peak-rate', { sigmaFactor: 1 })).states.at(-1)).toBe('raised');
+    const alert = alertRecords(runRules(fromRates(Array(8).fill(7.5e36), 0.5e36), settings).final)[0];
+    expect(alert.history.at(-1)!.evidence).toMatchObject({ sigma: 0.5e36, sigma_factor: 2 });
+  });
+
   it('a single noisy frame goes back to quiet and the history says so', () => {
     const rates = [1e36, 1e36, 9e36, 1e36, 1e36];
     const { states, final } = runRules(fromRates(rates), settings);
