@@ -180,6 +180,17 @@ export function analyseFrame(
     labels = field.labels;
     const round = [...motions.values()].filter((m) => m.omega === null).length;
     notes.push(`Footpoint motions measured from their patterns over the pair: ${motions.size} footpoints, ${round} without a visible rotation (no spin put on them).`);
+    // The share of the footpoints' flux whose spin cannot be seen (round footpoints).
+    let all = 0, unseen = 0;
+    tracked.regions.forEach((r, k) => {
+      const id = tracked.track.assignments[k].id;
+      all += Math.abs(r.flux);
+      if (motions!.get(id)?.omega == null) unseen += Math.abs(r.flux);
+    });
+    if (all > 0 && unseen > 0) {
+      flags.push('spin-unobservable');
+      notes.push(`${(100 * unseen / all).toFixed(0)}% of the footpoints' flux is in footpoints whose rotation cannot be seen (round, too small or too noisy): their spin is not in the spin rate; no bound can be given from the pattern.`);
+    }
     if (field.leftOutFluxShare > LEFT_OUT_FLAG_SHARE) {
       flags.push('flux-left-out');
       notes.push(`${(100 * field.leftOutFluxShare).toFixed(1)}% of the unsigned flux had no velocity (weak field away from footpoints) and was left out.`);

@@ -9,7 +9,7 @@ export const SERIES_COLUMNS = [
   'time', 'dt_s', 'rate_total', 'rate_spin', 'rate_orbit', 'rate_background',
   'budget_total', 'budget_spin', 'budget_orbit', 'budget_background',
   'rate_total_ga', 'rate_emergence', 'rate_shear', 'sigma_rate_total', 'sigma_budget_total',
-  'velocity_method', 'split_method', 'noise_g', 'masked_fraction', 'flags', 'frame_id',
+  'sigma_rate_spin', 'sigma_rate_orbit', 'velocity_method', 'split_method', 'noise_g', 'masked_fraction', 'flags', 'frame_id',
 ] as const;
 export type SeriesColumn = (typeof SERIES_COLUMNS)[number];
 
@@ -30,6 +30,9 @@ export interface SeriesRow {
   readonly rate_shear: number | null;
   readonly sigma_rate_total: number;
   readonly sigma_budget_total: number;
+  /** 1-sigma of spin and orbit from the footpoint motions' errors (0 when the velocity was given). */
+  readonly sigma_rate_spin: number;
+  readonly sigma_rate_orbit: number;
   readonly velocity_method: string;
   readonly split_method: string;
   readonly noise_g: number | null;
@@ -58,6 +61,8 @@ export function seriesRow(sample: RateSample, point: BudgetPoint, frameId: numbe
     rate_shear: finiteOrNull(sample.shear),
     sigma_rate_total: sample.sigmaTotal,
     sigma_budget_total: point.sigmaTotal,
+    sigma_rate_spin: sample.sigmaSpin ?? 0,
+    sigma_rate_orbit: sample.sigmaOrbit ?? 0,
     velocity_method: sample.velocityMethod,
     split_method: sample.splitMethod,
     noise_g: finiteOrNull(sample.noiseG),

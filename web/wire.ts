@@ -17,6 +17,8 @@ export interface WireSample {
   rate_shear: number | null;
   sigma_rate_total: number | null;
   sigma_budget_total: number | null;
+  sigma_rate_spin?: number | null;
+  sigma_rate_orbit?: number | null;
   velocity_method: string;
   split_method: string;
   noise_g: number | null;

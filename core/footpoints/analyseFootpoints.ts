@@ -351,7 +351,9 @@ export function describeFootpoints(
   for (let j = 0; j < K; j++) {
     const row = rows[j] as { -readonly [P in keyof FootpointRow]: FootpointRow[P] };
     row.spinPoint = Number.isFinite(spinPoint[j]) ? spinPoint[j] : null;
-    row.spinExact = split && Number.isFinite(spinExact[j]) ? spinExact[j] : null;
+    // A footpoint whose rotation cannot be seen moves without one: its spin is unknown, not zero.
+    const unseen = measured?.get(row.id)?.omega === null;
+    row.spinExact = split && !unseen && Number.isFinite(spinExact[j]) ? spinExact[j] : null;
     // The spin budget goes on from the parent (the footpoint it continues, or the larger one it came
     // from); the rectangle rule over the interval since the previous frame, as the footpoint budget.
     const carried = row.parent !== null ? prevById.get(row.parent)?.spinBudget ?? 0 : 0;
