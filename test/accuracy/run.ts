@@ -202,7 +202,7 @@ async function main(): Promise<void> {
     console.log('\nRefused frames:');
     for (const s of refused) console.log(`- ${s.scene} ${s.mode} ${s.cadenceS}s ${s.noiseG}G ${s.method}: ${s.errors[0]}${s.errors.length > 1 ? ` (+${s.errors.length - 1} more)` : ''}`);
   }
-  console.log(`\n### Truth check (the sample at the third frame, cadence as listed)\n\n${truths}`);
+  console.log(`\n### Truth check (one pair per sequence, the third and fourth frames: t is its mid-time)\n\n${truths}`);
   console.log(`\nCPU ${cpuS.toFixed(1)} s, wall ${wallS.toFixed(1)} s; load average at start ${load0.map((x) => x.toFixed(2)).join(' ')}, at end ${load1.map((x) => x.toFixed(2)).join(' ')} (${cpus().length} cores)`);
 
   mkdirSync(o.out, { recursive: true });

@@ -146,6 +146,15 @@ export const SCENES: readonly Scene[] = [
     ],
   },
   {
+    name: 'rising-twisted',
+    description: 'the same twisted sources only rising at 0.2 km/s (v_t = 0, v_n uniform: an exact affine flow; true shear 0)',
+    grid: grid128, vector: true, target: 'emerging',
+    objects: [
+      source({ name: 'src+', x: 53, y: 64, depth: 2.5, peak: 1800, velocity: [0, 0, 0.2], twist: { field: 400, radius: 2, height: 3 } }),
+      source({ name: 'src-', x: 75, y: 64, depth: 2.5, peak: -1800, velocity: [0, 0, 0.2], twist: { field: -400, radius: 2, height: 3 } }),
+    ],
+  },
+  {
     name: 'static',
     description: 'three spots (one elongated) and diffuse flux, nothing moving (true everything 0)',
     grid: grid128, vector: false, target: 'static',

@@ -129,4 +129,14 @@ describe.each(CADENCES)('issue 11 targets at %i s cadence, 8 G, default settings
     }
     expectSigmaWithinFactor(c);
   });
+
+  it('rising-twisted: the emergence of twist within 15 %, and no shear where v_t = 0 (below 15 % of the emergence)', () => {
+    const c = cell('rising-twisted', cadenceS, 'vector');
+    expect(c.summary.errors).toEqual([]);
+    const e = meanError(c, compared(c, (v) => v.emergence, (p) => c.seq.truths[p - 1].emergence!));
+    expect(Math.abs(e.mean)).toBeLessThanOrEqual(0.15 + e.twoSE);
+    const s = meanError(c, compared(c, (v) => v.shear, () => 0, (p) => c.seq.truths[p - 1].emergence!));
+    expect(Math.abs(s.mean)).toBeLessThanOrEqual(0.15 + s.twoSE);
+    expectSigmaWithinFactor(c);
+  });
 });
