@@ -5,12 +5,16 @@
 // and a footpoint moving rigidly with u = U + omega z x (x - c) has the sensitivities
 //   dT/dU = Sum_{i in k} d(dH/dt)/du_i,   dT/domega = Sum_{i in k} d(dH/dt)/du_i . (z x (x_i - c)).
 // Its spin is exactly -(omega/2pi) Phi_k^2 for a rigid rotation (every pixel pair turns at omega),
-// so d spin_k / d omega = -Phi_k^2 / 2pi, and a translation leaves the spin unchanged; the orbit
-// takes the rest. Errors of different footpoints are independent (separate fits).
+// so d spin_k / d omega = -Phi_k^2 / 2pi, and a translation leaves the spin unchanged. The orbit
+// is the part of the pairs between labelled pixels that is not spin: its sensitivities come from
+// A_p of the labelled field alone (so a lone footpoint's orbit has none: its own field exerts no
+// net pull on it). Errors of different footpoints are independent (separate fits).
 
 import type { FluxTransport } from './fluxTransport.js';
 import type { Grid } from './grid.js';
+import type { FluxKernel } from './fluxKernel.js';
 import type { KernelConvolutions } from './helicityFlux.js';
+import { convolveField } from './helicityFlux.js';
 import { CM_PER_KM, KM_PER_MM, pixelAreaCm2 } from './units.js';
 
 /** What the uncertainty needs of a measured motion. */
@@ -29,13 +33,17 @@ export interface MotionCovariance {
 /** sigma (Mx^2/s) of total, spin and orbit from the motions of the footpoints labelled in `labels`. */
 export function rateSigmaFromMotions(
   t: FluxTransport, conv: KernelConvolutions, labels: Int32Array, motions: ReadonlyMap<number, MotionCovariance>, grid: Grid,
+  kernel: FluxKernel,
 ): { total: number; spin: number; orbit: number } {
   const { nx, dx, dy } = grid;
   const area = pixelAreaCm2(dx, dy);
   const k = (2 * CM_PER_KM * area) / (2 * Math.PI);
   const { bn, valid } = t;
   const { p, q } = conv;
-  type Acc = { sx: number; sy: number; r: number; flux: number };
+  const labelled = new Float64Array(bn.length);
+  for (let i = 0; i < bn.length; i++) if (labels[i] > 0 && valid[i]) labelled[i] = bn[i];
+  const own = convolveField(kernel, labelled);
+  type Acc = { sx: number; sy: number; r: number; lx: number; ly: number; lr: number; flux: number };
   const acc = new Map<number, Acc>();
   for (let i = 0; i < labels.length; i++) {
     const l = labels[i];
@@ -43,24 +51,28 @@ export function rateSigmaFromMotions(
     const m = motions.get(l);
     if (!m) continue;
     let a = acc.get(l);
-    if (!a) { a = { sx: 0, sy: 0, r: 0, flux: 0 }; acc.set(l, a); }
-    // d(dH/dt)/du_x and /du_y of this pixel, Mx^2/s per km/s.
+    if (!a) { a = { sx: 0, sy: 0, r: 0, lx: 0, ly: 0, lr: 0, flux: 0 }; acc.set(l, a); }
+    // d(dH/dt)/du_x and /du_y of this pixel, Mx^2/s per km/s; the same for the labelled pairs only.
     const gx = k * bn[i] * q[i], gy = -k * bn[i] * p[i];
+    const hx = k * bn[i] * own.q[i], hy = -k * bn[i] * own.p[i];
     const rx = ((i % nx) * dx - m.cx) * KM_PER_MM, ry = (Math.floor(i / nx) * dy - m.cy) * KM_PER_MM;
     a.sx += gx;
     a.sy += gy;
     a.r += -gx * ry + gy * rx;
+    a.lx += hx;
+    a.ly += hy;
+    a.lr += -hx * ry + hy * rx;
     a.flux += bn[i] * area;
   }
   let total = 0, spin = 0, orbit = 0;
   for (const [l, a] of acc) {
     const m = motions.get(l)!;
-    const translation = (a.sx * m.uxError) ** 2 + (a.sy * m.uyError) ** 2 + 2 * a.sx * a.sy * m.uCorrelation * m.uxError * m.uyError;
+    const shift = (gx: number, gy: number) => (gx * m.uxError) ** 2 + (gy * m.uyError) ** 2 + 2 * gx * gy * m.uCorrelation * m.uxError * m.uyError;
     const so = m.omegaError ?? 0;
     const dSpin = -(a.flux * a.flux) / (2 * Math.PI);
-    total += translation + (a.r * so) ** 2;
+    total += shift(a.sx, a.sy) + (a.r * so) ** 2;
     spin += (dSpin * so) ** 2;
-    orbit += translation + ((a.r - dSpin) * so) ** 2;
+    orbit += shift(a.lx, a.ly) + ((a.lr - dSpin) * so) ** 2;
   }
   return { total: Math.sqrt(total), spin: Math.sqrt(spin), orbit: Math.sqrt(orbit) };
 }

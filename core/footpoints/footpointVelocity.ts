@@ -13,7 +13,9 @@
 // seen gets no rotation from anywhere.
 //
 // NaN policy: pixels where Bn is NaN get NaN velocity. Pixels with field but no velocity from any
-// of the three sources get NaN, and their flux is reported as left out.
+// of the three sources are taken as still (u = 0): their flux stays in the potential A_p that
+// every other pixel feels (dropping it would bias everyone's rate), and the share of the flux
+// above `fieldFloorG` so treated is reported as left out.
 
 import type { Grid } from '../grid.js';
 import { KM_PER_MM } from '../units.js';
@@ -39,6 +41,8 @@ export interface FootpointVelocityOptions {
   readonly keepNonRigid?: boolean;
   /** How far (pixels) a footpoint's own flux below the threshold is followed from its edge (default 8). */
   readonly tailPixels?: number;
+  /** Pixels weaker than this (G) count as noise, not as flux left out (default 0). */
+  readonly fieldFloorG?: number;
 }
 
 export interface FootpointVelocityField {
@@ -50,9 +54,9 @@ export interface FootpointVelocityField {
    * through such pixels within `tailPixels`): what the label split uses.
    */
   readonly labels: Int32Array;
-  /** Per pixel: 1 rigid motion of its footpoint, 2 its tail, 3 inferred field, 0 none. */
+  /** Per pixel: 1 rigid motion of its footpoint, 2 its tail, 3 inferred field, 0 none (taken as still). */
   readonly source: Uint8Array;
-  /** Share of sum |Bn| over pixels with field that got no velocity. */
+  /** Share of sum |Bn| over pixels above the field floor that got no velocity. */
   readonly leftOutFluxShare: number;
 }
 
@@ -78,6 +82,7 @@ export function footpointVelocityField(
   const vx = new Float64Array(n).fill(NaN), vy = new Float64Array(n).fill(NaN);
   const source = new Uint8Array(n);
   let all = 0, leftOut = 0;
+  const floor = options.fieldFloorG ?? 0;
   for (let i = 0; i < n; i++) {
     const b = bn[i];
     if (!Number.isFinite(b)) continue;
@@ -98,7 +103,9 @@ export function footpointVelocityField(
       vy[i] = inferred.vy[i];
       source[i] = SOURCE_INFERRED;
     }
+    if (source[i] === SOURCE_NONE) { vx[i] = 0; vy[i] = 0; }
     const a = Math.abs(b);
+    if (a < floor) continue;
     all += a;
     if (source[i] === SOURCE_NONE) leftOut += a;
   }

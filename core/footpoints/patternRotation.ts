@@ -13,8 +13,15 @@ import { sampleCubic } from './cubicSample.js';
 export type PatternNote = 'axisymmetric' | 'too-small' | 'too-noisy' | 'poor-fit';
 
 export interface PatternRotationOptions {
-  /** Background pixels within this many pixels of the footpoint join the fit window (default 2). */
+  /** Background pixels within this many pixels of the footpoint join the fit window (default 2; none with coreShare). */
   readonly marginPixels?: number;
+  /**
+   * Fit only the footpoint's core: its pixels where |field| is at least this share of its peak
+   * (default 0: all its pixels and the margin). The tail of a neighbour that moves otherwise lies
+   * mostly at a footpoint's edge, where it reads as a rotation of the footpoint; the core is
+   * where the footpoint's own field dominates.
+   */
+  readonly coreShare?: number;
   /** Largest rotation looked for between two frames, rad (default 20 degrees). */
   readonly maxAngle?: number;
   /**
@@ -36,6 +43,7 @@ export interface PatternRotationOptions {
 
 export const PATTERN_ROTATION_DEFAULTS = {
   marginPixels: 2,
+  coreShare: 0,
   maxAngle: (20 * Math.PI) / 180,
   minAnisotropy: 0.05,
   maxAngleError: Math.PI / 180,
@@ -78,9 +86,22 @@ export interface PatternRotation {
   readonly samples: number;
 }
 
-/** Pixels of the fit window: the footpoint and unlabelled pixels within `margin` of it. */
-function fitWindow(fp: PatternFootprint, nx: number, ny: number, margin: number): number[] {
+/** Pixels of the fit window: the footpoint and unlabelled pixels within `margin` of it, or its core. */
+function fitWindow(fp: PatternFootprint, nx: number, ny: number, margin: number, coreShare: number): number[] {
   const { labels, label, box, field } = fp;
+  if (coreShare > 0) {
+    let peak = 0;
+    for (let y = box.y0; y <= box.y1; y++) for (let x = box.x0; x <= box.x1; x++) {
+      const i = y * nx + x;
+      if (labels[i] === label && Math.abs(field[i]) > peak) peak = Math.abs(field[i]);
+    }
+    const core: number[] = [];
+    for (let y = box.y0; y <= box.y1; y++) for (let x = box.x0; x <= box.x1; x++) {
+      const i = y * nx + x;
+      if (labels[i] === label && Math.abs(field[i]) >= coreShare * peak) core.push(i);
+    }
+    return core;
+  }
   const x0 = Math.max(0, box.x0 - margin), x1 = Math.min(nx - 1, box.x1 + margin);
   const y0 = Math.max(0, box.y0 - margin), y1 = Math.min(ny - 1, box.y1 + margin);
   const out: number[] = [];
@@ -148,7 +169,7 @@ function inverse(A: Float64Array): Float64Array | null {
 export function patternRotation(a: PatternFootprint, b: PatternFootprint, grid: Grid, options: PatternRotationOptions = {}): PatternRotation {
   const o = { ...PATTERN_ROTATION_DEFAULTS, ...options };
   const { nx, ny, dx, dy } = grid;
-  const win = fitWindow(a, nx, ny, o.marginPixels);
+  const win = fitWindow(a, nx, ny, o.marginPixels, o.coreShare);
   const m = win.length;
   const u = new Float64Array(m), v = new Float64Array(m), f1 = new Float64Array(m);
   let sum1 = 0;
