@@ -4,8 +4,8 @@
 //   d(dH/dt)/du_i = -2 A_p(i) Bn_i dS,
 // and a footpoint moving rigidly with u = U + omega z x (x - c) has the sensitivities
 //   dT/dU = Sum_{i in k} d(dH/dt)/du_i,   dT/domega = Sum_{i in k} d(dH/dt)/du_i . (z x (x_i - c)).
-// Its spin is exactly -(omega/2pi) Phi_k^2 for a rigid rotation (every pixel pair turns at omega),
-// so d spin_k / d omega = -Phi_k^2 / 2pi, and a translation leaves the spin unchanged. The orbit
+// Its spin is exactly -(omega/2pi) (Phi_k^2 - Sum_i Phi_i^2) for a rigid rotation (every pixel
+// pair turns at omega; a pixel is not paired with itself), so d spin_k / d omega is that over omega, and a translation leaves the spin unchanged. The orbit
 // is the part of the pairs between labelled pixels that is not spin: its sensitivities come from
 // A_p of the labelled field alone (so a lone footpoint's orbit has none: its own field exerts no
 // net pull on it). Errors of different footpoints are independent (separate fits).
@@ -43,7 +43,7 @@ export function rateSigmaFromMotions(
   const labelled = new Float64Array(bn.length);
   for (let i = 0; i < bn.length; i++) if (labels[i] > 0 && valid[i]) labelled[i] = bn[i];
   const own = convolveField(kernel, labelled);
-  type Acc = { sx: number; sy: number; r: number; lx: number; ly: number; lr: number; flux: number };
+  type Acc = { sx: number; sy: number; r: number; lx: number; ly: number; lr: number; flux: number; self: number };
   const acc = new Map<number, Acc>();
   for (let i = 0; i < labels.length; i++) {
     const l = labels[i];
@@ -51,7 +51,7 @@ export function rateSigmaFromMotions(
     const m = motions.get(l);
     if (!m) continue;
     let a = acc.get(l);
-    if (!a) { a = { sx: 0, sy: 0, r: 0, lx: 0, ly: 0, lr: 0, flux: 0 }; acc.set(l, a); }
+    if (!a) { a = { sx: 0, sy: 0, r: 0, lx: 0, ly: 0, lr: 0, flux: 0, self: 0 }; acc.set(l, a); }
     // d(dH/dt)/du_x and /du_y of this pixel, Mx^2/s per km/s; the same for the labelled pairs only.
     const gx = k * bn[i] * q[i], gy = -k * bn[i] * p[i];
     const hx = k * bn[i] * own.q[i], hy = -k * bn[i] * own.p[i];
@@ -63,13 +63,14 @@ export function rateSigmaFromMotions(
     a.ly += hy;
     a.lr += -hx * ry + hy * rx;
     a.flux += bn[i] * area;
+    a.self += (bn[i] * area) ** 2;
   }
   let total = 0, spin = 0, orbit = 0;
   for (const [l, a] of acc) {
     const m = motions.get(l)!;
     const shift = (gx: number, gy: number) => (gx * m.uxError) ** 2 + (gy * m.uyError) ** 2 + 2 * gx * gy * m.uCorrelation * m.uxError * m.uyError;
     const so = m.omegaError ?? 0;
-    const dSpin = -(a.flux * a.flux) / (2 * Math.PI);
+    const dSpin = -(a.flux * a.flux - a.self) / (2 * Math.PI);
     total += shift(a.sx, a.sy) + (a.r * so) ** 2;
     spin += (dSpin * so) ** 2;
     orbit += shift(a.lx, a.ly) + ((a.lr - dSpin) * so) ** 2;

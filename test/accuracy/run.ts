@@ -11,6 +11,7 @@
 //   --realisations N      noise realisations of every noisy cell
 //   --frames N            frames per sequence (default 5; samples are compared from the third frame)
 //   --out DIR             output folder (default test-output/accuracy)
+//   --motion M            the analysis's motionModel: footpoints (default) or inferred
 //   --list                list the scenes and stop
 //
 // Without --noise, --method or --realisations the plan is tiered to stay near ten minutes of one
@@ -39,6 +40,7 @@ interface Options {
   realisations?: number;
   frames: number;
   out: string;
+  motion?: 'footpoints' | 'inferred';
 }
 
 const METHODS: Method[] = ['auto', 'dave', 'lct', 'dave4vm'];
@@ -95,6 +97,12 @@ function parse(argv: string[]): Options | 'list' {
         break;
       }
       case '--out': o.out = list(argv[++i], a)[0]; break;
+      case '--motion': {
+        const m = list(argv[++i], a)[0];
+        if (m !== 'footpoints' && m !== 'inferred') fail(`--motion must be footpoints or inferred, got ${JSON.stringify(m)}`);
+        o.motion = m;
+        break;
+      }
       case '--list': return 'list';
       default: fail(`unknown option ${a} (see the head of test/accuracy/run.ts or docs/accuracy.md)`);
     }
@@ -171,7 +179,7 @@ async function main(): Promise<void> {
     if (!seq) { seq = prepareSequence(cell.scene, cell.cadenceS, o.frames, cache); sequences.set(key, seq); }
     const runs: RunRecord[] = [];
     for (let r = 0; r < cell.realisations; r++) {
-      runs.push(runSequence(seq, cell.mode, cell.noiseG, cell.method, r, cache, { keepFootpoints: true }));
+      runs.push(runSequence(seq, cell.mode, cell.noiseG, cell.method, r, cache, { keepFootpoints: true, ...(o.motion && { settings: { motionModel: o.motion } }) }));
     }
     const summary = summariseCell(seq, runs);
     summaries.push(summary);

@@ -105,8 +105,8 @@ export function noisyFrames(seq: Sequence, mode: Mode, noiseG: number, realisati
   });
 }
 
-export function settingsFor(method: Method): AnalysisSettings {
-  return method === 'auto' ? {} : { velocity: { method } };
+export function settingsFor(method: Method, extra: AnalysisSettings = {}): AnalysisSettings {
+  return method === 'auto' ? { ...extra } : { ...extra, velocity: { ...extra.velocity, method } };
 }
 
 function primitives(o: object, prefix = ''): Record<string, number | null> {
@@ -136,10 +136,10 @@ function footpointRows(rows: readonly object[]): Record<string, number | string 
 /** One realisation of one scene through analyseFrame with one method. */
 export function runSequence(
   seq: Sequence, mode: Mode, noiseG: number, method: Method, realisation: number, cache: FluxKernelCache,
-  options: { keepFootpoints?: boolean } = {},
+  options: { keepFootpoints?: boolean; settings?: AnalysisSettings } = {},
 ): RunRecord {
   const frames = noisyFrames(seq, mode, noiseG, realisation);
-  const settings = settingsFor(method);
+  const settings = settingsFor(method, options.settings);
   const c0 = process.cpuUsage();
   let state: AnalysisState = {};
   const samples: SampleRecord[] = [];
