@@ -3,8 +3,8 @@
 // by archiveOrder, and frames are then read again one at a time when they are wanted, so that a
 // long archive never sits in memory whole.
 
-import { readdir } from 'node:fs/promises';
-import { join } from 'node:path';
+import { readdir, realpath } from 'node:fs/promises';
+import { isAbsolute, join, relative, sep } from 'node:path';
 import type { Frame } from '../core/frame.js';
 import { hasVelocity } from '../core/frame.js';
 import { InputError } from '../core/inputError.js';
@@ -54,19 +54,50 @@ export interface Archive extends ArchiveIndex {
   frames(from?: number): AsyncGenerator<{ index: number; entry: ScannedFrame; frame: Frame }>;
 }
 
+export interface OpenOptions {
+  /**
+   * Files are read only when their real path (links resolved) is inside this folder: a link that
+   * leads out of it is skipped with the reason (the monitor's replay root).
+   */
+  readonly within?: string;
+}
+
+/** True when `path` is `base` or inside it. */
+function inside(base: string, path: string): boolean {
+  const r = relative(base, path);
+  return r === '' || (r !== '..' && !r.startsWith('..' + sep) && !isAbsolute(r));
+}
+
+/** Reads one file unless its real path leaves `within`. Never throws. */
+async function scanWithin(file: string, within: string | undefined): Promise<ScanResult> {
+  if (within !== undefined) {
+    let real: string;
+    try {
+      real = await realpath(file);
+    } catch (e) {
+      return { file, reason: `(file): cannot be read: ${(e as NodeJS.ErrnoException).code ?? 'error'}` };
+    }
+    if (!inside(within, real)) return { file, reason: '(file): is a link that leads out of the replay root; not followed' };
+  }
+  return scanFile(file);
+}
+
 /** Scans a folder in this thread and opens it as an ordered archive. */
-export async function openArchive(folder: string): Promise<Archive> {
+export async function openArchive(folder: string, options: OpenOptions = {}): Promise<Archive> {
   const files = await listFrameFiles(folder);
+  const within = options.within !== undefined ? await realpath(options.within) : undefined;
   const results: ScanResult[] = [];
-  for (const f of files) results.push(await scanFile(f));
-  return archiveFromIndex(folder, orderArchive(results));
+  for (const f of files) results.push(await scanWithin(f, within));
+  return archiveFromIndex(folder, orderArchive(results), within);
 }
 
 /** An archive over an index already made (for example by worker scans). */
-export function archiveFromIndex(folder: string, index: ArchiveIndex): Archive {
+export function archiveFromIndex(folder: string, index: ArchiveIndex, within?: string): Archive {
   const frame = async (i: number): Promise<Frame> => {
     const entry = index.entries[i];
     if (!entry) throw new InputError(folder, 'frame', `index ${i} is outside 0..${index.entries.length - 1}`);
+    // A file replaced by a link since the scan is not followed out of the root either.
+    if (within !== undefined && !inside(within, await realpath(entry.file))) throw new InputError(entry.file, '(file)', 'is a link that leads out of the replay root; not followed');
     const f = await loadFrameFile(entry.file);
     if (f.time !== entry.time) throw new InputError(entry.file, 'time', 'changed since the archive was scanned');
     return f;

@@ -10,6 +10,8 @@
 //   - a file the pipeline refuses (too late, another grid, not a frame, a link) is moved to
 //     <inbox>/refused/ - still visible, to be moved back for a retry - and its refusal is
 //     recorded with the reason; one that could not be stored (a full disk) stays and is tried again.
+// Events can be missed (files that land while the watcher starts, an overflowing event queue), so
+// the folder is also listed once the watcher is ready and every few seconds after.
 // Files already taken (same path, size and mtime) are skipped at restart; a kill at any moment
 // leaves every file either stored (a resend is a duplicate) or still in the inbox. Links are not
 // followed, special files (folders, pipes) are left alone, and only the folder the server made
@@ -17,7 +19,7 @@
 import { watch } from 'chokidar';
 import type { FSWatcher } from 'chokidar';
 import { mkdirSync } from 'node:fs';
-import { lstat, mkdir, rename } from 'node:fs/promises';
+import { lstat, mkdir, readdir, rename } from 'node:fs/promises';
 import { basename, join } from 'node:path';
 import type { IntakePool } from './intakePool.js';
 import { IntakeRefusal } from './intakePool.js';
@@ -30,6 +32,8 @@ export interface FolderWatchOptions {
   readonly quietMs?: number;
   /** A file that cannot be read and changed less than this long ago is looked at again later, ms. Default 5000. */
   readonly graceMs?: number;
+  /** The folder is listed this often as well, in case an event was missed, ms. Default 10000. */
+  readonly rescanMs?: number;
 }
 
 /** The subfolder refused files are moved to. */
@@ -43,6 +47,7 @@ interface Watched {
   draining?: Promise<void>;
   again: boolean;
   readonly later: Set<ReturnType<typeof setTimeout>>;
+  rescan?: ReturnType<typeof setInterval>;
 }
 
 interface Candidate { path: string; size: number; mtime: number; time: number }
@@ -51,6 +56,7 @@ export class FolderWatch {
   private readonly watched = new Map<string, Watched>();
   private readonly quietMs: number;
   private readonly graceMs: number;
+  private readonly rescanMs: number;
   private closed = false;
 
   constructor(
@@ -59,6 +65,7 @@ export class FolderWatch {
   ) {
     this.quietMs = options.quietMs ?? 300;
     this.graceMs = options.graceMs ?? 5000;
+    this.rescanMs = options.rescanMs ?? 10_000;
   }
 
   folderOf(region: string): string {
@@ -88,11 +95,41 @@ export class FolderWatch {
     watcher.on('change', enqueue);
     watcher.on('unlink', (path) => w.queue.delete(path));
     watcher.on('error', (e) => this.log(`watching ${dir}: ${(e as Error).message}`));
+    watcher.once('ready', () => {
+      void this.rescan(region, w);
+      w.rescan = setInterval(() => void this.rescan(region, w), this.rescanMs);
+      w.rescan.unref();
+    });
     this.watched.set(region, w);
+  }
+
+  /** Lists the folder and queues every file not taken yet (one that changed within a second, a second later). */
+  private async rescan(region: string, w: Watched): Promise<void> {
+    if (this.closed || this.watched.get(region) !== w) return;
+    try {
+      const dir = this.folderOf(region);
+      let added = 0;
+      for (const e of await readdir(dir, { withFileTypes: true })) {
+        if (e.name.startsWith('.') || /\.(tmp|part)$/i.test(e.name) || (!e.isFile() && !e.isSymbolicLink())) continue;
+        const path = join(dir, e.name);
+        if (w.queue.has(path)) continue;
+        let st;
+        try { st = await lstat(path); } catch { continue; }
+        if (this.store.watchedFileSeen(region, path, st.size, Math.round(st.mtimeMs))) continue;
+        // Changed within the last second: perhaps still being written; looked at again in a second.
+        if (Date.now() - st.mtimeMs < 1000) { this.retryLater(region, w, path, 1000); continue; }
+        w.queue.add(path);
+        added++;
+      }
+      if (added > 0) this.schedule(region, w, this.quietMs);
+    } catch (e) {
+      this.log(`listing the watched folder of ${region}: ${(e as Error).message}`);
+    }
   }
 
   private stop(region: string, w: Watched): void {
     if (w.timer) clearTimeout(w.timer);
+    if (w.rescan) clearInterval(w.rescan);
     for (const t of w.later) clearTimeout(t);
     void w.watcher.close().catch(() => undefined);
     this.watched.delete(region);

@@ -2,7 +2,8 @@
 // started through `POST /api/regions/:region/replay { action: 'start', ... }`. A request may only
 // name a stored region, or a folder under the root the operator gave on the command line
 // (`--replay-root`); the folder is resolved and must stay inside that root, symbolic links
-// included. No other path from a request reaches the file system.
+// included, and so must every file read from it (a link in the folder that leads out of the root
+// is skipped with the reason). No other path from a request reaches the file system.
 import { realpath } from 'node:fs/promises';
 import { isAbsolute, relative, resolve, sep } from 'node:path';
 import { InputError } from '../core/inputError.js';
@@ -122,7 +123,8 @@ export class ReplayFeeds {
         if (typeof b.from_region !== 'string') throw new InputError('replay', 'from_region', 'must be a region name');
         from = { region: b.from_region };
       } else {
-        from = { archive: await openArchive(await this.folderUnderRoot(b.folder)) };
+        // Files inside are read only when they stay inside the root too (links not followed out).
+        from = { archive: await openArchive(await this.folderUnderRoot(b.folder), { within: this.options.replayRoot! }) };
       }
       const feed = await this.start({ region, from, speed, ...(b.settings !== undefined && { settings: b.settings }) });
       return { status: 201, body: { replay: feed.status() } };
