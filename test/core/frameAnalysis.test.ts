@@ -40,8 +40,10 @@ describe('analyseFrame', () => {
     const expected = (-1 / Math.PI) * labelFlux(f, 1) * labelFlux(f, 2) * Omega;
     expect(Math.abs(last!.sample!.orbit - expected) / Math.abs(expected)).toBeLessThan(0.02);
     expect(last!.sample!.splitMethod).toBe('labels');
-    expect(last!.footpoints!.exact!.orbit).toBe(last!.sample!.orbit);
-    expect(last!.footpoints!.pairs[0].orbitExact).toBe(last!.sample!.orbit);
+    // Two footpoints: their one pair carries the whole orbit, and no pixel is left to the background
+    // beyond rounding (the pair's tails belong to them).
+    expect(last!.footpoints!.pairs[0].orbitExact! / last!.sample!.orbit).toBeCloseTo(1, 12);
+    expect(Math.abs(last!.sample!.background)).toBeLessThan(0.02 * Math.abs(expected));
   });
 
   it('without velocities: the first frame waits, then samples at mid-times from the inferred velocity, within 10% of the truth', () => {
