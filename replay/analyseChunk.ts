@@ -1,6 +1,9 @@
 // One contiguous run of an archive through the per-frame step of the pipeline (core analyseFrame),
 // as a worker does it: frames are read one at a time, the state passes from frame to frame, and
-// the first `warmup` frames only prime the state (their samples belong to the previous chunk).
+// the first `warmup` frames only prime the state (their samples belong to the chunk before,
+// replay/chunkPriming.ts says how many are needed). The footpoints found on primer frames are
+// reported (`onPrimer`), so that the merge can map this chunk's footpoint ids onto the ids the
+// chunk before gave the same footpoints (replay/chunkSeams.ts).
 // Settings and state are the analysis's own business: they are passed through untouched.
 
 import type { AnalysisSettings, AnalysisState, FrameAnalysis } from '../core/frameAnalysis.js';
@@ -12,6 +15,7 @@ import type { FootpointAnalysis } from '../core/footpoints/analyseFootpoints.js'
 import { footpointReport } from '../core/footpoints/footpointReport.js';
 import { loadFrameFile } from './frameFiles.js';
 import { reasonOf } from './archiveSource.js';
+import type { PrimerTable } from './chunkSeams.js';
 
 export interface ChunkJob {
   /** Position of the frame in the ordered archive. */
@@ -42,6 +46,17 @@ export interface ChunkOptions {
   readonly writeMaps?: MapWriter;
   /** Reads a frame; loadFrameFile by default. */
   readonly load?: (file: string) => Promise<Frame>;
+  /** Called with the footpoints of each primer frame that has some, oldest first; the last also carries the pair windings. */
+  readonly onPrimer?: (table: PrimerTable) => void;
+}
+
+function primerTable(index: number, fp: FootpointAnalysis, withWindings: boolean): PrimerTable {
+  return {
+    index,
+    footpoints: fp.footpoints.map((r) => ({ id: r.id, polarity: r.polarity, x: r.x, y: r.y, born: r.born, spinBudget: r.spinBudget })),
+    // Turns as the footpoint report computes them from the tracker's angle.
+    ...(withWindings && { windings: fp.state.pairs.map((p) => [p.a, p.b, p.winding / (2 * Math.PI)] as const) }),
+  };
 }
 
 export async function analyseChunk(
@@ -51,9 +66,16 @@ export async function analyseChunk(
   const load = options.load ?? loadFrameFile;
   const settings = (options.settings ?? {}) as AnalysisSettings;
   let state: AnalysisState = {};
+  // The latest primer frame's footpoints wait until it is known whether it is the last (the seam).
+  let pending: { index: number; fp: FootpointAnalysis } | undefined;
+  const flushPrimer = (seam: boolean) => {
+    if (pending && options.onPrimer) options.onPrimer(primerTable(pending.index, pending.fp, seam));
+    pending = undefined;
+  };
   for (let k = 0; k < jobs.length; k++) {
     const job = jobs[k];
     const primer = k < warmup;
+    if (k === warmup) flushPrimer(true);
     let frame: Frame;
     let result: FrameAnalysis;
     try {
@@ -65,7 +87,10 @@ export async function analyseChunk(
       continue;
     }
     state = result.state;
-    if (primer) continue;
+    if (primer) {
+      if (result.footpoints) { flushPrimer(false); pending = { index: job.index, fp: result.footpoints }; }
+      continue;
+    }
     const { sample, waiting, maps, state: _next, ...rest } = result as FrameAnalysis & Record<string, unknown>;
     void _next;
     // Footpoints travel as their JSON-ready report (table, events, pairs), without the label
@@ -82,4 +107,5 @@ export async function analyseChunk(
       ...(Object.keys(extra).length > 0 && { extra }),
     });
   }
+  flushPrimer(true);
 }

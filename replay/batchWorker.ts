@@ -1,6 +1,7 @@
 // The worker thread of a batch run: it scans files (reads and describes them) and analyses
-// contiguous chunks of the ordered archive, posting one message per frame. It is loaded from
-// the compiled dist/ JavaScript by workerPool.ts.
+// contiguous chunks of the ordered archive, posting one message per frame (and the footpoints of
+// each primer frame, for the merge). It is loaded from the compiled dist/ JavaScript by
+// workerPool.ts.
 
 import { parentPort } from 'node:worker_threads';
 import type { ChunkJob, FrameOutcome } from './analyseChunk.js';
@@ -8,6 +9,7 @@ import { analyseChunk } from './analyseChunk.js';
 import { scanFile } from './archiveSource.js';
 import type { ScanResult } from './archiveOrder.js';
 import { mapWriterFor } from './mapFiles.js';
+import type { PrimerTable } from './chunkSeams.js';
 
 export type WorkerRequest =
   | { readonly kind: 'scan'; readonly files: readonly string[] }
@@ -16,6 +18,7 @@ export type WorkerRequest =
 export type WorkerReply =
   | { readonly kind: 'scanned'; readonly result: ScanResult }
   | { readonly kind: 'frame'; readonly outcome: FrameOutcome }
+  | { readonly kind: 'primer'; readonly table: PrimerTable }
   | { readonly kind: 'done' }
   | { readonly kind: 'failed'; readonly message: string };
 
@@ -30,7 +33,8 @@ if (port) {
         for (const f of req.files) reply({ kind: 'scanned', result: await scanFile(f) });
       } else {
         await analyseChunk(req.jobs, req.warmup, (outcome) => reply({ kind: 'frame', outcome }), {
-          settings: req.settings, cache, ...(req.mapsDir !== undefined && { writeMaps: mapWriterFor(req.mapsDir) }),
+          settings: req.settings, cache, onPrimer: (table) => reply({ kind: 'primer', table }),
+          ...(req.mapsDir !== undefined && { writeMaps: mapWriterFor(req.mapsDir) }),
         });
       }
       reply({ kind: 'done' });

@@ -1,14 +1,17 @@
 // `helicord process FOLDER --out RESULT.csv [--json RESULT.json] [--maps DIR] [--config FILE]`:
 // a whole archive through the per-frame step of the pipeline without a server. The folder is
 // scanned by the workers (every file read and described), put in time order (archiveOrder.ts),
-// cut into one contiguous chunk per worker with one frame of overlap (so the pair at each border
-// is made by the chunk after it), analysed, and the samples are integrated by the core budget,
-// mapped to the series columns by core/seriesColumns.ts and checked by the core alert rules.
+// cut into one contiguous chunk per worker, each primed with the frames before it that the
+// analysis state depends on (chunkPriming.ts: the motion baseline and the tracker's last frames,
+// so the pair at each border is made by the chunk after it, exactly as in one run), analysed, and
+// merged in time order with footpoint ids, windings and spin budgets carried across the borders
+// (chunkSeams.ts). The samples are integrated by the core budget, mapped to the series columns by
+// core/seriesColumns.ts and checked by the core alert rules.
 // Unusable files are reported with their reason and skipped; the run goes on.
 
 import { availableParallelism } from 'node:os';
 import { mkdir, readFile, writeFile } from 'node:fs/promises';
-import { basename } from 'node:path';
+import { basename, join } from 'node:path';
 import type { BudgetSettings, BudgetState } from '../core/budget.js';
 import { accumulateBudget, emptyBudget } from '../core/budget.js';
 import type { RulesSettings, RulesState } from '../core/alerts/evaluateRules.js';
@@ -19,9 +22,13 @@ import type { RateSample } from '../core/rateSample.js';
 import type { SeriesRow } from '../core/seriesColumns.js';
 import { SERIES_COLUMNS, seriesCsv, seriesRow } from '../core/seriesColumns.js';
 import type { ChunkJob, FrameOutcome } from './analyseChunk.js';
-import type { ScanResult, SkippedFile } from './archiveOrder.js';
+import type { ScanResult, ScannedFrame, SkippedFile } from './archiveOrder.js';
 import { orderArchive } from './archiveOrder.js';
 import { listFrameFiles } from './archiveSource.js';
+import { primerStart } from './chunkPriming.js';
+import type { ChunkOutput, MergedChunks, PrimerTable } from './chunkSeams.js';
+import { mergeChunks } from './chunkSeams.js';
+import { mapsFileName, relabelMapsFile } from './mapFiles.js';
 import type { ProgressReport } from './progressReport.js';
 import { progressReport } from './progressReport.js';
 import type { WorkerPool } from './workerPool.js';
@@ -108,22 +115,36 @@ async function scanAll(pool: WorkerPool, files: string[], progress: ProgressRepo
 }
 
 async function analyseAll(
-  pool: WorkerPool, jobs: ChunkJob[], settings: unknown, mapsDir: string | undefined, progress: ProgressReport,
-): Promise<FrameOutcome[]> {
-  const outcomes: FrameOutcome[] = new Array(jobs.length);
+  pool: WorkerPool, jobs: ChunkJob[], entries: readonly ScannedFrame[], settings: unknown, mapsDir: string | undefined, progress: ProgressReport,
+): Promise<MergedChunks> {
+  const chunks = contiguousChunks(jobs.length, pool.size);
+  const outputs = chunks.map(() => ({ outcomes: [] as FrameOutcome[], primers: [] as PrimerTable[] }));
   progress.start('analysing', jobs.length);
-  await Promise.all(contiguousChunks(jobs.length, pool.size).map((c, w) => {
-    // One frame of overlap: the chunk starts one frame early, that frame only primes the state.
-    const from = Math.max(0, c.start - 1);
+  await Promise.all(chunks.map((c, w) => {
+    // The chunk starts early: its primer frames only prime the state (and report their footpoints).
+    const from = primerStart(entries, c.start, settings);
     return pool.run(w, {
       kind: 'analyse', jobs: jobs.slice(from, c.end), warmup: c.start - from, settings,
       ...(mapsDir !== undefined && { mapsDir }),
     }, (r) => {
-      if (r.kind === 'frame') { outcomes[r.outcome.index] = r.outcome; progress.tick(); }
+      if (r.kind === 'frame') { outputs[w].outcomes.push(r.outcome); progress.tick(); }
+      else if (r.kind === 'primer') outputs[w].primers.push(r.table);
     });
   }));
   progress.stop();
-  return outcomes;
+  const byIndex = (a: { index: number }, b: { index: number }) => a.index - b.index;
+  const merged = mergeChunks(outputs.map((o): ChunkOutput => ({ outcomes: o.outcomes.sort(byIndex), primers: o.primers.sort(byIndex) })));
+  if (mapsDir !== undefined) {
+    // The label maps were written with each chunk's own ids.
+    for (const [w, o] of outputs.entries()) {
+      const ids = merged.idMaps[w];
+      if ([...ids].every(([from, to]) => from === to)) continue;
+      for (const outcome of o.outcomes) {
+        if (outcome.extra?.footpoints !== undefined) await relabelMapsFile(join(mapsDir, mapsFileName(outcome.file)), ids);
+      }
+    }
+  }
+  return merged;
 }
 
 interface SeriesResult {
@@ -200,11 +221,14 @@ export async function processFolder(args: ProcessArgs): Promise<ProcessSummary> 
   const size = Math.min(args.workers ?? availableParallelism(), files.length);
   const pool = startWorkerPool(size);
   let outcomes: FrameOutcome[];
+  let unmatched = 0;
   let index;
   try {
     index = orderArchive(await scanAll(pool, files, progress));
     const jobs = index.entries.map((e, i) => ({ index: i, file: e.file }));
-    outcomes = jobs.length > 0 ? await analyseAll(pool, jobs, config.analysis, args.maps, progress) : [];
+    const merged = jobs.length > 0 ? await analyseAll(pool, jobs, index.entries, config.analysis, args.maps, progress) : undefined;
+    outcomes = merged?.outcomes ?? [];
+    unmatched = merged?.unmatched ?? 0;
   } finally {
     await pool.close();
   }
@@ -258,5 +282,6 @@ export async function processFolder(args: ProcessArgs): Promise<ProcessSummary> 
   for (const s of skipped) progress.line(`  skipped ${s.file}: ${s.reason}`);
   if (index.reordered.length > 0) progress.line(`  ${index.reordered.length} file(s) were out of name order and were taken in time order`);
   if (series.rows.length === 0 && waiting.length > 0) progress.line(`  no rate sample: ${waiting[0].reason}`);
+  if (unmatched > 0) progress.line(`  ${unmatched} footpoint(s) at worker chunk borders were not found in the chunk before and took new ids (their windings and spin budgets start there)`);
   return { used, skipped, samples: series.rows.length, reordered: [...index.reordered] };
 }

@@ -35,9 +35,9 @@ function parseCsv(text: string): Record<string, string>[] {
 }
 
 /**
- * Same rows, same columns; numbers equal to 1e-12 relative. Footpoint ids restart in each
- * worker's chunk, so the label split is summed in another order there: the spin, orbit and
- * background agree to rounding, not bit for bit.
+ * Same rows, same columns; numbers equal to 1e-12 relative. A worker's chunk splits the rate by its
+ * own tracker's ids (mapped onto the run's at the merge), so the label split is summed in another
+ * order there: the spin, orbit and background agree to rounding, not bit for bit.
  */
 async function expectSameRows(a: string, b: string): Promise<void> {
   const ra = parseCsv(await readFile(a, 'utf8')), rb = parseCsv(await readFile(b, 'utf8'));
