@@ -177,5 +177,5 @@ describe('a full disk', () => {
       if (m?.alive()) await m.stop();
       unmount(dir);
     }
-  });
+  }, 300_000);
 });
