@@ -1,11 +1,19 @@
 // FITS header parsing (FITS Standard 4.0, section 4): 80-character cards in 2880-byte blocks up
 // to END; values typed as string, logical, integer, float, complex or undefined; CONTINUE long
 // strings (section 4.2.1.2); COMMENT, HISTORY and blank-keyword cards kept as commentary.
+// Linear in the header's length (a long string's pieces are joined once, at its end), and a
+// header may hold at most MAX_HEADER_CARDS cards: a damaged or hostile file cannot tie the
+// reader up.
 
 import { InputError } from '../inputError.js';
 
 export const CARD_LENGTH = 80;
 export const BLOCK_LENGTH = 2880;
+/**
+ * Most cards a header may hold before END (CONTINUE and commentary cards count). Headers of
+ * solar archive frames hold some hundreds; 10000 cards are 278 blocks, 800 kB.
+ */
+export const MAX_HEADER_CARDS = 10_000;
 
 export type FitsValue = string | number | boolean;
 
@@ -85,11 +93,21 @@ function splitValue(field: string): { kind: FitsValueKind; value?: FitsValue; te
  * Parses the header starting at byte `start`. Throws InputError (naming `source` and `where`,
  * e.g. "HDU 2") when END is missing before the bytes run out or a card holds non-ASCII bytes.
  */
-export function parseHeader(bytes: Uint8Array, start: number, source: string, where: string): FitsHeader {
+export function parseHeader(bytes: Uint8Array, start: number, source: string, where: string, maxCards = MAX_HEADER_CARDS): FitsHeader {
   const cards: FitsCard[] = [];
   const index = new Map<string, number>();
   let pos = start;
   let ended = false;
+  let count = 0;
+  // A long string being continued: its card's index and its pieces so far (joined once, at the end).
+  let long: { at: number; parts: string[]; comment?: string } | undefined;
+  const endLong = () => {
+    if (!long) return;
+    const card = cards[long.at];
+    const value = long.parts.join('');
+    cards[long.at] = { ...card, value, text: value, ...(long.comment !== undefined && { comment: long.comment }) };
+    long = undefined;
+  };
   while (!ended) {
     if (pos + BLOCK_LENGTH > bytes.length) {
       const problem = pos >= bytes.length
@@ -107,17 +125,28 @@ export function parseHeader(bytes: Uint8Array, start: number, source: string, wh
       }
       const key = text.slice(0, 8).trimEnd();
       if (key === 'END') { ended = true; break; }
+      if (++count > maxCards) {
+        throw new InputError(source, `${where} header`, `has more than ${maxCards} cards before END: not a frame header we read (the bound keeps a damaged or hostile file from tying up the reader)`);
+      }
       if (key === 'CONTINUE') {
         const prev = cards[cards.length - 1];
         const v = splitValue(text.slice(8));
-        if (prev && prev.kind === 'string' && typeof prev.value === 'string' && prev.value.endsWith('&') && v.kind === 'string') {
-          const joined = prev.value.slice(0, -1) + (v.value as string);
-          cards[cards.length - 1] = { ...prev, value: joined, text: joined, ...(v.comment !== undefined && { comment: v.comment }) };
-        } else {
-          cards.push({ key, kind: 'commentary', text: text.slice(8).trimEnd() });
+        if (v.kind === 'string' && prev && prev.kind === 'string' && typeof prev.value === 'string') {
+          // The string continued so far ends with '&' (the last piece does): drop it, add the piece.
+          if (!long && prev.value.endsWith('&')) long = { at: cards.length - 1, parts: [prev.value] };
+          const parts = long?.at === cards.length - 1 ? long.parts : undefined;
+          if (parts && parts[parts.length - 1].endsWith('&')) {
+            parts[parts.length - 1] = parts[parts.length - 1].slice(0, -1);
+            parts.push(v.value as string);
+            if (v.comment !== undefined) long!.comment = v.comment;
+            continue;
+          }
         }
+        endLong();
+        cards.push({ key, kind: 'commentary', text: text.slice(8).trimEnd() });
         continue;
       }
+      endLong();
       if (text.slice(8, 10) !== '= ' || key === 'COMMENT' || key === 'HISTORY' || key === '') {
         cards.push({ key, kind: 'commentary', text: text.slice(8).trimEnd() });
         continue;
@@ -128,6 +157,7 @@ export function parseHeader(bytes: Uint8Array, start: number, source: string, wh
     }
     pos += BLOCK_LENGTH;
   }
+  endLong();
   return { cards, index, byteLength: pos - start };
 }
 
