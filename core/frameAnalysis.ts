@@ -25,12 +25,14 @@ import { describeFootpoints, trackFrame } from './footpoints/analyseFootpoints.j
 import type { FootpointVelocityOptions } from './footpoints/footpointVelocity.js';
 import { footpointVelocityField } from './footpoints/footpointVelocity.js';
 import { pairMotions } from './footpoints/pairMotion.js';
+import { transportRotation } from './footpoints/transportRotation.js';
 import { SEGMENTATION_DEFAULTS } from './footpoints/segmentation.js';
 import { smoothMap } from './footpoints/smoothing.js';
 import type { RateSample } from './rateSample.js';
 import { rateSample } from './rateSample.js';
 import { inferVelocity } from './velocity/inferVelocity.js';
 import { midFrame } from './velocity/midFrame.js';
+import { pairNoise } from './velocity/pairNoise.js';
 import type { VelocitySettings } from './velocity/velocitySettings.js';
 import { resolveVelocitySettings } from './velocity/velocitySettings.js';
 
@@ -173,7 +175,12 @@ export function analyseFrame(
     const history = state.history ?? [];
     const previousField = history.length > 0 && history[history.length - 1].time === previous.time
       ? history[history.length - 1].field : smoothMap(previous.bn, frame.nx, frame.ny, smoothing);
-    const options = { noiseCorrelation: Math.max(1, 4 * Math.PI * smoothing * smoothing), coreShare: MOTION_CORE_SHARE, ...fpSettings.rotation };
+    // The noise of each frame (robust, from their difference) sets the motions' errors.
+    const frameNoise = settings.noiseG ?? pairNoise(previous.bn, frame.bn);
+    const options = {
+      noiseCorrelation: Math.max(1, 4 * Math.PI * smoothing * smoothing), coreShare: MOTION_CORE_SHARE,
+      ...(Number.isFinite(frameNoise) && frameNoise > 0 && { noiseG: frameNoise }), ...fpSettings.rotation,
+    };
     motions = pairMotions(previousField, field1, tracked.labels, tracked.grid, v.dtS, options);
     const oldest = history.find((h) => frame.time - h.time <= 1000 * baselineS);
     if (oldest && oldest.time < previous.time) {
@@ -183,6 +190,16 @@ export function analyseFrame(
       notes.push(`Footpoint motions over ${((frame.time - oldest.time) / 1000).toFixed(0)} s (the motion baseline), centred ${((previous.time - oldest.time) / 2000).toFixed(0)} s before the sample.`);
     }
     // Pixels under 3 noise units are noise, not flux that went without a velocity.
+    if (v.vz) {
+      // With vector data, a footpoint whose pattern shows no rotation may still turn in the flux
+      // transport: twist carried up by emerging flux moves its field lines around it (-v_n B_t),
+      // which Bn cannot show but the vector estimator's transport does.
+      for (const [id, m] of motions) {
+        if (m.omega !== null) continue;
+        const turn = transportRotation(tracked.grid, rateFrame, inferred, tracked.labels, id, m.cx, m.cy);
+        if (turn) motions.set(id, { ...m, omega: turn.omega, omegaError: turn.omegaError, omegaNote: null });
+      }
+    }
     const field = footpointVelocityField(tracked.grid, rateFrame.bn, tracked.labels, motions, inferred,
       { fieldFloorG: 3 * tracked.seg.noise, ...settings.footpointVelocity });
     velocity = { vx: field.vx, vy: field.vy };

@@ -39,6 +39,13 @@ export interface PatternRotationOptions {
    * neighbouring residuals alike over about 4 pi s^2 pixels; the angle error grows by its square root.
    */
   readonly noiseCorrelation?: number;
+  /**
+   * Noise of each frame's raw map, G. When given, the errors come from it (the residual of a fit
+   * to two noisy frames has variance 2 noise^2 per independent sample) instead of from the fit's
+   * own residual, which also holds any change of the pattern that is not a rigid motion: such a
+   * misfit is a bias of the model, not a scatter over noise realisations.
+   */
+  readonly noiseG?: number;
 }
 
 export const PATTERN_ROTATION_DEFAULTS = {
@@ -272,7 +279,9 @@ export function patternRotation(a: PatternFootprint, b: PatternFootprint, grid: 
     if (Math.abs(d[0]) < 1e-9 && Math.abs(d[1]) < 1e-9 * Math.max(dx, dy) && Math.abs(d[2]) < 1e-9 * Math.max(dx, dy)) break;
   }
   const dof = Math.max(1, last.used - (angleVisible ? 4 : 3));
-  const varianceScale = (last.rss / dof) * Math.max(1, o.noiseCorrelation);
+  const varianceScale = o.noiseG !== undefined && o.noiseG > 0
+    ? 2 * o.noiseG * o.noiseG
+    : (last.rss / dof) * Math.max(1, o.noiseCorrelation);
   const inv = inverse(JtJ);
   const misfit = Math.sqrt(last.rss / Math.max(sum1 * (last.used / m), 1e-300));
   const shiftOk = inv !== null && misfit <= o.maxMisfit;
