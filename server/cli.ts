@@ -17,12 +17,15 @@ Commands:
         synthetic demo region, streaming live. Data are kept in DIR (default ./data); the ingest
         token is created there at first start and printed once (or set HELICORD_TOKEN).
         --read-token makes reading need the token too.
-  rate FRAME [FRAME2] [--labels detect|from-file|none|FILE.json] [--footpoints]
+  rate FRAME [FRAME ...] [--labels detect|from-file|none|FILE.json] [--footpoints]
        [--method auto|dave|dave4vm|lct] [--window SIGMA_PX] [--noise G]
         Helicity injection rate printed as JSON (Mx^2/s): total, total_ga, spin, orbit,
         background, and emergence, shear with vector data. One frame must carry its velocity;
-        with two consecutive frames that carry none, the velocity is inferred between them
-        (--method, default auto: dave4vm with bx, by, else dave) and the rate is at the mid-time.
+        with frames that carry none, the velocity is inferred between the last two (--method,
+        default auto: dave4vm with bx, by, else dave) and the rate is at their mid-time. A
+        sequence (any number of frames, taken in time order) is tracked through: footpoint ids
+        and windings follow, footpoint motions are measured over the 720 s motion baseline;
+        the last frame's sample is printed and sample_frames names the frames it came from.
         Footpoints are detected and tracked unless the frame has labels (--labels from-file) or
         --labels none; --footpoints adds the footpoint table, events and pair matrices.
         FRAME is a JSON or FITS frame (see README).

@@ -99,3 +99,95 @@ describe('helicord rate with detection and inference', () => {
     expect(err.text()).toMatch(/--method must be/);
   });
 });
+
+describe('helicord rate over a sequence of frames', () => {
+  // An elongated spot (axis ratio 2) turning in place at 10 deg/h beside a static round spot of
+  // the other polarity, 8 G of Gaussian noise, frames 45 s apart without velocity. A rigidly
+  // turning unipolar footpoint injects the spin -(omega/2pi) Phi^2 (Longcope et al. 2007).
+  const dir = mkdtempSync(join(tmpdir(), 'helicord-rate3-'));
+  const omega = (10 * Math.PI / 180) / 3600, N = 96, d = 0.36, cadenceS = 45, t0 = Date.parse('2026-05-02T10:00:00Z');
+  const frameAt = (k: number) => {
+    let seed = 7919 + 104729 * k;
+    const uniform = () => { seed = (seed * 1103515245 + 12345) % 2147483648; return (seed + 0.5) / 2147483648; };
+    const bn = new Float64Array(N * N);
+    const angle = 0.4 + omega * k * cadenceS;
+    for (let iy = 0; iy < N; iy++) for (let ix = 0; ix < N; ix++) {
+      const dx = ix * d - 13, dy = iy * d - 17;
+      const u = dx * Math.cos(angle) + dy * Math.sin(angle), v = -dx * Math.sin(angle) + dy * Math.cos(angle);
+      const noise = 8 * Math.sqrt(-2 * Math.log(uniform())) * Math.cos(2 * Math.PI * uniform());
+      bn[iy * N + ix] = 1500 * Math.exp(-(u * u) / 18 - (v * v) / 4.5)
+        - 1200 * Math.exp(-((ix * d - 24) ** 2 + (iy * d - 19) ** 2) / 8) + noise;
+    }
+    return { time: t0 + k * cadenceS * 1000, nx: N, ny: N, dx: d, dy: d, bn };
+  };
+  // 17 frames: the last is 720 s (the default motion baseline) after the first.
+  const files = Array.from({ length: 17 }, (_, k) => {
+    const f = join(dir, `f${String(k).padStart(2, '0')}.json`);
+    writeFileSync(f, JSON.stringify(frameToJson(frameAt(k))));
+    return f;
+  });
+  const rate = async (list: string[]) => {
+    const out = capture(), err = capture();
+    const code = await main(['rate', ...list, '--footpoints'], out.stream, err.stream);
+    expect(code, err.text()).toBe(0);
+    const r = JSON.parse(out.text());
+    const spot = r.footpoints.footpoints.find((f: { polarity: number }) => f.polarity === 1);
+    return { r, spot, truth: -omega * spot.flux ** 2 / (2 * Math.PI) };
+  };
+
+  it('reports the last pair, with footpoint motions over the motion baseline: the turning spot\'s spin within the pattern fit\'s reach', async () => {
+    // Given in any order: taken in time order.
+    const shuffled = [...files.slice(8), ...files.slice(0, 8).reverse()];
+    const { r, spot, truth } = await rate(shuffled);
+    expect(r.time).toBe(new Date(t0 + 15.5 * cadenceS * 1000).toISOString());
+    expect(r.dt_s).toBe(cadenceS);
+    expect(r.sample_frames).toEqual([files[15], files[16]]);
+    expect(r.velocity_notes.join(' ')).toMatch(/Footpoint motions over 720 s \(the motion baseline\)/);
+    // docs/footpoints.md: the pattern fit is within 3 % without noise, and the spin from a
+    // tracked rotation within 5 %; the noise adds what the fit reports (3 of its 1-sigma).
+    const sigma = spot.omegaPatternError / omega;
+    expect(Math.abs(spot.omegaPattern / omega - 1)).toBeLessThanOrEqual(0.03 + 3 * sigma);
+    expect(Math.abs(spot.spinExact / truth - 1)).toBeLessThanOrEqual(0.05 + 3 * sigma);
+    // The last pair alone measures the rotation over 45 s: the angle error is the same, the rate
+    // error 16 times larger (720 s / 45 s); the sequence is what makes the spin usable.
+    const pair = await rate(files.slice(15));
+    expect(pair.r.velocity_notes.join(' ')).not.toMatch(/motion baseline/);
+    const ratio = pair.spot.omegaPatternError / spot.omegaPatternError;
+    expect(ratio).toBeGreaterThan(12);
+    expect(ratio).toBeLessThan(21);
+  });
+
+  it('frames with their velocities each give a sample: it prints the last one and says so; footpoints are tracked through', async () => {
+    const Omega = 2e-6;
+    const at = (k: number) => spotFrame(64, 64, 0.5, [
+      { x: 10, y: 16, peak: 1000, sigma: 1, omega: Omega },
+      { x: 22, y: 16, peak: -900, sigma: 1 },
+    ], t0 + k * 720_000);
+    const [a, b, c] = [0, 1, 2].map((k) => {
+      const f = join(dir, `v${k}.json`);
+      const frame = at(k);
+      writeFileSync(f, JSON.stringify(frameToJson({ ...frame, labels: undefined })));
+      return f;
+    });
+    const out = capture();
+    expect(await main(['rate', c, a, b, '--footpoints'], out.stream, capture().stream)).toBe(0);
+    const r = JSON.parse(out.text());
+    expect(r.velocity_method).toBe('given');
+    expect(r.time).toBe(new Date(t0 + 2 * 720_000).toISOString());
+    expect(r.sample_frames).toEqual([c]);
+    expect(r.velocity_notes.join(' ')).toMatch(/3 of the frames carry their velocity .* the last one's \(.*v2\.json\)/);
+    // Tracked from the first frame: the same two ids, continued, with their winding followed.
+    expect(r.footpoints.footpoints.map((f: { id: number; status: string; parent: number }) => [f.id, f.status, f.parent])).toEqual([[1, 'continued', 1], [2, 'continued', 2]]);
+    // The positive spot spins at Omega with the given velocity: -(Omega/2pi) Phi^2 (Longcope et al. 2007).
+    const spot = r.footpoints.footpoints[0];
+    expect(Math.abs(spot.spinExact / (-Omega * spot.flux ** 2 / (2 * Math.PI)) - 1)).toBeLessThan(0.05);
+  });
+
+  it('refuses a time given twice, naming both files', async () => {
+    const copy = join(dir, 'again.json');
+    writeFileSync(copy, JSON.stringify(frameToJson(frameAt(3))));
+    const err = capture();
+    expect(await main(['rate', files[2], files[3], copy], capture().stream, err.stream)).toBe(1);
+    expect(err.text()).toMatch(/f03\.json: time: 2026-05-02T10:02:15\.000Z is also the time of .*again\.json: give each frame once/);
+  });
+});
