@@ -188,11 +188,16 @@ function onViewerMessage(m: ViewerMessage): void {
       scheduleCharts();
       renderFeed();
       break;
-    case 'backfill':
-      addSamples(m.samples ?? []);
+    case 'backfill': {
+      const samples = m.samples ?? [];
+      addSamples(samples);
+      // The monitor answers in pages: ask for the next one from the last sample of this one.
+      const last = samples[samples.length - 1];
+      if (m.more && last) state.link?.send({ type: 'backfill', since: last.time });
       scheduleCharts();
       renderFeed();
       break;
+    }
     case 'alert':
       state.alerts = mergeAlerts(state.alerts, [m.alert]);
       renderAlerts();
@@ -518,7 +523,8 @@ function renderFeed(): void {
     parts.push(`last frame ${formatUtc(last)}`);
     parts.push(`cadence ${formatDuration(st.cadence_s)}`);
     parts.push(`${st.gaps} gap${st.gaps === 1 ? '' : 's'}`);
-    parts.push(`queue ${st.queue}`);
+    parts.push(st.queue_limit ? `queue ${st.queue} of ${st.queue_limit}${st.queue >= st.queue_limit ? ' (full: senders wait)' : ''}` : `queue ${st.queue}`);
+    if (st.disk_full) parts.push('disk full: frames wait for space');
   }
   const latest = state.series[state.series.length - 1]?.s;
   if (latest) parts.push(`latest rate ${formatRate(latest.rate_total)}, budget ${formatHelicity(latest.budget_total)}`);

@@ -107,7 +107,12 @@ export interface FeedStatus {
   cadence_s: number | null;
   refusals: number;
   gaps: number;
+  /** Frames of the region waiting (arriving, or stored and not yet computed). */
   queue: number;
+  /** The bound of that queue: past it senders are held back. */
+  queue_limit?: number;
+  /** The monitor's disk is full: frames wait for space. */
+  disk_full?: boolean;
   replay: ReplayInfo | null;
 }
 
@@ -140,7 +145,8 @@ export type ViewerMessage =
   | { type: 'alert'; alert: WireAlert }
   | { type: 'frame'; frame_id: string | number; time: string }
   | { type: 'status'; status: FeedStatus }
-  | { type: 'backfill'; samples: WireSample[] };
+  /** `more`: the reply is one page; ask again from its last sample for the rest. */
+  | { type: 'backfill'; samples: WireSample[]; more?: boolean };
 
 /** Parses one viewer message; undefined for anything that is not a known message (ignored). */
 export function parseViewerMessage(text: string): ViewerMessage | undefined {
