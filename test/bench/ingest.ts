@@ -5,9 +5,13 @@
 //     the sample's broadcast at the viewers (median, 95th percentile), queue;
 //   - a soak at that pace for HELICORD_SOAK_S seconds (default 30): the monitor's RSS sampled
 //     every 2 s (first, peak, last) to show it stays bounded;
-//   - health answers while a 1024^2 frame is parsed and computed (max and median latency).
+//   - health answers while a 1024^2 frame is parsed and computed (max and median latency);
+//   - overload: frames posted at twice the rate the monitor computed them, without waiting for
+//     the queue, for HELICORD_OVERLOAD_S seconds (default 30): how many were stored and how many
+//     held back (503 with Retry-After), the region's queue peak against its bound, and the
+//     POST-to-broadcast delay of the stored ones (bounded by the queue bound).
 // Parameters (environment): HELICORD_BENCH_FRAMES (default 12), HELICORD_SOAK_S (default 30),
-// HELICORD_BENCH_LIMIT_S (hard stop, default 300).
+// HELICORD_OVERLOAD_S (default 30), HELICORD_BENCH_LIMIT_S (hard stop, default 300).
 import { spawn } from 'node:child_process';
 import { mkdtempSync, readFileSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
@@ -74,10 +78,16 @@ async function post(url: string, region: string, body: string): Promise<{ status
   return { status: r.status, ...(answer.frame_id !== undefined && { frame_id: answer.frame_id }) };
 }
 
-async function health(url: string): Promise<{ ms: number; queue: number; loopMax: number }> {
+async function health(url: string): Promise<{ ms: number; queue: number; loopMax: number; queuePeak: number; queueLimit: number }> {
   const t = performance.now();
-  const h = (await (await fetch(`${url}/api/health`)).json()) as { queue: number; loop_delay_ms?: { max: number } };
-  return { ms: performance.now() - t, queue: h.queue, loopMax: h.loop_delay_ms?.max ?? NaN };
+  const h = (await (await fetch(`${url}/api/health`)).json()) as { queue: number; loop_delay_ms?: { max: number }; queue_peak?: number; queue_limit?: number };
+  return { ms: performance.now() - t, queue: h.queue, loopMax: h.loop_delay_ms?.max ?? NaN, queuePeak: h.queue_peak ?? NaN, queueLimit: h.queue_limit ?? NaN };
+}
+
+/** Creates a region (viewer sockets are only opened to regions that exist). */
+async function createRegion(url: string, region: string): Promise<void> {
+  const r = await fetch(`${url}/api/regions/${region}/settings`, { method: 'PUT', headers: { authorization: `Bearer ${TOKEN}`, 'content-type': 'application/json' }, body: '{"watchFolder": false}' });
+  if (r.status !== 200) throw new Error(`creating region ${region}: ${r.status}`);
 }
 
 export async function bench(): Promise<void> {
@@ -94,7 +104,9 @@ export async function bench(): Promise<void> {
     // 20 viewers; the broadcast time of each frame's sample is when every viewer has it.
     const seen = new Map<number, number[]>();
     const viewers: WebSocket[] = [];
-    // The region must exist before viewers subscribe to it (they may also subscribe first).
+    // The region must exist before viewers subscribe to it.
+    await createRegion(mon.url, region);
+    await createRegion(mon.url, 'big');
     for (let i = 0; i < 20; i++) {
       const ws = new WebSocket(`${mon.url.replace('http', 'ws')}/ws/view?region=${region}`);
       ws.on('message', (d) => {
@@ -189,6 +201,42 @@ export async function bench(): Promise<void> {
     console.log(`1024^2 frame (${(bigBody.length / 1e6).toFixed(0)} MB JSON, answer ${r.status}): stored after ${(tStored - tPost).toFixed(0)} ms, computed ${(performance.now() - tStored).toFixed(0)} ms later`);
     console.log(`health round trip while it computes: median ${quantile(during, 0.5).toFixed(1)} ms, max ${Math.max(...during).toFixed(1)} ms (${during.length} calls); over the whole ingest incl. upload and parsing: max ${Math.max(...lat).toFixed(1)} ms`);
     console.log(`monitor's own event-loop delay (perf_hooks, 5-10 s windows, so the upload and intake are included): max ${loopMax.length ? Math.max(...loopMax).toFixed(1) : 'n/a'} ms`);
+
+    // Overload: twice the measured compute rate, each POST sent on schedule without waiting.
+    const overloadS = env('HELICORD_OVERLOAD_S', 30);
+    const rate = postedAt.size / elapsed;
+    const intervalMs = 1000 / (2 * rate);
+    const beforeIds = new Set(postedAt.keys());
+    let stored = 0, held = 0, other = 0;
+    const retryAfter: number[] = [];
+    const inflight: Promise<void>[] = [];
+    const queueSeen: number[] = [];
+    const overloadStart = Date.now();
+    while (Date.now() - overloadStart < overloadS * 1000 && Date.now() < deadline) {
+      time += 720_000;
+      const body = withTime(template, time);
+      const t = performance.now();
+      inflight.push(fetch(`${mon.url}/api/regions/${region}/frames`, { method: 'POST', headers: { authorization: `Bearer ${TOKEN}`, 'content-type': 'application/json' }, body })
+        .then(async (res) => {
+          const answer = (await res.json()) as { frame_id?: number };
+          if (res.status === 201 && answer.frame_id !== undefined) { stored++; postedAt.set(answer.frame_id, t); }
+          else if (res.status === 503) { held++; retryAfter.push(Number(res.headers.get('retry-after'))); }
+          else other++;
+        }));
+      queueSeen.push((await health(mon.url)).queue);
+      await new Promise((res) => setTimeout(res, intervalMs));
+    }
+    await Promise.all(inflight);
+    while ((await health(mon.url)).queue > 0 && Date.now() < deadline) await new Promise((res) => setTimeout(res, 20));
+    const hEnd = await health(mon.url);
+    const overloadLatency: number[] = [];
+    for (const [id, t] of postedAt) {
+      if (beforeIds.has(id)) continue;
+      const arrivals = seen.get(id);
+      if (arrivals && arrivals.length === viewers.length) overloadLatency.push(Math.max(...arrivals) - t);
+    }
+    console.log(`overload at ${(2 * rate).toFixed(2)} frames/s (twice the ${rate.toFixed(2)} computed) for ${((Date.now() - overloadStart) / 1000).toFixed(0)} s: ${stored} stored, ${held} held back with 503 (Retry-After median ${quantile(retryAfter, 0.5)} s), ${other} other answers`);
+    console.log(`queue bound ${hEnd.queueLimit}: peak ${hEnd.queuePeak} (${hEnd.queuePeak <= hEnd.queueLimit ? 'held' : 'PASSED'}); queue seen by health: max ${Math.max(...queueSeen)}; POST to broadcast of the stored ones: median ${quantile(overloadLatency, 0.5).toFixed(0)} ms, max ${overloadLatency.length ? Math.max(...overloadLatency).toFixed(0) : 'n/a'} ms`);
     for (const ws of viewers) ws.close();
   } finally {
     await mon.stop();
