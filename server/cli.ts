@@ -12,11 +12,15 @@ export const HELP = `helicord — live monitor of magnetic-helicity injection th
 Usage: helicord <command> [options]
 
 Commands:
-  serve [--data DIR] [--port N] [--host H] [--demo] [--read-token] [--workers N]
+  serve [--data DIR] [--port N] [--host H] [--demo] [--read-token] [--workers N] [--allow-host H]
+        [--queue-limit N] [--max-frame-pixels N] [--intake-memory-mb N]
         Start the monitor (HTTP + WebSocket, 127.0.0.1:8750 by default). --demo adds the built-in
         synthetic demo region, streaming live. Data are kept in DIR (default ./data); the ingest
         token is created there at first start and printed once (or set HELICORD_TOKEN).
-        --read-token makes reading need the token too.
+        --read-token makes reading need the token too. --allow-host NAME[,NAME] answers those
+        host names besides the loopback ones; --queue-limit N (16) frames may wait per region
+        before senders are held back (503 / a paused socket); --max-frame-pixels N (4194304 =
+        2048^2) is the largest frame; --intake-memory-mb N (1024) bounds the frame reader.
   rate FRAME [FRAME ...] [--labels detect|from-file|none|FILE.json] [--footpoints]
        [--method auto|dave|dave4vm|lct] [--window SIGMA_PX] [--noise G]
         Helicity injection rate printed as JSON (Mx^2/s): total, total_ga, spin, orbit,
