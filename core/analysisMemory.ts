@@ -16,6 +16,7 @@ import { SEGMENTATION_DEFAULTS, segmentFootpoints } from './footpoints/segmentat
 import { smoothMap } from './footpoints/smoothing.js';
 import { midFrame } from './velocity/midFrame.js';
 import { InputError } from './inputError.js';
+import { resolveVelocitySettings } from './velocity/velocitySettings.js';
 
 /** The JSON-safe part of a footpoint state (no label map, no field). */
 export type FootpointMemory = Omit<FootpointState, 'labels' | 'field'>;
@@ -55,7 +56,12 @@ export function restoreAnalysisState(frames: readonly Frame[], memory: AnalysisM
   }
   const smoothing = (settings.footpoints || undefined)?.smoothing ?? SEGMENTATION_DEFAULTS.smoothing;
   const spanS = restoreSpanS(settings);
-  const history = frames
+  // As the run keeps it: frames within the span, none from before an interval too long to infer
+  // a velocity across (the run starts its history again there).
+  const maxIntervalS = resolveVelocitySettings(settings.velocity).maxIntervalS;
+  let first = 0;
+  for (let k = 1; k < frames.length; k++) if (frames[k].time - frames[k - 1].time > 1000 * maxIntervalS) first = k;
+  const history = frames.slice(first)
     .filter((f) => last.time - f.time <= 1000 * spanS)
     .map((f) => ({ time: f.time, field: smoothMap(f.bn, f.nx, f.ny, smoothing) }));
   const state: AnalysisState = { previous: last, history };
@@ -65,7 +71,9 @@ export function restoreAnalysisState(frames: readonly Frame[], memory: AnalysisM
   // its velocity, else the mid-time frame of its pair.
   const before = frames.length > 1 ? frames[frames.length - 2] : undefined;
   const rateFrame = hasVelocity(last) || !before ? last : midFrame(before, last);
-  if (rateFrame.time !== table.time) return state; // the pair the memory was made on is not here
+  // After a pair that gave no sample (frames too far apart) the table belongs to an older pair,
+  // whose frames are not among these: the footpoints start afresh (ids too).
+  if (rateFrame.time !== table.time) return state;
   return { ...state, footpoints: restoreFootpointState(table, rateFrame, settings.footpoints || {}) };
 }
 

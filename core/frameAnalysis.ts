@@ -141,7 +141,9 @@ export function analyseFrame(
     return {
       sample: r.sample, ...(footpoints && { footpoints }), velocityNotes: [],
       maps: { gTheta: r.gTheta, ...(footpoints && { labels: footpoints.labels }), vx: frame.vx, vy: frame.vy, ...(frame.vz && { vz: frame.vz }) },
-      state: { previous: frame, ...(footpoints ? { footpoints: footpoints.state } : keepFootpoints) },
+      // The history goes on through frames that carry their velocity, so that a later pair
+      // without one measures over the same frames whatever came before (and a restore agrees).
+      state: { previous: frame, history: nextHistory(smoothed()), ...(footpoints ? { footpoints: footpoints.state } : keepFootpoints) },
     };
   }
 
