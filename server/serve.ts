@@ -105,8 +105,9 @@ export async function serve(options: ServeOptions): Promise<RunningMonitor> {
   const workers = options.workers ?? Math.min(4, Math.max(1, availableParallelism() - 1));
   const pool = new ComputePool(workers, log);
   const maxFramePixels = options.maxFramePixels ?? DEFAULT_MAX_FRAME_PIXELS;
-  const intake = new IntakePool(log, { maxFramePixels, memoryMb: options.intakeMemoryMb ?? DEFAULT_INTAKE_MEMORY_MB });
   const bodyLimit = options.bodyLimit ?? DEFAULT_BODY_LIMIT;
+  // A watched file is held to the body limit too (it is not read when larger).
+  const intake = new IntakePool(log, { maxFramePixels, memoryMb: options.intakeMemoryMb ?? DEFAULT_INTAKE_MEMORY_MB, maxFileBytes: bodyLimit });
   const readToken = options.readToken ?? false;
   // Set once the pipeline exists (below); read only after that.
   let replays: ReplayFeeds | undefined;
