@@ -126,6 +126,8 @@ export class Pipeline {
   private diskFull: { since: number; what: string } | undefined;
   private readonly diskRetries = new Map<string, { timer: ReturnType<typeof setTimeout>; attempt: number }>();
   private readonly lastDiskAttempt = new Map<string, number>();
+  /** Regions to process again from a frame on (frames once failed for lack of space). */
+  private readonly redoFrom = new Map<string, number>();
   /** Frame removals waiting for the region's processing turn. */
   private readonly removals = new Map<string, { id: number; resolve: (r: { frame_id: number; time: string; recomputed: number }) => void; reject: (e: Error) => void }[]>();
   /** Requests without a valid token: counted here, never stored (they change nothing). */
@@ -310,11 +312,20 @@ export class Pipeline {
 
   /** Asks every region to process what is stored and pending (at start). */
   resumeAll(): void {
-    for (const r of this.store.regions()) this.work$.next(r.name);
+    for (const r of this.store.regions()) {
+      // Frames an earlier run marked failed because their results could not be written for lack
+      // of space were never at fault: they are processed again, from the earliest of them on.
+      const f = this.store.firstDiskFailure(r.name);
+      if (f) this.redoFrom.set(r.name, f.time);
+      this.work$.next(r.name);
+    }
   }
 
+  /** Frames arriving or waiting to be processed, all regions (plus regions about to be rewound). */
   queueLength(): number {
-    return this.inFlight + this.store.pendingCount();
+    let removals = 0;
+    for (const list of this.removals.values()) removals += list.length;
+    return this.inFlight + this.store.pendingCount() + this.redoFrom.size + removals;
   }
 
   /** Resolves when nothing is pending (tests, benchmark, shutdown). */
@@ -587,7 +598,23 @@ export class Pipeline {
 
   /** Frames to process in time order, after rewinding the region when one came in late. */
   private async takePending(region: string): Promise<FrameRow[]> {
-    const removed = await this.applyRemovals(region);
+    let removed = await this.applyRemovals(region);
+    const redo = this.redoFrom.get(region);
+    if (redo !== undefined) {
+      const before = this.store.lastProcessed(region, redo);
+      const carry = this.restoredCarry(region, before);
+      try {
+        const n = await this.writer.call('rewind', region, before?.time ?? Number.MIN_SAFE_INTEGER, carry);
+        this.redoFrom.delete(region);
+        this.setCarry(region, carry);
+        this.pool.forget(region);
+        this.log(`${region}: ${n} frame(s) from ${new Date(redo).toISOString()} on are processed again (an earlier run could not write their results: the disk was full)`);
+        removed = true;
+      } catch (e) {
+        if (isDiskFull(e)) throw new DiskFullError(e, 'processing frames again');
+        throw e;
+      }
+    }
     const pending = this.store.unprocessed(region);
     if (pending.length === 0) return [];
     const mark = (frames: FrameRow[]) => frames.map((f) => ({ ...f, rewound: true }) as FrameRow);

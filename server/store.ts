@@ -217,6 +217,13 @@ export class Store {
     return (this.db.prepare('SELECT COUNT(*) AS n FROM frames WHERE processed = 0').get() as { n: number }).n;
   }
 
+  /** The earliest frame of the region marked failed because a write found the disk full. */
+  firstDiskFailure(region: string): FrameRow | undefined {
+    const r = this.db.prepare(`SELECT * FROM frames WHERE region = ? AND processed = 2 AND (waiting LIKE '%ENOSPC%' OR waiting LIKE '%EDQUOT%'
+      OR waiting LIKE '%SQLITE_FULL%' OR waiting LIKE '%no space left on device%' OR waiting LIKE '%database or disk is full%') ORDER BY time LIMIT 1`).get(region) as RawFrame | undefined;
+    return r && toFrame(r);
+  }
+
   /** The last processed (or failed) frame of the region before `time` (or overall). */
   lastProcessed(region: string, before = Number.POSITIVE_INFINITY): FrameRow | undefined {
     const r = this.db.prepare('SELECT * FROM frames WHERE region = ? AND processed > 0 AND time < ? ORDER BY time DESC LIMIT 1')

@@ -179,3 +179,36 @@ describe('a full disk', () => {
     }
   }, 300_000);
 });
+
+describe('frames an earlier run marked failed for lack of space', () => {
+  it('are processed again at the next start: the series is the one the disk never interrupted', async () => {
+    const Database = (await import('better-sqlite3')).default;
+    const dir = tempDir();
+    const times = irregularTimes(6);
+    try {
+      let m = await startMonitor({ dataDir: dir });
+      await fetch(`${m.url}/api/regions/ar/settings`, { method: 'PUT', headers: { authorization: `Bearer ${TOKEN}`, 'content-type': 'application/json' }, body: '{"watchFolder": false}' });
+      for (const t of times) expect((await postFrame(m.url, 'ar', frameBody(circlingFrame(t)))).status).toBe(201);
+      await waitIdle(m.url);
+      const expected = (await getJson<{ samples: SeriesRow[] }>(m.url, '/api/regions/ar/series')).samples;
+      await m.close();
+      // What a run that could not write frame 3's maps left: the frame failed, without a sample.
+      const db = new Database(join(dir, 'helicord.sqlite'));
+      const f3 = db.prepare('SELECT id FROM frames WHERE region = ? ORDER BY time LIMIT 1 OFFSET 3').get('ar') as { id: number };
+      db.prepare("UPDATE frames SET processed = 2, waiting = 'analysis failed: ENOSPC: no space left on device, write' WHERE id = ?").run(f3.id);
+      db.prepare('DELETE FROM samples WHERE frame_id = ?').run(f3.id);
+      db.close();
+      m = await startMonitor({ dataDir: dir });
+      try {
+        await waitIdle(m.url);
+        const got = (await getJson<{ samples: SeriesRow[] }>(m.url, '/api/regions/ar/series')).samples;
+        expect(got.map(strip)).toEqual(expected.map(strip));
+        expect(m.lines.some((l) => /processed again \(an earlier run could not write their results/.test(l))).toBe(true);
+      } finally {
+        await m.close();
+      }
+    } finally {
+      rmSync(dir, { recursive: true, force: true });
+    }
+  });
+});
