@@ -6,14 +6,18 @@ export interface WorkerRequest {
   readonly region: string;
   /** Absolute path of the stored frame to analyse. */
   readonly framePath: string;
-  /** Rebuild the region's state first: from this frame file, or 'reset' to start empty. */
-  readonly prime?: string | 'reset';
+  /**
+   * Rebuild the region's state first, or 'reset' to start empty: from the stored frames within
+   * the motion baseline up to the frame processed before this one (absolute paths, oldest first)
+   * and the analysis memory stored after that frame (core/analysisMemory.ts).
+   */
+  readonly prime?: { readonly frames: readonly string[]; readonly memory?: unknown } | 'reset';
   readonly settings: Record<string, unknown>;
   /** Where to write the result maps. */
   readonly mapsPath: string;
 }
 
 export type WorkerReply =
-  | { readonly id: number; readonly ok: true; readonly sample?: RateSample; readonly waiting?: string; readonly mapsWritten: boolean; readonly footpoints?: unknown; readonly events?: unknown }
+  | { readonly id: number; readonly ok: true; readonly sample?: RateSample; readonly waiting?: string; readonly mapsWritten: boolean; readonly footpoints?: unknown; readonly events?: unknown; readonly memory?: unknown }
   /** `diskFull`: the maps could not be written for lack of space (the frame waits, it is not at fault). */
   | { readonly id: number; readonly ok: false; readonly error: { source: string; field: string; problem: string; message: string; diskFull?: boolean } };

@@ -20,8 +20,11 @@ export interface AnalyseJob {
   readonly region: string;
   readonly frameId: number;
   readonly framePath: string;
-  /** The frame processed before this one (undefined: none). */
-  readonly previous?: { readonly id: number; readonly path: string };
+  /**
+   * The frame processed before this one (undefined: none), with what rebuilds the state after it:
+   * the frames within the motion baseline up to it (paths, oldest first) and its stored memory.
+   */
+  readonly previous?: { readonly id: number; readonly frames: () => { readonly frames: readonly string[]; readonly memory?: unknown } };
   readonly settings: Record<string, unknown>;
   readonly mapsPath: string;
 }
@@ -72,7 +75,7 @@ export class ComputePool {
     const slot = this.slots[index];
     const expected = job.previous?.id ?? null;
     const at = this.position.get(job.region);
-    const prime = at === expected ? undefined : (job.previous ? job.previous.path : 'reset');
+    const prime = at === expected ? undefined : (job.previous ? job.previous.frames() : 'reset');
     const req: WorkerRequest = {
       id: this.nextId++, region: job.region, framePath: job.framePath, settings: job.settings, mapsPath: job.mapsPath,
       ...(prime !== undefined && { prime }),

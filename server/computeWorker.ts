@@ -5,6 +5,8 @@ import { readFile } from 'node:fs/promises';
 import { parentPort } from 'node:worker_threads';
 import type { FluxKernelCache } from '../core/fluxKernel.js';
 import { analyseFrame } from '../core/frameAnalysis.js';
+import type { AnalysisMemory } from '../core/analysisMemory.js';
+import { analysisMemory, restoreAnalysisState } from '../core/analysisMemory.js';
 import type { AnalysisSettings, AnalysisState } from '../core/frameAnalysis.js';
 import { footpointReport } from '../core/footpoints/footpointReport.js';
 import { InputError } from '../core/inputError.js';
@@ -24,8 +26,11 @@ async function handle(req: WorkerRequest): Promise<WorkerReply> {
   const settings = req.settings as AnalysisSettings;
   if (req.prime === 'reset') states.delete(req.region);
   else if (req.prime) {
-    // Rebuild the state from the last processed frame (its own result is discarded).
-    states.set(req.region, analyseFrame(await load(req.prime), {}, settings, cache).state);
+    // Rebuild the state after the last processed frame from the frames before it and the memory
+    // stored with it: the same state as if the worker had gone on without a stop.
+    const frames = [];
+    for (const path of req.prime.frames) frames.push(await load(path));
+    states.set(req.region, restoreAnalysisState(frames, req.prime.memory as AnalysisMemory | undefined, settings));
   }
   const frame = await load(req.framePath);
   const result = analyseFrame(frame, states.get(req.region) ?? {}, settings, cache);
@@ -48,6 +53,7 @@ async function handle(req: WorkerRequest): Promise<WorkerReply> {
     ...(result.waiting !== undefined && { waiting: result.waiting }),
     mapsWritten,
     ...(fp && { footpoints: { ...fp, events: undefined }, events: fp.events }),
+    memory: analysisMemory(result.state),
   };
 }
 

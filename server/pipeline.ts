@@ -15,9 +15,11 @@ import { rm } from 'node:fs/promises';
 import { join } from 'node:path';
 import type { Observable } from 'rxjs';
 import { Subject, concatMap, defer, from, groupBy, map, mergeMap, of, tap, catchError, EMPTY } from 'rxjs';
+import { restoreSpanS } from '../core/analysisMemory.js';
 import { accumulateBudget } from '../core/budget.js';
 import type { BudgetPoint } from '../core/budget.js';
 import type { Frame } from '../core/frame.js';
+import type { AnalysisSettings } from '../core/frameAnalysis.js';
 import { sameGrid } from '../core/grid.js';
 import { InputError } from '../core/inputError.js';
 import type { RateSample } from '../core/rateSample.js';
@@ -702,11 +704,22 @@ export class Pipeline {
     const settings = this.store.region(region)?.settings;
     const abs = (p: string) => join(this.store.dataDir, p);
     const mapsFile = join('maps', region, `${frame.id}.hlcm`);
+    // What rebuilds the worker's state after `previous` when it does not follow it (read only
+    // then): the frames within the motion baseline up to it and the memory stored with it.
+    const primer = previous && {
+      id: previous.id,
+      frames: () => {
+        const spanMs = 1000 * restoreSpanS((settings?.analysis ?? {}) as AnalysisSettings);
+        const frames = this.store.goodFramesBetween(region, previous.time - spanMs, previous.time).map((f) => abs(f.file));
+        const memory = this.store.frameMemory(previous.id);
+        return { frames, ...(memory !== undefined && { memory }) };
+      },
+    };
     let reply: WorkerReply;
     try {
       reply = await this.pool.analyse({
         region, frameId: frame.id, framePath: abs(frame.file),
-        ...(previous && { previous: { id: previous.id, path: abs(previous.file) } }),
+        ...(previous && { previous: primer }),
         settings: settings?.analysis ?? {}, mapsPath: abs(mapsFile),
       });
     } catch (e) {
@@ -714,7 +727,7 @@ export class Pipeline {
       try {
         reply = await this.pool.analyse({
           region, frameId: frame.id, framePath: abs(frame.file),
-          ...(previous && { previous: { id: previous.id, path: abs(previous.file) } }),
+          ...(previous && { previous: primer }),
           settings: settings?.analysis ?? {}, mapsPath: abs(mapsFile),
         });
       } catch (e2) {
@@ -793,6 +806,7 @@ export class Pipeline {
       ...(a.failure && { waiting: `analysis failed: ${a.failure.problem}` }),
       ...(reply.ok && reply.footpoints !== undefined && { footpoints: reply.footpoints }),
       ...(reply.ok && reply.events !== undefined && { events: reply.events }),
+      ...(reply.ok && reply.memory !== undefined && { memory: reply.memory }),
     });
   }
 

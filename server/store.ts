@@ -115,6 +115,9 @@ export class Store {
     this.db.pragma('synchronous = FULL');
     this.db.pragma('foreign_keys = ON');
     this.db.exec(SCHEMA);
+    // Stores made before the analysis memory was kept get its column.
+    const columns = this.db.prepare('PRAGMA table_info(frames)').all() as { name: string }[];
+    if (!columns.some((c) => c.name === 'memory')) this.db.exec('ALTER TABLE frames ADD COLUMN memory TEXT');
   }
 
   close(): void {
@@ -237,6 +240,18 @@ export class Store {
     return r && toFrame(r);
   }
 
+  /** The analysis memory stored after a frame (core/analysisMemory.ts), if any. */
+  frameMemory(id: number): unknown {
+    const r = this.db.prepare('SELECT memory FROM frames WHERE id = ?').get(id) as { memory: string | null } | undefined;
+    return r?.memory ? fromSafeJson(r.memory) : undefined;
+  }
+
+  /** The frames of the region processed successfully with times in [from, to], oldest first. */
+  goodFramesBetween(region: string, from: number, to: number): FrameRow[] {
+    const rows = this.db.prepare('SELECT * FROM frames WHERE region = ? AND processed = 1 AND time >= ? AND time <= ? ORDER BY time').all(region, from, to) as RawFrame[];
+    return rows.map(toFrame);
+  }
+
   frameCarry(id: number): Carry | undefined {
     const r = this.db.prepare('SELECT carry FROM frames WHERE id = ?').get(id) as { carry: string | null } | undefined;
     return r?.carry ? fromSafeJson<Carry>(r.carry) : undefined;
@@ -285,12 +300,13 @@ export class Store {
   /** Stores the outcome of one frame's processing in one transaction. */
   commitProcessed(p: {
     region: string; frameId: number; processed: 1 | 2; carry: Carry; row?: SeriesRow; sampleTime?: number;
-    mapsFile?: string; waiting?: string; footpoints?: unknown; events?: unknown;
+    mapsFile?: string; waiting?: string; footpoints?: unknown; events?: unknown; memory?: unknown;
   }): void {
     const tx = this.db.transaction(() => {
-      this.db.prepare('UPDATE frames SET processed = ?, carry = ?, maps_file = ?, waiting = ?, footpoints = ?, events = ? WHERE id = ?').run(
+      this.db.prepare('UPDATE frames SET processed = ?, carry = ?, maps_file = ?, waiting = ?, footpoints = ?, events = ?, memory = ? WHERE id = ?').run(
         p.processed, toSafeJson(p.carry), p.mapsFile ?? null, p.waiting ?? null,
-        p.footpoints === undefined ? null : toSafeJson(p.footpoints), p.events === undefined ? null : toSafeJson(p.events), p.frameId,
+        p.footpoints === undefined ? null : toSafeJson(p.footpoints), p.events === undefined ? null : toSafeJson(p.events),
+        p.memory === undefined ? null : toSafeJson(p.memory), p.frameId,
       );
       if (p.row && p.sampleTime !== undefined) {
         this.db.prepare('INSERT OR REPLACE INTO samples (frame_id, region, time, row) VALUES (?, ?, ?, ?)').run(p.frameId, p.region, p.sampleTime, toSafeJson(p.row));
