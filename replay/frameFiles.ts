@@ -5,9 +5,11 @@ import { basename } from 'node:path';
 import { gunzipSync } from 'node:zlib';
 import type { Frame } from '../core/frame.js';
 import type { FrameAssemblySettings } from '../core/frameAssembly/assembleFrame.js';
-import { frameFromFits, framesFromFileSet } from '../core/frameAssembly/assembleFrame.js';
+import { frameFromFits } from '../core/frameAssembly/assembleFrame.js';
+import { framesFromFileSet } from '../core/frameAssembly/componentFiles.js';
 import { parseFrameJson } from '../core/frameJson.js';
 import { InputError } from '../core/inputError.js';
+import { fileProblem } from './fileProblem.js';
 
 const FITS_NAME = /\.(fits|fts|fit)(\.gz)?$/i;
 /** Largest inflated .fits.gz accepted (a 4096^2 float64 map with five companions is ~800 MB). */
@@ -36,12 +38,13 @@ function gunzipBounded(bytes: Uint8Array, path: string, limit: number): Uint8Arr
   return new Uint8Array(out.buffer, out.byteOffset, out.byteLength);
 }
 
-async function readBytes(path: string, settings: FrameAssemblySettings = {}): Promise<Uint8Array> {
+/** A file's bytes, inflated when its name ends in .gz. Throws InputError naming the file. */
+export async function readBytes(path: string, settings: FrameAssemblySettings = {}): Promise<Uint8Array> {
   let bytes: Buffer;
   try {
     bytes = await readFile(path);
   } catch (e) {
-    throw new InputError(path, '(file)', `cannot be read: ${(e as NodeJS.ErrnoException).code ?? (e as Error).message}`);
+    throw new InputError(path, '(file)', fileProblem(e));
   }
   const raw = new Uint8Array(bytes.buffer, bytes.byteOffset, bytes.byteLength);
   return /\.gz$/i.test(path) ? gunzipBounded(raw, path, inflatedLimit(settings)) : raw;
@@ -76,7 +79,7 @@ export async function loadFrameFile(path: string, settings: FrameAssemblySetting
   try {
     bytes = await readFile(path);
   } catch (e) {
-    throw new InputError(path, '(file)', `cannot be read: ${(e as NodeJS.ErrnoException).code ?? (e as Error).message}`);
+    throw new InputError(path, '(file)', fileProblem(e));
   }
   return frameFromFileBytes(path, new Uint8Array(bytes.buffer, bytes.byteOffset, bytes.byteLength), settings);
 }

@@ -21,6 +21,12 @@ export interface ImageWcs {
   readonly crpix?: readonly [number, number];
   /** World coordinates at the reference pixel (default 0, 0). */
   readonly crval?: readonly [number, number];
+  /** PC matrix [PC1_1, PC1_2, PC2_1, PC2_2] (written when not the identity). */
+  readonly pc?: readonly [number, number, number, number];
+  /** LONPOLE, LATPOLE and projection parameters (PV2_1 ...) of a spherical projection (WCS paper II). */
+  readonly lonpole?: number;
+  readonly latpole?: number;
+  readonly pv?: Readonly<Record<string, number>>;
 }
 
 export interface ImageToWrite {
@@ -72,6 +78,13 @@ export function wcsKeywords(wcs: ImageWcs): FitsKeyword[] {
       { key: `CDELT${n}`, value: wcs.cdelt[i], float: true, comment: 'pixel side' },
     );
   }
+  const pc = wcs.pc;
+  if (pc && !(pc[0] === 1 && pc[1] === 0 && pc[2] === 0 && pc[3] === 1)) {
+    ['PC1_1', 'PC1_2', 'PC2_1', 'PC2_2'].forEach((key, j) => out.push({ key, value: pc[j], float: true }));
+  }
+  if (wcs.lonpole !== undefined) out.push({ key: 'LONPOLE', value: wcs.lonpole, float: true, comment: 'native longitude of the celestial pole' });
+  if (wcs.latpole !== undefined) out.push({ key: 'LATPOLE', value: wcs.latpole, float: true });
+  for (const [key, value] of Object.entries(wcs.pv ?? {})) out.push({ key, value, float: true, comment: 'projection parameter' });
   return out;
 }
 

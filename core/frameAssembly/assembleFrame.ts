@@ -10,14 +10,16 @@ import type { Frame, FrameMapName } from '../frame.js';
 import { FRAME_MAPS, checkFrame, frameFromMaps } from '../frame.js';
 import { InputError } from '../inputError.js';
 import type { FitsHeader, FitsValue } from '../fits/header.js';
-import { headerRecord, headerString, headerValue } from '../fits/header.js';
+import { headerRecord, headerString } from '../fits/header.js';
 import type { Hdu } from '../fits/hduList.js';
 import { hduLabel, listHdus } from '../fits/hduList.js';
 import type { ReadOptions } from '../fits/readImage.js';
 import { decodeImageHdu, isImageHdu } from '../fits/readImage.js';
 import { fieldToGauss, velocityToKmPerS } from '../units.js';
+import { resolveLayout } from './componentLayouts.js';
 import { frameTimeFromHeaders } from './frameTime.js';
 import { pixelSizeMm } from './pixelScale.js';
+import { WCS_KEYWORD, frameWcs, wcsRecord } from './wcs.js';
 
 /** Per-component correction for archives whose conventions differ from ours. */
 export interface ComponentTransform {
@@ -36,6 +38,11 @@ export type ComponentRule =
   | { readonly keyword: string; readonly value: string };
 
 export interface FrameAssemblySettings {
+  /**
+   * A named layout (core/frameAssembly/componentLayouts.ts: 'frame', 'cea-components') whose file
+   * rules and corrections apply where `files` and `transforms` do not say otherwise.
+   */
+  readonly layout?: string;
   readonly transforms?: Partial<Record<FrameMapName, ComponentTransform>>;
   /** Which time keyword wins when both exist (default DATE-AVG). */
   readonly timeKeyword?: 'DATE-AVG' | 'DATE-OBS';
@@ -106,7 +113,8 @@ function imageAxes(c: ComponentSource, axes: readonly number[]): [number, number
  * Builds a checked Frame from component images (bn required). Time and pixel size come from bn's
  * headers; every other component must have bn's shape. Throws InputError naming file, HDU and problem.
  */
-export function assembleFrame(components: Partial<Record<FrameMapName, ComponentSource>>, settings: FrameAssemblySettings = {}): Frame {
+export function assembleFrame(components: Partial<Record<FrameMapName, ComponentSource>>, given: FrameAssemblySettings = {}): Frame {
+  const settings = resolveLayout(given);
   const bnSrc = components.bn;
   if (!bnSrc) {
     const any = Object.values(components)[0];
@@ -136,11 +144,19 @@ export function assembleFrame(components: Partial<Record<FrameMapName, Component
   for (const h of [...bnSrc.headers].reverse()) {
     for (const [k, v] of Object.entries(headerRecord(h))) if (!STRUCTURAL.test(k)) keywords[k] = v;
   }
+  // The kept WCS describes the frame's own pixels: turned round with bn when bn was mirrored.
+  const bnT = settings.transforms?.bn;
+  if (bnT?.mirrorX || bnT?.mirrorY) {
+    const wcs = frameWcs(keywords, nx, ny, { x: bnT.mirrorX, y: bnT.mirrorY });
+    for (const k of Object.keys(keywords)) if (WCS_KEYWORD.test(k)) delete keywords[k];
+    if (wcs) Object.assign(keywords, wcsRecord(wcs));
+  }
   return frameFromMaps({ time: time.utcMs, nx, ny, dx, dy }, maps, bnSrc.source, { provenance: { source: bnSrc.source, keywords } });
 }
 
 /** One FITS file per time, components named by EXTNAME (BN required). */
-export function frameFromFits(bytes: Uint8Array, source: string, settings: FrameAssemblySettings = {}): Frame {
+export function frameFromFits(bytes: Uint8Array, source: string, given: FrameAssemblySettings = {}): Frame {
+  const settings = resolveLayout(given);
   const hdus = listHdus(bytes, source, settings.read);
   const primary = hdus[0].header;
   const components: Partial<Record<FrameMapName, ComponentSource>> = {};
@@ -153,76 +169,11 @@ export function frameFromFits(bytes: Uint8Array, source: string, settings: Frame
   }
   if (!components.bn) {
     const names = hdus.map((h) => hduLabel(h.index, h.name)).join(', ');
-    throw new InputError(source, 'EXTNAME BN', `not found (the file has ${names}); a frame file names its maps BN, BX, BY, VX, VY, VZ, or the region maps files to components`);
+    if (settings.files && Object.keys(settings.files).length > 0) {
+      throw new InputError(source, '(file)', `is one file of a layout with one file per component${settings.layout ? ` (${settings.layout})` : ''}: its frame is assembled from the files of all its components at one time, not from this file alone`);
+    }
+    throw new InputError(source, 'EXTNAME BN', `not found (the file has ${names}); a frame file names its maps BN, BX, BY, VX, VY, VZ; for archives with one file per component give a layout (--layout cea-components) or file rules (--component bn=pattern:REGEX; docs/fits.md)`);
   }
   return assembleFrame(components, settings);
 }
 
-export interface NamedBytes {
-  /** File name (matched by pattern rules) and error source. */
-  readonly name: string;
-  readonly bytes: Uint8Array;
-}
-
-/** The first image HDU of a file, with the headers to search. */
-function firstImage(f: NamedBytes, settings: FrameAssemblySettings): ComponentSource {
-  const hdus = listHdus(f.bytes, f.name, settings.read);
-  const hdu = hdus.find(isImageHdu);
-  if (!hdu) throw new InputError(f.name, '(file)', 'holds no image HDU');
-  return { source: f.name, bytes: f.bytes, hdu, headers: hdu.index === 0 ? [hdu.header] : [hdu.header, hdus[0].header] };
-}
-
-function ruleMatches(rule: ComponentRule, c: ComponentSource, fileName: string): boolean {
-  if ('pattern' in rule) return new RegExp(rule.pattern, rule.flags).test(fileName);
-  for (const h of c.headers) {
-    const v = headerValue(h, rule.keyword);
-    if (v !== undefined) return String(v).trim().toUpperCase() === rule.value.trim().toUpperCase();
-  }
-  return false;
-}
-
-/**
- * Several files per time: each file's first image is given the component whose rule matches it,
- * files are grouped by observation time (within groupToleranceS) and each group becomes a frame.
- * Frames are returned in time order. A file matching no rule, or two rules, is an error.
- */
-export function framesFromFileSet(files: readonly NamedBytes[], settings: FrameAssemblySettings): Frame[] {
-  const rules = settings.files;
-  if (!rules || !rules.bn) throw new InputError('region settings', 'files.bn', 'is missing: several files per time need a rule for the bn files');
-  for (const [name, r] of Object.entries(rules)) {
-    if (r && 'pattern' in r) {
-      try { new RegExp(r.pattern, r.flags); } catch (e) {
-        throw new InputError('region settings', `files.${name}.pattern`, `is not a valid regular expression: ${(e as Error).message}`);
-      }
-    }
-  }
-  const tolMs = (settings.groupToleranceS ?? 1) * 1000;
-  const entries: { name: FrameMapName; c: ComponentSource; t: number }[] = [];
-  for (const f of files) {
-    const c = firstImage(f, settings);
-    const base = f.name.split(/[\\/]/).pop() ?? f.name;
-    const hits = FRAME_MAPS.filter((m) => rules[m] !== undefined && ruleMatches(rules[m]!, c, base));
-    if (hits.length === 0) throw new InputError(f.name, '(file)', 'matches no component rule of the region');
-    if (hits.length > 1) throw new InputError(f.name, '(file)', `matches the rules of several components: ${hits.join(', ')}`);
-    const where = hduLabel(c.hdu.index, c.hdu.name);
-    const t = frameTimeFromHeaders(c.headers, f.name, where, settings.timeKeyword).utcMs;
-    entries.push({ name: hits[0], c, t });
-  }
-  entries.sort((a, b) => a.t - b.t);
-  const groups: (typeof entries)[] = [];
-  for (const e of entries) {
-    const g = groups[groups.length - 1];
-    if (g && e.t - g[0].t <= tolMs) g.push(e);
-    else groups.push([e]);
-  }
-  return groups.map((g) => {
-    const comps: Partial<Record<FrameMapName, ComponentSource>> = {};
-    for (const e of g) {
-      const prev = comps[e.name];
-      if (prev) throw new InputError(e.c.source, '(file)', `is a second ${e.name} file for the time of ${prev.source}`);
-      comps[e.name] = e.c;
-    }
-    if (!comps.bn) throw new InputError(g[0].c.source, 'bn', `no bn file for the time of ${g.map((e) => e.c.source).join(', ')}`);
-    return assembleFrame(comps, settings);
-  });
-}

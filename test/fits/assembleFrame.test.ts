@@ -8,7 +8,8 @@ import { describe, expect, it } from 'vitest';
 import type { FitsKeyword } from '../../core/fits/cards.js';
 import type { ImageToWrite } from '../../core/fits/writeImage.js';
 import { writeFits } from '../../core/fits/writeImage.js';
-import { frameFromFits, framesFromFileSet } from '../../core/frameAssembly/assembleFrame.js';
+import { frameFromFits } from '../../core/frameAssembly/assembleFrame.js';
+import { framesFromFileSet } from '../../core/frameAssembly/componentFiles.js';
 import { formatUtc } from '../../core/frameAssembly/frameTime.js';
 import { frameToFits } from '../../core/frameAssembly/frameToFits.js';
 import { LEAP_SECONDS } from '../../core/frameAssembly/leapSeconds.js';
@@ -217,7 +218,7 @@ describe('server loadFrameFile / loadFrameFileSet', () => {
     const bad = join(dir, 'bad.fits');
     writeFileSync(bad, bytes.subarray(0, 4000));
     await expect(loadFrameFile(bad)).rejects.toThrow(`${bad}: HDU 1 header: header block at byte 2880 is truncated`);
-    await expect(loadFrameFile(join(dir, 'none.fits'))).rejects.toThrow(/cannot be read: ENOENT/);
+    await expect(loadFrameFile(join(dir, 'none.fits'))).rejects.toThrow(/none\.fits: \(file\): does not exist/);
     const gz = join(dir, 'bad.fits.gz');
     writeFileSync(gz, Buffer.from('not gzip'));
     await expect(loadFrameFile(gz)).rejects.toThrow(/\(gzip\): cannot be decompressed/);
