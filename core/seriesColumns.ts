@@ -2,6 +2,7 @@
 // series (docs/api.md "Sample"), which are also the batch CSV columns, in the documented order.
 
 import type { BudgetPoint } from './budget.js';
+import type { PatchCentre } from './frameAssembly/wcs.js';
 import type { RateSample } from './rateSample.js';
 
 /** Column order: the nine fixed first columns of docs/api.md, then the rest. */
@@ -10,6 +11,7 @@ export const SERIES_COLUMNS = [
   'budget_total', 'budget_spin', 'budget_orbit', 'budget_background',
   'rate_total_ga', 'rate_emergence', 'rate_shear', 'sigma_rate_total', 'sigma_budget_total',
   'sigma_rate_spin', 'sigma_rate_orbit', 'velocity_method', 'split_method', 'noise_g', 'masked_fraction', 'flags', 'frame_id',
+  'flux_unsigned', 'budget_normalised', 'centre_lon_deg', 'centre_lat_deg', 'centre_disk_angle_deg',
 ] as const;
 export type SeriesColumn = (typeof SERIES_COLUMNS)[number];
 
@@ -39,12 +41,32 @@ export interface SeriesRow {
   readonly masked_fraction: number;
   readonly flags: readonly string[];
   readonly frame_id: number | null;
+  /** Unsigned flux of the frame the rate was taken on, Mx (pixels at or above 3 noise units; core/rateSample.ts). */
+  readonly flux_unsigned: number | null;
+  /**
+   * The budget over the unsigned flux squared, H / Phi^2 (dimensionless): a flux tube of T turns
+   * carries H = T Phi_tube^2 (Moffatt & Ricca 1992, from memory), so a balanced bipole whose flux
+   * is all in one tube gives H / Phi^2 = T / 4 with Phi = 2 Phi_tube. Null without a flux.
+   */
+  readonly budget_normalised: number | null;
+  /**
+   * The patch centre in Stonyhurst heliographic longitude and latitude, degrees, and its angle from
+   * disk centre seen from the Sun's centre (mu = cos of it), when the frames' headers give them
+   * (core/frameAssembly/wcs.ts); null otherwise.
+   */
+  readonly centre_lon_deg: number | null;
+  readonly centre_lat_deg: number | null;
+  readonly centre_disk_angle_deg: number | null;
 }
 
 const finiteOrNull = (v: number | undefined): number | null => (v !== undefined && Number.isFinite(v) ? v : null);
 
-/** The series row of one sample and the budget point it produced. */
-export function seriesRow(sample: RateSample, point: BudgetPoint, frameId: number | null = null): SeriesRow {
+/**
+ * The series row of one sample and the budget point it produced; `centre`, where the sample was
+ * taken on the Sun, when the frames' headers say.
+ */
+export function seriesRow(sample: RateSample, point: BudgetPoint, frameId: number | null = null, centre?: PatchCentre): SeriesRow {
+  const flux = sample.unsignedFlux;
   return {
     time: new Date(sample.time).toISOString(),
     dt_s: sample.dtS,
@@ -69,6 +91,11 @@ export function seriesRow(sample: RateSample, point: BudgetPoint, frameId: numbe
     masked_fraction: sample.maskedFraction,
     flags: [...sample.flags],
     frame_id: frameId,
+    flux_unsigned: finiteOrNull(flux),
+    budget_normalised: flux !== undefined && flux > 0 ? finiteOrNull(point.values.total / (flux * flux)) : null,
+    centre_lon_deg: finiteOrNull(centre?.lonDeg),
+    centre_lat_deg: finiteOrNull(centre?.latDeg),
+    centre_disk_angle_deg: finiteOrNull(centre?.diskAngleDeg),
   };
 }
 

@@ -25,6 +25,13 @@ export interface WireSample {
   masked_fraction: number | null;
   flags: string[];
   frame_id: string | number;
+  /** Unsigned flux, Mx, and the budget over its square (H / Phi^2); absent from older rows. */
+  flux_unsigned?: number | null;
+  budget_normalised?: number | null;
+  /** Patch centre, Stonyhurst degrees, and its angle from disk centre, when the headers give them. */
+  centre_lon_deg?: number | null;
+  centre_lat_deg?: number | null;
+  centre_disk_angle_deg?: number | null;
 }
 
 export interface WireGap {
