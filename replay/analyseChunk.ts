@@ -13,14 +13,18 @@ import type { Frame } from '../core/frame.js';
 import type { RateSample } from '../core/rateSample.js';
 import type { FootpointAnalysis } from '../core/footpoints/analyseFootpoints.js';
 import { footpointReport } from '../core/footpoints/footpointReport.js';
-import { loadFrameFile } from './frameFiles.js';
-import { reasonOf } from './archiveSource.js';
+import type { FrameAssemblySettings } from '../core/frameAssembly/assembleFrame.js';
+import type { PatchCentre } from '../core/frameAssembly/wcs.js';
+import { framePatchCentre, meanCentre } from '../core/frameAssembly/wcs.js';
+import { loadEntry, reasonOf } from './archiveSource.js';
 import type { PrimerTable } from './chunkSeams.js';
 
 export interface ChunkJob {
   /** Position of the frame in the ordered archive. */
   readonly index: number;
   readonly file: string;
+  /** With one file per component: all the frame's files (bn's first). */
+  readonly files?: readonly string[];
 }
 
 /** What became of one frame. */
@@ -35,6 +39,11 @@ export interface FrameOutcome {
   readonly skipped?: string;
   /** Whatever else the analysis reports (footpoints, events, ...), passed on as it is. */
   readonly extra?: Record<string, unknown>;
+  /**
+   * Where the sample was taken on the Sun, when the frames' headers say (the mean of the pair's
+   * two frames for a sample at their mid-time).
+   */
+  readonly centre?: PatchCentre;
 }
 
 export type MapWriter = (job: ChunkJob, frame: Frame, maps: FrameAnalysis['maps'], sample: RateSample | undefined) => Promise<void>;
@@ -44,8 +53,10 @@ export interface ChunkOptions {
   readonly cache?: FluxKernelCache;
   /** Called with each analysed frame's maps (not for warm-up frames). */
   readonly writeMaps?: MapWriter;
-  /** Reads a frame; loadFrameFile by default. */
-  readonly load?: (file: string) => Promise<Frame>;
+  /** How FITS files map to components (for the default reader). */
+  readonly components?: FrameAssemblySettings;
+  /** Reads a frame; from its file (or component files) with `components` by default. */
+  readonly load?: (job: ChunkJob) => Promise<Frame>;
   /** Called with the footpoints of each primer frame that has some, oldest first; the last also carries the pair windings. */
   readonly onPrimer?: (table: PrimerTable) => void;
 }
@@ -63,9 +74,11 @@ export async function analyseChunk(
   jobs: readonly ChunkJob[], warmup: number, onOutcome: (o: FrameOutcome) => void, options: ChunkOptions = {},
 ): Promise<void> {
   const cache = options.cache ?? new Map();
-  const load = options.load ?? loadFrameFile;
+  const load = options.load ?? ((job: ChunkJob) => loadEntry(job, options.components));
   const settings = (options.settings ?? {}) as AnalysisSettings;
   let state: AnalysisState = {};
+  // The centre of the last frame analysed (the first of the next sample's pair).
+  let lastCentre: PatchCentre | undefined;
   // The latest primer frame's footpoints wait until it is known whether it is the last (the seam).
   let pending: { index: number; fp: FootpointAnalysis } | undefined;
   const flushPrimer = (seam: boolean) => {
@@ -79,7 +92,7 @@ export async function analyseChunk(
     let frame: Frame;
     let result: FrameAnalysis;
     try {
-      frame = await load(job.file);
+      frame = await load(job);
       result = analyseFrame(frame, state, settings, cache);
     } catch (e) {
       // The state stays as it was: the next frame pairs with the last good one.
@@ -87,6 +100,9 @@ export async function analyseChunk(
       continue;
     }
     state = result.state;
+    const centre = framePatchCentre(frame);
+    const before = lastCentre;
+    lastCentre = centre;
     if (primer) {
       if (result.footpoints) { flushPrimer(false); pending = { index: job.index, fp: result.footpoints }; }
       continue;
@@ -100,9 +116,11 @@ export async function analyseChunk(
     if (fp && fp.labels instanceof Int32Array && fp.state !== undefined) extra.footpoints = footpointReport(fp, true);
     if (Array.isArray(extra.velocityNotes) && extra.velocityNotes.length === 0) delete extra.velocityNotes;
     if (options.writeMaps) await options.writeMaps(job, frame, maps, sample);
+    const sampleCentre = sample && (sample.dtS > 0 ? meanCentre(before, centre) : centre);
     onOutcome({
       index: job.index, file: job.file, time: frame.time,
       ...(sample && { sample }),
+      ...(sampleCentre && { centre: sampleCentre }),
       ...(waiting !== undefined && { waiting }),
       ...(Object.keys(extra).length > 0 && { extra }),
     });

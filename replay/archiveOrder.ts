@@ -12,6 +12,11 @@ export interface ScannedFrame extends Grid {
   readonly time: number;
   /** The frame carries vx, vy. */
   readonly hasVelocity: boolean;
+  /**
+   * With one file per component: every file of the frame, bn's first (`file` is bn's). Absent for
+   * a frame in one file.
+   */
+  readonly files?: readonly string[];
 }
 
 /** A file that could not be used, and why. */

@@ -6,17 +6,21 @@
 import { parentPort } from 'node:worker_threads';
 import type { ChunkJob, FrameOutcome } from './analyseChunk.js';
 import { analyseChunk } from './analyseChunk.js';
-import { scanFile } from './archiveSource.js';
-import type { ScanResult } from './archiveOrder.js';
+import type { FrameAssemblySettings } from '../core/frameAssembly/assembleFrame.js';
+import { scanOne } from './archiveSource.js';
+import type { FileScan } from './archiveSource.js';
 import { mapWriterFor } from './mapFiles.js';
 import type { PrimerTable } from './chunkSeams.js';
 
 export type WorkerRequest =
-  | { readonly kind: 'scan'; readonly files: readonly string[] }
-  | { readonly kind: 'analyse'; readonly jobs: readonly ChunkJob[]; readonly warmup: number; readonly settings?: unknown; readonly mapsDir?: string };
+  | { readonly kind: 'scan'; readonly files: readonly string[]; readonly components?: FrameAssemblySettings }
+  | {
+    readonly kind: 'analyse'; readonly jobs: readonly ChunkJob[]; readonly warmup: number; readonly settings?: unknown;
+    readonly components?: FrameAssemblySettings; readonly mapsDir?: string;
+  };
 
 export type WorkerReply =
-  | { readonly kind: 'scanned'; readonly result: ScanResult }
+  | { readonly kind: 'scanned'; readonly result: FileScan }
   | { readonly kind: 'frame'; readonly outcome: FrameOutcome }
   | { readonly kind: 'primer'; readonly table: PrimerTable }
   | { readonly kind: 'done' }
@@ -30,10 +34,11 @@ if (port) {
     const reply = (r: WorkerReply) => port.postMessage(r);
     const run = async () => {
       if (req.kind === 'scan') {
-        for (const f of req.files) reply({ kind: 'scanned', result: await scanFile(f) });
+        for (const f of req.files) reply({ kind: 'scanned', result: await scanOne(f, req.components) });
       } else {
         await analyseChunk(req.jobs, req.warmup, (outcome) => reply({ kind: 'frame', outcome }), {
           settings: req.settings, cache, onPrimer: (table) => reply({ kind: 'primer', table }),
+          ...(req.components !== undefined && { components: req.components }),
           ...(req.mapsDir !== undefined && { writeMaps: mapWriterFor(req.mapsDir) }),
         });
       }

@@ -1,10 +1,13 @@
-// Images on a frame's grid for the maps files (--maps): float32 through the core FITS writer,
-// with DATE-OBS (UTC) and a linear WCS in Mm on every image. Frames themselves are written by
-// core/frameAssembly/frameToFits.ts.
+// Images on a frame's grid for the maps files (--maps, and the monitor's maps.fits): float32
+// through the core FITS writer, with DATE-OBS (UTC) on every image and the world coordinates of
+// the frame: the input's celestial/heliographic WCS and observer keywords when its headers had
+// them (kept in the frame's provenance, turned with any mirror; core/frameAssembly/wcs.ts), else a
+// linear WCS in Mm. Frames themselves are written by core/frameAssembly/frameToFits.ts.
 
 import type { Frame } from '../core/frame.js';
 import type { FitsKeyword } from '../core/fits/cards.js';
-import type { ImageToWrite } from '../core/fits/writeImage.js';
+import type { ImageToWrite, ImageWcs } from '../core/fits/writeImage.js';
+import { frameWcs, observerRecord } from '../core/frameAssembly/wcs.js';
 
 /** DATE-OBS text: ISO 8601 without the zone letter, milliseconds kept (FITS Standard 4.0, 9.1.1). */
 export function fitsDate(time: number): string {
@@ -18,11 +21,36 @@ function timeKeywords(time: number): FitsKeyword[] {
   ];
 }
 
-/** One image of a frame's grid (a frame, or anything with its grid and time: a stored frame's row). */
-export function gridImage(frame: Pick<Frame, 'nx' | 'ny' | 'dx' | 'dy' | 'time'>, name: string, values: ArrayLike<number>, bunit: string): ImageToWrite {
+/** Observer keywords that are written anew (the time, in UTC) or would contradict it. */
+const REWRITTEN = new Set(['DATE-OBS', 'TIMESYS', 'MJD-OBS', 'DATEREF']);
+
+type GridSource = Pick<Frame, 'nx' | 'ny' | 'dx' | 'dy' | 'time'> & { readonly provenance?: Frame['provenance'] };
+
+/** The WCS of a frame's maps and the observer keywords to go with it. */
+export function gridWcs(frame: GridSource): { wcs: ImageWcs; keywords: FitsKeyword[] } {
+  const k = frame.provenance?.keywords;
+  const w = k ? frameWcs(k, frame.nx, frame.ny) : undefined;
+  if (!w || !k) return { wcs: { cdelt: [frame.dx, frame.dy] }, keywords: [] };
+  const keywords: FitsKeyword[] = Object.entries(observerRecord(k))
+    .filter(([key]) => !REWRITTEN.has(key))
+    .map(([key, value]) => ({ key, value, ...(typeof value === 'number' && !Number.isInteger(value) && { float: true }) }));
   return {
-    name, nx: frame.nx, ny: frame.ny, values, bunit,
-    wcs: { cdelt: [frame.dx, frame.dy] },
-    keywords: timeKeywords(frame.time),
+    wcs: {
+      ctype: w.ctype, cunit: w.cunit, crpix: w.crpix, crval: w.crval, cdelt: w.cdelt, pc: w.pc, pv: w.pv,
+      ...(w.lonpole !== undefined && { lonpole: w.lonpole }), ...(w.latpole !== undefined && { latpole: w.latpole }),
+    },
+    keywords,
+  };
+}
+
+/**
+ * One image of a frame's grid (a frame, or anything with its grid and time: a stored frame's row;
+ * with its provenance the input's world coordinates are kept).
+ */
+export function gridImage(frame: GridSource, name: string, values: ArrayLike<number>, bunit: string): ImageToWrite {
+  const { wcs, keywords } = gridWcs(frame);
+  return {
+    name, nx: frame.nx, ny: frame.ny, values, bunit, wcs,
+    keywords: [...timeKeywords(frame.time), ...keywords],
   };
 }

@@ -10,21 +10,26 @@
 // Unusable files are reported with their reason and skipped; the run goes on.
 
 import { availableParallelism } from 'node:os';
-import { mkdir, readFile, writeFile } from 'node:fs/promises';
+import { mkdir, writeFile } from 'node:fs/promises';
 import { basename, join } from 'node:path';
 import type { BudgetSettings, BudgetState } from '../core/budget.js';
 import { accumulateBudget, emptyBudget } from '../core/budget.js';
 import type { RulesSettings, RulesState } from '../core/alerts/evaluateRules.js';
 import { alertRecords, emptyRules, evaluateRules } from '../core/alerts/evaluateRules.js';
 import type { AlertChange } from '../core/alerts/alertState.js';
+import type { FrameAssemblySettings } from '../core/frameAssembly/assembleFrame.js';
+import { mergeAssemblySettings } from '../core/frameAssembly/componentLayouts.js';
+import type { PatchCentre } from '../core/frameAssembly/wcs.js';
 import { InputError } from '../core/inputError.js';
 import type { RateSample } from '../core/rateSample.js';
 import type { SeriesRow } from '../core/seriesColumns.js';
 import { SERIES_COLUMNS, seriesCsv, seriesRow } from '../core/seriesColumns.js';
 import type { ChunkJob, FrameOutcome } from './analyseChunk.js';
-import type { ScanResult, ScannedFrame, SkippedFile } from './archiveOrder.js';
-import { orderArchive } from './archiveOrder.js';
-import { listFrameFiles } from './archiveSource.js';
+import type { ScannedFrame, SkippedFile } from './archiveOrder.js';
+import type { FileScan } from './archiveSource.js';
+import { indexScans, listFrameFiles } from './archiveSource.js';
+import type { BatchConfig } from './batchConfig.js';
+import { readBatchConfig } from './batchConfig.js';
 import { primerStart } from './chunkPriming.js';
 import type { ChunkOutput, MergedChunks, PrimerTable } from './chunkSeams.js';
 import { mergeChunks } from './chunkSeams.js';
@@ -41,8 +46,10 @@ export interface ProcessArgs {
   readonly json?: string;
   /** Folder for one FITS file of maps per analysed frame. */
   readonly maps?: string;
-  /** A JSON file: { analysis?, budget?, rules? } (see batchConfig). */
+  /** A JSON file: { analysis?, budget?, rules?, components? } (replay/batchConfig.ts). */
   readonly config?: string;
+  /** How FITS files map to components, over the config file's `components` (component by component). */
+  readonly components?: FrameAssemblySettings;
   /** Worker threads; every core by default. */
   readonly workers?: number;
   /** Where progress goes (stderr by default). */
@@ -60,41 +67,6 @@ export interface ProcessSummary {
   readonly reordered: string[];
 }
 
-/** What a --config file holds. Without any of these keys the whole object is the analysis settings. */
-export interface BatchConfig {
-  /** Passed as they are to core analyseFrame. */
-  readonly analysis: unknown;
-  readonly budget: BudgetSettings;
-  readonly rules: RulesSettings['rules'];
-}
-
-/** Reads and splits a --config file. Throws InputError naming the file. */
-export async function readBatchConfig(path?: string): Promise<BatchConfig> {
-  if (path === undefined) return { analysis: {}, budget: {}, rules: {} };
-  let json: unknown;
-  try {
-    json = JSON.parse(await readFile(path, 'utf8'));
-  } catch (e) {
-    throw new InputError(path, '(file)', `cannot be read as JSON: ${(e as Error).message}`);
-  }
-  if (json === null || typeof json !== 'object' || Array.isArray(json)) {
-    throw new InputError(path, '(top level)', 'must be a JSON object: { "analysis": {...}, "budget": {...}, "rules": {...} }');
-  }
-  const o = json as Record<string, unknown>;
-  const object = (key: string): Record<string, unknown> => {
-    const v = o[key];
-    if (v === undefined) return {};
-    if (v === null || typeof v !== 'object' || Array.isArray(v)) throw new InputError(path, key, 'must be a JSON object');
-    return v as Record<string, unknown>;
-  };
-  const split = 'analysis' in o || 'budget' in o || 'rules' in o;
-  return {
-    analysis: split ? object('analysis') : o,
-    budget: object('budget') as BudgetSettings,
-    rules: object('rules') as RulesSettings['rules'],
-  };
-}
-
 /** Splits n frames into `parts` contiguous chunks [start, end), sizes differing by at most one. */
 export function contiguousChunks(n: number, parts: number): { start: number; end: number }[] {
   const out: { start: number; end: number }[] = [];
@@ -103,11 +75,11 @@ export function contiguousChunks(n: number, parts: number): { start: number; end
   return out.filter((c) => c.end > c.start);
 }
 
-async function scanAll(pool: WorkerPool, files: string[], progress: ProgressReport): Promise<ScanResult[]> {
-  const results: ScanResult[] = [];
+async function scanAll(pool: WorkerPool, files: string[], components: FrameAssemblySettings, progress: ProgressReport): Promise<FileScan[]> {
+  const results: FileScan[] = [];
   progress.start('reading', files.length);
   await Promise.all(contiguousChunks(files.length, pool.size).map((c, w) =>
-    pool.run(w, { kind: 'scan', files: files.slice(c.start, c.end) }, (r) => {
+    pool.run(w, { kind: 'scan', files: files.slice(c.start, c.end), components }, (r) => {
       if (r.kind === 'scanned') { results.push(r.result); progress.tick(); }
     })));
   progress.stop();
@@ -115,7 +87,8 @@ async function scanAll(pool: WorkerPool, files: string[], progress: ProgressRepo
 }
 
 async function analyseAll(
-  pool: WorkerPool, jobs: ChunkJob[], entries: readonly ScannedFrame[], settings: unknown, mapsDir: string | undefined, progress: ProgressReport,
+  pool: WorkerPool, jobs: ChunkJob[], entries: readonly ScannedFrame[], settings: unknown, components: FrameAssemblySettings,
+  mapsDir: string | undefined, progress: ProgressReport,
 ): Promise<MergedChunks> {
   const chunks = contiguousChunks(jobs.length, pool.size);
   const outputs = chunks.map(() => ({ outcomes: [] as FrameOutcome[], primers: [] as PrimerTable[] }));
@@ -124,7 +97,7 @@ async function analyseAll(
     // The chunk starts early: its primer frames only prime the state (and report their footpoints).
     const from = primerStart(entries, c.start, settings);
     return pool.run(w, {
-      kind: 'analyse', jobs: jobs.slice(from, c.end), warmup: c.start - from, settings,
+      kind: 'analyse', jobs: jobs.slice(from, c.end), warmup: c.start - from, settings, components,
       ...(mapsDir !== undefined && { mapsDir }),
     }, (r) => {
       if (r.kind === 'frame') { outputs[w].outcomes.push(r.outcome); progress.tick(); }
@@ -155,7 +128,7 @@ interface SeriesResult {
 }
 
 /** Budget, series rows and alerts from the samples in time order (refusals feed the data rules). */
-function buildSeries(samples: { sample: RateSample; index: number; file: string }[], refusalTimes: number[], config: BatchConfig, cadenceS?: number): SeriesResult {
+function buildSeries(samples: { sample: RateSample; index: number; file: string; centre?: PatchCentre }[], refusalTimes: number[], config: BatchConfig, cadenceS?: number): SeriesResult {
   let budget = emptyBudget();
   let rules = emptyRules();
   const rulesSettings: RulesSettings = { rules: config.rules ?? {} };
@@ -165,7 +138,7 @@ function buildSeries(samples: { sample: RateSample; index: number; file: string 
   const refusals = [...refusalTimes].sort((a, b) => a - b);
   let r = 0;
   const seen: number[] = [];
-  for (const { sample, index, file } of samples) {
+  for (const { sample, index, file, centre } of samples) {
     // Refusals up to this sample's time, in order, so the data rules see them when they happened.
     while (r < refusals.length && refusals[r] <= sample.time) {
       seen.push(refusals[r]);
@@ -183,7 +156,7 @@ function buildSeries(samples: { sample: RateSample; index: number; file: string 
     }, rulesSettings);
     rules = step.state;
     alertChanges.push(...step.changes.map((c) => c.change));
-    const row = seriesRow(sample, b.point, index);
+    const row = seriesRow(sample, b.point, index, centre);
     // The budget marks a gap on the first sample after it.
     rows.push({ ...row, flags: b.point.gap ? [...row.flags, 'after-gap'] : row.flags, file });
   }
@@ -212,6 +185,7 @@ function median(values: number[]): number | undefined {
 export async function processFolder(args: ProcessArgs): Promise<ProcessSummary> {
   const progress = progressReport(args.progress ?? process.stderr);
   const config = await readBatchConfig(args.config);
+  const components = mergeAssemblySettings(config.components, args.components ?? {});
   const files = await listFrameFiles(args.folder);
   if (files.length === 0) throw new InputError(args.folder, '(folder)', 'holds no frame files (.json, .fits)');
   if (args.workers !== undefined && (!Number.isInteger(args.workers) || args.workers < 1)) {
@@ -224,9 +198,9 @@ export async function processFolder(args: ProcessArgs): Promise<ProcessSummary> 
   let unmatched = 0;
   let index;
   try {
-    index = orderArchive(await scanAll(pool, files, progress));
-    const jobs = index.entries.map((e, i) => ({ index: i, file: e.file }));
-    const merged = jobs.length > 0 ? await analyseAll(pool, jobs, index.entries, config.analysis, args.maps, progress) : undefined;
+    index = indexScans(await scanAll(pool, files, components, progress), components);
+    const jobs = index.entries.map((e, i): ChunkJob => ({ index: i, file: e.file, ...(e.files && { files: e.files }) }));
+    const merged = jobs.length > 0 ? await analyseAll(pool, jobs, index.entries, config.analysis, components, args.maps, progress) : undefined;
     outcomes = merged?.outcomes ?? [];
     unmatched = merged?.unmatched ?? 0;
   } finally {
@@ -235,7 +209,7 @@ export async function processFolder(args: ProcessArgs): Promise<ProcessSummary> 
   const skipped: SkippedFile[] = index.skipped.map((s) => ({ file: s.file, reason: s.reason }));
   // Frames set aside that have a time feed the refusals rule.
   const refusalTimes = index.skipped.flatMap((s) => (s.time !== undefined ? [s.time] : []));
-  const samples: { sample: RateSample; index: number; file: string }[] = [];
+  const samples: { sample: RateSample; index: number; file: string; centre?: PatchCentre }[] = [];
   const extras: { index: number; file: string; time?: number; extra: Record<string, unknown> }[] = [];
   const waiting: { file: string; reason: string }[] = [];
   let used = 0;
@@ -243,7 +217,7 @@ export async function processFolder(args: ProcessArgs): Promise<ProcessSummary> 
     if (!o) continue;
     if (o.skipped !== undefined) { skipped.push({ file: o.file, reason: o.skipped }); continue; }
     used++;
-    if (o.sample) samples.push({ sample: o.sample, index: o.index, file: o.file });
+    if (o.sample) samples.push({ sample: o.sample, index: o.index, file: o.file, ...(o.centre && { centre: o.centre }) });
     else if (o.waiting !== undefined) waiting.push({ file: o.file, reason: o.waiting });
     if (o.extra) extras.push({ index: o.index, file: o.file, ...(o.time !== undefined && { time: o.time }), extra: o.extra });
   }

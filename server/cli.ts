@@ -1,83 +1,79 @@
 // The command line: `helicord <command> [options]`. Each command composes core and the server;
-// none computes on its own.
+// none computes on its own. Every command declares its options (server/commands/args.ts): they are
+// read strictly, and `helicord CMD --help` prints them with their defaults.
 
-import { PROCESS_HELP, SYNTH_HELP, processCli, synthCli } from './commands/batch.js';
-import { parseArgs, type ParsedArgs } from './commands/args.js';
-import { rateCommand } from './commands/rate.js';
-import { REPLAY_HELP, replayCommand } from './commands/replayCommand.js';
-import { serveCommand } from './commands/serveCommand.js';
+import { InputError } from '../core/inputError.js';
+import type { CommandSpec, ParsedArgs } from './commands/args.js';
+import { commandHelp, parseCommandArgs } from './commands/args.js';
+import { PROCESS_SPEC, SYNTH_SPEC, processCli, synthCli } from './commands/batch.js';
+import { RATE_SPEC, rateCommand } from './commands/rate.js';
+import { REPLAY_SPEC, replayCommand } from './commands/replayCommand.js';
+import { SERVE_SPEC, serveCommand } from './commands/serveCommand.js';
+import { nearest } from '../replay/settingsSchema.js';
+
+type Run = (args: ParsedArgs, out: NodeJS.WritableStream, err: NodeJS.WritableStream) => Promise<number>;
+
+const COMMANDS: Record<string, { spec: CommandSpec; run: Run }> = {
+  serve: { spec: SERVE_SPEC, run: serveCommand },
+  rate: { spec: RATE_SPEC, run: rateCommand },
+  replay: { spec: REPLAY_SPEC, run: replayCommand },
+  process: { spec: PROCESS_SPEC, run: processCli },
+  synth: { spec: SYNTH_SPEC, run: synthCli },
+};
 
 export const HELP = `helicord — live monitor of magnetic-helicity injection through the photosphere
 
 Usage: helicord <command> [options]
+       helicord <command> --help      the command's options, with their defaults
 
 Commands:
-  serve [--data DIR] [--port N] [--host H] [--demo] [--read-token] [--workers N] [--allow-host H]
-        [--queue-limit N] [--max-frame-pixels N] [--intake-memory-mb N]
-        Start the monitor (HTTP + WebSocket, 127.0.0.1:8750 by default). --demo adds the built-in
-        synthetic demo region, streaming live. Data are kept in DIR (default ./data); the ingest
-        token is created there at first start and printed once (or set HELICORD_TOKEN).
-        --read-token makes reading need the token too. --allow-host NAME[,NAME] answers those
-        host names besides the loopback ones; --queue-limit N (16) frames may wait per region
-        before senders are held back (503 / a paused socket); --max-frame-pixels N (4194304 =
-        2048^2) is the largest frame; --intake-memory-mb N (1024) bounds the frame reader.
-  rate FRAME [FRAME ...] [--labels detect|from-file|none|FILE.json] [--footpoints]
-       [--method auto|dave|dave4vm|lct] [--window SIGMA_PX] [--noise G]
-        Helicity injection rate printed as JSON (Mx^2/s): total, total_ga, spin, orbit,
-        background, and emergence, shear with vector data. One frame must carry its velocity;
-        with frames that carry none, the velocity is inferred between the last two (--method,
-        default auto: dave4vm with bx, by, else dave) and the rate is at their mid-time. A
-        sequence (any number of frames, taken in time order) is tracked through: footpoint ids
-        and windings follow, footpoint motions are measured over the 720 s motion baseline;
-        the last frame's sample is printed and sample_frames names the frames it came from.
-        Footpoints are detected and tracked unless the frame has labels (--labels from-file) or
-        --labels none; --footpoints adds the footpoint table, events and pair matrices.
-        FRAME is a JSON or FITS frame (see README).
-${REPLAY_HELP}
-${PROCESS_HELP}
-${SYNTH_HELP}
-  help  This text.
+${Object.values(COMMANDS).map(({ spec }) => `  ${spec.name.padEnd(8)}${spec.summary}\n${spec.usage.map((u) => `          helicord ${u}`).join('\n')}`).join('\n')}
+  help    this text
 
 These are research indicators, not forecasts: for operational decisions use the official
 space-weather services.
 `;
 
-type Command = (args: ParsedArgs, out: NodeJS.WritableStream, err: NodeJS.WritableStream) => Promise<number>;
-
-const COMMANDS: Record<string, Command> = {
-  serve: serveCommand,
-  rate: rateCommand,
-  replay: replayCommand,
-  process: processCli,
-  synth: synthCli,
+/** Kinds of thing a file error can be about (InputError fields written in brackets). */
+const FILE_FIELDS: Record<string, string> = {
+  '(file)': 'the file', '(folder)': 'the folder', '(config file)': 'the config file', '(labels file)': 'the labels file',
 };
+
+/** An error as one sentence: a file or folder that cannot be used is named first. */
+function sentence(e: unknown): string {
+  if (e instanceof InputError && FILE_FIELDS[e.field] !== undefined) return `${FILE_FIELDS[e.field]} ${e.source} ${e.problem}.`;
+  return (e as Error).message;
+}
 
 export async function main(argv: string[], out: NodeJS.WritableStream = process.stdout, err: NodeJS.WritableStream = process.stderr): Promise<number> {
   const [name, ...rest] = argv;
   if (name === undefined || name === 'help' || name === '--help' || name === '-h') {
+    const topic = name === 'help' ? rest[0] : undefined;
+    if (topic !== undefined && COMMANDS[topic]) { out.write(commandHelp(COMMANDS[topic].spec)); return 0; }
     out.write(HELP);
     return name === undefined ? 2 : 0;
   }
   const command = COMMANDS[name];
   if (!command) {
-    err.write(`helicord: unknown command "${name}". Run \`helicord --help\` for the list.\n`);
+    const near = nearest(name, Object.keys(COMMANDS));
+    err.write(`helicord: unknown command "${name}"${near ? ` (did you mean ${near}?)` : ''}. Run \`helicord --help\` for the list.\n`);
     return 2;
   }
   let args: ParsedArgs;
   try {
-    args = parseArgs(rest);
+    args = parseCommandArgs(command.spec, rest);
   } catch (e) {
     err.write(`helicord ${name}: ${(e as Error).message}\n`);
     return 2;
   }
-  if (args.flags.help) {
-    out.write(HELP);
+  if (args.boolean('help')) {
+    out.write(commandHelp(command.spec));
     return 0;
   }
   try {
-    return await command(args, out, err);
+    return await command.run(args, out, err);
   } catch (e) {
-    err.write(`helicord ${name}: ${(e as Error).message}\n`);
+    err.write(`helicord ${name}: ${sentence(e)}\n`);
     return 1;
   }
 }

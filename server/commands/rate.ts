@@ -4,28 +4,71 @@
 // tracked through all of them, and with frames that carry no velocity the footpoint motions of the
 // last pair are measured over the motion baseline when earlier frames reach back that far. A frame
 // that carries its velocity gives a sample of its own: the last frame's sample is the one printed,
-// and `sample_frames` says which frames it came from.
+// `sample_frames` says which frames it came from, and the earlier frames' own samples are listed
+// in `other_samples`. FITS archives with one file per component are read with the component
+// options or a config file's `components`.
 import { readFile } from 'node:fs/promises';
 import type { FluxKernelCache } from '../../core/fluxKernel.js';
 import type { Frame } from '../../core/frame.js';
 import type { AnalysisSettings, AnalysisState, FrameAnalysis } from '../../core/frameAnalysis.js';
 import { analyseFrame } from '../../core/frameAnalysis.js';
 import { hasVelocity } from '../../core/frame.js';
+import type { FrameAssemblySettings } from '../../core/frameAssembly/assembleFrame.js';
+import { mergeAssemblySettings, readsComponentFiles } from '../../core/frameAssembly/componentLayouts.js';
+import type { PatchCentre } from '../../core/frameAssembly/wcs.js';
+import { framePatchCentre, meanCentre } from '../../core/frameAssembly/wcs.js';
 import { footpointReport } from '../../core/footpoints/footpointReport.js';
 import { InputError } from '../../core/inputError.js';
 import type { RateSample } from '../../core/rateSample.js';
 import { rateSample } from '../../core/rateSample.js';
 import type { VelocityMethod } from '../../core/velocity/velocitySettings.js';
-import { loadFrameFile } from '../../replay/frameFiles.js';
-import type { ParsedArgs } from './args.js';
-import { numberFlag, stringFlag } from './args.js';
+import { DEFAULT_VELOCITY_SETTINGS } from '../../core/velocity/velocitySettings.js';
+import { readBatchConfig } from '../../replay/batchConfig.js';
+import { fileProblem } from '../../replay/fileProblem.js';
+import { loadFrameFile, loadFrameFileSet } from '../../replay/frameFiles.js';
+import type { CommandSpec, ParsedArgs } from './args.js';
+import { COMPONENT_OPTIONS, componentSettingsFrom } from './componentOptions.js';
+
+export const RATE_SPEC: CommandSpec = {
+  name: 'rate',
+  usage: ['rate FRAME [FRAME ...] [options]'],
+  summary: 'the injection rate of one frame, a pair or a sequence, printed as JSON',
+  description: 'Helicity injection rate printed as JSON (Mx^2/s): total, total_ga, spin, orbit, background, and emergence, shear '
+    + 'with vector data, with the unsigned flux (Mx) and, when the headers give them, the patch centre. One frame must carry its '
+    + 'velocity; with frames that carry none, the velocity is inferred between the last two and the rate is at their mid-time. '
+    + 'A sequence (any number of frames, taken in time order) is tracked through: footpoint ids and windings follow, footpoint '
+    + 'motions are measured over the 720 s motion baseline; the last frame\'s sample is printed, sample_frames names its frames, '
+    + 'and frames that carry their own velocity give their samples in other_samples. Footpoints are detected and tracked unless '
+    + 'the frame has labels (--labels from-file) or --labels none. FRAME is a JSON frame, a FITS frame file, or, with a layout of '
+    + 'one file per component, every component file of every time (see README and docs/fits.md).',
+  positionals: { min: 1, max: Infinity, what: 'a frame file, or a sequence of frames (FRAME FRAME ...)' },
+  options: {
+    labels: {
+      kind: 'string', value: 'WHICH', defaultText: 'detect (from-file for one frame that carries labels)',
+      help: 'footpoint labels: detect (segment and track), from-file (the frame\'s own labels), none, or FILE.json (a list of nx*ny integers)',
+    },
+    footpoints: { kind: 'boolean', help: 'add the footpoint table, events and pair matrices' },
+    method: { kind: 'string', value: 'NAME', choices: ['auto', 'dave', 'dave4vm', 'lct'], defaultText: 'auto: dave4vm when both frames carry bx, by, else dave', help: 'velocity inference between frames that carry none' },
+    window: { kind: 'number', value: 'SIGMA_PX', min: 1, max: 64, defaultText: String(DEFAULT_VELOCITY_SETTINGS.sigma), help: 'Gaussian window width of the velocity inference, pixels' },
+    noise: { kind: 'number', value: 'G', above: 0, defaultText: 'estimated from each frame', help: 'noise of bn, gauss' },
+    'max-interval': { kind: 'number', value: 'S', above: 0, defaultText: String(DEFAULT_VELOCITY_SETTINGS.maxIntervalS), help: 'frames further apart than this many seconds are not paired for a velocity' },
+    config: { kind: 'string', value: 'FILE', help: 'a config file (README): its analysis and components apply (the options above win); budget and rules do not apply to one rate' },
+    ...COMPONENT_OPTIONS,
+  },
+};
 
 async function labelsFromFile(frame: Frame, path: string, source: string): Promise<Int32Array> {
+  let text: string;
+  try {
+    text = await readFile(path, 'utf8');
+  } catch (e) {
+    throw new InputError(path, '(labels file)', fileProblem(e));
+  }
   let json: unknown;
   try {
-    json = JSON.parse(await readFile(path, 'utf8'));
+    json = JSON.parse(text);
   } catch (e) {
-    throw new InputError(path, '(file)', `cannot be read as JSON: ${(e as Error).message}`);
+    throw new InputError(path, '(labels file)', `cannot be read as JSON: ${(e as Error).message}`);
   }
   const arr = Array.isArray(json) ? json : (json as { labels?: unknown }).labels;
   if (!Array.isArray(arr) || arr.length !== frame.nx * frame.ny || !arr.every((v) => Number.isInteger(v) && v >= 0)) {
@@ -34,21 +77,25 @@ async function labelsFromFile(frame: Frame, path: string, source: string): Promi
   return Int32Array.from(arr as number[]);
 }
 
-const METHODS = new Set(['lct', 'dave', 'dave4vm', 'auto']);
-
-function settingsFrom(args: ParsedArgs): AnalysisSettings {
-  const method = stringFlag(args, 'method');
-  if (method !== undefined && !METHODS.has(method)) throw new Error(`option --method must be lct, dave, dave4vm or auto, got "${method}"`);
-  const sigma = numberFlag(args, 'window');
-  const noiseG = numberFlag(args, 'noise');
+/** The config file's analysis settings with the options laid over them. */
+function settingsFrom(args: ParsedArgs, base: AnalysisSettings): AnalysisSettings {
+  const method = args.string('method') as VelocityMethod | 'auto' | undefined;
+  const sigma = args.number('window');
+  const noiseG = args.number('noise');
+  const maxIntervalS = args.number('max-interval');
+  const velocity = {
+    ...base.velocity,
+    ...(method !== undefined && { method }), ...(sigma !== undefined && { sigma }), ...(maxIntervalS !== undefined && { maxIntervalS }),
+  };
   return {
+    ...base,
     ...(noiseG !== undefined && { noiseG }),
-    velocity: { ...(method && { method: method as VelocityMethod | 'auto' }), ...(sigma !== undefined && { sigma }) },
-    ...(noiseG !== undefined && { footpoints: { noise: noiseG } }),
+    ...(Object.keys(velocity).length > 0 && { velocity }),
+    ...(noiseG !== undefined && base.footpoints !== false && { footpoints: { ...base.footpoints, noise: noiseG } }),
   };
 }
 
-function sampleJson(s: RateSample): Record<string, unknown> {
+function sampleJson(s: RateSample, centre?: PatchCentre): Record<string, unknown> {
   return {
     time: new Date(s.time).toISOString(),
     dt_s: s.dtS,
@@ -60,17 +107,25 @@ function sampleJson(s: RateSample): Record<string, unknown> {
     ...(s.emergence !== undefined && { emergence: s.emergence, shear: s.shear }),
     sigma_total: s.sigmaTotal,
     noise_g: s.noiseG,
+    flux_unsigned: s.unsignedFlux ?? null,
     masked_fraction: s.maskedFraction,
     velocity_method: s.velocityMethod,
     split_method: s.splitMethod,
     flags: s.flags,
+    ...(centre && { centre: { lon_deg: centre.lonDeg, lat_deg: centre.latDeg, disk_angle_deg: centre.diskAngleDeg ?? null } }),
     unit: 'Mx^2/s',
   };
 }
 
 /** The frames of the command line in time order; a time given twice is refused, naming both files. */
-async function framesInTimeOrder(files: readonly string[]): Promise<{ file: string; frame: Frame }[]> {
-  const loaded = await Promise.all(files.map(async (file) => ({ file, frame: await loadFrameFile(file) })));
+async function framesInTimeOrder(files: readonly string[], components: FrameAssemblySettings): Promise<{ file: string; frame: Frame }[]> {
+  let loaded: { file: string; frame: Frame }[];
+  if (readsComponentFiles(components)) {
+    // One file per component: the files are grouped by time, each frame named by its bn file.
+    loaded = (await loadFrameFileSet(files, components)).map((frame) => ({ file: frame.provenance?.source ?? '?', frame }));
+  } else {
+    loaded = await Promise.all(files.map(async (file) => ({ file, frame: await loadFrameFile(file, components) })));
+  }
   const ordered = [...loaded].sort((a, b) => a.frame.time - b.frame.time);
   for (let k = 1; k < ordered.length; k++) {
     if (ordered[k].frame.time === ordered[k - 1].frame.time) {
@@ -82,12 +137,12 @@ async function framesInTimeOrder(files: readonly string[]): Promise<{ file: stri
 }
 
 export async function rateCommand(args: ParsedArgs, out: NodeJS.WritableStream): Promise<number> {
-  const files = args.positional;
-  if (files.length < 1) throw new Error('give one frame file, or a sequence of frames (FRAME FRAME ...)');
-  const frames = await framesInTimeOrder(files);
+  const config = await readBatchConfig(args.string('config'));
+  const components = mergeAssemblySettings(config.components, componentSettingsFrom(args));
+  const frames = await framesInTimeOrder(args.positional, components);
   const { file, frame } = frames[frames.length - 1];
-  const labelsOption = stringFlag(args, 'labels') ?? (frames.length === 1 && frame.labels ? 'from-file' : 'detect');
-  const settings = settingsFrom(args);
+  const labelsOption = args.string('labels') ?? (frames.length === 1 && frame.labels ? 'from-file' : 'detect');
+  const settings = settingsFrom(args, config.analysis);
 
   if (labelsOption !== 'detect') {
     // Labels given (in the frame, or a file) or none: one frame that carries its velocity.
@@ -96,8 +151,8 @@ export async function rateCommand(args: ParsedArgs, out: NodeJS.WritableStream):
       : labelsOption === 'from-file' ? frame.labels ?? null
         : await labelsFromFile(frame, labelsOption, file);
     const r = rateSample({ frame, labels, ...(settings.noiseG !== undefined && { noiseG: settings.noiseG }) });
-    const result = { ...sampleJson(r.sample), sample_frames: [file] } as Record<string, unknown>;
-    if (args.flags.footpoints && r.split) {
+    const result = { ...sampleJson(r.sample, framePatchCentre(frame)), sample_frames: [file] } as Record<string, unknown>;
+    if (args.boolean('footpoints') && r.split) {
       const k = r.split.ids.length;
       result.footpoints = r.split.ids.map((id, a) => ({ id, spin: r.split!.spin[a] }));
       result.pair_ids = r.split.ids;
@@ -112,28 +167,35 @@ export async function rateCommand(args: ParsedArgs, out: NodeJS.WritableStream):
   const cache: FluxKernelCache = new Map();
   let state: AnalysisState = {};
   let analysis: FrameAnalysis | undefined;
-  const withOwnVelocity: string[] = [];
+  const ownSamples: Record<string, unknown>[] = [];
+  let centre: PatchCentre | undefined, before: PatchCentre | undefined;
   for (const f of frames) {
     analysis = analyseFrame(f.frame, state, settings, cache);
     state = analysis.state;
-    if (analysis.sample && hasVelocity(f.frame)) withOwnVelocity.push(f.file);
+    before = centre;
+    centre = framePatchCentre(f.frame);
+    if (analysis.sample && hasVelocity(f.frame) && f !== frames[frames.length - 1]) {
+      ownSamples.push({ ...sampleJson(analysis.sample, centre), sample_frames: [f.file] });
+    }
   }
   if (!analysis?.sample) {
     const next = frames.length === 1 ? 'give the next frame as a second file' : 'give a frame close enough before it';
     throw new InputError(file, 'vx/vy', `${analysis?.waiting}; ${next}`);
   }
-  const sampleFrames = hasVelocity(frame) ? [file] : [frames[frames.length - 2].file, file];
-  const result: Record<string, unknown> = { ...sampleJson(analysis.sample), sample_frames: sampleFrames };
+  const pair = !hasVelocity(frame);
+  const sampleFrames = pair ? [frames[frames.length - 2].file, file] : [file];
+  const result: Record<string, unknown> = { ...sampleJson(analysis.sample, pair ? meanCentre(before, centre) : centre), sample_frames: sampleFrames };
   const notes = [...analysis.velocityNotes];
-  if (hasVelocity(frame) && withOwnVelocity.length > 1) {
-    notes.push(`${withOwnVelocity.length} of the frames carry their velocity and each gives a sample: this is the last one's (${file}); the others served the footpoint tracking.`);
+  if (ownSamples.length > 0) {
+    notes.push(`${ownSamples.length + (pair ? 0 : 1)} of the frames carry their velocity and each gives a sample: the one above is ${pair ? 'the last pair\'s' : `the last frame's (${file})`}; the others are in other_samples.`);
+    result.other_samples = ownSamples;
   }
   if (notes.length > 0) result.velocity_notes = notes;
   if (analysis.footpoints) {
     result.spin_point = analysis.footpoints.point.spin;
     result.orbit_point = analysis.footpoints.point.orbit;
     result.footpoint_count = analysis.footpoints.footpoints.length;
-    if (args.flags.footpoints) result.footpoints = footpointReport(analysis.footpoints, true);
+    if (args.boolean('footpoints')) result.footpoints = footpointReport(analysis.footpoints, true);
   }
   out.write(JSON.stringify(result, null, 2) + '\n');
   return 0;

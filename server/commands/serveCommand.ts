@@ -2,44 +2,58 @@
 // options and the run-until-signal step are shared with `helicord replay`.
 import type { RunningMonitor, ServeOptions } from '../serve.js';
 import { serve } from '../serve.js';
-import type { ParsedArgs } from './args.js';
-import { numberFlag, stringFlag } from './args.js';
+import type { CommandSpec, OptionSpec, ParsedArgs } from './args.js';
 
 /** The port when none is given. */
 export const DEFAULT_PORT = 8750;
 
 const CAUTION = 'Research indicators, not forecasts: for operational decisions use the official space-weather services.\n';
 
-/** A positive integer option, or undefined when absent. */
-function positiveInteger(args: ParsedArgs, name: string): number | undefined {
-  const v = numberFlag(args, name);
-  if (v !== undefined && (!Number.isInteger(v) || v < 1)) throw new Error(`option --${name} must be a positive integer, got ${v}`);
-  return v;
-}
+/** The options of every command that starts the monitor. */
+export const MONITOR_OPTIONS: Readonly<Record<string, OptionSpec>> = {
+  data: { kind: 'string', value: 'DIR', default: './data', help: 'the data folder: database, frame and map files, the token, inbox folders' },
+  port: { kind: 'integer', value: 'N', min: 0, max: 65535, default: DEFAULT_PORT, help: 'TCP port (0 picks a free one; the address printed tells which)' },
+  host: { kind: 'string', value: 'H', defaultText: '127.0.0.1', help: 'the interface to listen on' },
+  'read-token': { kind: 'boolean', help: 'reading needs the token too (otherwise reading is open on loopback)' },
+  workers: { kind: 'integer', value: 'N', min: 1, defaultText: 'one fewer than the cores, 1 to 4', help: 'compute workers' },
+  'allow-host': { kind: 'list', value: 'NAME', help: 'host names answered besides the loopback ones' },
+  'queue-limit': { kind: 'integer', value: 'N', min: 1, defaultText: '16', help: 'frames that may wait per region before senders are held back (503 / a paused socket)' },
+  'max-frame-pixels': { kind: 'integer', value: 'N', min: 1, defaultText: '4194304 = 2048^2', help: 'the largest frame accepted, pixels' },
+  'intake-memory-mb': { kind: 'integer', value: 'N', min: 1, defaultText: '1024', help: 'memory bound of the frame reader, MiB' },
+  'replay-root': { kind: 'string', value: 'DIR', help: 'lets the API start replays of folders under DIR' },
+};
 
-/**
- * The options every command that starts the monitor takes: --data, --port, --host, --workers,
- * --read-token, --replay-root, --allow-host (repeatable as a comma list), --queue-limit,
- * --max-frame-pixels, --intake-memory-mb.
- */
+export const SERVE_SPEC: CommandSpec = {
+  name: 'serve',
+  usage: ['serve [--data DIR] [--port N] [--host H] [--demo] [options]'],
+  summary: 'start the monitor (HTTP + WebSocket, 127.0.0.1:8750 by default)',
+  description: 'Start the monitor (HTTP + WebSocket). Data are kept in the data folder; the ingest token is created there at first '
+    + 'start and printed once (or set HELICORD_TOKEN). --demo adds the built-in synthetic demo region, streaming live. Runs until '
+    + 'SIGINT or SIGTERM.',
+  positionals: { min: 0, max: 0, what: 'no file names' },
+  options: {
+    demo: { kind: 'boolean', help: 'add the built-in synthetic demo region, streaming live' },
+    ...MONITOR_OPTIONS,
+  },
+};
+
+/** The monitor options of a command line (MONITOR_OPTIONS). */
 export function monitorOptions(args: ParsedArgs, out: NodeJS.WritableStream): ServeOptions {
-  const port = numberFlag(args, 'port', DEFAULT_PORT)!;
-  if (!Number.isInteger(port) || port < 0 || port > 65535) throw new Error(`option --port must be a TCP port (0-65535), got ${port}`);
-  const workers = numberFlag(args, 'workers');
-  const host = stringFlag(args, 'host');
-  const replayRoot = stringFlag(args, 'replay-root');
-  const allowHost = stringFlag(args, 'allow-host');
-  const queueLimit = positiveInteger(args, 'queue-limit');
-  const maxFramePixels = positiveInteger(args, 'max-frame-pixels');
-  const intakeMemoryMb = positiveInteger(args, 'intake-memory-mb');
+  const workers = args.number('workers');
+  const host = args.string('host');
+  const replayRoot = args.string('replay-root');
+  const allowedHosts = args.list('allow-host');
+  const queueLimit = args.number('queue-limit');
+  const maxFramePixels = args.number('max-frame-pixels');
+  const intakeMemoryMb = args.number('intake-memory-mb');
   return {
-    dataDir: stringFlag(args, 'data', './data')!,
-    port,
+    dataDir: args.string('data')!,
+    port: args.number('port')!,
     ...(host !== undefined && { host }),
-    readToken: args.flags['read-token'] === true,
+    readToken: args.boolean('read-token'),
     ...(workers !== undefined && { workers }),
     ...(replayRoot !== undefined && { replayRoot }),
-    ...(allowHost !== undefined && { allowedHosts: allowHost.split(',').map((h) => h.trim()).filter(Boolean) }),
+    ...(allowedHosts.length > 0 && { allowedHosts }),
     ...(queueLimit !== undefined && { queueLimit }),
     ...(maxFramePixels !== undefined && { maxFramePixels }),
     ...(intakeMemoryMb !== undefined && { intakeMemoryMb }),
@@ -62,7 +76,6 @@ export async function runUntilSignal(monitor: RunningMonitor, out: NodeJS.Writab
 }
 
 export async function serveCommand(args: ParsedArgs, out: NodeJS.WritableStream): Promise<number> {
-  if (args.positional.length > 0) throw new Error(`serve takes no file names, got "${args.positional[0]}"`);
-  const monitor = await serve({ ...monitorOptions(args, out), demo: args.flags.demo === true });
+  const monitor = await serve({ ...monitorOptions(args, out), demo: args.boolean('demo') });
   return runUntilSignal(monitor, out);
 }

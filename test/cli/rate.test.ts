@@ -93,10 +93,10 @@ describe('helicord rate with detection and inference', () => {
     expect(err.text()).toMatch(/a\.json: vx\/vy: .*next frame/);
   });
 
-  it('an unknown method is refused', async () => {
+  it('an unknown method is refused as a bad argument, with the choices', async () => {
     const err = capture();
-    expect(await main(['rate', a, b, '--method', 'guess'], capture().stream, err.stream)).toBe(1);
-    expect(err.text()).toMatch(/--method must be/);
+    expect(await main(['rate', a, b, '--method', 'guess'], capture().stream, err.stream)).toBe(2);
+    expect(err.text()).toMatch(/option --method takes auto, dave, dave4vm, lct; got "guess"/);
   });
 });
 
@@ -157,7 +157,7 @@ describe('helicord rate over a sequence of frames', () => {
     expect(ratio).toBeLessThan(21);
   });
 
-  it('frames with their velocities each give a sample: it prints the last one and says so; footpoints are tracked through', async () => {
+  it('frames with their velocities each give a sample: it prints the last one, lists the others and says so; footpoints are tracked through', async () => {
     const Omega = 2e-6;
     const at = (k: number) => spotFrame(64, 64, 0.5, [
       { x: 10, y: 16, peak: 1000, sigma: 1, omega: Omega },
@@ -175,7 +175,10 @@ describe('helicord rate over a sequence of frames', () => {
     expect(r.velocity_method).toBe('given');
     expect(r.time).toBe(new Date(t0 + 2 * 720_000).toISOString());
     expect(r.sample_frames).toEqual([c]);
-    expect(r.velocity_notes.join(' ')).toMatch(/3 of the frames carry their velocity .* the last one's \(.*v2\.json\)/);
+    expect(r.velocity_notes.join(' ')).toMatch(/3 of the frames carry their velocity .* the last frame's \(.*v2\.json\); the others are in other_samples/);
+    // The earlier frames' own samples, in time order: the same spinning spot, so the same rate.
+    expect(r.other_samples.map((o: { sample_frames: string[] }) => o.sample_frames)).toEqual([[a], [b]]);
+    for (const o of r.other_samples) expect(Math.abs(o.total - r.total)).toBeLessThan(1e-9 * Math.abs(r.total));
     // Tracked from the first frame: the same two ids, continued, with their winding followed.
     expect(r.footpoints.footpoints.map((f: { id: number; status: string; parent: number }) => [f.id, f.status, f.parent])).toEqual([[1, 'continued', 1], [2, 'continued', 2]]);
     // The positive spot spins at Omega with the given velocity: -(Omega/2pi) Phi^2 (Longcope et al. 2007).

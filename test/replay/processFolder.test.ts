@@ -14,10 +14,11 @@ import { CM_PER_MM } from '../../core/units.js';
 import { loadFrameFile } from '../../replay/frameFiles.js';
 import { demoRegion } from '../../replay/demo/demoRegion.js';
 import { truthSeries } from '../../replay/demo/demoTruth.js';
-import { contiguousChunks, processFolder, readBatchConfig } from '../../replay/processCommand.js';
+import { readBatchConfig } from '../../replay/batchConfig.js';
+import { contiguousChunks, processFolder } from '../../replay/processCommand.js';
 import { synth } from '../../replay/synthCommand.js';
-import { processCli, synthCli } from '../../server/commands/batch.js';
-import { parseArgs } from '../../server/commands/args.js';
+import { PROCESS_SPEC, SYNTH_SPEC, processCli, synthCli } from '../../server/commands/batch.js';
+import { parseCommandArgs } from '../../server/commands/args.js';
 import { ensureCompiledWorker } from './compiledWorker.js';
 
 class Collect extends Writable {
@@ -69,14 +70,16 @@ describe('contiguous chunks', () => {
 });
 
 describe('config files', () => {
-  it('splits analysis, budget and rules; a plain object is all analysis; bad files name themselves', async () => {
+  it('splits analysis, budget, rules and components; bad files name themselves', async () => {
     const a = join(dir, 'a.json');
     await writeFile(a, JSON.stringify({ analysis: { noiseG: 4 }, budget: { gapFactor: 5 } }));
-    expect(await readBatchConfig(a)).toEqual({ analysis: { noiseG: 4 }, budget: { gapFactor: 5 }, rules: {} });
+    expect(await readBatchConfig(a)).toEqual({ analysis: { noiseG: 4 }, budget: { gapFactor: 5 }, rules: {}, components: {} });
+    // A setting at the top level is not taken as an analysis setting: it is refused, with its place.
     await writeFile(a, JSON.stringify({ noiseG: 3 }));
-    expect((await readBatchConfig(a)).analysis).toEqual({ noiseG: 3 });
+    await expect(readBatchConfig(a)).rejects.toThrow(/a\.json: noiseG: is not a setting; it belongs at analysis\.noiseG/);
     await writeFile(a, '{ nope');
-    await expect(readBatchConfig(a)).rejects.toThrow(/a\.json: \(file\): cannot be read as JSON/);
+    await expect(readBatchConfig(a)).rejects.toThrow(/a\.json: \(config file\): cannot be read as JSON/);
+    await expect(readBatchConfig(join(dir, 'absent.json'))).rejects.toThrow(/absent\.json: \(config file\): does not exist/);
   });
 });
 
@@ -223,7 +226,7 @@ describe('a folder with bad files', () => {
   });
 
   it('refuses a folder without frames and a missing folder, naming them', async () => {
-    await expect(processFolder({ folder: join(dir, 'nowhere'), out: join(dir, 'x.csv'), progress: new Collect(false) })).rejects.toThrow(/nowhere: \(folder\): cannot be read/);
+    await expect(processFolder({ folder: join(dir, 'nowhere'), out: join(dir, 'x.csv'), progress: new Collect(false) })).rejects.toThrow(/nowhere: \(folder\): does not exist/);
     const empty = join(dir, 'empty');
     await synth({ out: empty, frames: 1, size: 16 });
     await rm(join(empty, 'demo_0000.fits'));
@@ -252,12 +255,12 @@ describe('command line', () => {
   it('synth and process from parsed arguments; progress on the error stream', async () => {
     const folder = join(dir, 'cli');
     const out = new Collect(false), err = new Collect(false);
-    expect(await synthCli(parseArgs(['--out', folder, '--frames', '4', '--size', '16', '--with-velocity=yes']), out, err)).toBe(0);
+    expect(await synthCli(parseCommandArgs(SYNTH_SPEC, ['--out', folder, '--frames', '4', '--size', '16', '--with-velocity']), out)).toBe(0);
     expect(out.text).toMatch(/wrote 4 demo frames/);
     const csv = join(dir, 'cli.csv');
-    expect(await processCli(parseArgs([folder, '--out', csv, '--workers', '1']), out, err)).toBe(0);
+    expect(await processCli(parseCommandArgs(PROCESS_SPEC, [folder, '--out', csv, '--workers', '1']), out, err)).toBe(0);
     expect(err.text).toMatch(/used 4 frames, skipped 0; 4 rate samples/);
-    await expect(processCli(parseArgs([folder]), out, err)).rejects.toThrow(/--out RESULT.csv is needed/);
+    await expect(processCli(parseCommandArgs(PROCESS_SPEC, [folder]), out, err)).rejects.toThrow(/--out RESULT.csv is needed/);
   });
 });
 
