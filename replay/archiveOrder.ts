@@ -41,7 +41,8 @@ export interface ArchiveIndex {
 }
 
 export function isScannedFrame(r: ScanResult): r is ScannedFrame {
-  return (r as ScannedFrame).time !== undefined;
+  // A file set aside may carry a time too (a time that did not make a frame): the reason tells.
+  return (r as SkippedFile).reason === undefined && (r as ScannedFrame).time !== undefined;
 }
 
 const byName = (a: { file: string }, b: { file: string }) => (a.file < b.file ? -1 : a.file > b.file ? 1 : 0);
