@@ -112,19 +112,17 @@ export const CONFIG_SCHEMA: Schema = {
   },
 };
 
-/** Levenshtein distance, for "did you mean". */
+/** Edit distance with transpositions (optimal string alignment), for "did you mean". */
 function distance(a: string, b: string): number {
-  const d = Array.from({ length: b.length + 1 }, (_, j) => j);
+  const d: number[][] = Array.from({ length: a.length + 1 }, (_, i) => Array.from({ length: b.length + 1 }, (_, j) => (i === 0 ? j : j === 0 ? i : 0)));
   for (let i = 1; i <= a.length; i++) {
-    let prev = d[0];
-    d[0] = i;
     for (let j = 1; j <= b.length; j++) {
-      const keep = d[j];
-      d[j] = Math.min(d[j] + 1, d[j - 1] + 1, prev + (a[i - 1] === b[j - 1] ? 0 : 1));
-      prev = keep;
+      const cost = a[i - 1] === b[j - 1] ? 0 : 1;
+      d[i][j] = Math.min(d[i - 1][j] + 1, d[i][j - 1] + 1, d[i - 1][j - 1] + cost);
+      if (i > 1 && j > 1 && a[i - 1] === b[j - 2] && a[i - 2] === b[j - 1]) d[i][j] = Math.min(d[i][j], d[i - 2][j - 2] + 1);
     }
   }
-  return d[b.length];
+  return d[a.length][b.length];
 }
 
 /** The known name nearest to `name` when it is close enough to be a misspelling. */
