@@ -2,12 +2,13 @@
 // nearest known one), values of the wrong type, options given twice, switches given values,
 // misspelled or misplaced config keys; `helicord CMD --help` prints that command's options with
 // their defaults; a missing file is a sentence that names it. None of these starts anything.
-import { mkdtempSync, writeFileSync } from 'node:fs';
+import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { Writable } from 'node:stream';
 import { describe, expect, it } from 'vitest';
 import { frameToJson } from '../../core/frameJson.js';
+import { checkBatchConfig } from '../../replay/batchConfig.js';
 import { main } from '../../server/cli.js';
 import { spotFrame } from '../support/scenes.js';
 
@@ -115,6 +116,15 @@ describe('config files are checked (exit 1, naming the file and the key)', () =>
       .toMatch(/c5\.json: rules\.peak-rate\.treshold: is not a setting; did you mean rules\.peak-rate\.threshold\?/);
     expect((await run(['process', dir, '--out', join(dir, 'x.csv'), '--config', config('c6.json', { components: { files: { bn: { pattern: '(' } } } })])).err)
       .toMatch(/c6\.json: components\.files\.bn\.pattern: is not a valid regular expression/);
+  });
+
+  it('the README\'s complete config file passes the check', () => {
+    const readme = readFileSync(join(import.meta.dirname, '../../README.md'), 'utf8');
+    const block = /### A complete config file[\s\S]*?```json\n([\s\S]*?)```/.exec(readme)?.[1];
+    expect(block).toBeDefined();
+    const c = checkBatchConfig(JSON.parse(block!), 'README.md');
+    expect(c.analysis.velocity?.method).toBe('auto');
+    expect(c.components.layout).toBe('cea-components');
   });
 
   it('a config that is right is used: --config with the velocity method', async () => {
