@@ -16,14 +16,19 @@
 // leaves every file either stored (a resend is a duplicate) or still in the inbox. Links are not
 // followed, special files (folders, pipes) are left alone, and only the folder the server made
 // from a checked region name is watched: nothing from a request names a path.
+// The inbox itself is watched too (and listed as often): a new folder with a region name becomes
+// that region (with a log line), its files then taken as above; a folder whose name is not a
+// region name is left alone with a log line. A region being removed or renamed has its folder put
+// on hold (`hold`, `release`): not watched, never turned back into a region meanwhile.
 import { watch } from 'chokidar';
 import type { FSWatcher } from 'chokidar';
-import { mkdirSync } from 'node:fs';
+import { existsSync, mkdirSync } from 'node:fs';
 import { lstat, mkdir, readdir, rename } from 'node:fs/promises';
-import { basename, join } from 'node:path';
+import { basename, dirname, join } from 'node:path';
 import type { IntakePool } from './intakePool.js';
 import { IntakeRefusal } from './intakePool.js';
 import type { Pipeline } from './pipeline.js';
+import { checkRegionName } from './regionName.js';
 import type { Store } from './store.js';
 import type { StoreWriter } from './storeWriter.js';
 
@@ -54,6 +59,11 @@ interface Candidate { path: string; size: number; mtime: number; time: number }
 
 export class FolderWatch {
   private readonly watched = new Map<string, Watched>();
+  /** Regions whose folders are on hold (being moved or removed), with how many holds each. */
+  private readonly held = new Map<string, number>();
+  /** Folder names under the inbox that are not region names (logged once each). */
+  private readonly badNames = new Set<string>();
+  private inbox?: { watcher: FSWatcher; scan: ReturnType<typeof setInterval> };
   private readonly quietMs: number;
   private readonly graceMs: number;
   private readonly rescanMs: number;
@@ -72,8 +82,14 @@ export class FolderWatch {
     return join(this.store.dataDir, 'inbox', region);
   }
 
-  /** Starts (or stops) watching a region's folder as its settings say. */
+  /** True when the inbox has a folder (or anything) of this name. */
+  folderExists(region: string): boolean {
+    return existsSync(this.folderOf(region));
+  }
+
+  /** Starts (or stops) watching a region's folder as its settings say (not while it is on hold). */
   sync(region: string, wanted: boolean): void {
+    if (this.closed || this.held.has(region)) return;
     const have = this.watched.get(region);
     if (wanted && !have) this.start(region);
     if (!wanted && have) this.stop(region, have);
@@ -127,6 +143,89 @@ export class FolderWatch {
     }
   }
 
+  /**
+   * Puts the regions' folders on hold: their watchers stop (a batch being taken ends after the
+   * file under way, which this waits for) and the inbox scan does not turn them into regions.
+   */
+  async hold(regions: readonly string[]): Promise<void> {
+    const drains: Promise<void>[] = [];
+    for (const r of new Set(regions)) {
+      this.held.set(r, (this.held.get(r) ?? 0) + 1);
+      const w = this.watched.get(r);
+      if (!w) continue;
+      if (w.draining) drains.push(w.draining);
+      this.stop(r, w);
+    }
+    await Promise.all(drains);
+  }
+
+  /** Ends a hold: each region that exists is watched again as its settings say. */
+  release(regions: readonly string[]): void {
+    for (const r of new Set(regions)) {
+      const n = (this.held.get(r) ?? 1) - 1;
+      if (n > 0) { this.held.set(r, n); continue; }
+      this.held.delete(r);
+      const row = this.store.region(r);
+      if (row) this.sync(r, row.settings.watchFolder);
+    }
+  }
+
+  /** Watches the inbox for new folders (and lists it now and every `rescanMs`). */
+  watchInbox(): void {
+    const root = join(this.store.dataDir, 'inbox');
+    mkdirSync(root, { recursive: true, mode: 0o700 });
+    const watcher = watch(root, {
+      depth: 0, ignoreInitial: true, followSymlinks: false,
+      ignored: (path: string) => path !== root && basename(path).startsWith('.'),
+    });
+    watcher.on('addDir', (path) => { if (dirname(path) === root) void this.folderFound(basename(path)); });
+    watcher.on('error', (e) => this.log(`watching ${root}: ${(e as Error).message}`));
+    const scan = setInterval(() => void this.scanInbox(), this.rescanMs);
+    scan.unref();
+    this.inbox = { watcher, scan };
+    void this.scanInbox();
+  }
+
+  private async scanInbox(): Promise<void> {
+    if (this.closed) return;
+    try {
+      for (const e of await readdir(join(this.store.dataDir, 'inbox'), { withFileTypes: true })) {
+        if (e.isDirectory() && !e.name.startsWith('.')) await this.folderFound(e.name);
+      }
+    } catch (e) {
+      this.log(`listing the inbox: ${(e as Error).message}`);
+    }
+  }
+
+  /** A folder under the inbox: the region of that name is made (when none) and its folder watched. */
+  private async folderFound(name: string): Promise<void> {
+    if (this.closed || this.held.has(name) || this.watched.has(name)) return;
+    const row = this.store.region(name);
+    if (row) return this.sync(name, row.settings.watchFolder);
+    try {
+      checkRegionName(name, 'inbox');
+    } catch {
+      if (!this.badNames.has(name)) {
+        this.badNames.add(name);
+        this.log(`inbox: the folder "${name.slice(0, 80)}" is not a region name (1 to 64 of A-Z a-z 0-9 _ -); left alone`);
+      }
+      return;
+    }
+    try {
+      const dir = this.folderOf(name);
+      const made = await this.pipeline.createRegionFor(name, async () => {
+        if (this.closed || this.held.has(name)) return false;
+        try { return (await lstat(dir)).isDirectory(); } catch { return false; }
+      });
+      if (!made) return;
+      this.log(`region ${name} created for its new inbox folder inbox/${name}`);
+      const created = this.store.region(name);
+      if (created) this.sync(name, created.settings.watchFolder);
+    } catch (e) {
+      this.log(`inbox: the region for the folder ${name} could not be created: ${(e as Error).message}`);
+    }
+  }
+
   private stop(region: string, w: Watched): void {
     if (w.timer) clearTimeout(w.timer);
     if (w.rescan) clearInterval(w.rescan);
@@ -137,7 +236,7 @@ export class FolderWatch {
 
   /** A drain of the region's batch after `ms` of quiet (each event pushes it back). */
   private schedule(region: string, w: Watched, ms: number): void {
-    if (this.closed) return;
+    if (this.closed || this.watched.get(region) !== w) return;
     if (w.timer) clearTimeout(w.timer);
     w.timer = setTimeout(() => { w.timer = undefined; this.drain(region, w); }, ms);
     w.timer.unref();
@@ -166,8 +265,9 @@ export class FolderWatch {
     const good: Candidate[] = [];
     const bad: Omit<Candidate, 'time'>[] = [];
     const settings = () => this.store.region(region)?.settings.components ?? {};
+    const gone = () => this.closed || this.watched.get(region) !== w;
     for (const path of batch) {
-      if (this.closed) return;
+      if (gone()) return;
       let st;
       try { st = await lstat(path); } catch { continue; } // gone already
       if (!st.isFile() && !st.isSymbolicLink()) {
@@ -190,9 +290,9 @@ export class FolderWatch {
     good.sort((a, b) => a.time - b.time || (a.path < b.path ? -1 : 1));
     // In time order; the files that are not frames after them (each refused with its reason).
     for (const c of [...good, ...bad]) {
-      if (this.closed) return;
-      await this.pipeline.waitForRoom(region, () => this.closed);
-      if (this.closed) return;
+      if (gone()) return;
+      await this.pipeline.waitForRoom(region, gone);
+      if (gone()) return;
       await this.takeFile(region, w, c.path, c.size, c.mtime);
     }
   }
@@ -243,6 +343,10 @@ export class FolderWatch {
 
   async close(): Promise<void> {
     this.closed = true;
+    if (this.inbox) {
+      clearInterval(this.inbox.scan);
+      await this.inbox.watcher.close().catch(() => undefined);
+    }
     const drains = [...this.watched.values()].map((w) => w.draining).filter(Boolean);
     for (const [region, w] of this.watched) this.stop(region, w);
     await Promise.all(drains);

@@ -16,6 +16,7 @@ import type { HostPolicy } from './hostCheck.js';
 import { hostAllowed, originAllowed } from './hostCheck.js';
 import { decodeMapFile } from './mapFile.js';
 import type { Pipeline } from './pipeline.js';
+import type { RegionAdmin } from './regionAdmin.js';
 import { checkRegionName } from './regionName.js';
 import { mergeSettings } from './regionSettings.js';
 import type { Store } from './store.js';
@@ -33,6 +34,8 @@ export interface ApiContext {
   /** Replay control and start (server/replayFeeds.ts). */
   readonly replay: (region: string, action: unknown) => { status: number; body: unknown } | Promise<{ status: number; body: unknown }>;
   readonly replayStatus: (region: string) => unknown;
+  /** Removing, renaming and resetting regions (server/regionAdmin.ts). */
+  readonly regions: Pick<RegionAdmin, 'remove' | 'rename' | 'reset'>;
   /** The event loop's delay, ms (max and 99th percentile over the last few seconds). */
   readonly loopDelay?: () => { max: number; p99: number };
   /** The dashboard page (server/staticPage.ts), mounted at / after the API. */
@@ -175,6 +178,29 @@ export function buildApp(ctx: ApiContext): express.Express {
       throw e;
     }
   });
+
+  // Managing a region (token): remove it, rename it, reset its grid. The token is checked before
+  // the body is read; a refusal changes nothing stored.
+  app.delete('/api/regions/:region', async (req, res) => {
+    const name = regionOf(req, res);
+    if (name === undefined) return;
+    if (!canWrite(req)) return needToken(req, res, 'removing a region');
+    const a = await ctx.regions.remove(name);
+    res.status(a.status).json(a.body);
+  });
+
+  for (const action of ['rename', 'reset'] as const) {
+    app.post(`/api/regions/:region/${action}`, (req, res, next) => {
+      const name = regionOf(req, res);
+      if (name === undefined) return;
+      if (!canWrite(req)) return needToken(req, res, action === 'rename' ? 'renaming a region' : 'resetting a region');
+      next();
+    }, express.json({ limit: '64kb', type: () => true }), async (req, res) => {
+      const name = req.params.region as string;
+      const a = action === 'rename' ? await ctx.regions.rename(name, req.body) : await ctx.regions.reset(name, req.body);
+      res.status(a.status).json(a.body);
+    });
+  }
 
   app.get('/api/regions/:region/series', (req, res) => {
     const name = existing(req, res);

@@ -94,6 +94,8 @@ const DISK_RETRY_MS = [1000, 2000, 5000, 10_000, 30_000];
 
 interface Validated {
   readonly arrival: Arrival;
+  /** Not a frame: an operation run in the region's arrival turn (see `arrivalTurn`). */
+  readonly turn?: () => Promise<void>;
   readonly intake?: Intake;
   readonly refusal?: { status: number; error: InputError; frameTime?: number };
   readonly resolve: (a: IngestAnswer) => void;
@@ -113,7 +115,7 @@ interface Analysed {
 const isoOrNull = (t: number | undefined) => (t === undefined ? null : new Date(t).toISOString());
 
 export class Pipeline {
-  private readonly arrivals$ = new Subject<{ arrival: Arrival; resolve: (a: IngestAnswer) => void }>();
+  private readonly arrivals$ = new Subject<{ arrival: Arrival; resolve: (a: IngestAnswer) => void; turn?: () => Promise<void> }>();
   private readonly work$ = new Subject<string>();
   private readonly carries = new Map<string, Carry>();
   private readonly log: (line: string) => void;
@@ -130,6 +132,10 @@ export class Pipeline {
   private readonly lastDiskAttempt = new Map<string, number>();
   /** Regions to process again from a frame on (frames once failed for lack of space). */
   private readonly redoFrom = new Map<string, number>();
+  /** Operations waiting for the region's processing turn (see `processingTurn`). */
+  private readonly turns = new Map<string, (() => Promise<void>)[]>();
+  /** The region operations (remove, rename, reset), one after the other. */
+  private exclusiveChain: Promise<unknown> = Promise.resolve();
   /** Frame removals waiting for the region's processing turn. */
   private readonly removals = new Map<string, { id: number; resolve: (r: { frame_id: number; time: string; recomputed: number }) => void; reject: (e: Error) => void }[]>();
   /** Requests without a valid token: counted here, never stored (they change nothing). */
@@ -157,9 +163,9 @@ export class Pipeline {
       groupBy((a) => a.arrival.region),
       mergeMap((group$) => group$.pipe(
         // validate: parse, check, hash and encode (in the intake worker)
-        concatMap((a) => from(this.validate(a.arrival, a.resolve))),
+        concatMap((a) => (a.turn ? of<Validated>(a) : from(this.validate(a.arrival, a.resolve)))),
         // order and store: duplicates, shape, lateness; durable write; the sender's answer
-        concatMap((v) => from(this.orderAndStore(v))),
+        concatMap((v) => from(v.turn ? v.turn() : this.orderAndStore(v))),
       )),
     ).subscribe();
     this.work$.pipe(
@@ -310,6 +316,119 @@ export class Pipeline {
     if (!list || this.queueFull(region)) return;
     this.roomWaiters.delete(region);
     for (const w of list) w();
+  }
+
+  // Region operations -----------------------------------------------------------------------
+
+  /**
+   * Runs `fn` in the region's turn at the order-and-store stage: no frame of the region is being
+   * stored while it runs, and arrivals after it wait for it.
+   */
+  arrivalTurn<T>(region: string, fn: () => Promise<T>): Promise<T> {
+    return new Promise<T>((resolve, reject) => {
+      this.arrivals$.next({
+        arrival: { region, payload: { kind: 'error', status: 500, error: new InputError('(turn)', '(turn)', 'not a frame') }, source: '(turn)', mayCreate: false },
+        resolve: () => undefined,
+        turn: () => fn().then(resolve, reject),
+      });
+    });
+  }
+
+  /**
+   * Runs `fn` in the region's processing turn: no frame of the region is being computed or
+   * committed while it runs (the frame under way is finished first; the others stay pending).
+   */
+  processingTurn<T>(region: string, fn: () => Promise<T>): Promise<T> {
+    return new Promise<T>((resolve, reject) => {
+      const list = this.turns.get(region) ?? [];
+      list.push(() => fn().then(resolve, reject));
+      this.turns.set(region, list);
+      this.work$.next(region);
+    });
+  }
+
+  private async runTurns(region: string): Promise<void> {
+    for (let list = this.turns.get(region); list; list = this.turns.get(region)) {
+      this.turns.delete(region);
+      for (const turn of list) await turn();
+    }
+  }
+
+  /**
+   * Runs `fn` while the regions are still: each one's arrival and processing turns are held
+   * (nothing of theirs is stored or computed meanwhile; what arrives waits). One such operation
+   * at a time, monitor-wide, so two cannot hold each other's regions.
+   */
+  exclusive<T>(regions: readonly string[], fn: () => Promise<T>): Promise<T> {
+    const run = async (): Promise<T> => {
+      let release!: () => void;
+      const released = new Promise<void>((r) => { release = r; });
+      const held: Promise<void>[] = [];
+      for (const region of new Set(regions)) {
+        for (const turn of [(f: () => Promise<void>) => this.arrivalTurn(region, f), (f: () => Promise<void>) => this.processingTurn(region, f)]) {
+          held.push(new Promise<void>((reached, failed) => { turn(async () => { reached(); await released; }).catch(failed); }));
+        }
+      }
+      try {
+        await Promise.all(held);
+        return await fn();
+      } finally {
+        release();
+      }
+    };
+    const p = this.exclusiveChain.then(run, run);
+    this.exclusiveChain = p.catch(() => undefined);
+    return p;
+  }
+
+  /**
+   * Creates a region for a folder that appeared under the inbox, in the region's arrival turn
+   * (after an operation on that name under way); `stillWanted` is asked there. True when made.
+   */
+  createRegionFor(name: string, stillWanted: () => Promise<boolean>): Promise<boolean> {
+    return this.arrivalTurn(name, async () => {
+      if (this.store.region(name) || !(await stillWanted())) return false;
+      await this.writer.call('createRegion', name);
+      return true;
+    });
+  }
+
+  /** Forgets what the pipeline holds of a region that was removed (call while it is still). */
+  regionRemoved(name: string): void {
+    this.forgetState(name);
+    this.removals.get(name)?.forEach((r) => r.reject(new InputError(name, 'region', `region ${name} was removed`)));
+    this.removals.delete(name);
+  }
+
+  /** Moves what the pipeline holds of a region to its new name (call while both are still). */
+  regionRenamed(from: string, to: string): void {
+    this.forgetState(from);
+    this.forgetState(to);
+    const removals = this.removals.get(from);
+    if (removals) { this.removals.delete(from); this.removals.set(to, removals); }
+    // Its frames still to be computed go on under the new name.
+    this.work$.next(to);
+  }
+
+  /** The state a region starts from after a reset: empty, but for the refusals rule and acknowledgements. */
+  resetCarry(name: string): Carry {
+    return this.restoredCarry(name, undefined);
+  }
+
+  /** After a reset (call while the region is still): its state is `carry`, viewers get the empty snapshot. */
+  regionReset(name: string, carry: Carry): void {
+    this.forgetState(name);
+    this.setCarry(name, carry);
+    this.hub.resync(name);
+  }
+
+  private forgetState(name: string): void {
+    this.carries.delete(name);
+    this.redoFrom.delete(name);
+    this.lastDiskAttempt.delete(name);
+    const retry = this.diskRetries.get(name);
+    if (retry) { clearTimeout(retry.timer); this.diskRetries.delete(name); }
+    this.pool.forget(name);
   }
 
   /** Asks every region to process what is stored and pending (at start). */
@@ -657,7 +776,7 @@ export class Pipeline {
     let rewound = false;
     return defer(() => {
       this.activeWork++;
-      return from(this.takePending(region));
+      return from(this.runTurns(region).then(() => this.takePending(region)));
     }).pipe(
       mergeMap((frames) => {
         rewound = frames.some((f) => (f as FrameRow & { rewound?: boolean }).rewound);
@@ -665,7 +784,9 @@ export class Pipeline {
       }),
       // One frame at a time through the stages, so each is paired with a committed predecessor;
       // on shutdown the rest stays pending for the restart.
-      concatMap((frame) => defer(() => (this.closed ? EMPTY : of(frame))).pipe(
+      // A turn waiting (a region operation) stops the run at the next frame: the rest stays
+      // pending and is taken after the turn.
+      concatMap((frame) => defer(() => (this.closed || this.turns.has(region) ? EMPTY : of(frame))).pipe(
         // pair: with the last frame processed before it
         map((f) => ({ frame: f, previous: this.store.lastGood(region, f.time), started: Date.now() })),
         // compute in a worker

@@ -58,6 +58,28 @@ export class ReplayFeeds {
     return this.feeds.get(region);
   }
 
+  /**
+   * What keeps a region from being renamed or reset (or its frames from being moved): a replay
+   * not done that feeds it or reads from it, described; undefined when there is none.
+   */
+  busyWith(region: string): { into: boolean; what: string } | undefined {
+    for (const [into, feed] of this.feeds) {
+      const s = feed.status();
+      if (s.state === 'done') continue;
+      if (into === region) return { into: true, what: `a replay (${s.state}, from ${s.source}) feeds region ${region}` };
+      if (feed.source.label === `region ${region}`) return { into: false, what: `region ${region} is being replayed into region ${into}` };
+    }
+    return undefined;
+  }
+
+  /** Stops the replay into `region`, if any, and forgets it (the region goes or changes name). */
+  async end(region: string): Promise<void> {
+    const feed = this.feeds.get(region);
+    if (!feed) return;
+    this.feeds.delete(region);
+    await feed.stop();
+  }
+
   /** The demo region, fed from replay/demo. */
   startDemo(region: string, intervalMs: number): ReplayFeed {
     return this.launch(region, demoSource(intervalMs), 1);

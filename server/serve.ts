@@ -19,6 +19,8 @@ import { hostPolicy } from './hostCheck.js';
 import { DEFAULT_INTAKE_MEMORY_MB, DEFAULT_MAX_FRAME_PIXELS, IntakePool } from './intakePool.js';
 import { buildApp } from './httpApi.js';
 import { DEFAULT_QUEUE_LIMIT, Pipeline } from './pipeline.js';
+import { RegionAdmin } from './regionAdmin.js';
+import { finishLeftChores } from './regionFiles.js';
 import { Store } from './store.js';
 import { StoreWriter } from './storeWriter.js';
 import { ViewerHub } from './viewerHub.js';
@@ -144,6 +146,7 @@ export async function serve(options: ServeOptions): Promise<RunningMonitor> {
     onChange: (region) => { if (store.region(region)) hub.send(region, { type: 'status', status: pipeline.status(region) }); },
   });
   replays = feeds;
+  const regions = new RegionAdmin({ store, writer, pipeline, folders, feeds, hub, log });
 
   const host = options.host ?? '127.0.0.1';
   const hosts = hostPolicy(options.allowedHosts, host);
@@ -151,6 +154,7 @@ export async function serve(options: ServeOptions): Promise<RunningMonitor> {
     store, writer, pipeline, token, readToken, bodyLimit, startedAt: Date.now(), loopDelay: () => loop.read(), hosts,
     onSettings: (region) => folders.sync(region, store.region(region)?.settings.watchFolder ?? false),
     replay: (region, action) => feeds.control(region, action),
+    regions,
     replayStatus,
     page: pageRouter(dashboardDir()),
   });
@@ -178,13 +182,16 @@ export async function serve(options: ServeOptions): Promise<RunningMonitor> {
   process.on('unhandledRejection', onUnhandled);
   process.on('uncaughtException', onUnhandled);
 
+  // The file work of a region removal, rename or reset that a crash interrupted, before anything runs.
+  await finishLeftChores(store, writer, log);
   pipeline.resumeAll();
   for (const r of store.regions()) folders.sync(r.name, r.settings.watchFolder);
-  // Regions created later by ingest get their folder at the next settings change or restart;
-  // check for new ones now and then as well.
-  const known = new Set(store.regions().map((r) => r.name));
+  // New folders under the inbox become regions.
+  folders.watchInbox();
+  // Regions created later (by ingest, by a rename, again after a removal) get their folder
+  // watched within a second.
   const regionPoll = setInterval(() => {
-    for (const r of store.regions()) if (!known.has(r.name)) { known.add(r.name); folders.sync(r.name, r.settings.watchFolder); }
+    for (const r of store.regions()) folders.sync(r.name, r.settings.watchFolder);
   }, 1000);
   regionPoll.unref();
   if (options.demo) feeds.startDemo(DEMO_REGION, options.demoIntervalMs ?? 2000);

@@ -52,6 +52,19 @@ export interface FrameRow {
   readonly waiting: string | null;
 }
 
+/**
+ * File work left to do after a region was removed, renamed or reset: written in the same
+ * transaction as the change of the rows, done right after it (server/regionFiles.ts) and again at
+ * start when a crash came in between, then deleted.
+ */
+export interface RegionChore {
+  readonly id: number;
+  readonly kind: 'remove' | 'rename' | 'reset';
+  readonly name: string;
+  /** The new name (rename). */
+  readonly target: string | null;
+}
+
 export interface RefusalRow {
   readonly time_received: string;
   readonly source: string;
@@ -87,6 +100,8 @@ CREATE TABLE IF NOT EXISTS removed_frames (
 CREATE TABLE IF NOT EXISTS watched_files (
   region TEXT NOT NULL, path TEXT NOT NULL, size INTEGER NOT NULL, mtime INTEGER NOT NULL,
   PRIMARY KEY (region, path));
+CREATE TABLE IF NOT EXISTS region_chores (
+  id INTEGER PRIMARY KEY AUTOINCREMENT, kind TEXT NOT NULL, name TEXT NOT NULL, target TEXT);
 `;
 
 interface RawFrame {
@@ -148,6 +163,80 @@ export class Store {
 
   saveSettings(name: string, settings: RegionSettings): void {
     this.db.prepare('UPDATE regions SET settings = ? WHERE name = ?').run(JSON.stringify(settings), name);
+  }
+
+  /**
+   * Removes a region and everything stored for it (frames, samples, refusals, removed frames,
+   * watched files); its files are left to the chore this records. Returns what went.
+   */
+  removeRegion(name: string): { frames: number; samples: number; refusals: number; chore: number } {
+    const tx = this.db.transaction(() => {
+      const samples = this.db.prepare('DELETE FROM samples WHERE region = ?').run(name).changes;
+      const frames = this.db.prepare('DELETE FROM frames WHERE region = ?').run(name).changes;
+      const refusals = this.db.prepare('DELETE FROM refusals WHERE region = ?').run(name).changes;
+      for (const table of ['removed_frames', 'watched_files']) this.db.prepare(`DELETE FROM ${table} WHERE region = ?`).run(name);
+      this.db.prepare('DELETE FROM regions WHERE name = ?').run(name);
+      const chore = Number(this.db.prepare("INSERT INTO region_chores (kind, name) VALUES ('remove', ?)").run(name).lastInsertRowid);
+      return { frames, samples, refusals, chore };
+    });
+    return tx();
+  }
+
+  /**
+   * Gives a region another name: every row follows, and the paths of its frame, map and watched
+   * files are those under the new name (the files are moved by the chore this records). Throws
+   * when `to` is taken (the regions table's key).
+   */
+  renameRegion(from: string, to: string): { chore: number } {
+    const tx = this.db.transaction(() => {
+      this.db.prepare('UPDATE regions SET name = ? WHERE name = ?').run(to, from);
+      const swap = (column: string, folder: string) =>
+        `${column} = CASE WHEN substr(${column}, 1, length('${folder}/' || @from || '/')) = '${folder}/' || @from || '/' ` +
+        `THEN '${folder}/' || @to || '/' || substr(${column}, length('${folder}/' || @from || '/') + 1) ELSE ${column} END`;
+      this.db.prepare(`UPDATE frames SET region = @to, ${swap('file', 'frames')}, ${swap('maps_file', 'maps')} WHERE region = @from`).run({ from, to });
+      for (const table of ['samples', 'refusals', 'removed_frames']) this.db.prepare(`UPDATE ${table} SET region = ? WHERE region = ?`).run(to, from);
+      const inboxOf = (n: string) => join(this.dataDir, 'inbox', n) + '/';
+      this.db.prepare(`UPDATE watched_files SET region = @to,
+        path = CASE WHEN substr(path, 1, length(@old)) = @old THEN @new || substr(path, length(@old) + 1) ELSE path END WHERE region = @from`)
+        .run({ from, to, old: inboxOf(from), new: inboxOf(to) });
+      const chore = Number(this.db.prepare("INSERT INTO region_chores (kind, name, target) VALUES ('rename', ?, ?)").run(from, to).lastInsertRowid);
+      return { chore };
+    });
+    return tx();
+  }
+
+  /**
+   * Empties a region for a new grid: its frames and samples go, its carry becomes `carry`, its
+   * duplicate count 0; settings, refusals, removed frames and watched files stay. The frame and
+   * map files are left to the chore this records.
+   */
+  resetRegion(name: string, carry: Carry): { frames: number; samples: number; chore: number } {
+    const tx = this.db.transaction(() => {
+      const samples = this.db.prepare('DELETE FROM samples WHERE region = ?').run(name).changes;
+      const frames = this.db.prepare('DELETE FROM frames WHERE region = ?').run(name).changes;
+      this.db.prepare('UPDATE regions SET duplicates = 0 WHERE name = ?').run(name);
+      this.setRegionCarry(name, carry);
+      const chore = Number(this.db.prepare("INSERT INTO region_chores (kind, name) VALUES ('reset', ?)").run(name).lastInsertRowid);
+      return { frames, samples, chore };
+    });
+    return tx();
+  }
+
+  /** File work recorded by removals, renames and resets and not yet done, oldest first. */
+  regionChores(): RegionChore[] {
+    return this.db.prepare('SELECT id, kind, name, target FROM region_chores ORDER BY id').all() as RegionChore[];
+  }
+
+  choreDone(id: number): void {
+    this.db.prepare('DELETE FROM region_chores WHERE id = ?').run(id);
+  }
+
+  /** The paths (relative to the data folder) of every frame and map file the region's rows name. */
+  regionFiles(name: string): Set<string> {
+    const rows = this.db.prepare('SELECT file, maps_file FROM frames WHERE region = ?').all(name) as { file: string; maps_file: string | null }[];
+    const out = new Set<string>();
+    for (const r of rows) { out.add(r.file); if (r.maps_file) out.add(r.maps_file); }
+    return out;
   }
 
   countDuplicate(name: string): void {

@@ -7,7 +7,8 @@ import type { Store } from './store.js';
 
 export const WRITE_METHODS = [
   'createRegion', 'saveSettings', 'countDuplicate', 'setRegionCarry', 'insertFrame', 'rewind',
-  'commitProcessed', 'recordRefusal', 'markWatchedFile', 'removeFrame',
+  'commitProcessed', 'recordRefusal', 'markWatchedFile', 'removeFrame', 'removeRegion', 'renameRegion',
+  'resetRegion', 'choreDone',
 ] as const;
 export type WriteMethod = (typeof WRITE_METHODS)[number];
 

@@ -85,6 +85,17 @@ export class ViewerHub {
     for (const ws of set) this.deliver(region, ws, data);
   }
 
+  /** Closes every viewer of a region that was removed or renamed (`reason` says which; at most 123 bytes). */
+  closeRegion(region: string, code: number, reason: string): void {
+    const set = this.viewers.get(region);
+    if (!set) return;
+    this.viewers.delete(region);
+    for (const ws of set) {
+      ws.close(code, reason);
+      setTimeout(() => ws.terminate(), 1000).unref();
+    }
+  }
+
   closeAll(): void {
     for (const set of this.viewers.values()) for (const ws of set) ws.terminate();
     this.viewers.clear();

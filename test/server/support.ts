@@ -62,6 +62,24 @@ export async function waitIdle(url: string, timeoutMs = 30_000): Promise<void> {
   }
 }
 
+/** Waits until `check` holds, asking every `stepMs`; fails naming `what` after `deadlineMs`. */
+export async function until(what: string, deadlineMs: number, check: () => Promise<boolean> | boolean, stepMs = 25): Promise<void> {
+  const end = Date.now() + deadlineMs;
+  while (!(await check())) {
+    if (Date.now() > end) throw new Error(`${what}: not within ${deadlineMs} ms`);
+    await new Promise((r) => setTimeout(r, stepMs));
+  }
+}
+
+/** A fixed shuffle (mulberry32), so a test is the same every run. */
+export function shuffled<T>(items: readonly T[], seed: number): T[] {
+  let a = seed >>> 0;
+  const rand = () => { a = (a + 0x6d2b79f5) >>> 0; let t = a; t = Math.imul(t ^ (t >>> 15), t | 1); t ^= t + Math.imul(t ^ (t >>> 7), t | 61); return ((t ^ (t >>> 14)) >>> 0) / 4294967296; };
+  const out = [...items];
+  for (let i = out.length - 1; i > 0; i--) { const j = Math.floor(rand() * (i + 1)); [out[i], out[j]] = [out[j], out[i]]; }
+  return out;
+}
+
 export const T0 = Date.UTC(2026, 2, 14, 6, 0, 0);
 /** Orbital angular speed of the circling pair, rad/s (counter-clockwise). */
 export const OMEGA = 3e-6;
