@@ -3,13 +3,11 @@
 // or misplaced key, a value of the wrong type or out of range is an error naming the file and the
 // key's path. Nothing is guessed: a file that is not an object of these sections is refused.
 
-import { readFile } from 'node:fs/promises';
 import type { RulesSettings } from '../core/alerts/evaluateRules.js';
 import type { BudgetSettings } from '../core/budget.js';
 import type { AnalysisSettings } from '../core/frameAnalysis.js';
 import type { FrameAssemblySettings } from '../core/frameAssembly/assembleFrame.js';
-import { InputError } from '../core/inputError.js';
-import { fileProblem } from './fileProblem.js';
+import { readJsonFile } from './fileProblem.js';
 import { CONFIG_SCHEMA, checkSchema } from './settingsSchema.js';
 
 /** What a --config file holds, every section present (empty when the file leaves it out). */
@@ -33,17 +31,5 @@ export function checkBatchConfig(json: unknown, source: string): BatchConfig {
 /** Reads and checks a --config file. Throws InputError naming the file (and the key at fault). */
 export async function readBatchConfig(path?: string): Promise<BatchConfig> {
   if (path === undefined) return EMPTY_CONFIG;
-  let text: string;
-  try {
-    text = await readFile(path, 'utf8');
-  } catch (e) {
-    throw new InputError(path, '(config file)', fileProblem(e));
-  }
-  let json: unknown;
-  try {
-    json = JSON.parse(text);
-  } catch (e) {
-    throw new InputError(path, '(config file)', `cannot be read as JSON: ${(e as Error).message}`);
-  }
-  return checkBatchConfig(json, path);
+  return checkBatchConfig(await readJsonFile(path, '(config file)'), path);
 }

@@ -7,7 +7,6 @@
 // `sample_frames` says which frames it came from, and the earlier frames' own samples are listed
 // in `other_samples`. FITS archives with one file per component are read with the component
 // options or a config file's `components`.
-import { readFile } from 'node:fs/promises';
 import type { FluxKernelCache } from '../../core/fluxKernel.js';
 import type { Frame } from '../../core/frame.js';
 import type { AnalysisSettings, AnalysisState, FrameAnalysis } from '../../core/frameAnalysis.js';
@@ -24,7 +23,7 @@ import { rateSample } from '../../core/rateSample.js';
 import type { VelocityMethod } from '../../core/velocity/velocitySettings.js';
 import { DEFAULT_VELOCITY_SETTINGS } from '../../core/velocity/velocitySettings.js';
 import { readBatchConfig } from '../../replay/batchConfig.js';
-import { fileProblem } from '../../replay/fileProblem.js';
+import { readJsonFile } from '../../replay/fileProblem.js';
 import { loadFrameFile, loadFrameFileSet } from '../../replay/frameFiles.js';
 import type { CommandSpec, ParsedArgs } from './args.js';
 import { COMPONENT_OPTIONS, componentSettingsFrom } from './componentOptions.js';
@@ -58,18 +57,7 @@ export const RATE_SPEC: CommandSpec = {
 };
 
 async function labelsFromFile(frame: Frame, path: string, source: string): Promise<Int32Array> {
-  let text: string;
-  try {
-    text = await readFile(path, 'utf8');
-  } catch (e) {
-    throw new InputError(path, '(labels file)', fileProblem(e));
-  }
-  let json: unknown;
-  try {
-    json = JSON.parse(text);
-  } catch (e) {
-    throw new InputError(path, '(labels file)', `cannot be read as JSON: ${(e as Error).message}`);
-  }
+  const json = await readJsonFile(path, '(labels file)');
   const arr = Array.isArray(json) ? json : (json as { labels?: unknown }).labels;
   if (!Array.isArray(arr) || arr.length !== frame.nx * frame.ny || !arr.every((v) => Number.isInteger(v) && v >= 0)) {
     throw new InputError(path, 'labels', `must be ${frame.nx * frame.ny} non-negative integers to match ${source}`);
