@@ -27,8 +27,8 @@ Usage: helicord <command> [options]
        helicord <command> --help      the command's options, with their defaults
 
 Commands:
-${Object.values(COMMANDS).map(({ spec }) => `  ${spec.name.padEnd(8)}${spec.summary}\n${spec.usage.map((u) => `          helicord ${u}`).join('\n')}`).join('\n')}
-  help    this text
+${Object.values(COMMANDS).map(({ spec }) => `  ${spec.name.padEnd(9)}${spec.summary}\n${spec.usage.map((u) => `           helicord ${u}`).join('\n')}`).join('\n')}
+  help     this text
 
 These are research indicators, not forecasts: for operational decisions use the official
 space-weather services.

@@ -10,7 +10,7 @@ import type { OptionSpec, ParsedArgs } from './args.js';
 export const COMPONENT_OPTIONS: Readonly<Record<string, OptionSpec>> = {
   layout: {
     kind: 'string', value: 'NAME', choices: LAYOUT_NAMES, defaultText: 'frame (or the config file\'s components.layout)',
-    help: `how an archive stores its maps: ${Object.entries(COMPONENT_LAYOUTS).map(([n, l]) => `${n}: ${l.description}`).join('. ')}`,
+    help: `how an archive stores its maps: ${Object.entries(COMPONENT_LAYOUTS).map(([n, l]) => `${n} = ${l.description}`).join('; ')}`,
   },
   component: {
     kind: 'list', value: 'MAP=RULE',
