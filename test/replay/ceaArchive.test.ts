@@ -131,6 +131,9 @@ describe('an archive of one file per component (cea-components)', () => {
     const scan = await openArchive(ARCHIVE, { components: { layout: 'cea-components' } });
     expect(scan.entries).toHaveLength(4);
     expect(scan.entries[0].files).toHaveLength(3);
+    // What replay feeds the monitor: each entry assembled from its files when it is read.
+    const third = await scan.frame(2);
+    expect(Array.from(third.by!)).toEqual(Array.from((await loadFrameFile(join(JSON_FRAMES, 'patch7_2.json'))).by!));
     const { indexScans, scanOne } = await import('../../replay/archiveSource.js');
     const index = indexScans(await Promise.all(names.map((n) => scanOne(join(ARCHIVE, n), { layout: 'cea-components' }))), { layout: 'cea-components' });
     expect(index.entries).toHaveLength(3);
