@@ -8,24 +8,7 @@ import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import type { SeriesRow } from '../../core/seriesColumns.js';
 import type { ChildMonitor } from './support.js';
-import { TOKEN, circlingFrame, frameBody, getJson, irregularTimes, launchMonitor, postFrame, startMonitor, tempDir, waitIdle } from './support.js';
-
-async function until(what: string, deadlineMs: number, check: () => Promise<boolean> | boolean): Promise<void> {
-  const end = Date.now() + deadlineMs;
-  while (!(await check())) {
-    if (Date.now() > end) throw new Error(`${what}: not within ${deadlineMs} ms`);
-    await new Promise((r) => setTimeout(r, 25));
-  }
-}
-
-/** A fixed shuffle (mulberry32). */
-function shuffled<T>(items: readonly T[], seed: number): T[] {
-  let a = seed >>> 0;
-  const rand = () => { a = (a + 0x6d2b79f5) >>> 0; let t = a; t = Math.imul(t ^ (t >>> 15), t | 1); t ^= t + Math.imul(t ^ (t >>> 7), t | 61); return ((t ^ (t >>> 14)) >>> 0) / 4294967296; };
-  const out = [...items];
-  for (let i = out.length - 1; i > 0; i--) { const j = Math.floor(rand() * (i + 1)); [out[i], out[j]] = [out[j], out[i]]; }
-  return out;
-}
+import { TOKEN, circlingFrame, frameBody, getJson, irregularTimes, launchMonitor, postFrame, shuffled, startMonitor, tempDir, until, waitIdle } from './support.js';
 
 const frameTimes = async (url: string) => (await getJson<{ frames: { time: string }[] }>(url, '/api/regions/ar/frames')).frames.map((f) => f.time);
 

@@ -9,7 +9,7 @@ import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { SeriesRow } from '../../core/seriesColumns.js';
 import type { TestMonitor } from './support.js';
-import { TOKEN, circlingFrame, frameBody, getJson, irregularTimes, postFrame, startMonitor, tempDir, waitIdle } from './support.js';
+import { TOKEN, circlingFrame, frameBody, getJson, irregularTimes, postFrame, shuffled, startMonitor, tempDir, until, waitIdle } from './support.js';
 
 const auth = { authorization: `Bearer ${TOKEN}`, 'content-type': 'application/json' };
 const strip = (r: SeriesRow) => ({ ...r, frame_id: null });
@@ -17,23 +17,6 @@ const strip = (r: SeriesRow) => ({ ...r, frame_id: null });
 async function putSettings(url: string, region: string, settings: unknown): Promise<void> {
   const r = await fetch(`${url}/api/regions/${region}/settings`, { method: 'PUT', headers: auth, body: JSON.stringify(settings) });
   expect(r.status).toBe(200);
-}
-
-async function until(what: string, deadlineMs: number, check: () => Promise<boolean> | boolean): Promise<void> {
-  const end = Date.now() + deadlineMs;
-  while (!(await check())) {
-    if (Date.now() > end) throw new Error(`${what}: not within ${deadlineMs} ms`);
-    await new Promise((r) => setTimeout(r, 50));
-  }
-}
-
-/** A fixed shuffle (mulberry32), so the test is the same every run. */
-function shuffled<T>(items: readonly T[], seed: number): T[] {
-  let a = seed >>> 0;
-  const rand = () => { a = (a + 0x6d2b79f5) >>> 0; let t = a; t = Math.imul(t ^ (t >>> 15), t | 1); t ^= t + Math.imul(t ^ (t >>> 7), t | 61); return ((t ^ (t >>> 14)) >>> 0) / 4294967296; };
-  const out = [...items];
-  for (let i = out.length - 1; i > 0; i--) { const j = Math.floor(rand() * (i + 1)); [out[i], out[j]] = [out[j], out[i]]; }
-  return out;
 }
 
 const frameCount = async (url: string, region: string) => (await getJson<{ frames: unknown[] }>(url, `/api/regions/${region}/frames`)).frames.length;
