@@ -25,6 +25,7 @@ import { describeFootpoints, trackFrame } from './footpoints/analyseFootpoints.j
 import type { FootpointVelocityOptions } from './footpoints/footpointVelocity.js';
 import { footpointVelocityField } from './footpoints/footpointVelocity.js';
 import { pairMotions } from './footpoints/pairMotion.js';
+import { framePatchCentre, meanCentre } from './frameAssembly/wcs.js';
 import { transportRotation } from './footpoints/transportRotation.js';
 import { SEGMENTATION_DEFAULTS } from './footpoints/segmentation.js';
 import { smoothMap } from './footpoints/smoothing.js';
@@ -134,7 +135,8 @@ export function analyseFrame(
 
   if (hasVelocity(frame)) {
     const tracked = fpSettings && trackFrame(state.footpoints, frame, fpSettings);
-    const r = rateSample({ frame, labels: tracked ? tracked.labels : null, velocityMethod: 'given', ...noise, ...(cache && { cache }) });
+    const centre = framePatchCentre(frame);
+    const r = rateSample({ frame, labels: tracked ? tracked.labels : null, velocityMethod: 'given', ...noise, ...(cache && { cache }), ...(centre && { centre }) });
     const footpoints = tracked && describeFootpoints(state.footpoints, frame, tracked, fpSettings!, {
       transport: r.transport, ...(r.split && { split: r.split }),
     });
@@ -151,7 +153,8 @@ export function analyseFrame(
   const v = inferVelocity(previous, frame, settings.velocity);
   const rateFrame = midFrame(previous, frame);
   const inferred: VelocityMaps = { vx: v.vx, vy: v.vy, ...(v.vz && { vz: v.vz }) };
-  const common = { frame: rateFrame, velocityMethod: v.method, time: v.time, dtS: v.dtS, ...noise, ...(cache && { cache }) };
+  const centre = meanCentre(framePatchCentre(previous), framePatchCentre(frame));
+  const common = { frame: rateFrame, velocityMethod: v.method, time: v.time, dtS: v.dtS, ...noise, ...(cache && { cache }), ...(centre && { centre }) };
   // Without footpoint motions the 1-sigma covers the field noise only, not the inference's errors.
   const incomplete = 'sigma-without-velocity-error';
   const incompleteNote = 'The 1-sigma covers the field noise only: the errors of the inferred velocity are not in it (they are when the velocity is built from footpoint motions).';

@@ -7,6 +7,7 @@ import { fluxKernelFor } from './fluxKernel.js';
 import type { Frame } from './frame.js';
 import { hasVectorData } from './frame.js';
 import type { VelocityMaps } from './fluxTransport.js';
+import type { PatchCentre } from './frameAssembly/wcs.js';
 import { fluxTransport } from './fluxTransport.js';
 import { convolveTransport, helicityFluxFromConvolutions } from './helicityFlux.js';
 import type { LabelSplit } from './labelSplit.js';
@@ -59,6 +60,8 @@ export interface RateSample {
   readonly maskedFraction: number;
   /** Quality flags in words: 'no-footpoints', 'masked-pixels', ... */
   readonly flags: readonly string[];
+  /** Where the patch sat on the Sun, when the frames' headers say (the mean of a pair's two frames). */
+  readonly centre?: PatchCentre;
 }
 
 /**
@@ -101,6 +104,8 @@ export interface RateInput {
    * emergence term comes from it and the horizontal field, the shear term is the rest of the total.
    */
   readonly normalVelocity?: Float64Array;
+  /** The patch centre of the sample (core/frameAssembly/wcs.ts), passed through. */
+  readonly centre?: PatchCentre;
   /** Quality flags to add (e.g. from the velocity model). */
   readonly flags?: readonly string[];
 }
@@ -166,6 +171,7 @@ export function rateSample(input: RateInput): RateResult {
     splitMethod: split ? 'labels' : 'none',
     maskedFraction: flux.maskedFraction,
     flags,
+    ...(input.centre && { centre: input.centre }),
   };
   return { sample, ...(split && { split }), gTheta: flux.gTheta, transport: t };
 }

@@ -65,7 +65,7 @@ const finiteOrNull = (v: number | undefined): number | null => (v !== undefined 
  * The series row of one sample and the budget point it produced; `centre`, where the sample was
  * taken on the Sun, when the frames' headers say.
  */
-export function seriesRow(sample: RateSample, point: BudgetPoint, frameId: number | null = null, centre?: PatchCentre): SeriesRow {
+export function seriesRow(sample: RateSample, point: BudgetPoint, frameId: number | null = null, centre: PatchCentre | undefined = sample.centre): SeriesRow {
   const flux = sample.unsignedFlux;
   return {
     time: new Date(sample.time).toISOString(),

@@ -10,6 +10,7 @@ import { seriesCsv, SERIES_COLUMNS } from '../core/seriesColumns.js';
 import { writeFits } from '../core/fits/writeImage.js';
 import type { ImageToWrite } from '../core/fits/writeImage.js';
 import { gridImage } from '../replay/fitsFrames.js';
+import type { Frame } from '../core/frame.js';
 import { isLoopback, tokenMatches } from './auth.js';
 import { isDiskFull } from './diskFull.js';
 import type { HostPolicy } from './hostCheck.js';
@@ -317,10 +318,12 @@ export function buildApp(ctx: ApiContext): express.Express {
     const frame = decodeMapFile(await readFile(join(store.dataDir, f.file)), f.file);
     const maps = f.mapsFile ? decodeMapFile(await readFile(join(store.dataDir, f.mapsFile)), f.mapsFile) : undefined;
     // The same images as the batch's --maps files (replay/fitsFrames.ts), with bn first.
-    const images: ImageToWrite[] = [gridImage(f, 'BN', frame.float.bn, 'G')];
-    if (maps?.float.gtheta) images.push(gridImage(f, 'GTHETA', maps.float.gtheta, 'Mx2 cm-2 s-1'));
-    if (maps?.int.labels) images.push(gridImage(f, 'LABELS', maps.int.labels, ''));
-    if (maps?.float.vx && maps.float.vy) images.push(gridImage(f, 'VX', maps.float.vx, 'km/s'), gridImage(f, 'VY', maps.float.vy, 'km/s'));
+    // With the stored frame's provenance, the input's world coordinates are kept.
+    const g = { ...f, provenance: (frame.header.provenance ?? {}) as Frame['provenance'] };
+    const images: ImageToWrite[] = [gridImage(g, 'BN', frame.float.bn, 'G')];
+    if (maps?.float.gtheta) images.push(gridImage(g, 'GTHETA', maps.float.gtheta, 'Mx2 cm-2 s-1'));
+    if (maps?.int.labels) images.push(gridImage(g, 'LABELS', maps.int.labels, ''));
+    if (maps?.float.vx && maps.float.vy) images.push(gridImage(g, 'VX', maps.float.vx, 'km/s'), gridImage(g, 'VY', maps.float.vy, 'km/s'));
     const bytes = writeFits({ primary: [{ key: 'ORIGIN', value: 'helicord' }, { key: 'REGION', value: f.region }, { key: 'FRAMEID', value: f.id }], images });
     res.type('application/fits').set('content-disposition', `attachment; filename="${f.region}-${f.id}.fits"`).send(Buffer.from(bytes));
   });

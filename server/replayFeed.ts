@@ -154,7 +154,7 @@ export class ReplayFeed {
       this.skippedLate++;
       return;
     }
-    const a = await pipeline.ingest({ region: this.region, payload: { kind: 'frame', frame: { ...frame, provenance: { source } } }, source, mayCreate: true });
+    const a = await pipeline.ingest({ region: this.region, payload: { kind: 'frame', frame: { ...frame, provenance: { ...frame.provenance, source } } }, source, mayCreate: true });
     if (a.status === 201) this.sent++;
     else if (a.status === 200) this.duplicates++;
     else this.log(`replay into "${this.region}", frame ${i}: ${JSON.stringify(a.body)}`);
