@@ -2,6 +2,7 @@
 // budget gap handling, lateness of out-of-order frames, alert rule overrides, the webhook, the
 // watched folder switch and the component mapping (how FITS files are read, passed through).
 import type { BudgetSettings } from '../core/budget.js';
+import { ANALYSIS_FIELDS, COMPONENT_FIELDS, checkSchema } from '../replay/settingsSchema.js';
 import { InputError } from '../core/inputError.js';
 import type { RuleOverrides } from '../core/alerts/ruleCatalogue.js';
 import { RULES } from '../core/alerts/ruleCatalogue.js';
@@ -84,10 +85,13 @@ export function mergeSettings(base: RegionSettings, patch: unknown): RegionSetti
     switch (k) {
       case 'analysis':
         if (!isObject(v)) throw new InputError(SOURCE, k, 'must be an object');
+        // The same schema as a --config file's section: a misspelled or misplaced key is named.
+        checkSchema(v, { kind: 'object', fields: ANALYSIS_FIELDS }, SOURCE, 'analysis');
         out = { ...out, analysis: { ...out.analysis, ...v } };
         break;
       case 'components':
         if (!isObject(v)) throw new InputError(SOURCE, k, 'must be an object');
+        checkSchema(v, { kind: 'object', fields: COMPONENT_FIELDS }, SOURCE, 'components');
         out = { ...out, components: { ...out.components, ...v } };
         break;
       case 'budget':
