@@ -16,7 +16,7 @@ import { measureChartRedraw, measureMapDraw } from './pagePerformance.js';
 import { isRegionName, routes } from './routes.js';
 import { applySnapshot, backfillSince, isoToMs, mergeGaps, mergeSamples, nearestIndex, type GapSpan, type SeriesPoint } from './seriesMerge.js';
 import { tokenStore } from './tokenStore.js';
-import { formatDuration, formatHelicity, formatRate, formatUtc } from './unitFormat.js';
+import { formatDuration, formatFlux, formatHelicity, formatRate, formatUtc } from './unitFormat.js';
 import { ViewerLink, type LinkState } from './viewerSocket.js';
 import type {
   FeedStatus, FootpointsAnswer, LatestFrame, MapAnswer, RegionInfo, ReplayInfo, ViewerMessage, WireAlert, WireGap, WireSample,
@@ -527,7 +527,14 @@ function renderFeed(): void {
     if (st.disk_full) parts.push('disk full: frames wait for space');
   }
   const latest = state.series[state.series.length - 1]?.s;
-  if (latest) parts.push(`latest rate ${formatRate(latest.rate_total)}, budget ${formatHelicity(latest.budget_total)}`);
+  if (latest) {
+    parts.push(`latest rate ${formatRate(latest.rate_total)}, budget ${formatHelicity(latest.budget_total)}`);
+    // The unsigned flux and the budget over its square, when the series carries them.
+    if (latest.flux_unsigned != null) {
+      const norm = latest.budget_normalised != null ? `, H/Φ² ${latest.budget_normalised.toPrecision(2)}` : '';
+      parts.push(`unsigned flux ${formatFlux(latest.flux_unsigned)}${norm}`);
+    }
+  }
   parts.push(`${state.series.length} samples`);
   feedText.replaceChildren(el('span', { class: link === 'live' ? 'live' : 'down', text: linkText }), ` · ${parts.join(' · ')}`);
   const raised = state.alerts.filter((a) => a.state === 'raised').length;

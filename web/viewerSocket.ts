@@ -8,6 +8,10 @@ import { parseViewerMessage, type ViewerMessage } from './wire.js';
 
 export type LinkState = 'connecting' | 'live' | 'reconnecting' | 'closed';
 
+/** Close codes of the viewer socket after which there is nothing to reconnect to (docs/api.md). */
+export const REGION_REMOVED = 4004;
+export const REGION_RENAMED = 4005;
+
 export interface ViewerLinkOptions {
   region: string;
   token?: string;
@@ -53,8 +57,14 @@ export class ViewerLink {
       const message = parseViewerMessage(ev.data);
       if (message) this.options.onMessage(message);
     };
-    socket.onclose = () => {
+    socket.onclose = (ev: CloseEvent) => {
       if (this.socket === socket) this.socket = undefined;
+      // The region was removed (4004) or renamed (4005): asking again would only get 404.
+      if (ev.code === REGION_REMOVED || ev.code === REGION_RENAMED) {
+        this.stopped = true;
+        this.options.onState('closed', { attempt: 0 });
+        return;
+      }
       this.retry();
     };
     socket.onerror = () => {
