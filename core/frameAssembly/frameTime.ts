@@ -3,7 +3,6 @@
 // date-only DATE-OBS with TIME-OBS, in the time scale named by TIMESYS (default UTC, s.9.2.1).
 // TAI, TT (= TAI + 32.184 s) and GPS (= TAI - 19 s) convert to UTC with the leap-second table.
 
-import { format } from 'date-fns';
 import { InputError } from '../inputError.js';
 import type { FitsHeader } from '../fits/header.js';
 import { headerString } from '../fits/header.js';
@@ -98,17 +97,34 @@ export function frameTimeFromHeaders(headers: readonly FitsHeader[], source: str
   throw new InputError(source, `${where} DATE-OBS`, 'is missing: a frame needs DATE-OBS or DATE-AVG for its time');
 }
 
+const pad = (n: number, width: number): string => String(n).padStart(width, '0');
+
+/** The fields a formatUtc pattern may use, read on the UTC clock. */
+const UTC_FIELDS: Record<string, (d: Date) => string> = {
+  yyyy: (d) => pad(d.getUTCFullYear(), 4),
+  MM: (d) => pad(d.getUTCMonth() + 1, 2),
+  dd: (d) => pad(d.getUTCDate(), 2),
+  HH: (d) => pad(d.getUTCHours(), 2),
+  mm: (d) => pad(d.getUTCMinutes(), 2),
+  ss: (d) => pad(d.getUTCSeconds(), 2),
+  SSS: (d) => pad(d.getUTCMilliseconds(), 3),
+};
+
+const PATTERN_TOKEN = /yyyy|MM|dd|HH|mm|ss|SSS|'[^']*'|[A-Za-z]/g;
+
 /**
- * Formats a UTC instant with a date-fns pattern, on the UTC clock whatever the host's zone.
- * date-fns formats local wall time, so it is given the local Date whose wall clock reads the UTC
- * fields; when that wall time does not exist locally (a daylight-saving gap) the ISO form is used.
+ * Formats a UTC instant on the UTC clock, whatever the host's time zone.
+ * Pattern fields: yyyy MM dd HH mm ss SSS; text in single quotes is copied ('T'); any other
+ * letter is refused (so a pattern never silently prints something else); other characters are copied.
+ * formatUtc(Date.UTC(2011, 2, 13, 7, 30, 0, 250)) === '2011-03-13T07:30:00.250'
  */
 export function formatUtc(utcMs: number, pattern = "yyyy-MM-dd'T'HH:mm:ss.SSS"): string {
-  const u = new Date(utcMs);
   if (!Number.isFinite(utcMs)) throw new InputError('time', 'value', `${utcMs} is not a time`);
-  const local = new Date(u.getUTCFullYear(), u.getUTCMonth(), u.getUTCDate(), u.getUTCHours(), u.getUTCMinutes(), u.getUTCSeconds(), u.getUTCMilliseconds());
-  if (local.getFullYear() < 100) local.setFullYear(u.getUTCFullYear());
-  const same = local.getHours() === u.getUTCHours() && local.getMinutes() === u.getUTCMinutes() && local.getDate() === u.getUTCDate();
-  if (!same) return pattern === "yyyy-MM-dd'T'HH:mm:ss.SSS" ? u.toISOString().slice(0, 23) : u.toISOString();
-  return format(local, pattern);
+  const d = new Date(utcMs);
+  return pattern.replace(PATTERN_TOKEN, (token) => {
+    if (token.startsWith("'")) return token.slice(1, -1);
+    const field = UTC_FIELDS[token];
+    if (!field) throw new InputError('time', 'pattern', `'${token}' in '${pattern}' is not a field (yyyy MM dd HH mm ss SSS)`);
+    return field(d);
+  });
 }

@@ -73,7 +73,7 @@ describe('time from DATE-OBS / DATE-AVG with TIMESYS', () => {
     expect(LEAP_SECONDS.map((e) => [e.utcMs / 1000 + ntpEpochToUnix, e.taiMinusUtc])).toEqual(rows.map((r) => [r[0], r[1]]));
   });
 
-  it('formatUtc shows the UTC clock whatever the host zone (date-fns)', () => {
+  it('formatUtc shows the UTC clock whatever the host zone', () => {
     const old = process.env.TZ;
     try {
       for (const tz of ['UTC', 'America/New_York', 'Asia/Kolkata']) {
@@ -86,6 +86,8 @@ describe('time from DATE-OBS / DATE-AVG with TIMESYS', () => {
     } finally {
       process.env.TZ = old;
     }
+    expect(formatUtc(Date.UTC(999, 0, 2))).toBe('0999-01-02T00:00:00.000');
+    expect(() => formatUtc(0, 'yyyy-MM-dd hh:mm')).toThrow(/'h' in 'yyyy-MM-dd hh:mm' is not a field/);
   });
 });
 
