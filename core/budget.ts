@@ -17,6 +17,7 @@
 //   the sensitivities of successive samples to have one sign, as for a steadily moving region.
 // Pure: the state goes in and comes out as a plain object (it is stored with every point).
 
+import { median as medianOf } from './quantile.js';
 import type { RateSample } from './rateSample.js';
 
 /** The integrated components, in the order they are reported. */
@@ -116,12 +117,6 @@ function ratesOf(s: RateSample): Record<BudgetComponent, number> {
     total: s.total, spin: s.spin, orbit: s.orbit, background: s.background, totalGa: s.totalGa,
     emergence: s.emergence ?? NaN, shear: s.shear ?? NaN,
   };
-}
-
-function medianOf(values: readonly number[]): number {
-  const a = [...values].sort((p, q) => p - q);
-  const m = a.length >> 1;
-  return a.length % 2 ? a[m] : 0.5 * (a[m - 1] + a[m]);
 }
 
 /** The median cadence the next interval is judged against, s (NaN while unknown). */

@@ -21,6 +21,7 @@ import type { FrameAssemblySettings } from '../core/frameAssembly/assembleFrame.
 import { mergeAssemblySettings } from '../core/frameAssembly/componentLayouts.js';
 import type { PatchCentre } from '../core/frameAssembly/wcs.js';
 import { InputError } from '../core/inputError.js';
+import { upperMedian } from '../core/quantile.js';
 import type { RateSample } from '../core/rateSample.js';
 import type { SeriesRow } from '../core/seriesColumns.js';
 import { SERIES_COLUMNS, seriesCsv, seriesRow } from '../core/seriesColumns.js';
@@ -176,12 +177,6 @@ function jsonValue(key: string, v: unknown): unknown {
   return v;
 }
 
-function median(values: number[]): number | undefined {
-  if (values.length === 0) return undefined;
-  const a = [...values].sort((p, q) => p - q);
-  return a[a.length >> 1];
-}
-
 export async function processFolder(args: ProcessArgs): Promise<ProcessSummary> {
   const progress = progressReport(args.progress ?? process.stderr);
   const config = await readBatchConfig(args.config);
@@ -224,7 +219,8 @@ export async function processFolder(args: ProcessArgs): Promise<ProcessSummary> 
   skipped.sort((a, b) => (a.file < b.file ? -1 : a.file > b.file ? 1 : 0));
   samples.sort((a, b) => a.sample.time - b.sample.time);
   const times = index.entries.map((e) => e.time);
-  const cadenceS = median(times.slice(1).map((t, i) => (t - times[i]) / 1000));
+  const cadence = upperMedian(times.slice(1).map((t, i) => (t - times[i]) / 1000));
+  const cadenceS = Number.isNaN(cadence) ? undefined : cadence;
   const series = buildSeries(samples, refusalTimes, config, cadenceS);
 
   await writeFile(args.out, seriesCsv(series.rows));

@@ -22,6 +22,7 @@ import type { Frame } from '../core/frame.js';
 import type { AnalysisSettings } from '../core/frameAnalysis.js';
 import { sameGrid } from '../core/grid.js';
 import { InputError } from '../core/inputError.js';
+import { upperMedian } from '../core/quantile.js';
 import type { RateSample } from '../core/rateSample.js';
 import type { SeriesRow } from '../core/seriesColumns.js';
 import { seriesRow } from '../core/seriesColumns.js';
@@ -513,9 +514,8 @@ export class Pipeline {
 
   status(region: string): Record<string, unknown> {
     const c = this.carry(region);
-    const intervals = c.budget.intervals;
-    const sorted = [...intervals].sort((a, b) => a - b);
-    const cadence = sorted.length ? sorted[sorted.length >> 1] : null;
+    const median = upperMedian(c.budget.intervals);
+    const cadence = Number.isNaN(median) ? null : median;
     return {
       last_frame_time: isoOrNull(this.store.latestTime(region)),
       cadence_s: cadence,

@@ -3,15 +3,11 @@
 // use, on a scratch chart/canvas of the same size as the live one so the live panels are untouched.
 
 import { applySeriesData, buildSeriesData, createSeriesChart, setSeriesData } from './charts.js';
+import { upperMedian } from '../core/quantile.js';
 import { decodeFloat32Base64 } from './float32Base64.js';
 import { MapView } from './mapView.js';
 import { mergeSamples } from './seriesMerge.js';
 import type { WireSample, WireFootpoint } from './wire.js';
-
-function median(xs: number[]): number {
-  const s = xs.slice().sort((a, b) => a - b);
-  return s[s.length >> 1];
-}
 
 function scratchCanvas(like: HTMLCanvasElement): { canvas: HTMLCanvasElement; box: HTMLDivElement } {
   const box = document.createElement('div');
@@ -85,8 +81,8 @@ export async function measureChartRedraw(like: HTMLCanvasElement, samples: numbe
       re.push(performance.now() - t);
     }
     return {
-      samples, pointsDrawn: chart.data.datasets.reduce((n, d) => n + d.data.length, 0), fullUpdateMs: median(runs),
-      prepareMs: median(prep), chartUpdateMs: median(upd), redrawMs: median(re), runs,
+      samples, pointsDrawn: chart.data.datasets.reduce((n, d) => n + d.data.length, 0), fullUpdateMs: upperMedian(runs),
+      prepareMs: upperMedian(prep), chartUpdateMs: upperMedian(upd), redrawMs: upperMedian(re), runs,
     };
   } finally {
     chart.destroy();
@@ -133,7 +129,7 @@ export async function measureMapDraw(likeMap: HTMLCanvasElement, likeBar: HTMLCa
       decoded = decodeFloat32Base64(text, n);
       dec.push(performance.now() - td);
     }
-    const decodeMs = median(dec);
+    const decodeMs = upperMedian(dec);
     const dx = 0.36;
     const footpoints: WireFootpoint[] = [1, 2].map((id) => ({
       id, polarity: id === 1 ? 1 : -1, flux: id === 1 ? 1e22 : -1e22, x: (id === 1 ? 0.35 : 0.65) * size * dx, y: 0.5 * size * dx,
@@ -153,7 +149,7 @@ export async function measureMapDraw(likeMap: HTMLCanvasElement, likeBar: HTMLCa
       view.setHighlight(k % 2 ? 1 : 2);
       re.push(performance.now() - t);
     }
-    return { size, decodeMs, newFrameMs: median(runs), redrawMs: median(re), runs };
+    return { size, decodeMs, newFrameMs: upperMedian(runs), redrawMs: upperMedian(re), runs };
   } finally {
     box.remove();
     barBox.box.remove();

@@ -2,6 +2,7 @@
 // the connect snapshot and reconnect backfills all enter through mergeSamples, so a sample that
 // arrives twice (snapshot overlapping a backfill, a resent message) is kept once.
 
+import { upperMedian } from '../core/quantile.js';
 import type { WireGap, WireSample } from './wire.js';
 
 export interface SeriesPoint {
@@ -102,8 +103,7 @@ export function medianStepMs(series: readonly SeriesPoint[], maxSteps = 4096): n
   const steps: number[] = [];
   const stride = Math.max(1, Math.floor((series.length - 1) / maxSteps));
   for (let i = 1; i < series.length; i += stride) steps.push(series[i].t - series[i - 1].t);
-  steps.sort((a, b) => a - b);
-  return steps[steps.length >> 1];
+  return upperMedian(steps);
 }
 
 /**

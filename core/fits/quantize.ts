@@ -3,6 +3,8 @@
 // sequence), or F = I * ZSCALE + ZZERO without. ZBLANK marks NaN; SUBTRACTIVE_DITHER_2 also
 // reserves -2147483646 for exact zeros.
 
+import { upperMedian } from '../quantile.js';
+
 export type Quantization = 'NO_DITHER' | 'SUBTRACTIVE_DITHER_1' | 'SUBTRACTIVE_DITHER_2';
 
 /** Reserved integer of SUBTRACTIVE_DITHER_2 for a pixel that was exactly 0.0. */
@@ -139,9 +141,8 @@ export function tileNoise(values: ArrayLike<number>, nx: number, ny: number): nu
       const a = values[y * nx + x - 2], b = values[y * nx + x], c = values[y * nx + x + 2];
       if (Number.isFinite(a) && Number.isFinite(b) && Number.isFinite(c)) d[k++] = Math.abs(2 * b - a - c);
     }
-    if (k >= 8) { const s = d.subarray(0, k).sort(); rows[nr++] = s[k >> 1]; }
+    if (k >= 8) rows[nr++] = upperMedian(d.subarray(0, k));
   }
   if (nr === 0) return 0;
-  const r = rows.subarray(0, nr).sort();
-  return r[nr >> 1] / (0.6745 * Math.sqrt(6));
+  return upperMedian(rows.subarray(0, nr)) / (0.6745 * Math.sqrt(6));
 }

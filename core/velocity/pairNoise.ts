@@ -3,6 +3,8 @@
 // divided by sqrt 2 (the difference of two independent noisy frames). Real evolution also enters
 // the difference, so this is an upper bound where the field changes in most pixels.
 
+import { median } from '../quantile.js';
+
 /** Noise level in G of each frame, from the pixels valid in both; NaN when none. */
 export function pairNoise(a: ArrayLike<number>, b: ArrayLike<number>): number {
   const diff: number[] = [];
@@ -13,10 +15,4 @@ export function pairNoise(a: ArrayLike<number>, b: ArrayLike<number>): number {
   if (diff.length === 0) return NaN;
   const med = median(diff);
   return (1.4826 * median(diff.map((d) => Math.abs(d - med)))) / Math.SQRT2;
-}
-
-function median(values: number[]): number {
-  const s = Float64Array.from(values).sort();
-  const m = s.length >> 1;
-  return s.length % 2 === 1 ? s[m] : 0.5 * (s[m - 1] + s[m]);
 }
