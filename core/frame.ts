@@ -1,5 +1,5 @@
 // A frame: one observation time of one region on one grid. Maps are row-major Float64Array;
-// NaN means "no data". Velocities are in km/s, fields in gauss (DESIGN section 3).
+// NaN means "no data". Velocities are in km/s, fields in gauss (DEVELOPERS.md, Conventions).
 
 import type { Grid } from './grid.js';
 import { checkGrid, checkMapSize } from './grid.js';

@@ -7,7 +7,7 @@ export const CM_PER_MM = 1e8;
 export const CM_PER_KM = 1e5;
 /** Kilometres per megametre. */
 export const KM_PER_MM = 1e3;
-/** Solar radius in Mm used for heliographic degrees (DESIGN section 4: R = 696 Mm). */
+/** Solar radius in Mm used for heliographic degrees (R = 696 Mm; the conversion is shown in docs/fits.md). */
 export const SOLAR_RADIUS_MM = 696;
 /** Mm per degree of heliographic arc on the solar surface: 2 pi R / 360 = 12.147 Mm. */
 export const MM_PER_HELIOGRAPHIC_DEG = (2 * Math.PI * SOLAR_RADIUS_MM) / 360;

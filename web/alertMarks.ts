@@ -18,7 +18,7 @@ export interface AlertMoment {
   rule: string;
 }
 
-/** Published defaults for accumulated |H| (DESIGN section 6). */
+/** Published defaults for accumulated |H| (sources as in README.md's alert table). */
 export const DEFAULT_BUDGET_THRESHOLDS: readonly ThresholdLine[] = [
   { value: 2e42, label: 'eruptive regions', source: 'Tziotziou, Georgoulis & Raouafi 2012' },
   { value: 9e41, label: 'emerging regions', source: 'Liokati et al. 2022' },

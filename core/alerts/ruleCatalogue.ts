@@ -1,7 +1,8 @@
 // The alert rules and their defaults, as data: each published threshold carries its source
-// (DESIGN section 6). These are research indicators from surveys, not forecasts.
-// Bibliographic details (journal, volume, page) are from memory; the threshold values are the
-// ones DESIGN section 6 gives.
+// (the papers named in each rule; the table in README.md and docs/server.md). These are research
+// indicators from surveys, not forecasts. Bibliographic details (journal, volume, page) are from
+// memory; the threshold values are the papers' figures as quoted when the project started, not
+// re-read from the papers here.
 
 export type RuleId =
   | 'budget' | 'budget-emerging' | 'peak-rate' | 'build-up-plateau' | 'sign-reversal'

@@ -1,4 +1,4 @@
-// The footpoint module's public face: find, track and spin footpoints (DESIGN section 4).
+// The footpoint module's public face: find, track and spin footpoints (docs/footpoints.md).
 export { analyseFootpoints, RECENT_FRAMES } from './analyseFootpoints.js';
 export type {
   FootpointAnalysis, FootpointBudget, FootpointFlag, FootpointRow, FootpointSettings, FootpointState,

@@ -37,7 +37,7 @@ function fromRates(rates: number[], sigma = 0): RuleInput[] {
   });
 }
 
-describe('alert thresholds carry their published sources (DESIGN section 6)', () => {
+describe('alert thresholds carry their published sources', () => {
   it('defaults and sources', () => {
     expect(ruleDefinition('budget')!.defaults.threshold).toBe(2e42);
     expect(ruleDefinition('budget')!.source).toMatch(/Tziotziou, Georgoulis & Raouafi 2012/);

@@ -1,4 +1,4 @@
-// The analytic results of DESIGN section 4 (Berger & Field 1984; Pariat, Demoulin & Berger 2005;
+// Analytic results of the helicity-flux formula (Berger & Field 1984; Pariat, Demoulin & Berger 2005;
 // Moffatt 1969 for the linking number), computed by the FFT engine on synthetic scenes.
 import { describe, expect, it } from 'vitest';
 import type { FluxKernelCache } from '../../core/fluxKernel.js';

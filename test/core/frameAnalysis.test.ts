@@ -1,5 +1,5 @@
 // The pipeline's per-frame step: given velocities or inferred ones, footpoints found and tracked,
-// and the rate split checked against the analytic circling pair (DESIGN section 4:
+// and the rate split checked against the analytic circling pair (Berger & Field 1984:
 // dH/dt = -(1/pi) Phi1 Phi2 Omega).
 import { describe, expect, it } from 'vitest';
 import type { FluxKernelCache } from '../../core/fluxKernel.js';

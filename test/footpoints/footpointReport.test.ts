@@ -3,7 +3,7 @@ import { analyseFootpoints } from '../../core/footpoints/analyseFootpoints.js';
 import { footpointReport } from '../../core/footpoints/footpointReport.js';
 import { sceneFrame } from './scene.js';
 
-// JSON policy (DESIGN section 3): NaN is written as null; the report must survive JSON unchanged.
+// JSON policy (DEVELOPERS.md, Conventions): NaN is written as null; the report must survive JSON unchanged.
 describe('footpoint report', () => {
   const grid = { nx: 64, ny: 48, dx: 0.5, dy: 0.5 };
   const spots = [

@@ -5,7 +5,7 @@ import type { FluxKernelCache } from '../../core/fluxKernel.js';
 import type { Spot } from './scene.js';
 import { sceneFrame, spotFlux, spotVelocity } from './scene.js';
 
-// Analytic truths from DESIGN section 4, from the helicity-flux formula of Berger & Field (1984) /
+// Analytic truths from the helicity-flux formula of Berger & Field (1984) /
 // Pariat, Demoulin & Berger (2005) split as in Longcope, Ravindra & Barnes (2007):
 //   a footpoint of flux Phi spinning at omega: spin = -(omega/2pi) Phi^2;
 //   two compact footpoints circling each other at Omega: orbit = -(1/pi) Phi_1 Phi_2 Omega.
@@ -148,7 +148,7 @@ describe('exact split and point estimate on several well separated footpoints', 
 
 describe('a footpoint turning differentially', () => {
   // Axisymmetric Gaussian footpoint (width s) with omega(r) = omega0 exp(-r^2 / 2 L^2). From the
-  // formula (DESIGN section 4): a pixel pair turns on average at the rate of its outer pixel, so
+  // formula (Pariat, Demoulin & Berger 2005): a pixel pair turns on average at the rate of its outer pixel, so
   // spin = -(1/pi) Int omega(r) Phi(<r) dPhi(r) = -(omega0 Phi^2 / pi) / ((1 + a)(2 + a)), a = s^2/L^2
   // (our derivation; -(omega0/2pi) Phi^2 for a = 0). With L = s the effective rate is omega0/3,
   // where a mean weighted by |Bn| r^2 would give omega0/4 and one weighted by |Bn| alone omega0/2.

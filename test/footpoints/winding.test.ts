@@ -8,7 +8,7 @@ import { sceneFrame, spotFlux, spotVelocity } from './scene.js';
 
 // Two closed flux tubes with linking number Lk carry H = 2 Lk Phi_1 Phi_2 (Moffatt 1969): n full
 // counter-clockwise turns of two same-sign footpoints about each other inject -2 n Phi_1 Phi_2
-// (DESIGN section 4, sign convention: counter-clockwise seen from the corona, positive = right-handed).
+// (sign convention of DEVELOPERS.md, Conventions: counter-clockwise seen from the corona, positive = right-handed).
 // The scene is our own: two positive spots circling their midpoint, 36 frames a turn, 3 turns.
 const grid = { nx: 64, ny: 64, dx: 0.5, dy: 0.5 };
 const DT = 60_000;

@@ -1,5 +1,5 @@
 // End to end on loopback: a scripted sequence with known injection posted over HTTP, then read
-// back through the API and the viewer socket. The truth is DESIGN section 4: two compact footpoints
+// back through the API and the viewer socket. The truth: two compact footpoints
 // circling each other at Omega inject dH/dt = -(1/pi) Phi1 Phi2 Omega (Berger & Field 1984;
 // the core's own check of this scene holds it to 1%, test/core/analyticTruths.test.ts).
 import { writeFileSync, mkdirSync, renameSync } from 'node:fs';

@@ -8,7 +8,7 @@
 //   seeking forward skips frames, and the budget marks a gap (core/budget.ts: an interval longer
 //   than 3 median cadences).
 // - a stored region replayed with other settings: the replayed region's samples carry the new
-//   settings (noise_g is the given noiseG, DESIGN's sigma grows with it) at the same times, and
+//   settings (noise_g is the given noiseG, the rate's sigma grows with it) at the same times, and
 //   the original region's series, frames and settings are byte-for-byte what they were.
 // - exports: the CSV header is the batch CSV's (both core/seriesColumns.ts); the maps FITS passes
 //   fitsverify (Debian's fitsverify, when installed) and its BN image is the frame's bn in float32.

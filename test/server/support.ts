@@ -86,7 +86,7 @@ export const OMEGA = 3e-6;
 
 /**
  * Two compact same-sign spots circling each other about the patch centre at OMEGA, each carrying
- * its orbital velocity (DESIGN section 4: dH/dt = -(1/pi) Phi1 Phi2 Omega). 64x64 pixels of
+ * its orbital velocity (Berger & Field 1984: dH/dt = -(1/pi) Phi1 Phi2 Omega). 64x64 pixels of
  * 0.5 Mm, radius 6 Mm: the scene of the core's own check of that result (1% there).
  */
 export function circlingFrame(time: number, extra: { noise?: () => number; noiseG?: number } = {}): Frame {

@@ -1,5 +1,5 @@
 // Helicity injection rate computed with inferred velocities against the same rate with the true
-// velocities, on scenes of our own whose analytic rate is known (DESIGN section 4, from Berger &
+// velocities, on scenes of our own whose analytic rate is known (from Berger &
 // Field 1984 and Pariat, Demoulin & Berger 2005): two compact footpoints circling each other at
 // Omega inject -(1/pi) Phi1 Phi2 Omega; a pair with relative angle theta injects
 // -(1/pi) Phi1 Phi2 dtheta/dt; an axisymmetric footpoint spinning at omega injects -(omega/2pi) Phi^2.
@@ -74,7 +74,7 @@ describe('helicity rate from inferred velocities', () => {
     const scene = spotScene([spot(0.3), spot(0.3 + Math.PI)]);
     const trueRate = helicityFluxTotal(kernel, scene.truth);
     const phi = spotFlux(1000, w);
-    // Source: -(1/pi) Phi1 Phi2 Omega (Berger & Field 1984; DESIGN section 4); compact spots, within 2%.
+    // Source: -(1/pi) Phi1 Phi2 Omega (Berger & Field 1984); compact spots, within 2%.
     expect(trueRate / (-(1 / Math.PI) * phi * phi * omega)).toBeCloseTo(1, 1);
     expect(Math.abs(trueRate / (-(1 / Math.PI) * phi * phi * omega) - 1)).toBeLessThan(0.02);
     for (const method of ['dave', 'lct'] as const) {
@@ -119,7 +119,7 @@ describe('helicity rate from inferred velocities', () => {
     const b: Frame = { ...base, time: t0 + dt * 1000, bn: Float64Array.from(bn) };
     const trueRate = helicityFluxTotal(kernel, { bn, fx, fy, valid: new Uint8Array(n).fill(1), validCount: n, maskedFraction: 0, fromVectorData: false });
     const phi = spotFlux(1500, w);
-    // Source: spin of an axisymmetric footpoint, -(omega/2pi) Phi^2 (DESIGN section 4).
+    // Source: spin of an axisymmetric footpoint, -(omega/2pi) Phi^2 (Longcope, Ravindra & Barnes 2007).
     expect(Math.abs(trueRate / (-(omega / (2 * Math.PI)) * phi * phi) - 1)).toBeLessThan(0.02);
     for (const method of ['dave', 'lct'] as const) {
       const v = inferVelocity(a, b, { method, threshold: { unit: 'G', value: 10 } });
