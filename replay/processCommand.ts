@@ -5,26 +5,24 @@
 // analysis state depends on (chunkPriming.ts: the motion baseline and the tracker's last frames,
 // so the pair at each border is made by the chunk after it, exactly as in one run), analysed, and
 // merged in time order with footpoint ids, windings and spin budgets carried across the borders
-// (chunkSeams.ts). The samples are integrated by the core budget, mapped to the series columns by
-// core/seriesColumns.ts and checked by the core alert rules.
+// (chunkSeams.ts). The samples go through core/accumulate.ts, the monitor's own step: the budget,
+// the alert rules and the series row.
 // Unusable files are reported with their reason and skipped; the run goes on.
 
 import { availableParallelism } from 'node:os';
 import { mkdir, writeFile } from 'node:fs/promises';
 import { basename, join } from 'node:path';
-import type { BudgetSettings, BudgetState } from '../core/budget.js';
-import { accumulateBudget, emptyBudget } from '../core/budget.js';
-import type { RulesSettings, RulesState } from '../core/alerts/evaluateRules.js';
-import { alertRecords, emptyRules, evaluateRules } from '../core/alerts/evaluateRules.js';
+import type { AccumulationSettings, AccumulationState } from '../core/accumulate.js';
+import { accumulate, accumulateRefusal, emptyAccumulation, intervalsS, seriesCadenceS } from '../core/accumulate.js';
+import { alertRecords } from '../core/alerts/evaluateRules.js';
 import type { AlertChange } from '../core/alerts/alertState.js';
 import type { FrameAssemblySettings } from '../core/frameAssembly/assembleFrame.js';
 import { mergeAssemblySettings } from '../core/frameAssembly/componentLayouts.js';
 import type { PatchCentre } from '../core/frameAssembly/wcs.js';
 import { InputError } from '../core/inputError.js';
-import { upperMedian } from '../core/quantile.js';
 import type { RateSample } from '../core/rateSample.js';
 import type { SeriesRow } from '../core/seriesColumns.js';
-import { SERIES_COLUMNS, seriesCsv, seriesRow } from '../core/seriesColumns.js';
+import { SERIES_COLUMNS, seriesCsv } from '../core/seriesColumns.js';
 import type { ChunkJob, FrameOutcome } from './analyseChunk.js';
 import type { ScannedFrame, SkippedFile } from './archiveOrder.js';
 import type { FileScan } from './archiveSource.js';
@@ -123,17 +121,17 @@ async function analyseAll(
 
 interface SeriesResult {
   rows: (SeriesRow & { file: string })[];
-  budget: BudgetState;
-  rules: RulesState;
+  state: AccumulationState;
   alertChanges: AlertChange[];
 }
 
 /** Budget, series rows and alerts from the samples in time order (refusals feed the data rules). */
 function buildSeries(samples: { sample: RateSample; index: number; file: string; centre?: PatchCentre }[], refusalTimes: number[], config: BatchConfig, cadenceS?: number): SeriesResult {
-  let budget = emptyBudget();
-  let rules = emptyRules();
-  const rulesSettings: RulesSettings = { rules: config.rules ?? {} };
-  const budgetSettings: BudgetSettings = { ...(cadenceS !== undefined && { cadenceS }), ...config.budget };
+  let state = emptyAccumulation();
+  const settings: AccumulationSettings = {
+    budget: { ...(cadenceS !== undefined && { cadenceS }), ...config.budget },
+    rules: config.rules ?? {},
+  };
   const rows: (SeriesRow & { file: string })[] = [];
   const alertChanges: AlertChange[] = [];
   const refusals = [...refusalTimes].sort((a, b) => a - b);
@@ -143,25 +141,18 @@ function buildSeries(samples: { sample: RateSample; index: number; file: string;
     // Refusals up to this sample's time, in order, so the data rules see them when they happened.
     while (r < refusals.length && refusals[r] <= sample.time) {
       seen.push(refusals[r]);
-      const step = evaluateRules(rules, { time: refusals[r], refusalTimes: seen }, rulesSettings);
-      rules = step.state;
+      const step = accumulateRefusal(state, refusals[r], seen, settings);
+      state = step.state;
       alertChanges.push(...step.changes.map((c) => c.change));
       r++;
     }
-    if (budget.lastTime !== undefined && !(sample.time > budget.lastTime)) continue;
-    const b = accumulateBudget(budget, sample, budgetSettings);
-    budget = b.state;
-    const step = evaluateRules(rules, {
-      time: sample.time, rate: sample.total, sigmaRate: sample.sigmaTotal, budget: b.point.values.total,
-      sigmaBudget: b.point.sigmaTotal, ...(b.point.gap && { gap: b.point.gap }),
-    }, rulesSettings);
-    rules = step.state;
+    if (state.budget.lastTime !== undefined && !(sample.time > state.budget.lastTime)) continue;
+    const step = accumulate(state, sample, settings, { frameId: index, centre });
+    state = step.state;
     alertChanges.push(...step.changes.map((c) => c.change));
-    const row = seriesRow(sample, b.point, index, centre);
-    // The budget marks a gap on the first sample after it.
-    rows.push({ ...row, flags: b.point.gap ? [...row.flags, 'after-gap'] : row.flags, file });
+    rows.push({ ...step.row, file });
   }
-  return { rows, budget, rules, alertChanges };
+  return { rows, state, alertChanges };
 }
 
 /** Times of footpoints and events (UTC ms in core) as ISO strings. */
@@ -218,9 +209,8 @@ export async function processFolder(args: ProcessArgs): Promise<ProcessSummary> 
   }
   skipped.sort((a, b) => (a.file < b.file ? -1 : a.file > b.file ? 1 : 0));
   samples.sort((a, b) => a.sample.time - b.sample.time);
-  const times = index.entries.map((e) => e.time);
-  const cadence = upperMedian(times.slice(1).map((t, i) => (t - times[i]) / 1000));
-  const cadenceS = Number.isNaN(cadence) ? undefined : cadence;
+  // The budget's gap rule starts from the archive's cadence until it has seen enough intervals.
+  const cadenceS = seriesCadenceS(intervalsS(index.entries.map((e) => e.time)));
   const series = buildSeries(samples, refusalTimes, config, cadenceS);
 
   await writeFile(args.out, seriesCsv(series.rows));
@@ -239,11 +229,11 @@ export async function processFolder(args: ProcessArgs): Promise<ProcessSummary> 
       frames: { used, skipped, reordered: index.reordered, waiting },
       columns: SERIES_COLUMNS,
       samples: series.rows,
-      gaps: series.budget.gaps.map((g) => ({ from: new Date(g.from).toISOString(), to: new Date(g.to).toISOString(), bridged: g.bridged, median_cadence_s: g.medianCadenceS })),
+      gaps: series.state.budget.gaps.map((g) => ({ from: new Date(g.from).toISOString(), to: new Date(g.to).toISOString(), bridged: g.bridged, median_cadence_s: g.medianCadenceS })),
       ...(velocityNotes.length > 0 && { velocity_notes: velocityNotes }),
       ...(footpoints.length > 0 && { footpoints }),
       ...(events.length > 0 && { events }),
-      alerts: alertRecords(series.rules),
+      alerts: alertRecords(series.state.rules),
       alert_changes: series.alertChanges,
     };
     await writeFile(args.json, JSON.stringify(json, jsonValue, 2));

@@ -1,8 +1,8 @@
 // The monitor's pipeline as an rxjs graph. Arrivals from every source (HTTP, WebSocket, watched
 // folder, demo) merge into one stream; per region they are
 //   validate -> order and store (duplicates, shape, lateness; the sender's answer) ->
-//   pair (with the last processed frame) -> compute in a worker -> accumulate the budget ->
-//   evaluate the rules -> store -> broadcast.
+//   pair (with the last processed frame) -> compute in a worker -> accumulate (budget, rules and
+//   series row: core/accumulate.ts, the step the batch takes too) -> store -> broadcast.
 // The store stage answers the sender only after the frame is on disk and committed. Processing
 // always takes the stored, not-yet-processed frames of a region in time order; a frame that
 // arrives after later ones (within the lateness) rewinds the region to the frame before it and
@@ -16,20 +16,17 @@ import { join } from 'node:path';
 import type { Observable } from 'rxjs';
 import { Subject, concatMap, defer, from, groupBy, map, mergeMap, of, tap, catchError, EMPTY } from 'rxjs';
 import { restoreSpanS } from '../core/analysisMemory.js';
-import { accumulateBudget } from '../core/budget.js';
-import type { BudgetPoint } from '../core/budget.js';
+import { accumulate, accumulateRefusal, seriesCadenceS } from '../core/accumulate.js';
 import type { Frame } from '../core/frame.js';
 import type { AnalysisSettings } from '../core/frameAnalysis.js';
 import { sameGrid } from '../core/grid.js';
 import { InputError } from '../core/inputError.js';
-import { upperMedian } from '../core/quantile.js';
 import type { RateSample } from '../core/rateSample.js';
 import type { SeriesRow } from '../core/seriesColumns.js';
-import { seriesRow } from '../core/seriesColumns.js';
 import type { AlertChange, AlertRecord } from '../core/alerts/alertState.js';
 import { acknowledgeAlert, newAlertMachine } from '../core/alerts/alertState.js';
 import type { RulesState } from '../core/alerts/evaluateRules.js';
-import { alertRecords, evaluateRules } from '../core/alerts/evaluateRules.js';
+import { alertRecords } from '../core/alerts/evaluateRules.js';
 import { RULES, ruleParams } from '../core/alerts/ruleCatalogue.js';
 import { writeFileAtomic } from './atomicFile.js';
 import { DiskFullError, isDiskFull } from './diskFull.js';
@@ -106,7 +103,6 @@ interface Analysed {
   readonly frame: FrameRow;
   readonly reply: WorkerReply;
   sample?: RateSample;
-  point?: BudgetPoint;
   row?: SeriesRow;
   carry: Carry;
   changes: { alert: AlertRecord; change: AlertChange }[];
@@ -514,11 +510,9 @@ export class Pipeline {
 
   status(region: string): Record<string, unknown> {
     const c = this.carry(region);
-    const median = upperMedian(c.budget.intervals);
-    const cadence = Number.isNaN(median) ? null : median;
     return {
       last_frame_time: isoOrNull(this.store.latestTime(region)),
-      cadence_s: cadence,
+      cadence_s: seriesCadenceS(c.budget.intervals) ?? null,
       refusals: this.store.refusalCount(region),
       gaps: c.budget.gaps.length,
       queue: this.regionQueue(region),
@@ -572,8 +566,8 @@ export class Pipeline {
       const c = this.carry(region);
       const p = ruleParams(RULES.find((d) => d.id === 'refusals')!, row.settings.rules);
       const times = this.store.refusalTimes(region, now - Number(p.windowS) * 1000);
-      const step = evaluateRules(c.rules, { time: now, refusalTimes: times }, { rules: row.settings.rules });
-      const next = { ...c, rules: step.state };
+      const step = accumulateRefusal(c, now, times, { rules: row.settings.rules });
+      const next = step.state;
       this.setCarry(region, next);
       await this.writer.call('setRegionCarry', region, next);
       for (const ch of step.changes) this.announceAlert(region, ch.alert, ch.change, row.settings);
@@ -794,10 +788,8 @@ export class Pipeline {
           this.frameMs = 0.8 * this.frameMs + 0.2 * (Date.now() - started);
           return a;
         }))),
-        // accumulate the budget
+        // accumulate: the budget, the rules and the series row
         map((a) => this.accumulate(region, a)),
-        // evaluate the rules
-        map((a) => this.evaluate(region, a)),
         // store
         concatMap((a) => from(this.commit(region, a).then(() => a))),
         // broadcast
@@ -865,32 +857,20 @@ export class Pipeline {
     return a;
   }
 
+  /** The budget, the rules and the series row of the frame's sample: one core step (core/accumulate.ts). */
   private accumulate(region: string, a: Analysed): Analysed {
     a.carry = this.carry(region);
     if (!a.sample) return a;
     const settings = this.store.region(region)?.settings;
     try {
-      const r = accumulateBudget(a.carry.budget, a.sample, settings?.budget);
-      a.point = r.point;
-      a.row = seriesRow(a.sample, r.point, a.frame.id);
-      a.carry = { ...a.carry, budget: r.state };
+      const step = accumulate(a.carry, a.sample, { budget: settings?.budget, rules: settings?.rules ?? {} }, { frameId: a.frame.id });
+      a.row = step.row;
+      a.carry = step.state;
+      a.changes = [...step.changes];
     } catch (e) {
       a.failure = { field: 'time', problem: (e as Error).message };
       a.sample = undefined;
     }
-    return a;
-  }
-
-  private evaluate(region: string, a: Analysed): Analysed {
-    if (!a.sample || !a.point) return a;
-    const settings = this.store.region(region)?.settings;
-    const step = evaluateRules(a.carry.rules, {
-      time: a.sample.time, rate: a.sample.total, sigmaRate: a.sample.sigmaTotal,
-      budget: a.point.values.total, sigmaBudget: a.point.sigmaTotal,
-      ...(a.point.gap && { gap: a.point.gap }),
-    }, { rules: settings?.rules ?? {} });
-    a.carry = { ...a.carry, rules: step.state };
-    a.changes = [...step.changes];
     return a;
   }
 

@@ -232,6 +232,8 @@ describe('gaps in the stream', () => {
       ]);
       const r = s.samples.map((x) => x.rate_total);
       const trap = (i: number) => 0.5 * (r[i] + r[i - 1]) * (t[i] - t[i - 1]) / 1000;
+      // The first row after each gap is flagged, as in the batch CSV (core/accumulate.ts).
+      expect(s.samples.map((x) => x.flags.includes('after-gap'))).toEqual([false, false, false, false, false, false, true, false, false, true]);
       // Not bridged: the budget holds over the first gap.
       expect(s.samples[6].budget_total).toBe(s.samples[5].budget_total);
       // Bridged: the second gap is integrated.
