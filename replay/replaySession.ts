@@ -20,6 +20,7 @@ export interface ReplaySource<F = Frame> {
 }
 
 export interface ReplayStatus {
+  /** 'done' once the last frame is through the consumer (or the replay was stopped). */
   readonly state: PacingStateName;
   readonly speed: number;
   /** Index of the next frame to hand over (total when done). */
@@ -70,7 +71,13 @@ export function startReplay<F = Frame>(
   return {
     status() {
       const p = control.current();
-      return { state: finished ? 'done' : pacingState(p), speed: p.speed, position: p.position, total: times.length };
+      // The pacing is through as soon as it hands over the last frame, but the consumer may still
+      // be taking it: 'done' only once the consumer has returned (a caller that sees 'done' may
+      // count on every frame having been taken; a seek then starts a new run, not a second one
+      // beside the frame in flight).
+      const pacing = pacingState(p);
+      const state = finished ? 'done' : pacing === 'done' ? 'playing' : pacing;
+      return { state, speed: p.speed, position: p.position, total: times.length };
     },
     pause: () => control.pause(),
     resume: () => control.resume(),

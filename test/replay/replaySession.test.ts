@@ -68,6 +68,27 @@ describe('replay session', () => {
     expect(() => startReplay(source, 1, async () => undefined, { clock, start: 5 })).toThrow(/outside 0\.\.4/);
   });
 
+  it('is done only when the consumer has taken the last frame, not when it is handed over', async () => {
+    const source = { entries: [0, 60_000].map((time) => ({ time })), frame: async (i: number) => ({ i }) };
+    let release!: () => void;
+    const held = new Promise<void>((ok) => { release = ok; });
+    let reached!: () => void;
+    const atLast = new Promise<void>((ok) => { reached = ok; });
+    const taken: number[] = [];
+    const s = startReplay(source, 0, async (f) => {
+      if (f.i === 1) { reached(); await held; }
+      taken.push(f.i);
+    }, { clock: new FakeClock() });
+    await atLast;
+    // The last frame is with the consumer: every frame is handed over, the replay is not done.
+    expect(s.status()).toEqual({ state: 'playing', speed: 0, position: 2, total: 2 });
+    expect(taken).toEqual([0]);
+    release();
+    await s.done;
+    expect(taken).toEqual([0, 1]);
+    expect(s.status()).toEqual({ state: 'done', speed: 0, position: 2, total: 2 });
+  });
+
   it('rejects when the consumer fails', async () => {
     const archive = await openArchive(dir);
     const s = startReplay(archive, 0, async () => { throw new Error('store full'); }, { clock: new FakeClock() });
