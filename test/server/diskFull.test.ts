@@ -13,7 +13,7 @@ import { describe, expect, it } from 'vitest';
 import WebSocket from 'ws';
 import type { SeriesRow } from '../../core/seriesColumns.js';
 import type { ChildMonitor } from './support.js';
-import { TOKEN, circlingFrame, frameBody, getJson, irregularTimes, launchMonitor, postFrame, startMonitor, tempDir, waitIdle } from './support.js';
+import { TOKEN, circlingFrame, frameBody, getJson, irregularTimes, launchMonitor, postFrame, startMonitor, tempDir, until, waitIdle } from './support.js';
 
 const isRoot = process.getuid?.() === 0;
 const required = process.env.CI === 'true';
@@ -62,14 +62,6 @@ function freeAll(dir: string): void {
 }
 
 const strip = (r: SeriesRow) => ({ ...r, frame_id: null });
-
-async function until(what: string, deadlineMs: number, check: () => Promise<boolean> | boolean): Promise<void> {
-  const end = Date.now() + deadlineMs;
-  while (!(await check())) {
-    if (Date.now() > end) throw new Error(`${what}: not within ${deadlineMs} ms`);
-    await new Promise((r) => setTimeout(r, 100));
-  }
-}
 
 describe('a full disk', () => {
   if (!isRoot) console.warn(`diskFull.test: not running as root (mounting a tmpfs needs it): ${required ? 'CI=true, so it runs and fails' : 'SKIPPED; run as root, or with CI=true to require it'}`);

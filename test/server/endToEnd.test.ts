@@ -13,7 +13,7 @@ import { SERIES_COLUMNS } from '../../core/seriesColumns.js';
 import type { SeriesRow } from '../../core/seriesColumns.js';
 import { labelFlux } from '../support/scenes.js';
 import type { TestMonitor } from './support.js';
-import { OMEGA, T0, TOKEN, circlingFrame, frameBody, getJson, irregularTimes, postFrame, startMonitor, waitIdle } from './support.js';
+import { OMEGA, T0, TOKEN, circlingFrame, frameBody, getJson, irregularTimes, opened, postFrame, socketMessages, startMonitor, until, waitIdle } from './support.js';
 
 const rel = (a: number, b: number) => Math.abs(a - b) / Math.abs(b);
 
@@ -31,7 +31,7 @@ describe('end to end: circling pair posted over HTTP', () => {
     await fetch(`${m.url}/api/regions/ar1/settings`, { method: 'PUT', headers: { authorization: `Bearer ${TOKEN}`, 'content-type': 'application/json' }, body: JSON.stringify({ watchFolder: false }) });
     viewer = new WebSocket(`${m.url.replace('http', 'ws')}/ws/view?region=ar1`);
     viewer.on('message', (d) => live.push(JSON.parse(d.toString())));
-    await new Promise((r) => viewer.once('open', r));
+    await opened(viewer, 'the viewer of ar1');
     for (const t of times) {
       const r = await postFrame(m.url, 'ar1', frameBody(circlingFrame(t)));
       expect(r.status).toBe(201);
@@ -94,11 +94,10 @@ describe('end to end: circling pair posted over HTTP', () => {
 
   it('a new viewer gets the stored samples in its snapshot, and backfill on request', async () => {
     const ws = new WebSocket(`${m.url.replace('http', 'ws')}/ws/view?region=ar1`);
-    const got: { type: string; samples?: SeriesRow[]; alerts?: unknown[]; latest_frame?: { frame_id: number } }[] = [];
-    ws.on('message', (d) => got.push(JSON.parse(d.toString())));
-    await new Promise((r) => ws.once('open', r));
+    const messages = socketMessages<{ type: string; samples?: SeriesRow[]; alerts?: unknown[]; latest_frame?: { frame_id: number } }>(ws);
+    await opened(ws, 'a new viewer of ar1');
     ws.send(JSON.stringify({ type: 'backfill', since: new Date(times[9]).toISOString() }));
-    while (got.length < 2) await new Promise((r) => setTimeout(r, 10));
+    const got = await messages.atLeast(2, 'the snapshot and the backfill');
     ws.close();
     expect(got[0].type).toBe('snapshot');
     expect(got[0].samples).toHaveLength(times.length);
@@ -146,13 +145,12 @@ describe('end to end: circling pair posted over HTTP', () => {
   it('frames also arrive over the ingest socket and the watched folder', async () => {
     const t1 = times.at(-1)! + 80_000, t2 = t1 + 80_000;
     const ws = new WebSocket(`${m.url.replace('http', 'ws')}/ws/ingest?region=ar1&token=${TOKEN}`);
-    await new Promise((r) => ws.once('open', r));
-    const answers: Record<string, unknown>[] = [];
-    ws.on('message', (d) => answers.push(JSON.parse(d.toString())));
+    const messages = socketMessages(ws);
+    await opened(ws, 'the ingest socket of ar1');
     ws.send(frameBody(circlingFrame(t1)));
     ws.send(frameBody(circlingFrame(t1))); // again: a duplicate
     ws.send('{"time": 1}');
-    while (answers.length < 3) await new Promise((r) => setTimeout(r, 10));
+    const answers = await messages.atLeast(3, 'the answers to three ingest messages');
     ws.close();
     expect(answers[0]).toMatchObject({ type: 'ack', status: 'stored' });
     expect(answers[1]).toMatchObject({ type: 'ack', status: 'duplicate', frame_id: answers[0].frame_id });
@@ -163,13 +161,11 @@ describe('end to end: circling pair posted over HTTP', () => {
     mkdirSync(inbox, { recursive: true });
     writeFileSync(join(inbox, '.f.tmp'), frameBody(circlingFrame(t2)));
     renameSync(join(inbox, '.f.tmp'), join(inbox, 'frame-0001.json'));
-    const until = Date.now() + 10_000;
     let n = 0;
-    while (Date.now() < until) {
+    await until('a sample of the frame written to the inbox of ar2', 10_000, async () => {
       n = (await getJson<{ samples: unknown[] }>(m.url, '/api/regions/ar2/series')).samples.length;
-      if (n > 0) break;
-      await new Promise((r) => setTimeout(r, 50));
-    }
+      return n > 0;
+    }, 50);
     expect(n).toBe(1);
     const frames = await getJson<{ frames: { source: string }[] }>(m.url, '/api/regions/ar2/frames');
     expect(frames.frames[0].source).toBe('inbox/ar2/frame-0001.json');
@@ -182,13 +178,12 @@ describe('the demo region', () => {
   it('streams live from the demo generator, and its replay can be paused and resumed with the token', async () => {
     const m = await startMonitor({ demo: true, demoIntervalMs: 50 });
     try {
-      const until = Date.now() + 30_000;
       let n = 0;
-      while (n < 3 && Date.now() < until) {
+      await until('three samples of the demo region', 30_000, async () => {
         const regions = await getJson<{ regions: { name: string }[] }>(m.url, '/api/regions');
         if (regions.regions.some((r) => r.name === 'demo')) n = (await getJson<{ samples: unknown[] }>(m.url, '/api/regions/demo/series')).samples.length;
-        await new Promise((r) => setTimeout(r, 50));
-      }
+        return n >= 3;
+      }, 50);
       expect(n).toBeGreaterThanOrEqual(3);
       const control = (body: unknown, token: string | null = TOKEN) => fetch(`${m.url}/api/regions/demo/replay`, {
         method: 'POST', headers: { 'content-type': 'application/json', ...(token && { authorization: `Bearer ${token}` }) }, body: JSON.stringify(body),
@@ -257,12 +252,11 @@ describe('FITS frames over HTTP and WebSocket (our frame file convention, docs/f
       const r0 = await postFrame(m.url, 'fitsar', Buffer.from(frameToFits(circlingFrame(times[0]))), { type: 'application/fits' });
       expect(r0.status).toBe(201);
       const ws = new WebSocket(`${m.url.replace('http', 'ws')}/ws/ingest?region=fitsar`, { headers: { authorization: `Bearer ${TOKEN}` } });
-      await new Promise((r) => ws.once('open', r));
-      const answers: Record<string, unknown>[] = [];
-      ws.on('message', (d) => answers.push(JSON.parse(d.toString())));
+      const messages = socketMessages(ws);
+      await opened(ws, 'the ingest socket of fitsar');
       ws.send(Buffer.from(frameToFits(circlingFrame(times[1]))), { binary: true });
       ws.send(Buffer.from(frameToFits(circlingFrame(times[2]))), { binary: true });
-      while (answers.length < 2) await new Promise((r) => setTimeout(r, 10));
+      const answers = await messages.atLeast(2, 'the answers to two FITS frames over the ingest socket');
       ws.close();
       expect(answers.map((a) => a.status)).toEqual(['stored', 'stored']);
       await waitIdle(m.url);
@@ -309,8 +303,7 @@ describe('alerts end to end: rule raised on the stream, webhook called, acknowle
       expect(a.source).toMatch(/LaBonte/);
       expect(a.history.map((h) => h.to)).toEqual(['rising', 'raised']);
       expect(alerts.find((x) => x.id === 'budget')!.state).toBe('quiet');
-      const until = Date.now() + 5000;
-      while (hooks.length === 0 && Date.now() < until) await new Promise((r) => setTimeout(r, 20));
+      await until('the webhook is called', 5000, () => hooks.length > 0, 20);
       expect(hooks[0]).toMatchObject({ type: 'alert', region: 'ar3', rule: 'peak-rate', from: 'rising', to: 'raised' });
       expect((await fetch(`${m.url}/api/regions/ar3/alerts/peak-rate/ack`, { method: 'POST' })).status).toBe(401);
       const ack = await fetch(`${m.url}/api/regions/ar3/alerts/peak-rate/ack`, { method: 'POST', headers: { authorization: `Bearer ${TOKEN}` } });

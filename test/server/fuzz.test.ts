@@ -18,7 +18,7 @@ import { frameToJson } from '../../core/frameJson.js';
 import type { SeriesRow } from '../../core/seriesColumns.js';
 import { spotFrame } from '../support/scenes.js';
 import type { ChildMonitor } from './support.js';
-import { TOKEN, getJson, launchMonitor, tempDir, waitIdle } from './support.js';
+import { TOKEN, getJson, launchMonitor, tempDir, until, waitIdle } from './support.js';
 
 const SEED = 20261202;
 const T0 = Date.UTC(2026, 2, 14, 6);
@@ -116,14 +116,6 @@ async function post(url: string, body: Uint8Array | string, type: string, token:
   const r = await fetch(`${url}/api/regions/fz/frames`, { method: 'POST', headers, body, signal: AbortSignal.timeout(20_000) });
   await r.arrayBuffer();
   return r.status;
-}
-
-async function until(what: string, deadlineMs: number, check: () => Promise<boolean> | boolean): Promise<void> {
-  const end = Date.now() + deadlineMs;
-  while (!(await check())) {
-    if (Date.now() > end) throw new Error(`${what}: not within ${deadlineMs} ms`);
-    await new Promise((res) => setTimeout(res, 50));
-  }
 }
 
 interface Tally { tried: number; answers: Record<number, number>; accepted: number; fivehundreds: string[] }

@@ -11,7 +11,7 @@ import type { Frame } from '../../core/frame.js';
 import { frameToFits } from '../../core/frameAssembly/frameToFits.js';
 import type { SeriesRow } from '../../core/seriesColumns.js';
 import type { TestMonitor } from './support.js';
-import { TOKEN, circlingFrame, frameBody, getJson, irregularTimes, postFrame, startMonitor, waitIdle } from './support.js';
+import { TOKEN, circlingFrame, frameBody, getJson, irregularTimes, postFrame, startMonitor, until, waitIdle } from './support.js';
 
 const auth = { authorization: `Bearer ${TOKEN}`, 'content-type': 'application/json' };
 
@@ -288,12 +288,11 @@ describe('backpressure: a region\'s queue is bounded', () => {
       expect(h.queue_limit).toBe(2);
       expect(h.queue_peak).toBeLessThanOrEqual(2);
       for (const a of busy) {
-        for (;;) {
+        await until(`the frame held back with 503 at ${new Date(a.t).toISOString()} is taken when sent again`, 30_000, async () => {
           const r = await postFrame(m.url, 'q', frameBody(circlingFrame(a.t)));
-          if (r.status === 201) break;
-          expect(r.status).toBe(503);
-          await new Promise((ok) => setTimeout(ok, 50));
-        }
+          if (r.status !== 201) expect(r.status).toBe(503);
+          return r.status === 201;
+        }, 50);
       }
       await waitIdle(m.url);
       const frames = (await getJson<{ frames: unknown[] }>(m.url, '/api/regions/q/frames')).frames;

@@ -6,7 +6,7 @@ import { connect } from 'node:net';
 import type { Socket } from 'node:net';
 import { rmSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
-import { TOKEN, circlingFrame, frameBody, getJson, irregularTimes, launchMonitor, postFrame, tempDir, waitIdle } from './support.js';
+import { TOKEN, circlingFrame, frameBody, getJson, irregularTimes, launchMonitor, postFrame, tempDir, until, waitIdle } from './support.js';
 
 /** A client WebSocket frame (masked, as RFC 6455 requires of clients) holding `text`. */
 function maskedTextFrame(text: string): Buffer {
@@ -38,14 +38,6 @@ function stalledViewer(url: string, region: string): Promise<Socket> {
     s.write(`GET /ws/view?region=${region} HTTP/1.1\r\nHost: ${u.host}\r\nUpgrade: websocket\r\nConnection: Upgrade\r\n` +
       `Sec-WebSocket-Key: ${randomBytes(16).toString('base64')}\r\nSec-WebSocket-Version: 13\r\n\r\n`);
   });
-}
-
-async function until(what: string, deadlineMs: number, check: () => boolean | Promise<boolean>): Promise<void> {
-  const end = Date.now() + deadlineMs;
-  while (!(await check())) {
-    if (Date.now() > end) throw new Error(`${what}: not within ${deadlineMs} ms`);
-    await new Promise((r) => setTimeout(r, 50));
-  }
 }
 
 describe('a viewer that stops reading', () => {

@@ -8,6 +8,7 @@ import type { Frame } from '../../core/frame.js';
 import { frameToJson } from '../../core/frameJson.js';
 import type { RunningMonitor, ServeOptions } from '../../server/serve.js';
 import { serve } from '../../server/serve.js';
+import type WebSocket from 'ws';
 import { spotFrame } from '../support/scenes.js';
 
 export const TOKEN = 'test-token-0123456789';
@@ -69,6 +70,53 @@ export async function until(what: string, deadlineMs: number, check: () => Promi
     if (Date.now() > end) throw new Error(`${what}: not within ${deadlineMs} ms`);
     await new Promise((r) => setTimeout(r, stepMs));
   }
+}
+
+/** A socket's JSON messages as they come, and a wait for a number of them. */
+export interface SocketMessages<T> {
+  /** Every message so far, in order. */
+  readonly got: T[];
+  /**
+   * Resolves with the messages once `n` have come; fails naming `what` and the messages that did
+   * come when `deadlineMs` passes or the socket closes first. Woken by each message, not polled.
+   */
+  atLeast(n: number, what: string, deadlineMs?: number): Promise<T[]>;
+}
+
+/** Starts collecting a socket's messages (call before sending anything that is answered). */
+export function socketMessages<T = Record<string, unknown>>(ws: WebSocket): SocketMessages<T> {
+  const got: T[] = [];
+  const waiters = new Set<() => void>();
+  let closed = false;
+  const wake = () => { for (const w of [...waiters]) w(); };
+  ws.on('message', (d) => { got.push(JSON.parse(d.toString()) as T); wake(); });
+  ws.on('close', () => { closed = true; wake(); });
+  const seen = () => JSON.stringify(got).slice(0, 600);
+  return {
+    got,
+    atLeast(n, what, deadlineMs = 10_000) {
+      return new Promise<T[]>((resolve, reject) => {
+        const finish = (e?: Error) => { clearTimeout(timer); waiters.delete(check); if (e) reject(e); else resolve(got); };
+        const check = () => {
+          if (got.length >= n) finish();
+          else if (closed) finish(new Error(`${what}: the socket closed after ${got.length} of ${n} messages: ${seen()}`));
+        };
+        const timer = setTimeout(() => finish(new Error(`${what}: ${got.length} of ${n} messages within ${deadlineMs} ms: ${seen()}`)), deadlineMs);
+        waiters.add(check);
+        check();
+      });
+    },
+  };
+}
+
+/** Resolves when the socket is open; fails naming `what` on an error, a close or `deadlineMs`. */
+export function opened(ws: WebSocket, what: string, deadlineMs = 10_000): Promise<void> {
+  return new Promise<void>((resolve, reject) => {
+    const timer = setTimeout(() => reject(new Error(`${what}: the socket did not open within ${deadlineMs} ms`)), deadlineMs);
+    ws.once('open', () => { clearTimeout(timer); resolve(); });
+    ws.once('error', (e) => { clearTimeout(timer); reject(new Error(`${what}: ${e.message}`)); });
+    ws.once('close', (code) => { clearTimeout(timer); reject(new Error(`${what}: closed (${code}) before it opened`)); });
+  });
 }
 
 /** A fixed shuffle (mulberry32), so a test is the same every run. */
