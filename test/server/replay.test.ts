@@ -220,8 +220,14 @@ describe('replay into the live monitor', () => {
     await until('the snapshot', async () => (heard.length > 0 ? true : undefined));
     const n1 = (await regionInfo(m.url, 'steered')).frames;
     expect(n1).toBe(p1.position); // every frame handed out is stored, none after the pause
-    await new Promise((r) => setTimeout(r, 400));
+    // Nothing flows while paused, judged against a replay of the same frames at the same speed
+    // started beside it (not after a fixed sleep, which a slow machine makes vacuous): while that
+    // one stores three frames (two intervals of its pace), the paused one stores none.
+    expect((await control(m.url, 'pace', { action: 'start', from_region: 'given', speed: 4800 })).status).toBe(201);
+    await until('three frames of a replay running beside the paused one', async () => ((await regionInfo(m.url, 'pace')).frames >= 3 ? true : undefined));
+    expect((await control(m.url, 'pace', { action: 'pause' })).status).toBe(200);
     expect((await regionInfo(m.url, 'steered')).frames).toBe(n1); // nothing flows while paused
+    expect(heard.filter((h) => h.type === 'frame')).toEqual([]);
     expect((await regionInfo(m.url, 'steered')).replay!.state).toBe('paused');
 
     // Seek back while paused: the position moves, the state stays.
