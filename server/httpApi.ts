@@ -1,5 +1,7 @@
 // The HTTP routes of docs/api.md (express 5). Region names and frame ids are checked before they
 // are used; file paths are only ever built from a checked region name and ids from the store.
+// Every route that changes something takes `requireToken` (one middleware) before its body is
+// read, and checks the body before it writes anything.
 import express from 'express';
 import type { NextFunction, Request, Response } from 'express';
 import { readFile } from 'node:fs/promises';
@@ -19,7 +21,7 @@ import { decodeMapFile } from './mapFile.js';
 import type { Pipeline } from './pipeline.js';
 import type { RegionAdmin } from './regionAdmin.js';
 import { checkRegionName } from './regionName.js';
-import { mergeSettings } from './regionSettings.js';
+import { DEFAULT_SETTINGS, mergeSettings } from './regionSettings.js';
 import type { Store } from './store.js';
 import type { StoreWriter } from './storeWriter.js';
 
@@ -62,9 +64,13 @@ export function buildApp(ctx: ApiContext): express.Express {
   app.set('trust proxy', false);
 
   const canRead = (req: Request) => (!ctx.readToken && isLoopback(req.socket.remoteAddress)) || tokenMatches(token, req.get('authorization'));
-  const canWrite = (req: Request) => tokenMatches(token, req.get('authorization'));
-  /** 401 for a request without a valid token: counted in memory, nothing stored. */
-  const needToken = (req: Request, res: Response, what: string): void => {
+  /**
+   * Middleware of every route that changes something: 401 for a request without the monitor's
+   * token (counted in memory, nothing stored), before its body is read. `what` names the action
+   * in the answer: requireToken('a settings change').
+   */
+  const requireToken = (what: string) => (req: Request, res: Response, next: NextFunction): void => {
+    if (tokenMatches(token, req.get('authorization'))) return next();
     pipeline.noteUnauthorized(`${req.method} ${req.path.slice(0, 120)} from ${req.socket.remoteAddress ?? '?'}`);
     fail(res, 401, 'authorization', `${what} needs "Authorization: Bearer <token>" with the monitor's token`, 'token needed');
   };
@@ -96,6 +102,10 @@ export function buildApp(ctx: ApiContext): express.Express {
     if (!store.region(name)) { fail(res, 404, 'region', `no region named "${name}"`); return undefined; }
     return name;
   };
+  /** Middleware: the path's region name checked (400 otherwise). */
+  const regionName = (req: Request, res: Response, next: NextFunction): void => { if (regionOf(req, res) !== undefined) next(); };
+  /** Middleware: the path names a region that exists (400, 404 otherwise). */
+  const existingRegion = (req: Request, res: Response, next: NextFunction): void => { if (existing(req, res) !== undefined) next(); };
   const timeParam = (req: Request, key: 'from' | 'to', fallback: number): number => {
     const v = req.query[key];
     if (v === undefined || v === '') return fallback;
@@ -123,10 +133,8 @@ export function buildApp(ctx: ApiContext): express.Express {
   // Ingest. The token and the region's queue are checked before the body is read, so an
   // unauthorised sender cannot make us buffer a large body, and a sender faster than the
   // computation is told to wait (503 with Retry-After) instead of growing the queue.
-  app.post('/api/regions/:region/frames', (req, res, next) => {
-    const name = regionOf(req, res);
-    if (name === undefined) return;
-    if (!canWrite(req)) return needToken(req, res, 'ingest');
+  app.post('/api/regions/:region/frames', regionName, requireToken('ingest'), (req, res, next) => {
+    const name = req.params.region as string;
     if (!pipeline.admit(name)) {
       res.set('Retry-After', String(pipeline.retryAfterS()));
       return fail(res, 503, '(queue)', `region ${name} has ${pipeline.regionQueue(name)} frames waiting (the bound is ${pipeline.queueLimit}): send this one again after Retry-After seconds`, 'queue full');
@@ -161,42 +169,33 @@ export function buildApp(ctx: ApiContext): express.Express {
     });
   });
 
-  app.put('/api/regions/:region/settings', (req, res, next) => {
-    const name = regionOf(req, res);
-    if (name === undefined) return;
-    if (!canWrite(req)) return needToken(req, res, 'a settings change');
-    next();
-  }, express.json({ limit: '1mb', type: () => true }), async (req, res) => {
+  // Settings of a region; the first settings of a new name make the region. The body is checked
+  // before anything is written: a bad body makes no region.
+  app.put('/api/regions/:region/settings', regionName, requireToken('a settings change'), express.json({ limit: '1mb', type: () => true }), async (req, res) => {
     const name = req.params.region as string;
-    const row = store.region(name) ?? await writer.call('createRegion', name);
     try {
-      const next = mergeSettings(row.settings, req.body);
-      await writer.call('saveSettings', name, next);
-      ctx.onSettings(name);
-      res.json({ region: name, settings: next });
+      mergeSettings(store.region(name)?.settings ?? DEFAULT_SETTINGS, req.body);
     } catch (e) {
       if (e instanceof InputError) return inputFail(res, 400, e);
       throw e;
     }
+    const row = store.region(name) ?? await writer.call('createRegion', name);
+    // Merged again onto what the region holds now (made meanwhile by a frame, say).
+    const next = mergeSettings(row.settings, req.body);
+    await writer.call('saveSettings', name, next);
+    ctx.onSettings(name);
+    res.json({ region: name, settings: next });
   });
 
   // Managing a region (token): remove it, rename it, reset its grid. The token is checked before
   // the body is read; a refusal changes nothing stored.
-  app.delete('/api/regions/:region', async (req, res) => {
-    const name = regionOf(req, res);
-    if (name === undefined) return;
-    if (!canWrite(req)) return needToken(req, res, 'removing a region');
-    const a = await ctx.regions.remove(name);
+  app.delete('/api/regions/:region', regionName, requireToken('removing a region'), async (req, res) => {
+    const a = await ctx.regions.remove(req.params.region as string);
     res.status(a.status).json(a.body);
   });
 
   for (const action of ['rename', 'reset'] as const) {
-    app.post(`/api/regions/:region/${action}`, (req, res, next) => {
-      const name = regionOf(req, res);
-      if (name === undefined) return;
-      if (!canWrite(req)) return needToken(req, res, action === 'rename' ? 'renaming a region' : 'resetting a region');
-      next();
-    }, express.json({ limit: '64kb', type: () => true }), async (req, res) => {
+    app.post(`/api/regions/:region/${action}`, regionName, requireToken(action === 'rename' ? 'renaming a region' : 'resetting a region'), express.json({ limit: '64kb', type: () => true }), async (req, res) => {
       const name = req.params.region as string;
       const a = action === 'rename' ? await ctx.regions.rename(name, req.body) : await ctx.regions.reset(name, req.body);
       res.status(a.status).json(a.body);
@@ -235,8 +234,7 @@ export function buildApp(ctx: ApiContext): express.Express {
   };
 
   // Removing a frame (token): the region's series is recomputed from its other stored frames.
-  app.delete('/api/regions/:region/frames/:id', async (req, res) => {
-    if (!canWrite(req)) return needToken(req, res, 'removing a frame');
+  app.delete('/api/regions/:region/frames/:id', requireToken('removing a frame'), async (req, res) => {
     const f = frameOf(req, res);
     if (!f) return;
     const r = await pipeline.removeFrame(f.region, f.id);
@@ -334,20 +332,21 @@ export function buildApp(ctx: ApiContext): express.Express {
     res.json({ alerts: pipeline.alerts(name) });
   });
 
-  app.post('/api/regions/:region/alerts/:id/ack', async (req, res) => {
-    const name = existing(req, res);
-    if (name === undefined) return;
-    if (!canWrite(req)) return needToken(req, res, 'acknowledging');
+  app.post('/api/regions/:region/alerts/:id/ack', existingRegion, requireToken('acknowledging'), async (req, res) => {
+    const name = req.params.region as string;
     const id = String(req.params.id);
     const alert = await pipeline.acknowledge(name, id);
     if (!alert) return fail(res, 404, 'id', `region ${name} has no alert "${id.slice(0, 40)}" yet`);
     res.json(alert);
   });
 
-  app.get('/api/regions/:region/refusals', (req, res) => {
-    const name = regionOf(req, res);
-    if (name === undefined) return;
-    res.json({ refusals: store.refusals(name) });
+  // Refusals of a region, and of a name that never became one (frames sent to it were all refused:
+  // the sender reads why here); 404 for a name with neither.
+  app.get('/api/regions/:region/refusals', regionName, (req, res) => {
+    const name = req.params.region as string;
+    const refusals = store.refusals(name);
+    if (!store.region(name) && refusals.length === 0) return fail(res, 404, 'region', `no region named "${name}" and no refusal recorded under that name`);
+    res.json({ refusals });
   });
 
   app.get('/api/regions/:region/export.csv', (req, res) => {
@@ -364,12 +363,7 @@ export function buildApp(ctx: ApiContext): express.Express {
   });
 
   // Replay control; `start` may name a region that does not exist yet (the replay creates it).
-  app.post('/api/regions/:region/replay', (req, res, next) => {
-    const name = regionOf(req, res);
-    if (name === undefined) return;
-    if (!canWrite(req)) return needToken(req, res, 'replay control');
-    next();
-  }, express.json({ limit: '64kb', type: () => true }), async (req, res) => {
+  app.post('/api/regions/:region/replay', regionName, requireToken('replay control'), express.json({ limit: '64kb', type: () => true }), async (req, res) => {
     const name = req.params.region as string;
     const start = (req.body as { action?: unknown } | undefined)?.action === 'start';
     if (!start && !store.region(name)) return fail(res, 404, 'region', `no region named "${name}"`);

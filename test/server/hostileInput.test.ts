@@ -367,3 +367,35 @@ describe('odds and ends', () => {
     }
   });
 });
+
+describe('bodies are checked before anything is written (server/httpApi.ts)', () => {
+  it('a bad settings body for a new name makes no region; refusals of a name with neither region nor refusal are 404', async () => {
+    const m = await startMonitor();
+    try {
+      const names = async () => (await getJson<{ regions: { name: string }[] }>(m.url, '/api/regions')).regions.map((r) => r.name);
+      const put = (body: string, headers: Record<string, string> = auth) => fetch(`${m.url}/api/regions/fresh/settings`, { method: 'PUT', headers, body });
+      const bad = await put(JSON.stringify({ analysis: { method: 'lct' } }));
+      expect(bad.status).toBe(400);
+      expect(JSON.stringify(await bad.json())).toMatch(/analysis\.method/);
+      expect((await put('{"latenessS": ')).status).toBe(400);
+      expect((await put('{"latenessS": 600}', { 'content-type': 'application/json' })).status).toBe(401);
+      expect(await names()).not.toContain('fresh');
+      const unknown = await fetch(`${m.url}/api/regions/fresh/refusals`);
+      expect(unknown.status).toBe(404);
+      expect(((await unknown.json()) as { field: string }).field).toBe('region');
+      // A good body makes the region, with the setting.
+      const good = await put('{"latenessS": 600}');
+      expect(good.status).toBe(200);
+      expect(((await good.json()) as { settings: { latenessS: number } }).settings.latenessS).toBe(600);
+      expect(await names()).toContain('fresh');
+      expect((await getJson<{ refusals: unknown[] }>(m.url, '/api/regions/fresh/refusals')).refusals).toEqual([]);
+      // A name whose only frame was refused is no region, but the sender can read why.
+      expect((await postFrame(m.url, 'refusedonly', 'hello', { type: 'text/plain' })).status).toBe(415);
+      expect(await names()).not.toContain('refusedonly');
+      const why = (await getJson<{ refusals: { status: number; field: string }[] }>(m.url, '/api/regions/refusedonly/refusals')).refusals;
+      expect(why.map((r) => [r.status, r.field])).toEqual([[415, 'content-type']]);
+    } finally {
+      await m.stop();
+    }
+  });
+});
