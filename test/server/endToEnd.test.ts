@@ -185,7 +185,7 @@ describe('the demo region', () => {
         return n >= 3;
       }, 50);
       expect(n).toBeGreaterThanOrEqual(3);
-      const control = (body: unknown, token: string | null = TOKEN) => fetch(`${m.url}/api/regions/demo/replay`, {
+      const control = (body: unknown, token: string | null = TOKEN, region = 'demo') => fetch(`${m.url}/api/regions/${region}/replay`, {
         method: 'POST', headers: { 'content-type': 'application/json', ...(token && { authorization: `Bearer ${token}` }) }, body: JSON.stringify(body),
       });
       expect((await control({ action: 'pause' }, null)).status).toBe(401);
@@ -196,9 +196,19 @@ describe('the demo region', () => {
       const a = (await getJson<{ regions: { name: string; frames: number; replay: { state: string; total: number } }[] }>(m.url, '/api/regions')).regions.find((r) => r.name === 'demo')!;
       expect(a.replay.state).toBe('paused');
       expect(a.replay.total).toBeGreaterThan(a.frames);
-      await new Promise((r) => setTimeout(r, 300));
-      const b = (await getJson<{ regions: { name: string; frames: number }[] }>(m.url, '/api/regions')).regions.find((r) => r.name === 'demo')!;
+      // Nothing streams while paused, judged against a replay of the demo's stored frames at the
+      // demo's pace (one frame per 50 ms) started beside it, not after a fixed sleep that a slow
+      // machine makes vacuous: while that one stores three frames, the demo stores none.
+      const demoTimes = (await getJson<{ frames: { time: string }[] }>(m.url, '/api/regions/demo/frames')).frames.map((f) => Date.parse(f.time));
+      const speed = (demoTimes[1] - demoTimes[0]) / 50; // archive ms per 50 wall ms
+      const pace = await control({ action: 'start', from_region: 'demo', speed }, TOKEN, 'pace');
+      expect(pace.status).toBe(201);
+      await until('three frames of a replay running beside the paused demo', 30_000, async () =>
+        ((await getJson<{ regions: { name: string; frames: number }[] }>(m.url, '/api/regions')).regions.find((r) => r.name === 'pace')?.frames ?? 0) >= 3);
+      expect((await control({ action: 'pause' }, TOKEN, 'pace')).status).toBe(200);
+      const b = (await getJson<{ regions: { name: string; frames: number; replay: { state: string } }[] }>(m.url, '/api/regions')).regions.find((r) => r.name === 'demo')!;
       expect(b.frames).toBe(a.frames); // nothing streams while paused
+      expect(b.replay.state).toBe('paused');
       expect((await control({ action: 'speed', value: -1 })).status).toBe(400);
       expect((await control({ action: 'resume' })).status).toBe(200);
       expect((await fetch(`${m.url}/api/regions/nodemo/replay`, { method: 'POST', headers: { authorization: `Bearer ${TOKEN}` } })).status).toBe(404);
