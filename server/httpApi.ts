@@ -1,9 +1,10 @@
 // The HTTP routes of docs/api.md (express 5). Region names and frame ids are checked before they
 // are used; file paths are only ever built from a checked region name and ids from the store.
-// Every route that changes something takes `requireToken` (one middleware) before its body is
-// read, and checks the body before it writes anything.
+// The routes of a region are four routers mounted at /api/regions/:region (ingest, managing,
+// the series, frames) sharing one set of helpers; every route that changes something takes the
+// `requireToken` middleware before its body is read, and checks the body before it writes anything.
 import express from 'express';
-import type { NextFunction, Request, Response } from 'express';
+import type { NextFunction, Request, RequestHandler, Response } from 'express';
 import { readFile } from 'node:fs/promises';
 import { join } from 'node:path';
 import { InputError } from '../core/inputError.js';
@@ -22,7 +23,7 @@ import type { Pipeline } from './pipeline.js';
 import type { RegionAdmin } from './regionAdmin.js';
 import { checkRegionName } from './regionName.js';
 import { DEFAULT_SETTINGS, mergeSettings } from './regionSettings.js';
-import type { Store } from './store.js';
+import type { FrameRow, Store } from './store.js';
 import type { StoreWriter } from './storeWriter.js';
 
 export interface ApiContext {
@@ -57,36 +58,35 @@ function inputFail(res: Response, status: number, e: InputError): void {
 
 const iso = (t: number | undefined | null) => (t === undefined || t === null ? null : new Date(t).toISOString());
 
-export function buildApp(ctx: ApiContext): express.Express {
-  const { store, writer, pipeline, token } = ctx;
-  const app = express();
-  app.disable('x-powered-by');
-  app.set('trust proxy', false);
-
-  const canRead = (req: Request) => (!ctx.readToken && isLoopback(req.socket.remoteAddress)) || tokenMatches(token, req.get('authorization'));
+/** What the routers share: the token check, the path checks, answers in the error shape of docs/api.md. */
+interface ApiHelpers {
   /**
    * Middleware of every route that changes something: 401 for a request without the monitor's
    * token (counted in memory, nothing stored), before its body is read. `what` names the action
    * in the answer: requireToken('a settings change').
    */
+  requireToken(what: string): RequestHandler;
+  /** Middleware: the path's region name checked (400 otherwise). */
+  readonly regionName: RequestHandler;
+  /** Middleware: the path names a region that exists (400, 404 otherwise). */
+  readonly existingRegion: RequestHandler;
+  /** The path's region name checked, or undefined with the 400 sent. */
+  regionOf(req: Request, res: Response): string | undefined;
+  /** The path's region, existing, or undefined with the 400 or 404 sent. */
+  existing(req: Request, res: Response): string | undefined;
+  /** The path's frame of the path's region, or undefined with the 400 or 404 sent. */
+  frameOf(req: Request, res: Response): FrameRow | undefined;
+  /** A `from`/`to` query time (ISO), or the fallback. */
+  timeParam(req: Request, key: 'from' | 'to', fallback: number): number;
+}
+
+function apiHelpers(ctx: ApiContext): ApiHelpers {
+  const { store, pipeline, token } = ctx;
   const requireToken = (what: string) => (req: Request, res: Response, next: NextFunction): void => {
     if (tokenMatches(token, req.get('authorization'))) return next();
-    pipeline.noteUnauthorized(`${req.method} ${req.path.slice(0, 120)} from ${req.socket.remoteAddress ?? '?'}`);
+    pipeline.noteUnauthorized(`${req.method} ${req.originalUrl.split('?')[0].slice(0, 120)} from ${req.socket.remoteAddress ?? '?'}`);
     fail(res, 401, 'authorization', `${what} needs "Authorization: Bearer <token>" with the monitor's token`, 'token needed');
   };
-
-  // Only requests addressed to this monitor by a loopback name (or one the operator allowed):
-  // a page on another site that points its name at 127.0.0.1 gets nothing (DNS rebinding).
-  app.use((req, res, next) => {
-    if (!hostAllowed(ctx.hosts, req.get('host'))) return fail(res, 403, 'host', `this monitor does not answer to the host name "${String(req.get('host') ?? '').slice(0, 80)}" (loopback names, or those given with --allow-host)`, 'host not allowed');
-    // A browser page of another origin may not change anything (reads are guarded by the
-    // browser's same-origin rule and by Host above).
-    if (req.method !== 'GET' && req.method !== 'HEAD' && !originAllowed(ctx.hosts, req.get('origin'))) {
-      return fail(res, 403, 'origin', `requests from a page at "${String(req.get('origin')).slice(0, 80)}" are not accepted`, 'origin not allowed');
-    }
-    next();
-  });
-
   // A region name from the path, checked (400 otherwise).
   const regionOf = (req: Request, res: Response): string | undefined => {
     try {
@@ -102,38 +102,37 @@ export function buildApp(ctx: ApiContext): express.Express {
     if (!store.region(name)) { fail(res, 404, 'region', `no region named "${name}"`); return undefined; }
     return name;
   };
-  /** Middleware: the path's region name checked (400 otherwise). */
   const regionName = (req: Request, res: Response, next: NextFunction): void => { if (regionOf(req, res) !== undefined) next(); };
-  /** Middleware: the path names a region that exists (400, 404 otherwise). */
   const existingRegion = (req: Request, res: Response, next: NextFunction): void => { if (existing(req, res) !== undefined) next(); };
   const timeParam = (req: Request, key: 'from' | 'to', fallback: number): number => {
     const v = req.query[key];
     if (v === undefined || v === '') return fallback;
     return parseIsoTime(String(v), key, 'query');
   };
+  const frameOf = (req: Request, res: Response): FrameRow | undefined => {
+    const name = existing(req, res);
+    if (name === undefined) return undefined;
+    const raw = String(req.params.id);
+    if (!/^\d{1,15}$/.test(raw)) { fail(res, 400, 'id', `"${raw.slice(0, 40)}" is not a frame id`); return undefined; }
+    const f = store.frame(name, Number(raw));
+    if (!f) { fail(res, 404, 'id', `region ${name} has no frame ${raw}`); return undefined; }
+    return f;
+  };
+  return { requireToken, regionName, existingRegion, regionOf, existing, frameOf, timeParam };
+}
 
-  // Open to every caller, also with --read-token: a supervisor probes it without the token. It
-  // names no region and carries no data, only the monitor's own state.
-  app.get('/api/health', (_req, res) => {
-    res.json({
-      ok: true, uptime_s: (Date.now() - ctx.startedAt) / 1000, regions: store.regions().length, queue: pipeline.queueLength(),
-      queue_peak: pipeline.queuePeak, queue_limit: pipeline.queueLimit,
-      disk: pipeline.diskState(), unauthorized: pipeline.unauthorizedCount(),
-      ...(ctx.loopDelay && { loop_delay_ms: ctx.loopDelay() }),
-    });
-  });
+/** A router for the routes under /api/regions/:region (the name is in req.params.region). */
+const regionRouter = () => express.Router({ mergeParams: true });
 
-  // Reading (GET, and HEAD, which express answers with the GET route): open on loopback unless protected.
-  app.use('/api', (req, res, next) => {
-    if (req.method !== 'GET' && req.method !== 'HEAD') return next();
-    if (canRead(req)) return next();
-    fail(res, 401, 'authorization', 'reading needs "Authorization: Bearer <token>" here', 'token needed');
-  });
-
+/** Ingest: POST /frames. */
+function ingestRoutes(ctx: ApiContext, h: ApiHelpers): express.Router {
+  const { pipeline } = ctx;
+  const { regionName, requireToken } = h;
+  const r = regionRouter();
   // Ingest. The token and the region's queue are checked before the body is read, so an
   // unauthorised sender cannot make us buffer a large body, and a sender faster than the
   // computation is told to wait (503 with Retry-After) instead of growing the queue.
-  app.post('/api/regions/:region/frames', regionName, requireToken('ingest'), (req, res, next) => {
+  r.post('/frames', regionName, requireToken('ingest'), (req, res, next) => {
     const name = req.params.region as string;
     if (!pipeline.admit(name)) {
       res.set('Retry-After', String(pipeline.retryAfterS()));
@@ -159,19 +158,17 @@ export function buildApp(ctx: ApiContext): express.Express {
     res.status(answer.status).json(answer.body);
   });
 
-  app.get('/api/regions', (_req, res) => {
-    res.json({
-      regions: store.regions().map((r) => ({
-        name: r.name, created: iso(r.created), settings: r.settings, frames: store.frameCount(r.name),
-        duplicates: r.duplicates, last_frame_time: iso(store.latestTime(r.name)),
-        last_sample_time: iso(store.lastSampleTime(r.name)), replay: ctx.replayStatus(r.name) ?? null,
-      })),
-    });
-  });
+  return r;
+}
 
+/** Managing a region (token): settings, removal, rename, reset, replay control. */
+function manageRoutes(ctx: ApiContext, h: ApiHelpers): express.Router {
+  const { store, writer } = ctx;
+  const { regionName, requireToken } = h;
+  const r = regionRouter();
   // Settings of a region; the first settings of a new name make the region. The body is checked
   // before anything is written: a bad body makes no region.
-  app.put('/api/regions/:region/settings', regionName, requireToken('a settings change'), express.json({ limit: '1mb', type: () => true }), async (req, res) => {
+  r.put('/settings', regionName, requireToken('a settings change'), express.json({ limit: '1mb', type: () => true }), async (req, res) => {
     const name = req.params.region as string;
     try {
       mergeSettings(store.region(name)?.settings ?? DEFAULT_SETTINGS, req.body);
@@ -189,20 +186,37 @@ export function buildApp(ctx: ApiContext): express.Express {
 
   // Managing a region (token): remove it, rename it, reset its grid. The token is checked before
   // the body is read; a refusal changes nothing stored.
-  app.delete('/api/regions/:region', regionName, requireToken('removing a region'), async (req, res) => {
+  r.delete('/', regionName, requireToken('removing a region'), async (req, res) => {
     const a = await ctx.regions.remove(req.params.region as string);
     res.status(a.status).json(a.body);
   });
 
   for (const action of ['rename', 'reset'] as const) {
-    app.post(`/api/regions/:region/${action}`, regionName, requireToken(action === 'rename' ? 'renaming a region' : 'resetting a region'), express.json({ limit: '64kb', type: () => true }), async (req, res) => {
+    r.post(`/${action}`, regionName, requireToken(action === 'rename' ? 'renaming a region' : 'resetting a region'), express.json({ limit: '64kb', type: () => true }), async (req, res) => {
       const name = req.params.region as string;
       const a = action === 'rename' ? await ctx.regions.rename(name, req.body) : await ctx.regions.reset(name, req.body);
       res.status(a.status).json(a.body);
     });
   }
 
-  app.get('/api/regions/:region/series', (req, res) => {
+  // Replay control; `start` may name a region that does not exist yet (the replay creates it).
+  r.post('/replay', regionName, requireToken('replay control'), express.json({ limit: '64kb', type: () => true }), async (req, res) => {
+    const name = req.params.region as string;
+    const start = (req.body as { action?: unknown } | undefined)?.action === 'start';
+    if (!start && !store.region(name)) return fail(res, 404, 'region', `no region named "${name}"`);
+    const r = await ctx.replay(name, req.body);
+    res.status(r.status).json(r.body);
+  });
+
+  return r;
+}
+
+/** The series and what goes with it: samples and gaps, alerts and their acknowledgement, refusals, exports. */
+function seriesRoutes(ctx: ApiContext, h: ApiHelpers): express.Router {
+  const { store, pipeline } = ctx;
+  const { regionName, existingRegion, requireToken, existing, timeParam } = h;
+  const r = regionRouter();
+  r.get('/series', (req, res) => {
     const name = existing(req, res);
     if (name === undefined) return;
     const from = timeParam(req, 'from', 0), to = timeParam(req, 'to', Number.MAX_SAFE_INTEGER);
@@ -211,7 +225,51 @@ export function buildApp(ctx: ApiContext): express.Express {
     res.json({ region: name, samples: store.samples(name, from, to), gaps });
   });
 
-  app.get('/api/regions/:region/frames', (req, res) => {
+  r.get('/alerts', (req, res) => {
+    const name = existing(req, res);
+    if (name === undefined) return;
+    res.json({ alerts: pipeline.alerts(name) });
+  });
+
+  r.post('/alerts/:id/ack', existingRegion, requireToken('acknowledging'), async (req, res) => {
+    const name = req.params.region as string;
+    const id = String(req.params.id);
+    const alert = await pipeline.acknowledge(name, id);
+    if (!alert) return fail(res, 404, 'id', `region ${name} has no alert "${id.slice(0, 40)}" yet`);
+    res.json(alert);
+  });
+
+  // Refusals of a region, and of a name that never became one (frames sent to it were all refused:
+  // the sender reads why here); 404 for a name with neither.
+  r.get('/refusals', regionName, (req, res) => {
+    const name = req.params.region as string;
+    const refusals = store.refusals(name);
+    if (!store.region(name) && refusals.length === 0) return fail(res, 404, 'region', `no region named "${name}" and no refusal recorded under that name`);
+    res.json({ refusals });
+  });
+
+  r.get('/export.csv', (req, res) => {
+    const name = existing(req, res);
+    if (name === undefined) return;
+    res.type('text/csv').set('content-disposition', `attachment; filename="${name}-series.csv"`).send(seriesCsv(store.samples(name)));
+  });
+
+  r.get('/export.json', (req, res) => {
+    const name = existing(req, res);
+    if (name === undefined) return;
+    const gaps = pipeline.carry(name).budget.gaps.map((g) => ({ from: iso(g.from), to: iso(g.to), bridged: g.bridged }));
+    res.json({ region: name, columns: SERIES_COLUMNS, samples: store.samples(name), gaps });
+  });
+
+  return r;
+}
+
+/** Frames: the list, removal, footpoints, maps and maps as FITS. */
+function frameRoutes(ctx: ApiContext, h: ApiHelpers): express.Router {
+  const { store, pipeline } = ctx;
+  const { requireToken, existing, frameOf, timeParam } = h;
+  const r = regionRouter();
+  r.get('/frames', (req, res) => {
     const name = existing(req, res);
     if (name === undefined) return;
     const from = timeParam(req, 'from', 0), to = timeParam(req, 'to', Number.MAX_SAFE_INTEGER);
@@ -223,18 +281,9 @@ export function buildApp(ctx: ApiContext): express.Express {
     });
   });
 
-  const frameOf = (req: Request, res: Response) => {
-    const name = existing(req, res);
-    if (name === undefined) return undefined;
-    const raw = String(req.params.id);
-    if (!/^\d{1,15}$/.test(raw)) { fail(res, 400, 'id', `"${raw.slice(0, 40)}" is not a frame id`); return undefined; }
-    const f = store.frame(name, Number(raw));
-    if (!f) { fail(res, 404, 'id', `region ${name} has no frame ${raw}`); return undefined; }
-    return f;
-  };
 
   // Removing a frame (token): the region's series is recomputed from its other stored frames.
-  app.delete('/api/regions/:region/frames/:id', requireToken('removing a frame'), async (req, res) => {
+  r.delete('/frames/:id', requireToken('removing a frame'), async (req, res) => {
     const f = frameOf(req, res);
     if (!f) return;
     const r = await pipeline.removeFrame(f.region, f.id);
@@ -271,7 +320,7 @@ export function buildApp(ctx: ApiContext): express.Express {
       };
     });
   };
-  app.get('/api/regions/:region/frames/:id/footpoints', (req, res) => {
+  r.get('/frames/:id/footpoints', (req, res) => {
     const f = frameOf(req, res);
     if (!f) return;
     const { footpoints, events } = store.footpoints(f.id);
@@ -292,7 +341,7 @@ export function buildApp(ctx: ApiContext): express.Express {
     ['labels', { unit: '', from: 'maps', name: 'labels', int: true }],
   ]);
 
-  app.get('/api/regions/:region/frames/:id/map', async (req, res) => {
+  r.get('/frames/:id/map', async (req, res) => {
     const f = frameOf(req, res);
     if (!f) return;
     const layer = String(req.query.layer ?? 'bn');
@@ -310,7 +359,7 @@ export function buildApp(ctx: ApiContext): express.Express {
     });
   });
 
-  app.get('/api/regions/:region/frames/:id/maps.fits', async (req, res) => {
+  r.get('/frames/:id/maps.fits', async (req, res) => {
     const f = frameOf(req, res);
     if (!f) return;
     const frame = decodeMapFile(await readFile(join(store.dataDir, f.file)), f.file);
@@ -326,50 +375,59 @@ export function buildApp(ctx: ApiContext): express.Express {
     res.type('application/fits').set('content-disposition', `attachment; filename="${f.region}-${f.id}.fits"`).send(Buffer.from(bytes));
   });
 
-  app.get('/api/regions/:region/alerts', (req, res) => {
-    const name = existing(req, res);
-    if (name === undefined) return;
-    res.json({ alerts: pipeline.alerts(name) });
+  return r;
+}
+
+export function buildApp(ctx: ApiContext): express.Express {
+  const { store, pipeline, token } = ctx;
+  const app = express();
+  app.disable('x-powered-by');
+  app.set('trust proxy', false);
+  const h = apiHelpers(ctx);
+
+  const canRead = (req: Request) => (!ctx.readToken && isLoopback(req.socket.remoteAddress)) || tokenMatches(token, req.get('authorization'));
+
+  // Only requests addressed to this monitor by a loopback name (or one the operator allowed):
+  // a page on another site that points its name at 127.0.0.1 gets nothing (DNS rebinding).
+  app.use((req, res, next) => {
+    if (!hostAllowed(ctx.hosts, req.get('host'))) return fail(res, 403, 'host', `this monitor does not answer to the host name "${String(req.get('host') ?? '').slice(0, 80)}" (loopback names, or those given with --allow-host)`, 'host not allowed');
+    // A browser page of another origin may not change anything (reads are guarded by the
+    // browser's same-origin rule and by Host above).
+    if (req.method !== 'GET' && req.method !== 'HEAD' && !originAllowed(ctx.hosts, req.get('origin'))) {
+      return fail(res, 403, 'origin', `requests from a page at "${String(req.get('origin')).slice(0, 80)}" are not accepted`, 'origin not allowed');
+    }
+    next();
   });
 
-  app.post('/api/regions/:region/alerts/:id/ack', existingRegion, requireToken('acknowledging'), async (req, res) => {
-    const name = req.params.region as string;
-    const id = String(req.params.id);
-    const alert = await pipeline.acknowledge(name, id);
-    if (!alert) return fail(res, 404, 'id', `region ${name} has no alert "${id.slice(0, 40)}" yet`);
-    res.json(alert);
+  // Open to every caller, also with --read-token: a supervisor probes it without the token. It
+  // names no region and carries no data, only the monitor's own state.
+  app.get('/api/health', (_req, res) => {
+    res.json({
+      ok: true, uptime_s: (Date.now() - ctx.startedAt) / 1000, regions: store.regions().length, queue: pipeline.queueLength(),
+      queue_peak: pipeline.queuePeak, queue_limit: pipeline.queueLimit,
+      disk: pipeline.diskState(), unauthorized: pipeline.unauthorizedCount(),
+      ...(ctx.loopDelay && { loop_delay_ms: ctx.loopDelay() }),
+    });
   });
 
-  // Refusals of a region, and of a name that never became one (frames sent to it were all refused:
-  // the sender reads why here); 404 for a name with neither.
-  app.get('/api/regions/:region/refusals', regionName, (req, res) => {
-    const name = req.params.region as string;
-    const refusals = store.refusals(name);
-    if (!store.region(name) && refusals.length === 0) return fail(res, 404, 'region', `no region named "${name}" and no refusal recorded under that name`);
-    res.json({ refusals });
+  // Reading (GET, and HEAD, which express answers with the GET route): open on loopback unless protected.
+  app.use('/api', (req, res, next) => {
+    if (req.method !== 'GET' && req.method !== 'HEAD') return next();
+    if (canRead(req)) return next();
+    fail(res, 401, 'authorization', 'reading needs "Authorization: Bearer <token>" here', 'token needed');
   });
 
-  app.get('/api/regions/:region/export.csv', (req, res) => {
-    const name = existing(req, res);
-    if (name === undefined) return;
-    res.type('text/csv').set('content-disposition', `attachment; filename="${name}-series.csv"`).send(seriesCsv(store.samples(name)));
+  app.get('/api/regions', (_req, res) => {
+    res.json({
+      regions: store.regions().map((r) => ({
+        name: r.name, created: iso(r.created), settings: r.settings, frames: store.frameCount(r.name),
+        duplicates: r.duplicates, last_frame_time: iso(store.latestTime(r.name)),
+        last_sample_time: iso(store.lastSampleTime(r.name)), replay: ctx.replayStatus(r.name) ?? null,
+      })),
+    });
   });
 
-  app.get('/api/regions/:region/export.json', (req, res) => {
-    const name = existing(req, res);
-    if (name === undefined) return;
-    const gaps = pipeline.carry(name).budget.gaps.map((g) => ({ from: iso(g.from), to: iso(g.to), bridged: g.bridged }));
-    res.json({ region: name, columns: SERIES_COLUMNS, samples: store.samples(name), gaps });
-  });
-
-  // Replay control; `start` may name a region that does not exist yet (the replay creates it).
-  app.post('/api/regions/:region/replay', regionName, requireToken('replay control'), express.json({ limit: '64kb', type: () => true }), async (req, res) => {
-    const name = req.params.region as string;
-    const start = (req.body as { action?: unknown } | undefined)?.action === 'start';
-    if (!start && !store.region(name)) return fail(res, 404, 'region', `no region named "${name}"`);
-    const r = await ctx.replay(name, req.body);
-    res.status(r.status).json(r.body);
-  });
+  app.use('/api/regions/:region', ingestRoutes(ctx, h), manageRoutes(ctx, h), seriesRoutes(ctx, h), frameRoutes(ctx, h));
 
   app.use('/api', (_req, res) => fail(res, 404, '(path)', 'no such route (see docs/api.md)'));
   if (ctx.page) app.use('/', ctx.page);
