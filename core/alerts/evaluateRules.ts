@@ -84,13 +84,14 @@ function readRule(def: RuleDefinition, p: RuleParams, input: RuleInput, state: R
     case 'sign-reversal': {
       if (!hasSample) return undefined;
       const b = input.budget!, r = input.rate!, s = input.sigmaRate ?? 0;
-      const against = b !== 0 && Math.sign(r) === -Math.sign(b);
+      // Below the floor the budget's sign is too small to say which way the region is wound.
+      const against = Math.abs(b) >= Number(p.budgetFloor ?? 0) && b !== 0 && Math.sign(r) === -Math.sign(b);
       const margin = Math.max(p.threshold, Number(p.sigmaFactor) * s);
       const value = against ? Math.abs(r) : 0;
       return {
         met: against && Math.abs(r) > margin,
         gone: !against,
-        evidence: { value, window_from: iso(from), window_to: iso(input.time), threshold: margin, rate: r, budget: b, sigma: s },
+        evidence: { value, window_from: iso(from), window_to: iso(input.time), threshold: margin, rate: r, budget: b, sigma: s, budget_floor: Number(p.budgetFloor ?? 0) },
       };
     }
     case 'data-gap': {

@@ -90,8 +90,10 @@ export const RULES: readonly RuleDefinition[] = [
     title: 'Sustained reversal of the injection sign',
     watches: 'rate_total against the sign of budget_total',
     unit: 'Mx^2/s',
-    source: 'our rule (no published level): the rate runs against the sign of the accumulated budget at more than 2 sigma for 5 samples',
-    defaults: { ...common, enabled: true, threshold: 0, holdOffSamples: 5, clearSamples: 3, sigmaFactor: 2 },
+    source: 'our rule (no published level): the rate runs against the sign of the accumulated budget at more than 2 sigma for 5 samples, once |budget| reaches 1% of the lowest published budget level',
+    // budgetFloor: 1 % of 9e41 Mx^2, the lowest published budget level (Liokati et al. 2022, see
+    // budget-emerging): below it the budget's sign says nothing about how the region is wound.
+    defaults: { ...common, enabled: true, threshold: 0, holdOffSamples: 5, clearSamples: 3, sigmaFactor: 2, budgetFloor: 9e39 },
   },
   {
     id: 'data-gap',

@@ -161,6 +161,13 @@ describe('sustained sign reversal rule', () => {
     const { states } = runRules(fromRates(rates, 1e35), settings);
     expect(states.slice(20, 25)).toEqual(['rising', 'rising', 'rising', 'rising', 'raised']);
   });
+  it('stays quiet while the budget is below its floor (1% of 9e41 Mx^2): a reversal on a negligible budget says nothing', () => {
+    // Budget about 5e37 Mx^2 (as early in the demo), then a clear reversal at 10 sigma.
+    const rates = [...Array(20).fill(3.5e33), ...Array(10).fill(-1e34)];
+    expect(runRules(fromRates(rates, 1e33), settings).states.every((x) => x === 'quiet')).toBe(true);
+    // The same series scaled up 1e4 (budget 5e41 Mx^2, above the floor) raises it.
+    expect(runRules(fromRates(rates.map((r) => r * 1e4), 1e37), settings).states).toContain('raised');
+  });
   it('stays quiet when the rate only dips below zero within its noise', () => {
     const n = seededNormal(9);
     const rates = [...Array(20).fill(2e36), ...Array.from({ length: 200 }, () => 1e35 + 1e35 * n())];
