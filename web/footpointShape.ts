@@ -41,6 +41,8 @@ export function normaliseFootpoint(raw: unknown): WireFootpoint | undefined {
     spin: num(r.spin) ?? num(r.spinExact),
     spin_point: num(r.spin_point) ?? num(r.spinPoint),
     partners,
+    ...(num(r.omegaPatternError) !== null ? { omegaPatternError: num(r.omegaPatternError) } : {}),
+    ...(typeof r.patternNote === 'string' ? { patternNote: r.patternNote } : {}),
     ...(outline && outline.length >= 3 ? { outline } : {}),
   };
 }

@@ -3,7 +3,8 @@
 
 import { el } from './dom.js';
 import { sortFootpoints, topPartners, type LedgerKey, type SortDirection } from './ledgerSort.js';
-import { formatFlux, formatOmega, formatRate } from './unitFormat.js';
+import { rotationCell, spinCell } from './ledgerCells.js';
+import { formatFlux, formatRate } from './unitFormat.js';
 import type { WireFootpoint } from './wire.js';
 
 const COLUMNS: { key: LedgerKey; label: string; title: string }[] = [
@@ -72,6 +73,8 @@ export class Ledger {
     }
     for (const fp of sortFootpoints(this.rows, this.key, this.direction)) {
       const id = String(fp.id);
+      const rotation = rotationCell(fp);
+      const spin = spinCell(fp);
       const partners = topPartners(fp, 3).map((p) => `${p.id}: ${formatRate(p.orbit)}`).join('; ');
       const tr = el(
         'tr',
@@ -79,8 +82,8 @@ export class Ledger {
         el('td', { text: id }),
         el('td', { text: fp.polarity > 0 ? '+ positive' : '− negative' }),
         el('td', { class: 'num', text: formatFlux(fp.flux) }),
-        el('td', { class: 'num', text: fp.omega_method === 'unobservable' ? 'not measurable' : `${formatOmega(fp.omega)}${fp.omega_method === 'pattern' ? ' (pattern)' : ''}` }),
-        el('td', { class: 'num', text: formatRate(fp.spin) }),
+        el('td', { class: 'num rotation', text: rotation.text, title: rotation.title || undefined }),
+        el('td', { class: 'num spin', text: spin.text, title: spin.title || undefined }),
         el('td', { class: 'partners', text: partners || '—' }),
       );
       const choose = (): void => {

@@ -11,6 +11,7 @@ import { byId, el } from './dom.js';
 import { decodeFloat32Base64 } from './float32Base64.js';
 import { normaliseFootpoints, normaliseTracks } from './footpointShape.js';
 import { Ledger } from './ledger.js';
+import { frameNumberLabel, provenanceLine } from './ledgerCells.js';
 import { MapView, type MapLayer, type MapScene } from './mapView.js';
 import { measureChartRedraw, measureMapDraw } from './pagePerformance.js';
 import { isRegionName, routes } from './routes.js';
@@ -64,6 +65,18 @@ const alertLog = new AlertLog(byId('alerts'));
 const overlayBox = byId<HTMLInputElement>('overlay');
 const followButton = byId<HTMLButtonElement>('follow');
 const mapFrameText = byId('map-frame');
+/** The replay state last shown, so the map caption counts frames against the same total. */
+let lastReplay: ReplayInfo | null = null;
+
+/** The map caption, "frame 5 of 361 · time": the frame's place in the series, the count the
+ *  replay bar uses too; the store's frame id is on hover. Returns the label. */
+function mapCaption(frameId: string | number, time: number): string {
+  const index = state.series.findIndex((p) => String(p.s.frame_id) === String(frameId));
+  const label = `${frameNumberLabel(index, state.series.length, lastReplay?.total)} · ${formatUtc(time)}`;
+  mapFrameText.textContent = label;
+  mapFrameText.title = `stored frame id ${frameId}`;
+  return label;
+}
 const mapFits = byId<HTMLAnchorElement>('map-fits');
 
 // --- region choice -------------------------------------------------------------------------------
@@ -234,6 +247,7 @@ function scheduleCharts(): void {
 
 function drawCharts(): void {
   const s = state.series;
+  byId('rate-provenance').textContent = provenanceLine(s.at(-1)?.s);
   const range: [number, number] | undefined = s.length > 0 ? [s[0].t, s[s.length - 1].t] : undefined;
   const moments = raisedMoments(state.alerts);
   const picked = state.pickedIndex >= 0 ? s[state.pickedIndex]?.t : undefined;
@@ -406,8 +420,7 @@ class MapLoader {
       const scene: MapScene = { frameId, time, bn, gtheta, footpoints: normaliseFootpoints(fps.footpoints), tracks: normaliseTracks(fps.tracks) };
       mapView.setScene(scene);
       mapView.setHighlight(state.selectedFootpoint);
-      const label = `frame ${frameId} · ${formatUtc(time)}`;
-      mapFrameText.textContent = label;
+      const label = mapCaption(frameId, time);
       ledger.setRows(scene.footpoints, `${scene.footpoints.length} footpoints · ${label}`);
       ledger.select(state.selectedFootpoint);
       mapFits.href = routes.mapsFits(region, frameId);
@@ -425,6 +438,9 @@ class MapLoader {
   }
 }
 const mapLoader = new MapLoader();
+
+const mapRange = byId<HTMLSelectElement>('map-range');
+mapRange.addEventListener('change', () => mapView.setBnRange(mapRange.value === '' ? null : Number(mapRange.value)));
 
 overlayBox.addEventListener('change', () => {
   // The switch takes effect at once on what is shown; the G_theta layer follows when loaded.
@@ -575,6 +591,10 @@ const replaySpeed = byId<HTMLSelectElement>('replay-speed');
 let seeking = false;
 
 function renderReplay(r: ReplayInfo | null): void {
+  const totalChanged = (lastReplay?.total ?? null) !== (r?.total ?? null);
+  lastReplay = r;
+  const shown = mapView.currentFrameId();
+  if (totalChanged && shown !== undefined) mapCaption(shown, mapView.currentTime());
   replayBox.hidden = r === null;
   if (!r) return;
   if (!seeking) {
@@ -592,7 +612,7 @@ function renderReplay(r: ReplayInfo | null): void {
     }
     replaySpeed.value = value;
   }
-  byId('replay-text').textContent = `${r.state} · frame ${Math.min(r.position + 1, r.total)} of ${r.total} · ${r.speed === 0 ? 'as fast as possible' : `×${r.speed}`}`;
+  byId('replay-text').textContent = `${r.state} · frame ${Math.min(r.position, r.total)} of ${r.total} · ${r.speed === 0 ? 'as fast as possible' : `×${r.speed}`}`;
   byId<HTMLButtonElement>('replay-play').disabled = r.state === 'playing';
   byId<HTMLButtonElement>('replay-pause').disabled = r.state !== 'playing';
 }
@@ -677,7 +697,7 @@ window.helicordProbe = {
     follow: state.follow,
     mapFrame: mapView.currentFrameId() ?? null,
     selectedFootpoint: state.selectedFootpoint,
-    map: { ...mapView.report, colourBar: mapView.colourBarUnit() },
+    map: { ...mapView.report, colourBar: mapView.colourBarUnit(), colourLimit: mapView.colourLimit(), bnRange: mapView.bnRange() },
     rateChart: { ...chartMarks(charts.rate).drawn, points: charts.rate.data.datasets[2].data.length },
     budgetChart: {
       ...chartMarks(charts.budget).drawn,

@@ -52,6 +52,12 @@ export class MapView {
   private fit: MapFit | undefined;
   private limit = 1;
   private barUnit = 'G';
+  /** The bn colour range, G: null until the first frame sets it (or the user picks one), then kept
+   *  for every later frame so colours compare across frames. */
+  private bnFixed: number | null = null;
+  private bnUserSet = false;
+  /** The G_theta overlay range, kept across frames in the same way. */
+  private gFixed: number | null = null;
   report: MapDrawReport = { footpoints: 0, outlines: 0, glyphs: 0, tracks: 0, highlighted: null, rasterMs: 0, drawMs: 0 };
   onPick: ((id: string | null) => void) | undefined;
 
@@ -69,6 +75,11 @@ export class MapView {
     return this.scene?.frameId;
   }
 
+  /** Data time of the frame shown, UTC ms (NaN without one). */
+  currentTime(): number {
+    return this.scene?.time ?? Number.NaN;
+  }
+
   setScene(scene: MapScene): void {
     this.scene = scene;
     this.rasterizeScene();
@@ -80,6 +91,8 @@ export class MapView {
     this.scene = undefined;
     this.fit = undefined;
     this.highlighted = null;
+    if (!this.bnUserSet) this.bnFixed = null;
+    this.gFixed = null;
     this.report = { footpoints: 0, outlines: 0, glyphs: 0, tracks: 0, highlighted: null, rasterMs: 0, drawMs: 0 };
     this.draw();
   }
@@ -94,6 +107,27 @@ export class MapView {
 
   overlayOn(): boolean {
     return this.overlay;
+  }
+
+  /** The symmetric bn colour range in G (null before the first frame). */
+  bnRange(): number | null {
+    return this.bnFixed;
+  }
+
+  /** The colour limit the bar shows now (bn in G, or G_theta under the overlay). */
+  colourLimit(): number {
+    return this.limit;
+  }
+
+  /** Sets the bn range to +-limit G for every frame, or (null) back to the range taken from the
+   *  next frame drawn and kept from then on. */
+  setBnRange(limit: number | null): void {
+    this.bnUserSet = limit !== null;
+    this.bnFixed = limit !== null && limit > 0 ? limit : null;
+    if (this.scene) {
+      this.rasterizeScene();
+      this.draw();
+    }
   }
 
   /** The unit the colour bar shows now: G for bn, the G_theta unit under the overlay. */
@@ -117,7 +151,8 @@ export class MapView {
     const ctx = this.image.getContext('2d');
     if (!ctx) return;
     const img = ctx.createImageData(nx, ny);
-    const bnLimit = niceCeil(robustAbsLimit(s.bn.data));
+    // Taken once, from the first frame, then kept: a colour means the same field in every frame.
+    const bnLimit = (this.bnFixed ??= niceCeil(robustAbsLimit(s.bn.data)));
     const useOverlay = this.overlay && s.gtheta !== undefined;
     if (!useOverlay) {
       rasterize(s.bn.data, nx, ny, PURPLE_ORANGE_LUT, bnLimit, img.data);
@@ -127,7 +162,7 @@ export class MapView {
       const g = s.gtheta as MapLayer;
       rasterize(s.bn.data, nx, ny, GREY_LUT, bnLimit, img.data);
       const over = ctx.createImageData(nx, ny);
-      const gLimit = niceCeil(robustAbsLimit(g.data));
+      const gLimit = (this.gFixed ??= niceCeil(robustAbsLimit(g.data)));
       rasterize(g.data, nx, ny, PURPLE_ORANGE_LUT, gLimit, over.data, { alphaByValue: true, noDataAlpha: 0 });
       // Blend the density over the grey field: out = a*over + (1-a)*grey.
       const o = img.data;

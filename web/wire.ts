@@ -56,6 +56,10 @@ export interface WireFootpoint {
   omega_method: 'velocity' | 'pattern' | 'unobservable';
   spin: number | null;
   spin_point: number | null;
+  /** 1-sigma of the pattern rotation, rad/s, and why there is no pattern rotation (analysis fields
+   *  passed along with the row; absent from older answers). */
+  omegaPatternError?: number | null;
+  patternNote?: string | null;
   partners: OrbitPartner[];
   outline?: [number, number][];
 }

@@ -11,7 +11,8 @@ import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import type { Page } from 'playwright-core';
 import { announceMissingChromium, chromiumPath, inCi, launchChromium, screenshotDir, type LaunchedBrowser, waitForProbe } from './support/browser.js';
-import { FAKE_TOKEN, FakeMonitor, newRegionState, pushFrame, raiseBudgetAlert, type FakeRegionState } from './support/fakeMonitor.js';
+import { niceCeil, robustAbsLimit } from '../../web/colourScale.js';
+import { bnMap, FAKE_TOKEN, FakeMonitor, newRegionState, pushFrame, raiseBudgetAlert, type FakeRegionState } from './support/fakeMonitor.js';
 
 const root = fileURLToPath(new URL('../..', import.meta.url));
 
@@ -19,7 +20,7 @@ type Probe = {
   region?: string; samples: number; lastSampleTime: string | null; link: string; linkOpens: number; follow: boolean;
   mapFrame: string | number | null; selectedFootpoint: string | null;
   alerts: { id: string; state: string; acknowledged: boolean }[];
-  map: { footpoints: number; outlines: number; glyphs: number; tracks: number; highlighted: string | null; colourBar: string };
+  map: { footpoints: number; outlines: number; glyphs: number; tracks: number; highlighted: string | null; colourBar: string; colourLimit: number; bnRange: number | null };
   rateChart: { markers: number; points: number; thresholdLines: number };
   budgetChart: { markers: number; points: number; thresholdLines: number; thresholds: number[] };
 };
@@ -91,6 +92,24 @@ describe.skipIf(!chromiumPath && !inCi)('dashboard in Chromium against the test 
     expect(await page.locator('#feed').innerText()).toMatch(/live.*last frame 2026-03-14 11:48:00 UTC.*cadence 12 min.*1 gap/s);
     // Before any alert, the budget chart shows the published default thresholds.
     expect(p.budgetChart.thresholds).toEqual([2e42, 9e41]);
+    // The bn colour range is taken from the first frame shown (29) and is symmetric.
+    expect(p.map.bnRange).toBe(niceCeil(robustAbsLimit(bnMap(29))));
+    expect(p.map.colourLimit).toBe(p.map.bnRange);
+    // One frame numbering: the 30th frame of the series, the stored id on hover.
+    expect(await page.locator('#map-frame').innerText()).toMatch(/^frame 30 of 30 · 2026-03-14 11:48:00 UTC$/);
+    expect(await page.locator('#map-frame').getAttribute('title')).toBe('stored frame id 29');
+    // Values under the noise read "—" with the reason on hover, never as a number.
+    const row2 = page.locator('#ledger tbody tr[data-id="2"]');
+    expect(await row2.locator('td.rotation').innerText()).toBe('—');
+    expect(await row2.locator('td.rotation').getAttribute('title')).toMatch(/^rotation −3\.1°\/h is within its error ±6\.2°\/h \(1σ\)$/);
+    const row3 = page.locator('#ledger tbody tr[data-id="3"]');
+    expect(await row3.locator('td.spin').innerText()).toBe('—');
+    expect(await row3.locator('td.spin').getAttribute('title')).toBe('rotation not observable (round footpoint)');
+    expect(await row3.locator('td.rotation').getAttribute('title')).toBe('rotation not observable (round footpoint)');
+    expect(await page.locator('#ledger tbody').innerText()).not.toMatch(/e-\d+°\/h|not measurable/);
+    expect(await page.locator('#rate-provenance').innerText()).toBe(
+      "velocity inferred (DAVE) from the field's motions; spin of round footpoints not observable (not in the spin rate)",
+    );
     await page.screenshot({ path: join(shots, 'fake-01-loaded.png') });
   });
 
@@ -101,6 +120,18 @@ describe.skipIf(!chromiumPath && !inCi)('dashboard in Chromium against the test 
     expect(p.lastSampleTime).toBe(region.samples.at(-1)!.time);
     expect(p.rateChart.points).toBe(before.rateChart.points + 3);
     expect(p.budgetChart.points).toBe(before.budgetChart.points + 3);
+    // The field doubles from frame 30 on; the colour range stays the one of the first frame shown,
+    // where a range taken per frame would have jumped.
+    expect(niceCeil(robustAbsLimit(bnMap(32)))).not.toBe(before.map.bnRange);
+    expect(p.map.bnRange).toBe(before.map.bnRange);
+    expect(p.map.colourLimit).toBe(before.map.colourLimit);
+    expect(await page.locator('#map-frame').innerText()).toMatch(/^frame 33 of 33 · /);
+    await page.locator('.panel.map').screenshot({ path: join(shots, 'fake-09-map-range-kept.png') });
+    // The user can set the range; it holds for later frames too.
+    await page.locator('#map-range').selectOption('3000');
+    await until(page, 'the chosen colour range', (s) => s.map.colourLimit === 3000 && s.map.bnRange === 3000);
+    await page.locator('#map-range').selectOption('');
+    await until(page, 'the range taken again from the frame shown', (s) => s.map.bnRange === niceCeil(robustAbsLimit(bnMap(32))));
   });
 
   it('shows values with units on hover and shows the picked frame on the map', async () => {
@@ -225,16 +256,19 @@ describe.skipIf(!chromiumPath && !inCi)('dashboard in Chromium against the test 
   });
 
   it('shows replay controls for a replayed region and sends the actions', async () => {
-    region.replay = { state: 'playing', speed: 60, position: 10, total: 40 };
+    // The replay has sent as many frames as the series holds: the bar and the map caption agree.
+    region.replay = { state: 'playing', speed: 60, position: region.samples.length, total: 40 };
     monitor.broadcast({ type: 'status', status: monitor.status(region) });
     await page.locator('#replay').waitFor({ state: 'visible' });
-    expect(await page.locator('#replay-text').innerText()).toBe('playing · frame 11 of 40 · ×60');
+    const n = region.samples.length;
+    expect(await page.locator('#replay-text').innerText()).toBe(`playing · frame ${n} of 40 · ×60`);
+    await page.locator('#map-frame').filter({ hasText: `frame ${n} of 40` }).waitFor();
     await page.locator('#replay-pause').click();
     await page.locator('#replay-text').filter({ hasText: 'paused' }).waitFor();
     await page.locator('#replay-speed').selectOption('0');
     await page.locator('#replay-text').filter({ hasText: 'as fast as possible' }).waitFor();
     await page.locator('#replay-seek').fill('25');
-    await page.locator('#replay-text').filter({ hasText: 'frame 26 of 40' }).waitFor();
+    await page.locator('#replay-text').filter({ hasText: 'frame 25 of 40' }).waitFor();
     expect(region.replayActions).toEqual([{ action: 'pause' }, { action: 'speed', value: 0 }, { action: 'seek', value: 25 }]);
     await page.screenshot({ path: join(shots, 'fake-07-replay.png') });
   });

@@ -46,15 +46,17 @@ function footpointsAt(k: number): WireFootpoint[] {
   const r = 12;
   const spots: WireFootpoint[] = [
     { id: 1, polarity: 1, flux: 2.1e21, x: cx + r * Math.cos(angle), y: cx + r * Math.sin(angle), area: 40, omega: 4e-5, omega_method: 'velocity', spin: -1.2e35, spin_point: -1.1e35, partners: [{ id: 2, orbit: -3.4e35 }, { id: 3, orbit: 2e34 }] },
-    { id: 2, polarity: -1, flux: -1.9e21, x: cx - r * Math.cos(angle), y: cx - r * Math.sin(angle), area: 36, omega: -1.5e-5, omega_method: 'pattern', spin: 4e34, spin_point: 3.8e34, partners: [{ id: 1, orbit: -3.4e35 }] },
-    { id: 3, polarity: 1, flux: 4e20, x: cx + 20, y: cx - 22, area: 10, omega: null, omega_method: 'unobservable', spin: null, spin_point: null, partners: [{ id: 1, orbit: 2e34 }] },
+    { id: 2, polarity: -1, flux: -1.9e21, x: cx - r * Math.cos(angle), y: cx - r * Math.sin(angle), area: 36, omega: -1.5e-5, omega_method: 'pattern', omegaPatternError: 3e-5, spin: 4e34, spin_point: 3.8e34, partners: [{ id: 1, orbit: -3.4e35 }] },
+    { id: 3, polarity: 1, flux: 4e20, x: cx + 20, y: cx - 22, area: 10, omega: null, omega_method: 'unobservable', patternNote: 'axisymmetric', spin: null, spin_point: null, partners: [{ id: 1, orbit: 2e34 }] },
   ];
   return spots;
 }
 
-function bnMap(k: number): Float32Array {
+export function bnMap(k: number): Float32Array {
   const out = new Float32Array(GRID * GRID);
   const fps = footpointsAt(k);
+  // The field doubles from frame 30 on, so a colour range taken per frame would jump there.
+  const gain = k >= 30 ? 2 : 1;
   for (let iy = 0; iy < GRID; iy++) {
     for (let ix = 0; ix < GRID; ix++) {
       const x = ix * DX;
@@ -62,7 +64,7 @@ function bnMap(k: number): Float32Array {
       let v = 8 * Math.sin(ix * 0.9) * Math.cos(iy * 0.7);
       for (const fp of fps) {
         const w = fp.area / Math.PI;
-        v += (fp.polarity > 0 ? 1800 : -1700) * Math.exp(-((x - fp.x) ** 2 + (y - fp.y) ** 2) / w) * (fp.id === 3 ? 0.5 : 1);
+        v += gain * (fp.polarity > 0 ? 1800 : -1700) * Math.exp(-((x - fp.x) ** 2 + (y - fp.y) ** 2) / w) * (fp.id === 3 ? 0.5 : 1);
       }
       out[iy * GRID + ix] = ix < 3 && iy > GRID - 10 ? Number.NaN : v; // a no-data corner
     }
@@ -282,7 +284,7 @@ export function pushFrame(r: FakeRegionState, k: number, monitor?: FakeMonitor, 
     time: t, dt_s: CADENCE_S, rate_total: rate, rate_spin: 0.3 * rate, rate_orbit: 0.6 * rate, rate_background: 0.1 * rate,
     budget_total: budget, budget_spin: 0.3 * budget, budget_orbit: 0.6 * budget, budget_background: 0.1 * budget,
     rate_total_ga: rate, rate_emergence: null, rate_shear: null, sigma_rate_total: 2e35, sigma_budget_total: 2e35 * CADENCE_S * Math.sqrt(k + 1),
-    velocity_method: 'given', split_method: 'labels', noise_g: 6, masked_fraction: 0.01, flags: [], frame_id: k,
+    velocity_method: 'dave', split_method: 'labels', noise_g: 6, masked_fraction: 0.01, flags: ['spin-unobservable'], frame_id: k,
   };
   r.samples.push(sample);
   r.frames.push({ frame_id: k, time: t, nx: GRID, ny: GRID, dx: DX, dy: DX });
