@@ -6,7 +6,8 @@
 import { buildLut, GREYS, niceCeil, PURPLE_ORANGE, rasterize, robustAbsLimit, symmetricTicks } from './colourScale.js';
 import { equalAreaRadius, fitMap, fromCanvas, glyphArc, hitFootpoint, splitTrack, toCanvas, type MapFit } from './mapGeometry.js';
 import { OKABE_ITO } from './palette.js';
-import { formatGauss, formatSci, omegaDegPerHour, prettyUnit } from './unitFormat.js';
+import { rotationCell } from './ledgerCells.js';
+import { formatGauss, formatSci, NO_VALUE, omegaDegPerHour, prettyUnit } from './unitFormat.js';
 import type { WireFootpoint } from './wire.js';
 
 export interface MapLayer {
@@ -309,8 +310,8 @@ export class MapView {
   /** Rotation glyph: an arrowed arc whose sense is the rotation sense and whose sweep grows with |omega|. */
   private drawGlyph(ctx: CanvasRenderingContext2D, fp: WireFootpoint, cx: number, cy: number, r: number): boolean {
     const arc = glyphArc(fp.omega === null ? null : omegaDegPerHour(fp.omega));
-    if (!arc || fp.omega_method === 'unobservable') {
-      // Unmeasured rotation: a small hollow ring.
+    if (!arc || fp.omega_method === 'unobservable' || rotationCell(fp).text === NO_VALUE) {
+      // Unmeasured rotation (or one within its error, shown "—" in the ledger): a small hollow ring.
       ctx.beginPath();
       ctx.arc(cx, cy, 3, 0, 2 * Math.PI);
       ctx.strokeStyle = '#000';
