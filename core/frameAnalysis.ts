@@ -186,15 +186,19 @@ export function analyseFrame(
       noiseCorrelation: Math.max(1, 4 * Math.PI * smoothing * smoothing), coreShare: MOTION_CORE_SHARE,
       ...(Number.isFinite(frameNoise) && frameNoise > 0 && { noiseG: frameNoise }), ...fpSettings.rotation,
     };
-    motions = pairMotions(previousField, field1, tracked.labels, tracked.grid, v.dtS, options);
+    // Over the longest interval within the baseline first; over the pair for the footpoints whose
+    // longer fit failed (or when no earlier frame is kept).
     const oldest = history.find((h) => frame.time - h.time <= 1000 * baselineS);
+    motions = new Map();
     if (oldest && oldest.time < previous.time) {
-      const longer = pairMotions(oldest.field, field1, tracked.labels, tracked.grid, (frame.time - oldest.time) / 1000, options);
-      for (const [id, m] of longer) motions.set(id, m);
+      motions = pairMotions(oldest.field, field1, tracked.labels, tracked.grid, (frame.time - oldest.time) / 1000, options);
       motionFrom = oldest.time;
       notes.push(`Footpoint motions over ${((frame.time - oldest.time) / 1000).toFixed(0)} s (the motion baseline), centred ${((previous.time - oldest.time) / 2000).toFixed(0)} s before the sample.`);
     }
-    // Pixels under 3 noise units are noise, not flux that went without a velocity.
+    const missing = new Set(tracked.track.assignments.map((a) => a.id).filter((id) => !motions!.has(id)));
+    if (missing.size > 0) {
+      for (const [id, m] of pairMotions(previousField, field1, tracked.labels, tracked.grid, v.dtS, options, missing)) motions.set(id, m);
+    }
     if (v.vz) {
       // With vector data, a footpoint whose pattern shows no rotation may still turn in the flux
       // transport: twist carried up by emerging flux moves its field lines around it (-v_n B_t),
@@ -205,6 +209,7 @@ export function analyseFrame(
         if (turn) motions.set(id, { ...m, omega: turn.omega, omegaError: turn.omegaError, omegaNote: null });
       }
     }
+    // Pixels under 3 noise units are noise, not flux that went without a velocity.
     const field = footpointVelocityField(tracked.grid, rateFrame.bn, tracked.labels, motions, inferred,
       { fieldFloorG: 3 * tracked.seg.noise, ...settings.footpointVelocity });
     velocity = { vx: field.vx, vy: field.vy };

@@ -27,19 +27,20 @@ export interface MeasuredMotion extends RigidMotion {
 }
 
 /**
- * Motions of the footpoints labelled in `labels` (ids > 0) between fields `first` and `second`
- * (smoothed bn of the two frames, `dtS` seconds apart). Footpoints whose fit fails are left out.
+ * Motions of the footpoints labelled in `labels` (ids > 0; only `ids` when given) between fields
+ * `first` and `second` (smoothed bn of the two frames, `dtS` seconds apart). Footpoints whose fit
+ * fails are left out.
  */
 export function pairMotions(
   first: ArrayLike<number>, second: ArrayLike<number>, labels: Int32Array, grid: Grid, dtS: number,
-  options: PatternRotationOptions = {},
+  options: PatternRotationOptions = {}, ids?: ReadonlySet<number>,
 ): Map<number, MeasuredMotion> {
   const { nx, dx, dy } = grid;
   type Box = { x0: number; x1: number; y0: number; y1: number; s1: number; x1s: number; y1s: number; s2: number; x2s: number; y2s: number };
   const boxes = new Map<number, Box>();
   for (let i = 0; i < labels.length; i++) {
     const l = labels[i];
-    if (l <= 0) continue;
+    if (l <= 0 || (ids !== undefined && !ids.has(l))) continue;
     const x = i % nx, y = (i - x) / nx;
     let b = boxes.get(l);
     if (!b) { b = { x0: x, x1: x, y0: y, y1: y, s1: 0, x1s: 0, y1s: 0, s2: 0, x2s: 0, y2s: 0 }; boxes.set(l, b); }
