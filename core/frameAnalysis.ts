@@ -30,7 +30,7 @@ import { transportRotation } from './footpoints/transportRotation.js';
 import { SEGMENTATION_DEFAULTS } from './footpoints/segmentation.js';
 import { smoothMap } from './footpoints/smoothing.js';
 import type { RateSample } from './rateSample.js';
-import { rateSample } from './rateSample.js';
+import { measureRate } from './measureRate.js';
 import { inferVelocity } from './velocity/inferVelocity.js';
 import { midFrame } from './velocity/midFrame.js';
 import { pairNoise } from './velocity/pairNoise.js';
@@ -136,7 +136,7 @@ export function analyseFrame(
   if (hasVelocity(frame)) {
     const tracked = fpSettings && trackFrame(state.footpoints, frame, fpSettings);
     const centre = framePatchCentre(frame);
-    const r = rateSample({ frame, labels: tracked ? tracked.labels : null, velocityMethod: 'given', ...noise, ...(cache && { cache }), ...(centre && { centre }) });
+    const r = measureRate({ frame, labels: tracked ? tracked.labels : null, velocityMethod: 'given', ...noise, ...(cache && { cache }), ...(centre && { centre }) });
     const footpoints = tracked && describeFootpoints(state.footpoints, frame, tracked, fpSettings!, {
       transport: r.transport, ...(r.split && { split: r.split }),
     });
@@ -159,7 +159,7 @@ export function analyseFrame(
   const incomplete = 'sigma-without-velocity-error';
   const incompleteNote = 'The 1-sigma covers the field noise only: the errors of the inferred velocity are not in it (they are when the velocity is built from footpoint motions).';
   if (!fpSettings) {
-    const r = rateSample({ ...common, velocity: inferred, labels: null, flags: [incomplete] });
+    const r = measureRate({ ...common, velocity: inferred, labels: null, flags: [incomplete] });
     return {
       sample: r.sample, velocityNotes: [...v.notes, incompleteNote],
       maps: { gTheta: r.gTheta, vx: v.vx, vy: v.vy, ...(v.vz && { vz: v.vz }) },
@@ -235,7 +235,7 @@ export function analyseFrame(
     flags.push(incomplete);
     notes.push(incompleteNote);
   }
-  const r = rateSample({
+  const r = measureRate({
     ...common, velocity, labels, flags,
     ...(motions && { motions, motionFrom, motionTo: frame.time }),
     ...(motions && v.vz && { normalVelocity: v.vz }),

@@ -11,7 +11,7 @@ import { InputError } from '../core/inputError.js';
 import { writeFits } from '../core/fits/writeImage.js';
 import type { RateSample } from '../core/rateSample.js';
 import type { ChunkJob } from './analyseChunk.js';
-import { fitsDate, gridImage } from './fitsFrames.js';
+import { fitsDate, gridImage } from './mapImages.js';
 
 /** The maps file name for a frame file: its name without the extension, then `.maps.fits`. */
 export function mapsFileName(file: string): string {

@@ -11,7 +11,7 @@ import { paceFrames, pacingState } from './pacing.js';
 
 /**
  * What a replay plays: frames in time order, each read when it falls due. An Archive (a folder)
- * is one; so are the demo region and a region's stored frames (server/replayFeed.ts).
+ * is one; so are the demo region and a region's stored frames (server/regionReplay.ts).
  */
 export interface ReplaySource<F = Frame> {
   /** The frames' times, UTC ms, ascending. */
@@ -28,7 +28,7 @@ export interface ReplayStatus {
   readonly total: number;
 }
 
-export interface ReplaySession {
+export interface PacedReplay {
   status(): ReplayStatus;
   pause(): void;
   resume(): void;
@@ -54,7 +54,7 @@ export const wallClock: PacingClock = {
 export function startReplay<F = Frame>(
   archive: ReplaySource<F>, speed: number, consume: (frame: F, index: number) => Promise<void>,
   options: { clock?: PacingClock; maxWaitMs?: number; start?: number } = {},
-): ReplaySession {
+): PacedReplay {
   const times = archive.entries.map((e) => e.time);
   const { control, indices } = paceFrames(times, speed, options.clock ?? wallClock, {
     ...(options.maxWaitMs !== undefined && { maxWaitMs: options.maxWaitMs }),

@@ -15,7 +15,7 @@ export interface ProgressReport {
 }
 
 /** "1m57s", "42s", "3h05m". */
-export function formatDuration(seconds: number): string {
+export function formatElapsed(seconds: number): string {
   if (!Number.isFinite(seconds) || seconds < 0) return '?';
   const s = Math.round(seconds);
   if (s < 60) return `${s}s`;
@@ -53,7 +53,7 @@ export function progressReport(stream: NodeJS.WritableStream = process.stderr, n
         lastTenth = tenth;
         const r = rate();
         const left = r > 0 ? (total - done) / r : NaN;
-        stream.write(`${phase}: ${done}/${total} frames (${Math.round((100 * done) / Math.max(total, 1))}%), ${r.toFixed(1)} frames/s${done < total ? `, about ${formatDuration(left)} left` : `, ${formatDuration((now() - started) / 1000)} in all`}\n`);
+        stream.write(`${phase}: ${done}/${total} frames (${Math.round((100 * done) / Math.max(total, 1))}%), ${r.toFixed(1)} frames/s${done < total ? `, about ${formatElapsed(left)} left` : `, ${formatElapsed((now() - started) / 1000)} in all`}\n`);
       }
     },
     stop() {

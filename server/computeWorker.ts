@@ -12,7 +12,7 @@ import { footpointReport } from '../core/footpoints/footpointReport.js';
 import { InputError } from '../core/inputError.js';
 import { writeFileAtomic } from './atomicFile.js';
 import { isDiskFull } from './diskFull.js';
-import { decodeFrame, encodeMapFile } from './mapFile.js';
+import { decodeFrame, encodeFrameBlob } from './frameBlob.js';
 import type { WorkerReply, WorkerRequest } from './computeMessages.js';
 
 const states = new Map<string, AnalysisState>();
@@ -38,7 +38,7 @@ async function handle(req: WorkerRequest): Promise<WorkerReply> {
   const maps = result.maps;
   let mapsWritten = false;
   if (maps.gTheta || maps.labels || maps.vx) {
-    const bytes = encodeMapFile(
+    const bytes = encodeFrameBlob(
       { time: frame.time, nx: frame.nx, ny: frame.ny, dx: frame.dx, dy: frame.dy },
       { gtheta: maps.gTheta, vx: maps.vx, vy: maps.vy, ...(maps.vz && { vz: maps.vz }) }, { labels: maps.labels },
     );

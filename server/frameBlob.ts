@@ -10,7 +10,7 @@ import { InputError } from '../core/inputError.js';
 const MAGIC = 0x4d434c48; // "HLCM" little-endian
 const VERSION = 1;
 
-export interface MapFileHeader {
+export interface FrameBlobHeader {
   readonly time: number;
   readonly nx: number;
   readonly ny: number;
@@ -21,8 +21,8 @@ export interface MapFileHeader {
   readonly [more: string]: unknown;
 }
 
-export interface MapFileContent {
-  readonly header: MapFileHeader;
+export interface FrameBlobContent {
+  readonly header: FrameBlobHeader;
   readonly float: Record<string, Float64Array>;
   readonly int: Record<string, Int32Array>;
 }
@@ -31,7 +31,7 @@ function align8(n: number): number {
   return (n + 7) & ~7;
 }
 
-export function encodeMapFile(header: { time: number; nx: number; ny: number; dx: number; dy: number; [more: string]: unknown }, float: Record<string, Float64Array | undefined>, int: Record<string, Int32Array | undefined> = {}): Buffer {
+export function encodeFrameBlob(header: { time: number; nx: number; ny: number; dx: number; dy: number; [more: string]: unknown }, float: Record<string, Float64Array | undefined>, int: Record<string, Int32Array | undefined> = {}): Buffer {
   const fNames = Object.keys(float).filter((k) => float[k] !== undefined);
   const iNames = Object.keys(int).filter((k) => int[k] !== undefined);
   const json = Buffer.from(JSON.stringify({ ...header, float: fNames, int: iNames }), 'utf8');
@@ -58,12 +58,12 @@ export function encodeMapFile(header: { time: number; nx: number; ny: number; dx
   return buf;
 }
 
-export function decodeMapFile(bytes: Uint8Array, source: string): MapFileContent {
+export function decodeFrameBlob(bytes: Uint8Array, source: string): FrameBlobContent {
   const buf = Buffer.from(bytes.buffer, bytes.byteOffset, bytes.byteLength);
   if (buf.length < 12 || buf.readUInt32LE(0) !== MAGIC) throw new InputError(source, '(file)', 'is not a helicord map file');
   if (buf.readUInt32LE(4) !== VERSION) throw new InputError(source, '(file)', `has map file version ${buf.readUInt32LE(4)}, expected ${VERSION}`);
   const len = buf.readUInt32LE(8);
-  const header = JSON.parse(buf.subarray(12, 12 + len).toString('utf8')) as MapFileHeader;
+  const header = JSON.parse(buf.subarray(12, 12 + len).toString('utf8')) as FrameBlobHeader;
   const n = header.nx * header.ny;
   let off = align8(12 + len);
   const need = off + header.float.length * n * 8 + header.int.length * n * 4;
@@ -86,14 +86,14 @@ export function decodeMapFile(bytes: Uint8Array, source: string): MapFileContent
 export function encodeFrame(frame: Frame): Buffer {
   const float: Record<string, Float64Array | undefined> = {};
   for (const name of FRAME_MAPS) float[name] = frame[name];
-  return encodeMapFile(
+  return encodeFrameBlob(
     { time: frame.time, nx: frame.nx, ny: frame.ny, dx: frame.dx, dy: frame.dy, provenance: frame.provenance ?? {} },
     float, { labels: frame.labels },
   );
 }
 
 export function decodeFrame(bytes: Uint8Array, source: string): Frame {
-  const { header, float, int } = decodeMapFile(bytes, source);
+  const { header, float, int } = decodeFrameBlob(bytes, source);
   return {
     time: header.time, nx: header.nx, ny: header.ny, dx: header.dx, dy: header.dy,
     bn: float.bn,

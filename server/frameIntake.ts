@@ -8,7 +8,7 @@ import type { FrameAssemblySettings } from '../core/frameAssembly/assembleFrame.
 import { frameFromFits } from '../core/frameAssembly/assembleFrame.js';
 import { InputError } from '../core/inputError.js';
 import { checkPhysicalLimits } from '../core/physicalLimits.js';
-import { encodeFrame, frameHash } from './mapFile.js';
+import { encodeFrame, frameHash } from './frameBlob.js';
 
 export interface IntakeMeta {
   readonly time: number;

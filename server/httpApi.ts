@@ -12,13 +12,13 @@ import { parseIsoTime } from '../core/frameJson.js';
 import { seriesCsv, SERIES_COLUMNS } from '../core/seriesColumns.js';
 import { writeFits } from '../core/fits/writeImage.js';
 import type { ImageToWrite } from '../core/fits/writeImage.js';
-import { gridImage } from '../replay/fitsFrames.js';
+import { gridImage } from '../replay/mapImages.js';
 import type { Frame } from '../core/frame.js';
 import { isLoopback, tokenMatches } from './auth.js';
 import { isDiskFull } from './diskFull.js';
 import type { HostPolicy } from './hostCheck.js';
 import { hostAllowed, originAllowed } from './hostCheck.js';
-import { decodeMapFile } from './mapFile.js';
+import { decodeFrameBlob } from './frameBlob.js';
 import type { Pipeline } from './pipeline.js';
 import type { RegionAdmin } from './regionAdmin.js';
 import { checkRegionName } from './regionName.js';
@@ -35,7 +35,7 @@ export interface ApiContext {
   readonly bodyLimit: number;
   readonly startedAt: number;
   readonly onSettings: (region: string) => void;
-  /** Replay control and start (server/replayFeeds.ts). */
+  /** Replay control and start (server/replayRegistry.ts). */
   readonly replay: (region: string, action: unknown) => { status: number; body: unknown } | Promise<{ status: number; body: unknown }>;
   readonly replayStatus: (region: string) => unknown;
   /** Removing, renaming and resetting regions (server/regionAdmin.ts). */
@@ -220,7 +220,7 @@ function seriesRoutes(ctx: ApiContext, h: ApiHelpers): express.Router {
     const name = existing(req, res);
     if (name === undefined) return;
     const from = timeParam(req, 'from', 0), to = timeParam(req, 'to', Number.MAX_SAFE_INTEGER);
-    const gaps = pipeline.carry(name).budget.gaps.filter((g) => g.to >= from && g.from <= to)
+    const gaps = pipeline.accumulation(name).budget.gaps.filter((g) => g.to >= from && g.from <= to)
       .map((g) => ({ from: iso(g.from), to: iso(g.to), bridged: g.bridged }));
     res.json({ region: name, samples: store.samples(name, from, to), gaps });
   });
@@ -257,7 +257,7 @@ function seriesRoutes(ctx: ApiContext, h: ApiHelpers): express.Router {
   r.get('/export.json', (req, res) => {
     const name = existing(req, res);
     if (name === undefined) return;
-    const gaps = pipeline.carry(name).budget.gaps.map((g) => ({ from: iso(g.from), to: iso(g.to), bridged: g.bridged }));
+    const gaps = pipeline.accumulation(name).budget.gaps.map((g) => ({ from: iso(g.from), to: iso(g.to), bridged: g.bridged }));
     res.json({ region: name, columns: SERIES_COLUMNS, samples: store.samples(name), gaps });
   });
 
@@ -349,7 +349,7 @@ function frameRoutes(ctx: ApiContext, h: ApiHelpers): express.Router {
     if (!spec) return fail(res, 400, 'layer', `"${layer.slice(0, 40)}" is not a layer (bn, gtheta, labels)`);
     const file = spec.from === 'frame' ? f.file : f.mapsFile;
     if (!file) return fail(res, 404, 'layer', `frame ${f.id} has no ${layer} map (not computed)`);
-    const content = decodeMapFile(await readFile(join(store.dataDir, file)), file);
+    const content = decodeFrameBlob(await readFile(join(store.dataDir, file)), file);
     const values = spec.int ? (Object.hasOwn(content.int, spec.name) ? content.int[spec.name] : undefined) : (Object.hasOwn(content.float, spec.name) ? content.float[spec.name] : undefined);
     if (!values) return fail(res, 404, 'layer', `frame ${f.id} has no ${layer} map`);
     const f32 = Float32Array.from(values);
@@ -362,9 +362,9 @@ function frameRoutes(ctx: ApiContext, h: ApiHelpers): express.Router {
   r.get('/frames/:id/maps.fits', async (req, res) => {
     const f = frameOf(req, res);
     if (!f) return;
-    const frame = decodeMapFile(await readFile(join(store.dataDir, f.file)), f.file);
-    const maps = f.mapsFile ? decodeMapFile(await readFile(join(store.dataDir, f.mapsFile)), f.mapsFile) : undefined;
-    // The same images as the batch's --maps files (replay/fitsFrames.ts), with bn first.
+    const frame = decodeFrameBlob(await readFile(join(store.dataDir, f.file)), f.file);
+    const maps = f.mapsFile ? decodeFrameBlob(await readFile(join(store.dataDir, f.mapsFile)), f.mapsFile) : undefined;
+    // The same images as the batch's --maps files (replay/mapImages.ts), with bn first.
     // With the stored frame's provenance, the input's world coordinates are kept.
     const g = { ...f, provenance: (frame.header.provenance ?? {}) as Frame['provenance'] };
     const images: ImageToWrite[] = [gridImage(g, 'BN', frame.float.bn, 'G')];

@@ -14,57 +14,34 @@
 import { rm } from 'node:fs/promises';
 import { join } from 'node:path';
 import type { Observable } from 'rxjs';
-import { Subject, concatMap, defer, from, groupBy, map, mergeMap, of, tap, catchError, EMPTY } from 'rxjs';
-import { restoreSpanS } from '../core/analysisMemory.js';
-import { accumulate, accumulateRefusal, seriesCadenceS } from '../core/accumulate.js';
-import type { Frame } from '../core/frame.js';
-import type { AnalysisSettings } from '../core/frameAnalysis.js';
-import { sameGrid } from '../core/grid.js';
+import { EMPTY, Subject, catchError, concatMap, defer, filter, finalize, firstValueFrom, from, groupBy, map, mergeMap, of, startWith, tap } from 'rxjs';
+import { accumulateRefusal, seriesCadenceS } from '../core/accumulate.js';
 import { InputError } from '../core/inputError.js';
-import type { RateSample } from '../core/rateSample.js';
-import type { SeriesRow } from '../core/seriesColumns.js';
 import type { AlertChange, AlertRecord } from '../core/alerts/alertState.js';
 import { acknowledgeAlert, newAlertMachine } from '../core/alerts/alertState.js';
 import type { RulesState } from '../core/alerts/evaluateRules.js';
 import { alertRecords } from '../core/alerts/evaluateRules.js';
 import { RULES, ruleParams } from '../core/alerts/ruleCatalogue.js';
-import { writeFileAtomic } from './atomicFile.js';
 import { DiskFullError, isDiskFull } from './diskFull.js';
+import { DiskStatus } from './diskStatus.js';
 import type { ComputePool } from './computePool.js';
-import type { WorkerReply } from './computeMessages.js';
-import type { Intake } from './frameIntake.js';
-import { frameFromInput, intakeFrame, intakeStatus } from './frameIntake.js';
 import type { IntakePool } from './intakePool.js';
-import { IntakeRefusal } from './intakePool.js';
+import { QuietLog } from './quietLog.js';
+import { RegionQueues } from './regionQueues.js';
 import type { RegionSettings } from './regionSettings.js';
-import { DEFAULT_SETTINGS } from './regionSettings.js';
-import type { Carry, FrameRow, Store } from './store.js';
+import type { AccumulationState, FrameRow, Store } from './store.js';
 import type { StoreWriter } from './storeWriter.js';
-import { emptyCarry } from './store.js';
+import { emptyAccumulation } from './store.js';
+import { accumulateFrames } from './stages/accumulateFrames.js';
+import type { Arrival, IngestAnswer, Queued } from './stages/arrivalValues.js';
+import { broadcastFrames } from './stages/broadcastFrames.js';
+import { commitFrames } from './stages/commitFrames.js';
+import { computeFrames } from './stages/computeFrames.js';
+import { pairFrames } from './stages/pairFrames.js';
+import { storeArrivals } from './stages/storeArrivals.js';
+import { validateArrivals } from './stages/validateArrivals.js';
 
-export type Payload =
-  | { readonly kind: 'json'; readonly bytes: Uint8Array }
-  | { readonly kind: 'fits'; readonly bytes: Uint8Array }
-  | { readonly kind: 'frame'; readonly frame: Frame }
-  /** A frame file in a watched folder (read by loadFrameFile in the intake worker). */
-  | { readonly kind: 'file'; readonly path: string }
-  | { readonly kind: 'error'; readonly error: InputError; readonly status: number };
-
-export interface Arrival {
-  readonly region: string;
-  readonly payload: Payload;
-  /** Where it came from, for the record: 'http', 'ws', a file name, 'demo'. */
-  readonly source: string;
-  /** The sender may create the region (holds the token). */
-  readonly mayCreate: boolean;
-  /** Already counted in the region's queue by `admit` (an HTTP request admitted before its body was read). */
-  readonly admitted?: boolean;
-}
-
-export type IngestAnswer =
-  | { readonly status: 201; readonly body: { status: 'stored'; frame_id: number; time: string } }
-  | { readonly status: 200; readonly body: { status: 'duplicate'; frame_id: number; time: string } }
-  | { readonly status: number; readonly body: { error: string; field: string; problem: string }; readonly retryAfterS?: number };
+export type { Arrival, IngestAnswer, Payload } from './stages/arrivalValues.js';
 
 export interface Broadcaster {
   send(region: string, message: unknown): void;
@@ -90,41 +67,24 @@ export const DEFAULT_QUEUE_LIMIT = 16;
 /** Pause before a region blocked by a full disk tries again (doubling up to the last). */
 const DISK_RETRY_MS = [1000, 2000, 5000, 10_000, 30_000];
 
-interface Validated {
-  readonly arrival: Arrival;
-  /** Not a frame: an operation run in the region's arrival turn (see `arrivalTurn`). */
-  readonly turn?: () => Promise<void>;
-  readonly intake?: Intake;
-  readonly refusal?: { status: number; error: InputError; frameTime?: number };
-  readonly resolve: (a: IngestAnswer) => void;
-}
-
-interface Analysed {
-  readonly frame: FrameRow;
-  readonly reply: WorkerReply;
-  sample?: RateSample;
-  row?: SeriesRow;
-  carry: Carry;
-  changes: { alert: AlertRecord; change: AlertChange }[];
-  failure?: { field: string; problem: string };
-}
-
 const isoOrNull = (t: number | undefined) => (t === undefined ? null : new Date(t).toISOString());
 
 export class Pipeline {
-  private readonly arrivals$ = new Subject<{ arrival: Arrival; resolve: (a: IngestAnswer) => void; turn?: () => Promise<void> }>();
+  private readonly arrivals$ = new Subject<Queued>();
   private readonly work$ = new Subject<string>();
-  private readonly carries = new Map<string, Carry>();
+  /** Every change of the work under way (arrivals, runs): idle() and close() listen. */
+  private readonly activity$ = new Subject<void>();
+  private readonly accumulations = new Map<string, AccumulationState>();
   private readonly log: (line: string) => void;
+  private readonly quiet: QuietLog;
+  private readonly disk: DiskStatus;
+  private readonly queues: RegionQueues;
+  /** Arrivals not yet answered, all regions. */
   private inFlight = 0;
-  /** Arrivals not yet answered, per region. */
-  private readonly arriving = new Map<string, number>();
-  /** Callers waiting for room in a region's queue. */
-  private readonly roomWaiters = new Map<string, (() => void)[]>();
+  /** Processing runs under way, all regions. */
+  private activeWork = 0;
   /** Mean processing time of a frame, ms (exponential average), for Retry-After. */
   private frameMs = 1000;
-  /** Set while writes fail for lack of space: since when, and what failed last. */
-  private diskFull: { since: number; what: string } | undefined;
   private readonly diskRetries = new Map<string, { timer: ReturnType<typeof setTimeout>; attempt: number }>();
   private readonly lastDiskAttempt = new Map<string, number>();
   /** Regions to process again from a frame on (frames once failed for lack of space). */
@@ -137,14 +97,8 @@ export class Pipeline {
   private readonly removals = new Map<string, { id: number; resolve: (r: { frame_id: number; time: string; recomputed: number }) => void; reject: (e: Error) => void }[]>();
   /** Requests without a valid token: counted here, never stored (they change nothing). */
   private unauthorized = { total: 0, sinceLog: 0, lastLog: 0, latest: '' };
-  /** Log lines about failed writes, at most one per minute per kind. */
-  private readonly quietUntil = new Map<string, number>();
   readonly queueLimit: number;
-  /** The longest a region's queue has been since start (the health answer reports it). */
-  queuePeak = 0;
   private closed = false;
-  private idleWaiters: (() => void)[] = [];
-  private activeWork = 0;
 
   constructor(
     private readonly store: Store,
@@ -155,14 +109,19 @@ export class Pipeline {
     private readonly options: PipelineOptions = {},
   ) {
     this.log = options.log ?? (() => undefined);
+    this.quiet = new QuietLog(this.log);
+    this.disk = new DiskStatus(this.log, this.quiet);
     this.queueLimit = options.queueLimit ?? DEFAULT_QUEUE_LIMIT;
+    this.queues = new RegionQueues(this.queueLimit, (r) => this.store.unprocessedCount(r));
     this.arrivals$.pipe(
-      groupBy((a) => a.arrival.region),
+      groupBy((q) => q.arrival.region),
       mergeMap((group$) => group$.pipe(
-        // validate: parse, check, hash and encode (in the intake worker)
-        concatMap((a) => (a.turn ? of<Validated>(a) : from(this.validate(a.arrival, a.resolve)))),
-        // order and store: duplicates, shape, lateness; durable write; the sender's answer
-        concatMap((v) => from(v.turn ? v.turn() : this.orderAndStore(v))),
+        validateArrivals({ intake: this.intake, componentSettings: (r) => this.store.region(r)?.settings.components ?? {} }),
+        storeArrivals({
+          store: this.store, writer: this.writer, log: this.log, disk: this.disk,
+          refuse: (region, status, e, source, frameTime) => this.refusalAnswer(region, status, e, source, frameTime),
+          stored: (region) => this.work$.next(region),
+        }),
       )),
     ).subscribe();
     this.work$.pipe(
@@ -180,29 +139,25 @@ export class Pipeline {
     }
     this.inFlight++;
     const region = arrival.region;
-    if (!arrival.admitted) this.count(region, +1);
-    this.notePeak(region);
+    if (!arrival.admitted) this.queues.count(region, +1);
+    else this.queues.notePeak(region);
     return new Promise<IngestAnswer>((resolve) => {
       this.arrivals$.next({
         arrival,
         resolve: (a) => {
           this.inFlight--;
-          if (!arrival.admitted) this.count(region, -1);
+          if (!arrival.admitted) this.queues.count(region, -1);
           resolve(a);
-          this.wakeRoomWaiters(region);
+          this.queues.wake(region);
+          this.activity$.next();
         },
       });
     });
   }
 
-  private count(region: string, d: number): void {
-    const n = (this.arriving.get(region) ?? 0) + d;
-    if (n > 0) this.arriving.set(region, n); else this.arriving.delete(region);
-  }
-
-  private notePeak(region: string): void {
-    const q = this.regionQueue(region);
-    if (q > this.queuePeak) this.queuePeak = q;
+  /** The longest a region's queue has been since start (the health answer reports it). */
+  get queuePeak(): number {
+    return this.queues.peak;
   }
 
   /**
@@ -211,15 +166,11 @@ export class Pipeline {
    * `release` (called once, when its request ends); its frame goes to `ingest` with `admitted`.
    */
   admit(region: string): boolean {
-    if (this.closed || this.queueFull(region)) return false;
-    this.count(region, +1);
-    this.notePeak(region);
-    return true;
+    return !this.closed && this.queues.admit(region);
   }
 
   release(region: string): void {
-    this.count(region, -1);
-    this.wakeRoomWaiters(region);
+    this.queues.count(region, -1);
   }
 
   /**
@@ -255,39 +206,17 @@ export class Pipeline {
 
   /** The disk state: null when writes succeed, else since when they fail for lack of space. */
   diskState(): { full: boolean; since: string | null; what: string | null } {
-    const d = this.diskFull;
-    return { full: d !== undefined, since: d ? new Date(d.since).toISOString() : null, what: d?.what ?? null };
-  }
-
-  private noteDiskFull(what: string, e: unknown): void {
-    if (!this.diskFull) this.diskFull = { since: Date.now(), what };
-    else this.diskFull.what = what;
-    this.quietLog('disk', `the disk is full: ${what} waits for space (${String((e as Error)?.message ?? e).split('\n')[0]})`);
-  }
-
-  private noteWriteOk(): void {
-    if (this.diskFull) {
-      this.log(`disk space is back (full since ${new Date(this.diskFull.since).toISOString()})`);
-      this.diskFull = undefined;
-    }
-  }
-
-  /** Logs a line of this kind at most once a minute. */
-  private quietLog(kind: string, line: string): void {
-    const now = Date.now();
-    if ((this.quietUntil.get(kind) ?? 0) > now) return;
-    this.quietUntil.set(kind, now + 60_000);
-    this.log(line);
+    return this.disk.state();
   }
 
   /** A region's queue: frames arriving (not yet answered) plus frames stored and not yet processed. */
   regionQueue(region: string): number {
-    return (this.arriving.get(region) ?? 0) + this.store.unprocessedCount(region);
+    return this.queues.length(region);
   }
 
   /** True when the region's queue is at its bound: senders are held back (503, a paused socket). */
   queueFull(region: string): boolean {
-    return this.regionQueue(region) >= this.queueLimit;
+    return this.queues.isFull(region);
   }
 
   /** Seconds a held-back sender should wait: about the time to work one frame off the queue. */
@@ -296,23 +225,8 @@ export class Pipeline {
   }
 
   /** Resolves once the region's queue is below its bound (or the pipeline closes, or `stop()` says so). */
-  async waitForRoom(region: string, stop: () => boolean = () => false): Promise<void> {
-    while (!this.closed && !stop() && this.queueFull(region)) {
-      await new Promise<void>((r) => {
-        const list = this.roomWaiters.get(region) ?? [];
-        list.push(r);
-        this.roomWaiters.set(region, list);
-        // A deadline as well, in case room is made without a wake-up (a frame removed).
-        setTimeout(r, 1000).unref();
-      });
-    }
-  }
-
-  private wakeRoomWaiters(region: string): void {
-    const list = this.roomWaiters.get(region);
-    if (!list || this.queueFull(region)) return;
-    this.roomWaiters.delete(region);
-    for (const w of list) w();
+  waitForRoom(region: string, stop: () => boolean = () => false): Promise<void> {
+    return this.queues.waitForRoom(region, stop);
   }
 
   // Region operations -----------------------------------------------------------------------
@@ -408,19 +322,19 @@ export class Pipeline {
   }
 
   /** The state a region starts from after a reset: empty, but for the refusals rule and acknowledgements. */
-  resetCarry(name: string): Carry {
-    return this.restoredCarry(name, undefined);
+  resetAccumulation(name: string): AccumulationState {
+    return this.restoredAccumulation(name, undefined);
   }
 
   /** After a reset (call while the region is still): its state is `carry`, viewers get the empty snapshot. */
-  regionReset(name: string, carry: Carry): void {
+  regionReset(name: string, carry: AccumulationState): void {
     this.forgetState(name);
-    this.setCarry(name, carry);
+    this.setAccumulation(name, carry);
     this.hub.resync(name);
   }
 
   private forgetState(name: string): void {
-    this.carries.delete(name);
+    this.accumulations.delete(name);
     this.redoFrom.delete(name);
     this.lastDiskAttempt.delete(name);
     const retry = this.diskRetries.get(name);
@@ -448,9 +362,7 @@ export class Pipeline {
 
   /** Resolves when nothing is pending (tests, benchmark, shutdown). */
   async idle(): Promise<void> {
-    while (this.inFlight > 0 || this.activeWork > 0 || this.store.pendingCount() > 0) {
-      await new Promise<void>((r) => { this.idleWaiters.push(r); setTimeout(r, 50); });
-    }
+    await this.until(() => this.inFlight === 0 && this.activeWork === 0 && this.store.pendingCount() === 0);
   }
 
   /** Stops taking new frames; resolves when the frame being processed is committed. */
@@ -458,27 +370,31 @@ export class Pipeline {
     this.closed = true;
     for (const r of this.diskRetries.values()) clearTimeout(r.timer);
     this.diskRetries.clear();
-    for (const list of this.roomWaiters.values()) for (const w of list) w();
-    this.roomWaiters.clear();
-    while (this.activeWork > 0 || this.inFlight > 0) await new Promise((r) => setTimeout(r, 20));
+    this.queues.close();
+    await this.until(() => this.activeWork === 0 && this.inFlight === 0);
+  }
+
+  /** Resolves at the first moment `done()` holds, checked now and after every change of the work under way. */
+  private until(done: () => boolean): Promise<void> {
+    return firstValueFrom(this.activity$.pipe(startWith(undefined), filter(done), map(() => undefined)));
   }
 
   // Region state ----------------------------------------------------------------------------
 
-  carry(region: string): Carry {
-    let c = this.carries.get(region);
-    if (!c) { c = this.store.regionCarry(region); this.carries.set(region, c); }
+  accumulation(region: string): AccumulationState {
+    let c = this.accumulations.get(region);
+    if (!c) { c = this.store.regionAccumulation(region); this.accumulations.set(region, c); }
     return c;
   }
 
-  private setCarry(region: string, c: Carry): void {
-    this.carries.set(region, c);
+  private setAccumulation(region: string, c: AccumulationState): void {
+    this.accumulations.set(region, c);
   }
 
   /** Every enabled rule's alert (quiet ones included), in catalogue order. */
   alerts(region: string): AlertRecord[] {
     const settings = this.store.region(region)?.settings;
-    const rules = this.carry(region).rules;
+    const rules = this.accumulation(region).rules;
     const have = new Map(alertRecords(rules).map((a) => [a.id, a]));
     const out: AlertRecord[] = [];
     for (const def of RULES) {
@@ -491,25 +407,25 @@ export class Pipeline {
   }
 
   async acknowledge(region: string, id: string, now = Date.now()): Promise<AlertRecord | undefined> {
-    const c = this.carry(region);
+    const c = this.accumulation(region);
     const m = c.rules.machines[id];
     if (!m) return undefined;
     const rules: RulesState = { ...c.rules, machines: { ...c.rules.machines, [id]: acknowledgeAlert(m, now) } };
     const next = { ...c, rules };
     try {
-      await this.writer.call('setRegionCarry', region, next);
+      await this.writer.call('setRegionAccumulation', region, next);
     } catch (e) {
-      if (isDiskFull(e)) this.noteDiskFull('an acknowledgement', e);
+      if (isDiskFull(e)) this.disk.full('an acknowledgement', e);
       throw e;
     }
-    this.setCarry(region, next);
+    this.setAccumulation(region, next);
     const alert = rules.machines[id].record;
     this.hub.send(region, { type: 'alert', alert });
     return alert;
   }
 
   status(region: string): Record<string, unknown> {
-    const c = this.carry(region);
+    const c = this.accumulation(region);
     return {
       last_frame_time: isoOrNull(this.store.latestTime(region)),
       cadence_s: seriesCadenceS(c.budget.intervals) ?? null,
@@ -517,33 +433,12 @@ export class Pipeline {
       gaps: c.budget.gaps.length,
       queue: this.regionQueue(region),
       queue_limit: this.queueLimit,
-      disk_full: this.diskFull !== undefined,
+      disk_full: this.disk.isFull,
       replay: this.options.replayStatus?.(region) ?? null,
     };
   }
 
-  // Stage 1: validate -----------------------------------------------------------------------
-
-  private async validate(arrival: Arrival, resolve: (a: IngestAnswer) => void): Promise<Validated> {
-    const p = arrival.payload;
-    const source = arrival.source;
-    try {
-      if (p.kind === 'error') return { arrival, resolve, refusal: { status: p.status, error: p.error } };
-      let intake: Intake;
-      // The region's component settings say how to read its FITS files.
-      const settings = this.store.region(arrival.region)?.settings.components ?? {};
-      if (p.kind === 'frame') intake = intakeFrame(frameFromInput(p, source), source);
-      else if (p.kind === 'file') intake = await this.intake.take({ kind: 'file', path: p.path, source, settings });
-      else intake = await this.intake.take({ kind: p.kind, bytes: p.bytes, source, settings });
-      return { arrival, resolve, intake };
-    } catch (e) {
-      if (e instanceof IntakeRefusal) return { arrival, resolve, refusal: { status: e.status, error: e.error } };
-      if (e instanceof InputError) return { arrival, resolve, refusal: { status: intakeStatus(e), error: e } };
-      return { arrival, resolve, refusal: { status: 400, error: new InputError(source, '(body)', String((e as Error).message ?? e)) } };
-    }
-  }
-
-  // Stage 2: order and store ----------------------------------------------------------------
+  // Refusals (the arrival stages in server/stages/ answer through these) -------------------
 
   private async refusalAnswer(region: string, status: number, e: InputError, source: string, frameTime?: number): Promise<IngestAnswer> {
     await this.recordRefusal(region, { status, source, field: e.field, reason: e.message, ...(frameTime !== undefined && { frameTime }) });
@@ -559,96 +454,28 @@ export class Pipeline {
     try {
       const now = Date.now();
       await this.writer.call('recordRefusal', region, r, now);
-      this.noteWriteOk();
+      this.disk.writeOk();
       const row = this.store.region(region);
       if (!row) return;
       // The data-quality rule sees every refusal.
-      const c = this.carry(region);
+      const c = this.accumulation(region);
       const p = ruleParams(RULES.find((d) => d.id === 'refusals')!, row.settings.rules);
       const times = this.store.refusalTimes(region, now - Number(p.windowS) * 1000);
       const step = accumulateRefusal(c, now, times, { rules: row.settings.rules });
       const next = step.state;
-      this.setCarry(region, next);
-      await this.writer.call('setRegionCarry', region, next);
+      this.setAccumulation(region, next);
+      await this.writer.call('setRegionAccumulation', region, next);
       for (const ch of step.changes) this.announceAlert(region, ch.alert, ch.change, row.settings);
       this.hub.send(region, { type: 'status', status: this.status(region) });
     } catch (e) {
-      if (isDiskFull(e)) this.noteDiskFull('recording a refusal', e);
-      else this.quietLog('refusal-write', `recording a refusal for ${region} failed: ${(e as Error).message ?? e}`);
+      if (isDiskFull(e)) this.disk.full('recording a refusal', e);
+      else this.quiet.say('refusal-write', `recording a refusal for ${region} failed: ${(e as Error).message ?? e}`);
       // What is in memory may be ahead of the store: read it back from there next time.
-      this.carries.delete(region);
+      this.accumulations.delete(region);
     }
   }
 
-  private async orderAndStore(v: Validated): Promise<void> {
-    const { arrival, resolve } = v;
-    const name = arrival.region;
-    try {
-      if (v.refusal) return resolve(await this.refusalAnswer(name, v.refusal.status, v.refusal.error, arrival.source));
-      const { meta: frame, hash, bytes } = v.intake!;
-      let region = this.store.region(name);
-      // Live frames only (replays carry archive times): nothing from the future.
-      const maxAheadS = (region?.settings ?? DEFAULT_SETTINGS).maxAheadS;
-      const ahead = frame.time - Date.now();
-      if (arrival.payload.kind !== 'frame' && ahead > maxAheadS * 1000) {
-        return resolve(await this.refusalAnswer(name, 422, new InputError(arrival.source, 'time',
-          `${new Date(frame.time).toISOString()} is ${(ahead / 1000).toFixed(0)} s after the monitor's clock, beyond the region's maxAheadS of ${maxAheadS} s: an observation cannot come from the future`), arrival.source, frame.time));
-      }
-      if (!region) {
-        if (!arrival.mayCreate) {
-          return resolve(await this.refusalAnswer(name, 404, new InputError(arrival.source, 'region', `no region named "${name}"; it is created on the first frame sent with the token`), arrival.source, frame.time));
-        }
-        region = await this.writer.call('createRegion', name);
-        this.log(`region ${name} created`);
-      }
-      const removed = this.store.removedFrame(name, hash);
-      if (removed) {
-        return resolve(await this.refusalAnswer(name, 409, new InputError(arrival.source, '(frame)',
-          `this frame (${new Date(frame.time).toISOString()}) was removed from the region on ${new Date(removed.removed).toISOString()} and is not taken again`), arrival.source, frame.time));
-      }
-      const dup = this.store.frameByHash(name, hash);
-      if (dup) {
-        await this.writer.call('countDuplicate', name);
-        return resolve({ status: 200, body: { status: 'duplicate', frame_id: dup.id, time: new Date(dup.time).toISOString() } });
-      }
-      const first = this.store.firstFrame(name);
-      if (first && !sameGrid(first, frame)) {
-        return resolve(await this.refusalAnswer(name, 409, new InputError(arrival.source, 'grid',
-          `the region's frames are ${first.nx}x${first.ny} pixels of ${first.dx}x${first.dy} Mm; this one is ${frame.nx}x${frame.ny} of ${frame.dx}x${frame.dy} Mm`), arrival.source, frame.time));
-      }
-      const same = this.store.frameAtTime(name, frame.time);
-      if (same) {
-        return resolve(await this.refusalAnswer(name, 409, new InputError(arrival.source, 'time',
-          `another frame (id ${same.id}) with the time ${new Date(frame.time).toISOString()} is already stored, with different content`), arrival.source, frame.time));
-      }
-      const latest = this.store.latestTime(name);
-      const latenessS = region.settings.latenessS;
-      if (latest !== undefined && frame.time < latest - latenessS * 1000) {
-        return resolve(await this.refusalAnswer(name, 409, new InputError(arrival.source, 'time',
-          `too late: ${new Date(frame.time).toISOString()} is ${((latest - frame.time) / 1000).toFixed(0)} s before the newest frame (${new Date(latest).toISOString()}), beyond the region's lateness of ${latenessS} s`), arrival.source, frame.time));
-      }
-      const file = join('frames', name, `${hash}.hlcm`);
-      await writeFileAtomic(join(this.store.dataDir, file), bytes, 0o600);
-      const id = await this.writer.call('insertFrame', {
-        region: name, time: frame.time, hash, nx: frame.nx, ny: frame.ny, dx: frame.dx, dy: frame.dy,
-        source: arrival.source, received: Date.now(), file,
-      });
-      this.noteWriteOk();
-      resolve({ status: 201, body: { status: 'stored', frame_id: id, time: new Date(frame.time).toISOString() } });
-      this.work$.next(name);
-    } catch (e) {
-      if (isDiskFull(e)) {
-        // Nothing was acknowledged: the sender keeps the frame and sends it again later.
-        this.noteDiskFull(`a frame for ${name}`, e);
-        const retryAfterS = 30;
-        return resolve({ status: 507, retryAfterS, body: { error: 'the monitor\'s disk is full: the frame was not stored; send it again later', field: '(disk)', problem: 'no space left to store the frame' } });
-      }
-      this.log(`storing a frame for ${name} failed: ${(e as Error).stack ?? e}`);
-      resolve({ status: 500, body: { error: 'the frame could not be stored', field: '(server)', problem: String((e as Error).message ?? e) } });
-    }
-  }
-
-  // Stages 3-8: pair, compute, accumulate, evaluate, store, broadcast -----------------------
+  // Processing: order (rewind, removals), then per frame the stages in server/stages/ --------
 
   /**
    * Removes a stored frame (an operator's decision: a frame that should never have been taken).
@@ -677,18 +504,19 @@ export class Pipeline {
         const f = this.store.frame(region, r.id);
         if (!f) throw new InputError(region, 'id', `region ${region} has no frame ${r.id}`);
         const before = this.store.lastProcessed(region, f.time);
-        const carry = this.restoredCarry(region, before);
+        const carry = this.restoredAccumulation(region, before);
         const n = await this.writer.call('removeFrame', region, f.id, before?.time ?? Number.MIN_SAFE_INTEGER, carry, Date.now());
-        this.setCarry(region, carry);
+        this.setAccumulation(region, carry);
         this.pool.forget(region);
         // The files go after the commit (a file left by a crash here is only unused).
         for (const file of [f.file, f.mapsFile]) if (file) await rm(join(this.store.dataDir, file), { force: true }).catch(() => undefined);
         this.log(`${region}: frame ${f.id} (${new Date(f.time).toISOString()}) removed; ${n} later frame(s) are processed again`);
         r.resolve({ frame_id: f.id, time: new Date(f.time).toISOString(), recomputed: n });
+        this.queues.wake(region);
         any = true;
       } catch (e) {
-        if (isDiskFull(e)) this.noteDiskFull(`removing frame ${r.id}`, e);
-        this.carries.delete(region);
+        if (isDiskFull(e)) this.disk.full(`removing frame ${r.id}`, e);
+        this.accumulations.delete(region);
         r.reject(e as Error);
       }
     }
@@ -699,9 +527,9 @@ export class Pipeline {
    * The carry after `before` (empty when none), keeping what happened outside the frame stream:
    * the refusals rule and acknowledgements.
    */
-  private restoredCarry(region: string, before: FrameRow | undefined): Carry {
-    const restored = before ? this.store.frameCarry(before.id) ?? emptyCarry() : emptyCarry();
-    const current = this.carry(region);
+  private restoredAccumulation(region: string, before: FrameRow | undefined): AccumulationState {
+    const restored = before ? this.store.frameAccumulation(before.id) ?? emptyAccumulation() : emptyAccumulation();
+    const current = this.accumulation(region);
     const machines = { ...restored.rules.machines };
     if (current.rules.machines.refusals) machines.refusals = current.rules.machines.refusals;
     for (const [id, m] of Object.entries(machines)) {
@@ -711,17 +539,20 @@ export class Pipeline {
     return { ...restored, rules: { ...restored.rules, machines } };
   }
 
-  /** Frames to process in time order, after rewinding the region when one came in late. */
-  private async takePending(region: string): Promise<FrameRow[]> {
+  /**
+   * Stage "order": the frames to process in time order, after the removals asked for and after
+   * rewinding the region when one came in late; `rewound` when results already shown changed.
+   */
+  private async takePending(region: string): Promise<{ frames: FrameRow[]; rewound: boolean }> {
     let removed = await this.applyRemovals(region);
     const redo = this.redoFrom.get(region);
     if (redo !== undefined) {
       const before = this.store.lastProcessed(region, redo);
-      const carry = this.restoredCarry(region, before);
+      const carry = this.restoredAccumulation(region, before);
       try {
         const n = await this.writer.call('rewind', region, before?.time ?? Number.MIN_SAFE_INTEGER, carry);
         this.redoFrom.delete(region);
-        this.setCarry(region, carry);
+        this.setAccumulation(region, carry);
         this.pool.forget(region);
         this.log(`${region}: ${n} frame(s) from ${new Date(redo).toISOString()} on are processed again (an earlier run could not write their results: the disk was full)`);
         removed = true;
@@ -731,12 +562,11 @@ export class Pipeline {
       }
     }
     const pending = this.store.unprocessed(region);
-    if (pending.length === 0) return [];
-    const mark = (frames: FrameRow[]) => frames.map((f) => ({ ...f, rewound: true }) as FrameRow);
+    if (pending.length === 0) return { frames: [], rewound: false };
     const last = this.store.lastProcessed(region);
     if (last && pending[0].time < last.time) {
       const before = this.store.lastProcessed(region, pending[0].time);
-      const carry = this.restoredCarry(region, before);
+      const carry = this.restoredAccumulation(region, before);
       let n: number;
       try {
         n = await this.writer.call('rewind', region, before?.time ?? Number.MIN_SAFE_INTEGER, carry);
@@ -744,12 +574,12 @@ export class Pipeline {
         if (isDiskFull(e)) throw new DiskFullError(e, 'putting a late frame back in order');
         throw e;
       }
-      this.setCarry(region, carry);
+      this.setAccumulation(region, carry);
       this.pool.forget(region);
       this.log(`${region}: a frame came in late; ${n} later frame(s) are processed again in order`);
-      return mark(this.store.unprocessed(region));
+      return { frames: this.store.unprocessed(region), rewound: true };
     }
-    return removed ? mark(pending) : pending;
+    return { frames: pending, rewound: removed };
   }
 
   /** Tries the region again after a pause (its frames wait for disk space). */
@@ -768,157 +598,57 @@ export class Pipeline {
 
   private processPending$(region: string): Observable<unknown> {
     let rewound = false;
+    const frameStages = (frame: FrameRow): Observable<unknown> => of(frame).pipe(
+      // A turn waiting (a region operation) or a shutdown stops the run at the next frame: the
+      // rest stays pending and is taken after the turn (or at the restart).
+      filter(() => !this.closed && !this.turns.has(region)),
+      pairFrames((time) => this.store.lastGood(region, time)),
+      computeFrames({ region, store: this.store, pool: this.pool, tookMs: (ms) => { this.frameMs = 0.8 * this.frameMs + 0.2 * ms; } }),
+      accumulateFrames({ state: () => this.accumulation(region), settings: () => this.store.region(region)?.settings }),
+      commitFrames({
+        region, writer: this.writer, disk: this.disk,
+        setState: (state) => this.setAccumulation(region, state),
+        dropState: () => this.accumulations.delete(region),
+        committed: () => this.lastDiskAttempt.delete(region),
+        refuse: (r) => this.recordRefusal(region, r),
+      }),
+      tap(() => this.queues.wake(region)),
+      broadcastFrames({
+        region,
+        send: (message) => this.hub.send(region, message),
+        announce: (alert, change) => {
+          const settings = this.store.region(region)?.settings;
+          if (settings) this.announceAlert(region, alert, change, settings);
+        },
+        status: () => this.status(region),
+        processed: (id) => this.options.onProcessed?.(region, id),
+      }),
+    );
     return defer(() => {
       this.activeWork++;
+      this.activity$.next();
       return from(this.runTurns(region).then(() => this.takePending(region)));
     }).pipe(
-      mergeMap((frames) => {
-        rewound = frames.some((f) => (f as FrameRow & { rewound?: boolean }).rewound);
-        return from(frames);
+      // One frame at a time through the stages, so each is paired with a committed predecessor.
+      mergeMap((pending) => {
+        rewound = pending.rewound;
+        return from(pending.frames);
       }),
-      // One frame at a time through the stages, so each is paired with a committed predecessor;
-      // on shutdown the rest stays pending for the restart.
-      // A turn waiting (a region operation) stops the run at the next frame: the rest stays
-      // pending and is taken after the turn.
-      concatMap((frame) => defer(() => (this.closed || this.turns.has(region) ? EMPTY : of(frame))).pipe(
-        // pair: with the last frame processed before it
-        map((f) => ({ frame: f, previous: this.store.lastGood(region, f.time), started: Date.now() })),
-        // compute in a worker
-        concatMap(({ frame: f, previous, started }) => from(this.compute(region, f, previous).then((a) => {
-          this.frameMs = 0.8 * this.frameMs + 0.2 * (Date.now() - started);
-          return a;
-        }))),
-        // accumulate: the budget, the rules and the series row
-        map((a) => this.accumulate(region, a)),
-        // store
-        concatMap((a) => from(this.commit(region, a).then(() => a))),
-        // broadcast
-        tap((a) => this.broadcast(region, a)),
-      )),
+      concatMap(frameStages),
       catchError((e) => {
         if (e instanceof DiskFullError) {
           // The frame stays pending; the region is tried again when space may be back.
-          this.noteDiskFull(`${region}: ${e.what}`, e.cause);
+          this.disk.full(`${region}: ${e.what}`, e.cause);
           this.scheduleDiskRetry(region);
         } else this.log(`${region}: processing stopped: ${(e as Error).stack ?? e}`);
         return EMPTY;
       }),
-      tap({
-        finalize: () => {
-          this.activeWork--;
-          if (rewound) this.hub.resync(region);
-          for (const w of this.idleWaiters.splice(0)) w();
-        },
+      finalize(() => {
+        this.activeWork--;
+        if (rewound) this.hub.resync(region);
+        this.activity$.next();
       }),
     );
-  }
-
-  private async compute(region: string, frame: FrameRow, previous: FrameRow | undefined): Promise<Analysed> {
-    const settings = this.store.region(region)?.settings;
-    const abs = (p: string) => join(this.store.dataDir, p);
-    const mapsFile = join('maps', region, `${frame.id}.hlcm`);
-    // What rebuilds the worker's state after `previous` when it does not follow it (read only
-    // then): the frames within the motion baseline up to it and the memory stored with it.
-    const primer = previous && {
-      id: previous.id,
-      frames: () => {
-        const spanMs = 1000 * restoreSpanS((settings?.analysis ?? {}) as AnalysisSettings);
-        const frames = this.store.goodFramesBetween(region, previous.time - spanMs, previous.time).map((f) => abs(f.file));
-        const memory = this.store.frameMemory(previous.id);
-        return { frames, ...(memory !== undefined && { memory }) };
-      },
-    };
-    let reply: WorkerReply;
-    try {
-      reply = await this.pool.analyse({
-        region, frameId: frame.id, framePath: abs(frame.file),
-        ...(previous && { previous: primer }),
-        settings: settings?.analysis ?? {}, mapsPath: abs(mapsFile),
-      });
-    } catch (e) {
-      // A worker that died: once more on its replacement, then the frame is marked failed.
-      try {
-        reply = await this.pool.analyse({
-          region, frameId: frame.id, framePath: abs(frame.file),
-          ...(previous && { previous: primer }),
-          settings: settings?.analysis ?? {}, mapsPath: abs(mapsFile),
-        });
-      } catch (e2) {
-        reply = { id: 0, ok: false, error: { source: frame.source, field: '(analysis)', problem: String((e2 as Error).message ?? e), message: String(e2) } };
-      }
-    }
-    if (!reply.ok && reply.error.diskFull) {
-      // The maps could not be written for lack of space: not a failure of the frame.
-      throw new DiskFullError(new Error(reply.error.problem), `frame ${frame.id} (its maps could not be written)`);
-    }
-    const a: Analysed = { frame, reply, carry: this.carry(region), changes: [] };
-    if (!reply.ok) a.failure = { field: reply.error.field, problem: reply.error.problem };
-    else if (reply.sample) a.sample = reply.sample;
-    return a;
-  }
-
-  /** The budget, the rules and the series row of the frame's sample: one core step (core/accumulate.ts). */
-  private accumulate(region: string, a: Analysed): Analysed {
-    a.carry = this.carry(region);
-    if (!a.sample) return a;
-    const settings = this.store.region(region)?.settings;
-    try {
-      const step = accumulate(a.carry, a.sample, { budget: settings?.budget, rules: settings?.rules ?? {} }, { frameId: a.frame.id });
-      a.row = step.row;
-      a.carry = step.state;
-      a.changes = [...step.changes];
-    } catch (e) {
-      a.failure = { field: 'time', problem: (e as Error).message };
-      a.sample = undefined;
-    }
-    return a;
-  }
-
-  private async commit(region: string, a: Analysed): Promise<void> {
-    const reply = a.reply;
-    // In memory first (synchronously after the rules), so that an acknowledgement or a refusal
-    // arriving while the write is under way builds on this state, and its own write comes after.
-    this.setCarry(region, a.carry);
-    try {
-      await this.commitWrite(region, a, reply);
-    } catch (e) {
-      // Not stored: the state in memory goes back to what the store holds, the frame stays pending.
-      this.carries.delete(region);
-      if (isDiskFull(e)) throw new DiskFullError(e, `frame ${a.frame.id} (its result could not be stored)`);
-      throw e;
-    }
-    this.noteWriteOk();
-    this.lastDiskAttempt.delete(region);
-    if (a.failure) {
-      await this.recordRefusal(region, {
-        status: 422, source: a.frame.source, field: a.failure.field,
-        reason: `frame ${a.frame.id} (${new Date(a.frame.time).toISOString()}) was stored but its analysis failed: ${a.failure.problem}`,
-        frameTime: a.frame.time,
-      });
-    }
-  }
-
-  private async commitWrite(region: string, a: Analysed, reply: WorkerReply): Promise<void> {
-    await this.writer.call('commitProcessed', {
-      region, frameId: a.frame.id, processed: a.failure ? 2 : 1, carry: a.carry,
-      ...(a.row && a.sample && { row: a.row, sampleTime: a.sample.time }),
-      ...(reply.ok && reply.mapsWritten && { mapsFile: join('maps', region, `${a.frame.id}.hlcm`) }),
-      ...(reply.ok && reply.waiting !== undefined && { waiting: reply.waiting }),
-      ...(a.failure && { waiting: `analysis failed: ${a.failure.problem}` }),
-      ...(reply.ok && reply.footpoints !== undefined && { footpoints: reply.footpoints }),
-      ...(reply.ok && reply.events !== undefined && { events: reply.events }),
-      ...(reply.ok && reply.memory !== undefined && { memory: reply.memory }),
-    });
-  }
-
-  private broadcast(region: string, a: Analysed): void {
-    this.wakeRoomWaiters(region);
-    this.hub.send(region, { type: 'frame', frame_id: a.frame.id, time: new Date(a.frame.time).toISOString() });
-    if (a.row) this.hub.send(region, { type: 'sample', sample: a.row });
-    const settings = this.store.region(region)?.settings;
-    for (const ch of a.changes) if (settings) this.announceAlert(region, ch.alert, ch.change, settings);
-    this.hub.send(region, { type: 'status', status: this.status(region) });
-    this.options.onProcessed?.(region, a.frame.id);
   }
 
   private announceAlert(region: string, alert: AlertRecord, change: AlertChange, settings: RegionSettings): void {

@@ -11,7 +11,7 @@ import type { FolderWatch } from './folderWatch.js';
 import type { Pipeline } from './pipeline.js';
 import { finishChore } from './regionFiles.js';
 import { checkRegionName } from './regionName.js';
-import type { ReplayFeeds } from './replayFeeds.js';
+import type { ReplayRegistry } from './replayRegistry.js';
 import type { Store } from './store.js';
 import type { StoreWriter } from './storeWriter.js';
 import type { ViewerHub } from './viewerHub.js';
@@ -21,7 +21,7 @@ export interface RegionAdminContext {
   readonly writer: StoreWriter;
   readonly pipeline: Pipeline;
   readonly folders: FolderWatch;
-  readonly feeds: ReplayFeeds;
+  readonly feeds: ReplayRegistry;
   readonly hub: ViewerHub;
   readonly log: (line: string) => void;
 }
@@ -177,7 +177,7 @@ export class RegionAdmin {
         this.notReplayed(name, false);
         const grid = mayGo() ?? null;
         if (!grid) return { status: 200, body: { region: name, reset: { frames_removed: 0, samples_removed: 0, grid_was: null } } };
-        const carry = pipeline.resetCarry(name);
+        const carry = pipeline.resetAccumulation(name);
         const r = await writer.call('resetRegion', name, carry);
         pipeline.regionReset(name, carry);
         const files = await finishChore(store, writer, { id: r.chore, kind: 'reset', name, target: null }, log);

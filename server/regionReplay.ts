@@ -1,6 +1,6 @@
 // One feed of frames from a source into a region, through the same pipeline as live ingest:
 // the demo region, an archive folder, or a region already in the store (replayed with other
-// settings into a new region beside the original). Pacing is replay/replaySession.ts (on
+// settings into a new region beside the original). Pacing is replay/pacedReplay.ts (on
 // replay/pacing.ts); this file only adds what the server needs: where the frames come from, how
 // they enter the pipeline, and the control of docs/api.md (pause, resume, seek, speed).
 //
@@ -19,9 +19,9 @@ import type { DemoRegion } from '../replay/demo/demoRegion.js';
 import { demoRegion } from '../replay/demo/demoRegion.js';
 import { indexAtTime } from '../replay/pacing.js';
 import type { PacingClock } from '../replay/pacing.js';
-import type { ReplaySession, ReplaySource } from '../replay/replaySession.js';
-import { startReplay } from '../replay/replaySession.js';
-import { decodeFrame } from './mapFile.js';
+import type { PacedReplay, ReplaySource } from '../replay/pacedReplay.js';
+import { startReplay } from '../replay/pacedReplay.js';
+import { decodeFrame } from './frameBlob.js';
 import type { Pipeline } from './pipeline.js';
 import type { Store } from './store.js';
 
@@ -100,11 +100,11 @@ type Answer = { status: number; body: unknown };
 
 const bad = (problem: string, field = 'action'): Answer => ({ status: 400, body: { error: problem, field, problem } });
 
-export class ReplayFeed {
+export class RegionReplay {
   readonly region: string;
   readonly source: FeedSource;
   private readonly log: (line: string) => void;
-  private session: ReplaySession | undefined;
+  private session: PacedReplay | undefined;
   private speed: number;
   private stopped = false;
   private sent = 0;

@@ -15,8 +15,8 @@ import { checkRegionName } from './regionName.js';
 import { DEFAULT_SETTINGS, mergeSettings } from './regionSettings.js';
 import type { Store } from './store.js';
 import type { StoreWriter } from './storeWriter.js';
-import type { FeedSource } from './replayFeed.js';
-import { ReplayFeed, demoSource, folderSource, storedRegionSource } from './replayFeed.js';
+import type { FeedSource } from './regionReplay.js';
+import { RegionReplay, demoSource, folderSource, storedRegionSource } from './regionReplay.js';
 
 /** A replay to start: into `region`, from an opened archive folder or from a stored region. */
 export interface ReplayStart {
@@ -28,7 +28,7 @@ export interface ReplayStart {
   readonly settings?: unknown;
 }
 
-export interface ReplayFeedsOptions {
+export interface ReplayRegistryOptions {
   readonly store: Store;
   readonly writer: StoreWriter;
   readonly pipeline: Pipeline;
@@ -45,16 +45,16 @@ export interface ReplayFeedsOptions {
 type Answer = { status: number; body: unknown };
 const refusal = (status: number, field: string, problem: string): Answer => ({ status, body: { error: problem, field, problem } });
 
-export class ReplayFeeds {
-  private readonly feeds = new Map<string, ReplayFeed>();
+export class ReplayRegistry {
+  private readonly feeds = new Map<string, RegionReplay>();
 
-  constructor(private readonly options: ReplayFeedsOptions) {}
+  constructor(private readonly options: ReplayRegistryOptions) {}
 
-  status(region: string): ReturnType<ReplayFeed['status']> | null {
+  status(region: string): ReturnType<RegionReplay['status']> | null {
     return this.feeds.get(region)?.status() ?? null;
   }
 
-  feed(region: string): ReplayFeed | undefined {
+  feed(region: string): RegionReplay | undefined {
     return this.feeds.get(region);
   }
 
@@ -81,12 +81,12 @@ export class ReplayFeeds {
   }
 
   /** The demo region, fed from replay/demo. */
-  startDemo(region: string, intervalMs: number): ReplayFeed {
+  startDemo(region: string, intervalMs: number): RegionReplay {
     return this.launch(region, demoSource(intervalMs), 1);
   }
 
   /** Starts a replay (the command line's, or one asked for through the API). Throws InputError. */
-  async start(spec: ReplayStart): Promise<ReplayFeed> {
+  async start(spec: ReplayStart): Promise<RegionReplay> {
     const { store, writer } = this.options;
     const region = checkRegionName(spec.region, 'region');
     const running = this.feeds.get(region);
@@ -178,9 +178,9 @@ export class ReplayFeeds {
     return real;
   }
 
-  private launch(region: string, source: FeedSource, speed: number): ReplayFeed {
+  private launch(region: string, source: FeedSource, speed: number): RegionReplay {
     const { store, pipeline, log } = this.options;
-    const feed = new ReplayFeed({
+    const feed = new RegionReplay({
       region, source, pipeline, store, speed, log, ...(this.options.clock && { clock: this.options.clock }),
       onEnd: () => this.options.onChange?.(region),
     });

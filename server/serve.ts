@@ -11,9 +11,9 @@ import { resolve } from 'node:path';
 import { pageRouter } from './staticPage.js';
 import { loadOrCreateToken } from './auth.js';
 import { ComputePool } from './computePool.js';
-import { DEMO_REGION } from './replayFeed.js';
-import type { ReplayStart } from './replayFeeds.js';
-import { ReplayFeeds } from './replayFeeds.js';
+import { DEMO_REGION } from './regionReplay.js';
+import type { ReplayStart } from './replayRegistry.js';
+import { ReplayRegistry } from './replayRegistry.js';
 import { FolderWatch } from './folderWatch.js';
 import { hostPolicy } from './hostCheck.js';
 import { DEFAULT_INTAKE_MEMORY_MB, DEFAULT_MAX_FRAME_PIXELS, IntakePool } from './intakePool.js';
@@ -45,7 +45,7 @@ export interface ServeOptions {
   readonly workers?: number;
   /** Demo frame interval at speed 1, ms. Default 2000. */
   readonly demoIntervalMs?: number;
-  /** Replays to start once listening (`helicord replay`; server/replayFeeds.ts). */
+  /** Replays to start once listening (`helicord replay`; server/replayRegistry.ts). */
   readonly replays?: readonly ReplayStart[];
   /** Folder under which the API may start folder replays; without it only stored regions. */
   readonly replayRoot?: string;
@@ -64,7 +64,7 @@ export interface ServeOptions {
 export interface RunningMonitor {
   readonly url: string;
   /** The monitor's replays (the demo's, the command line's, the API's). */
-  readonly replays: ReplayFeeds;
+  readonly replays: ReplayRegistry;
   close(): Promise<void>;
 }
 
@@ -112,7 +112,7 @@ export async function serve(options: ServeOptions): Promise<RunningMonitor> {
   const intake = new IntakePool(log, { maxFramePixels, memoryMb: options.intakeMemoryMb ?? DEFAULT_INTAKE_MEMORY_MB, maxFileBytes: bodyLimit });
   const readToken = options.readToken ?? false;
   // Set once the pipeline exists (below); read only after that.
-  let replays: ReplayFeeds | undefined;
+  let replays: ReplayRegistry | undefined;
   const replayStatus = (region: string) => replays?.status(region) ?? null;
 
   const loop = loopDelayWatch();
@@ -123,7 +123,7 @@ export async function serve(options: ServeOptions): Promise<RunningMonitor> {
     return {
       type: 'snapshot', region,
       samples: store.lastSamples(region, 2000),
-      gaps: pipeline.carry(region).budget.gaps.map((g) => ({ from: new Date(g.from).toISOString(), to: new Date(g.to).toISOString(), bridged: g.bridged })),
+      gaps: pipeline.accumulation(region).budget.gaps.map((g) => ({ from: new Date(g.from).toISOString(), to: new Date(g.to).toISOString(), bridged: g.bridged })),
       alerts: store.region(region) ? pipeline.alerts(region) : [],
       status: pipeline.status(region),
       latest_frame: frames.length ? { frame_id: frames[0].id, time: new Date(frames[0].time).toISOString() } : null,
@@ -139,7 +139,7 @@ export async function serve(options: ServeOptions): Promise<RunningMonitor> {
     },
   });
   const folders = new FolderWatch(store, writer, pipeline, intake, log);
-  const feeds = new ReplayFeeds({
+  const feeds = new ReplayRegistry({
     store, writer, pipeline, log,
     ...(options.replayRoot !== undefined && { replayRoot: options.replayRoot }),
     onSettings: (region) => folders.sync(region, store.region(region)?.settings.watchFolder ?? false),

@@ -16,15 +16,12 @@ import { fromSafeJson, toSafeJson } from './jsonSafe.js';
 import type { RegionSettings } from './regionSettings.js';
 import { DEFAULT_SETTINGS } from './regionSettings.js';
 
-/** What the pipeline carries from one processed frame to the next (stored with each). */
-export interface Carry {
-  readonly budget: BudgetState;
-  readonly rules: RulesState;
-}
-
-export function emptyCarry(): Carry {
-  return { budget: emptyBudget(), rules: emptyRules() };
-}
+// What the pipeline carries from one processed frame to the next is core's AccumulationState
+// (core/accumulate.ts), stored with each frame (column `carry`) and with the region (`state`).
+import type { AccumulationState } from '../core/accumulate.js';
+import { emptyAccumulation } from '../core/accumulate.js';
+export type { AccumulationState };
+export { emptyAccumulation };
 
 export interface RegionRow {
   readonly name: string;
@@ -210,12 +207,12 @@ export class Store {
    * duplicate count 0; settings, refusals, removed frames and watched files stay. The frame and
    * map files are left to the chore this records.
    */
-  resetRegion(name: string, carry: Carry): { frames: number; samples: number; chore: number } {
+  resetRegion(name: string, carry: AccumulationState): { frames: number; samples: number; chore: number } {
     const tx = this.db.transaction(() => {
       const samples = this.db.prepare('DELETE FROM samples WHERE region = ?').run(name).changes;
       const frames = this.db.prepare('DELETE FROM frames WHERE region = ?').run(name).changes;
       this.db.prepare('UPDATE regions SET duplicates = 0 WHERE name = ?').run(name);
-      this.setRegionCarry(name, carry);
+      this.setRegionAccumulation(name, carry);
       const chore = Number(this.db.prepare("INSERT INTO region_chores (kind, name) VALUES ('reset', ?)").run(name).lastInsertRowid);
       return { frames, samples, chore };
     });
@@ -244,12 +241,12 @@ export class Store {
   }
 
   /** The region's carry after its last processed frame (budget and rules). */
-  regionCarry(name: string): Carry {
+  regionAccumulation(name: string): AccumulationState {
     const r = this.db.prepare('SELECT state FROM regions WHERE name = ?').get(name) as { state: string | null } | undefined;
-    return r?.state ? fromSafeJson<Carry>(r.state) : emptyCarry();
+    return r?.state ? fromSafeJson<AccumulationState>(r.state) : emptyAccumulation();
   }
 
-  setRegionCarry(name: string, carry: Carry): void {
+  setRegionAccumulation(name: string, carry: AccumulationState): void {
     this.db.prepare('UPDATE regions SET state = ? WHERE name = ?').run(toSafeJson(carry), name);
   }
 
@@ -341,21 +338,21 @@ export class Store {
     return rows.map(toFrame);
   }
 
-  frameCarry(id: number): Carry | undefined {
+  frameAccumulation(id: number): AccumulationState | undefined {
     const r = this.db.prepare('SELECT carry FROM frames WHERE id = ?').get(id) as { carry: string | null } | undefined;
-    return r?.carry ? fromSafeJson<Carry>(r.carry) : undefined;
+    return r?.carry ? fromSafeJson<AccumulationState>(r.carry) : undefined;
   }
 
   /**
    * Puts every processed frame of the region after `time` back to "stored" and removes their
    * samples, so they are processed again in order; the region's carry goes back to `carry`.
    */
-  rewind(region: string, time: number, carry: Carry): number {
+  rewind(region: string, time: number, carry: AccumulationState): number {
     const tx = this.db.transaction(() => {
       // Samples go by the frame they were made on (a sample of a frame pair sits at the mid-time).
       this.db.prepare('DELETE FROM samples WHERE frame_id IN (SELECT id FROM frames WHERE region = ? AND time > ? AND processed > 0)').run(region, time);
       const n = this.db.prepare('UPDATE frames SET processed = 0, carry = NULL WHERE region = ? AND time > ? AND processed > 0').run(region, time).changes;
-      this.setRegionCarry(region, carry);
+      this.setRegionAccumulation(region, carry);
       return n;
     });
     return tx();
@@ -367,7 +364,7 @@ export class Store {
    * `carry`, and the frame's hash is remembered as removed. One transaction; returns how many
    * frames are to be processed again.
    */
-  removeFrame(region: string, id: number, before: number, carry: Carry, now = Date.now()): number {
+  removeFrame(region: string, id: number, before: number, carry: AccumulationState, now = Date.now()): number {
     const tx = this.db.transaction(() => {
       const f = this.db.prepare('SELECT hash, time FROM frames WHERE region = ? AND id = ?').get(region, id) as { hash: string; time: number } | undefined;
       if (!f) return 0;
@@ -375,7 +372,7 @@ export class Store {
       this.db.prepare('DELETE FROM frames WHERE id = ?').run(id);
       const n = this.db.prepare('UPDATE frames SET processed = 0, carry = NULL WHERE region = ? AND time > ? AND processed > 0').run(region, before).changes;
       this.db.prepare('INSERT OR REPLACE INTO removed_frames (region, hash, time, removed) VALUES (?, ?, ?, ?)').run(region, f.hash, f.time, now);
-      this.setRegionCarry(region, carry);
+      this.setRegionAccumulation(region, carry);
       return n;
     });
     return tx();
@@ -388,7 +385,7 @@ export class Store {
 
   /** Stores the outcome of one frame's processing in one transaction. */
   commitProcessed(p: {
-    region: string; frameId: number; processed: 1 | 2; carry: Carry; row?: SeriesRow; sampleTime?: number;
+    region: string; frameId: number; processed: 1 | 2; carry: AccumulationState; row?: SeriesRow; sampleTime?: number;
     mapsFile?: string; waiting?: string; footpoints?: unknown; events?: unknown; memory?: unknown;
   }): void {
     const tx = this.db.transaction(() => {
@@ -400,7 +397,7 @@ export class Store {
       if (p.row && p.sampleTime !== undefined) {
         this.db.prepare('INSERT OR REPLACE INTO samples (frame_id, region, time, row) VALUES (?, ?, ?, ?)').run(p.frameId, p.region, p.sampleTime, toSafeJson(p.row));
       }
-      this.setRegionCarry(p.region, p.carry);
+      this.setRegionAccumulation(p.region, p.carry);
     });
     tx();
   }

@@ -6,7 +6,7 @@ import { Worker } from 'node:worker_threads';
 import type { Store } from './store.js';
 
 export const WRITE_METHODS = [
-  'createRegion', 'saveSettings', 'countDuplicate', 'setRegionCarry', 'insertFrame', 'rewind',
+  'createRegion', 'saveSettings', 'countDuplicate', 'setRegionAccumulation', 'insertFrame', 'rewind',
   'commitProcessed', 'recordRefusal', 'markWatchedFile', 'removeFrame', 'removeRegion', 'renameRegion',
   'resetRegion', 'choreDone',
 ] as const;

@@ -13,7 +13,7 @@ import type { Frame } from '../../core/frame.js';
 import type { FluxKernelCache } from '../../core/fluxKernel.js';
 import type { Grid } from '../../core/grid.js';
 import { InputError } from '../../core/inputError.js';
-import { rateSample } from '../../core/rateSample.js';
+import { measureRate } from '../../core/measureRate.js';
 import { CM_PER_MM, KM_PER_MM } from '../../core/units.js';
 import type { DemoComponent } from './demoScenario.js';
 import { SCENARIO_HOURS, demoComponents } from './demoScenario.js';
@@ -229,7 +229,7 @@ export function demoRegion(options: DemoOptions = {}): DemoRegion {
     check(i);
     let t = truths.get(i);
     if (!t) {
-      const { sample } = rateSample({ frame: cleanFrameAt(i), noiseG: 0, cache });
+      const { sample } = measureRate({ frame: cleanFrameAt(i), noiseG: 0, cache });
       t = { time: sample.time, total: sample.total, spin: sample.spin, orbit: sample.orbit, background: sample.background };
       truths.set(i, t);
     }

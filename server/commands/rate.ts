@@ -19,7 +19,7 @@ import { framePatchCentre, meanCentre } from '../../core/frameAssembly/wcs.js';
 import { footpointReport } from '../../core/footpoints/footpointReport.js';
 import { InputError } from '../../core/inputError.js';
 import type { RateSample } from '../../core/rateSample.js';
-import { rateSample } from '../../core/rateSample.js';
+import { measureRate } from '../../core/measureRate.js';
 import type { VelocityMethod } from '../../core/velocity/velocitySettings.js';
 import { DEFAULT_VELOCITY_SETTINGS } from '../../core/velocity/velocitySettings.js';
 import { readBatchConfig } from '../../replay/batchConfig.js';
@@ -138,7 +138,7 @@ export async function rateCommand(args: ParsedArgs, out: NodeJS.WritableStream):
     const labels = labelsOption === 'none' ? null
       : labelsOption === 'from-file' ? frame.labels ?? null
         : await labelsFromFile(frame, labelsOption, file);
-    const r = rateSample({ frame, labels, ...(settings.noiseG !== undefined && { noiseG: settings.noiseG }) });
+    const r = measureRate({ frame, labels, ...(settings.noiseG !== undefined && { noiseG: settings.noiseG }) });
     const result = { ...sampleJson(r.sample, framePatchCentre(frame)), sample_frames: [file] } as Record<string, unknown>;
     if (args.boolean('footpoints') && r.split) {
       const k = r.split.ids.length;

@@ -4,7 +4,7 @@
 import { mergeAssemblySettings } from '../../core/frameAssembly/componentLayouts.js';
 import { readBatchConfig } from '../../replay/batchConfig.js';
 import { openArchive } from '../../replay/archiveSource.js';
-import type { ReplayStart } from '../replayFeeds.js';
+import type { ReplayStart } from '../replayRegistry.js';
 import { serve } from '../serve.js';
 import type { CommandSpec, ParsedArgs } from './args.js';
 import { COMPONENT_OPTIONS, componentSettingsFrom } from './componentOptions.js';

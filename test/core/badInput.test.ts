@@ -6,7 +6,7 @@ import { parseFrameJson } from '../../core/frameJson.js';
 import { fluxTransport } from '../../core/fluxTransport.js';
 import { helicityFlux } from '../../core/helicityFlux.js';
 import { InputError } from '../../core/inputError.js';
-import { rateSample } from '../../core/rateSample.js';
+import { measureRate } from '../../core/measureRate.js';
 
 const base = { time: '2026-03-14T06:00:00Z', nx: 3, ny: 2, dx: 0.5, dy: 0.5, bn: [1, 2, 3, 4, 5, 6], vx: [0, 0, 0, 0, 0, 0], vy: [1, 0, 0, 0, 0, 1] };
 const parse = (o: unknown) => parseFrameJson(JSON.stringify(o), 'f.json');
@@ -59,7 +59,7 @@ describe('partially NaN maps', () => {
     const rz = helicityFlux(createFluxKernel(z), fluxTransport(z));
     expect(r.total).toBeCloseTo(rz.total, 0);
     expect(Math.abs(r.total - rz.total) / Math.abs(rz.total)).toBeLessThan(1e-12);
-    const s = rateSample({ frame: f, noiseG: 5 });
+    const s = measureRate({ frame: f, noiseG: 5 });
     expect(s.sample.flags).toContain('masked-pixels');
     expect(Number.isFinite(s.sample.sigmaTotal)).toBe(true);
   });

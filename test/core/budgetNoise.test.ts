@@ -6,7 +6,7 @@ import { describe, expect, it } from 'vitest';
 import { accumulateBudget, emptyBudget } from '../../core/budget.js';
 import type { FluxKernelCache } from '../../core/fluxKernel.js';
 import type { Frame } from '../../core/frame.js';
-import { rateSample } from '../../core/rateSample.js';
+import { measureRate } from '../../core/measureRate.js';
 import { seededNormal } from '../support/random.js';
 import { spotFrame } from '../support/scenes.js';
 
@@ -40,7 +40,7 @@ describe('rate and budget uncertainty against noise realisations', () => {
     const totals: number[] = [];
     const reported: number[] = [];
     for (let k = 0; k < REALISATIONS; k++) {
-      const s = rateSample({ frame: noisy(clean, normal), noiseG: NOISE_G, cache }).sample;
+      const s = measureRate({ frame: noisy(clean, normal), noiseG: NOISE_G, cache }).sample;
       totals.push(s.total);
       reported.push(s.sigmaTotal);
     }
@@ -50,10 +50,10 @@ describe('rate and budget uncertainty against noise realisations', () => {
     console.log(`rate sigma: reported ${meanReported.toExponential(3)}, scatter ${scatter.toExponential(3)}`);
     // The noise moves the rate visibly (every pixel carries a velocity in this scene, so the
     // noise far from the spots injects too): the check is not one of two tiny numbers.
-    const cleanRate = rateSample({ frame: clean, cache }).sample.total;
+    const cleanRate = measureRate({ frame: clean, cache }).sample.total;
     expect(scatter / Math.abs(cleanRate)).toBeGreaterThan(1e-2);
     // The noise level the core estimates from the frame itself (no noiseG given) is close to 15 G.
-    const est = rateSample({ frame: noisy(clean, normal), cache }).sample.noiseG;
+    const est = measureRate({ frame: noisy(clean, normal), cache }).sample.noiseG;
     expect(Math.abs(est - NOISE_G) / NOISE_G).toBeLessThan(0.1);
   });
 
@@ -68,7 +68,7 @@ describe('rate and budget uncertainty against noise realisations', () => {
       let st = emptyBudget();
       let last = 0;
       for (const f of clean) {
-        const r = accumulateBudget(st, rateSample({ frame: noisy(f, normal), noiseG: NOISE_G, cache }).sample);
+        const r = accumulateBudget(st, measureRate({ frame: noisy(f, normal), noiseG: NOISE_G, cache }).sample);
         st = r.state;
         last = r.point.values.total;
         reported = r.point.sigmaTotal;

@@ -4,7 +4,8 @@
 // adds 2 sigma phi(3) = 0.00886 sigma per pixel (phi the standard normal density), against 0.798
 // sigma per pixel with no floor.
 import { describe, expect, it } from 'vitest';
-import { UNSIGNED_FLUX_FLOOR_NOISE, rateSample, unsignedFlux } from '../../core/rateSample.js';
+import { UNSIGNED_FLUX_FLOOR_NOISE, unsignedFlux } from '../../core/rateSample.js';
+import { measureRate } from '../../core/measureRate.js';
 import { pixelAreaCm2 } from '../../core/units.js';
 import { seededNormal } from '../support/random.js';
 import { spotFrame } from '../support/scenes.js';
@@ -14,7 +15,7 @@ describe('unsigned flux', () => {
     const d = 0.36, s = 3 * d, noiseG = 5;
     const f = spotFrame(96, 64, d, [{ x: 30 * d, y: 32 * d, peak: 2000, sigma: s }, { x: 66 * d, y: 32 * d, peak: -1500, sigma: s }]);
     const floor = UNSIGNED_FLUX_FLOOR_NOISE * noiseG;
-    const r = rateSample({ frame: f, labels: null, noiseG });
+    const r = measureRate({ frame: f, labels: null, noiseG });
     const sCm = s * 1e8;
     const truth = 2 * Math.PI * sCm * sCm * ((2000 - floor) + (1500 - floor));
     // The floor's edge is a ring of about 2 pi R pixels, each counted whole or not: at most f per
@@ -32,7 +33,7 @@ describe('unsigned flux', () => {
     const bn = new Float64Array(n * n).map(() => sigma * rnd());
     bn[5] = NaN;
     // The noise level given (the estimator's own error is not what this checks).
-    const r = rateSample({ frame: { time: 0, nx: n, ny: n, dx: d, dy: d, bn, vx: new Float64Array(n * n), vy: new Float64Array(n * n) }, labels: null, noiseG: sigma });
+    const r = measureRate({ frame: { time: 0, nx: n, ny: n, dx: d, dy: d, bn, vx: new Float64Array(n * n), vy: new Float64Array(n * n) }, labels: null, noiseG: sigma });
     const perPixel = r.sample.unsignedFlux! / (pixelAreaCm2(d, d) * (n * n - 1) * sigma);
     // Per-pixel variance of |n| above 3 sigma is 2 (3 phi(3) + Q(3)) sigma^2 = 0.0293 sigma^2: the
     // mean over 65535 pixels scatters by 0.00067 sigma; four of those.

@@ -3,7 +3,7 @@
 import { describe, expect, it } from 'vitest';
 import { demoRegion } from '../../replay/demo/demoRegion.js';
 import { SCENARIO_HOURS } from '../../replay/demo/demoScenario.js';
-import { rateSample } from '../../core/rateSample.js';
+import { measureRate } from '../../core/measureRate.js';
 import { CM_PER_MM, KM_PER_MM } from '../../core/units.js';
 
 describe('demo region', () => {
@@ -74,7 +74,7 @@ describe('demo region', () => {
     const d = demoRegion({ frames: 145 });
     const i = 52; // 26 h: the turn is at its fastest
     const c = d.cleanFrameAt(i);
-    const r = rateSample({ frame: c, noiseG: 0 });
+    const r = measureRate({ frame: c, noiseG: 0 });
     let phi = 0;
     for (let k = 0; k < c.bn.length; k++) if (c.labels![k] === 1) phi += c.bn[k] * c.dx * c.dy * CM_PER_MM * CM_PER_MM;
     const omega = d.componentsAt(i)[0].omega / d.secondsPerStoryHour;

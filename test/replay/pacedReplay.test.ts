@@ -8,7 +8,7 @@ import { frameToJson } from '../../core/frameJson.js';
 import { openArchive } from '../../replay/archiveSource.js';
 import { demoRegion } from '../../replay/demo/demoRegion.js';
 import type { PacingClock } from '../../replay/pacing.js';
-import { startReplay } from '../../replay/replaySession.js';
+import { startReplay } from '../../replay/pacedReplay.js';
 
 class FakeClock implements PacingClock {
   t = 0;
@@ -56,7 +56,7 @@ describe('replay session', () => {
 
   it('plays any source of timed frames, from a given start (a replay resumed after a restart)', async () => {
     const clock = new FakeClock();
-    // A source that is not a folder: frame i is just its index (the shape server/replayFeed.ts uses).
+    // A source that is not a folder: frame i is just its index (the shape server/regionReplay.ts uses).
     const times = [0, 60_000, 180_000, 240_000];
     const source = { entries: times.map((time) => ({ time })), frame: async (i: number) => ({ i }) };
     const got: [number, number][] = [];

@@ -9,7 +9,7 @@ import { describe, expect, it } from 'vitest';
 import { analyseFrame } from '../../core/frameAnalysis.js';
 import type { Frame } from '../../core/frame.js';
 import { ComputePool } from '../../server/computePool.js';
-import { encodeFrame } from '../../server/mapFile.js';
+import { encodeFrame } from '../../server/frameBlob.js';
 import { circlingFrame, irregularTimes, tempDir } from './support.js';
 
 const noVelocity = (f: Frame): Frame => ({ ...f, vx: undefined, vy: undefined, labels: undefined });

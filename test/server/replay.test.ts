@@ -1,10 +1,10 @@
-// Replays into the live monitor (server/replayFeed.ts, server/replayFeeds.ts).
+// Replays into the live monitor (server/regionReplay.ts, server/replayRegistry.ts).
 // Sources of the expectations:
 // - "same samples as the batch": replay/processCommand.ts (processFolder) over the same folder is
 //   the reference; both run core analyseFrame and core/budget.ts, so rates and budgets agree to
 //   1e-9 relative (rounding only).
 // - the controls: docs/api.md (POST /api/regions/:region/replay) and the seek rules written at the
-//   top of server/replayFeed.ts: seeking back re-sends stored frames, counted as duplicates;
+//   top of server/regionReplay.ts: seeking back re-sends stored frames, counted as duplicates;
 //   seeking forward skips frames, and the budget marks a gap (core/budget.ts: an interval longer
 //   than 3 median cadences).
 // - a stored region replayed with other settings: the replayed region's samples carry the new

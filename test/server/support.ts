@@ -38,12 +38,23 @@ export function frameBody(frame: Frame): string {
   return JSON.stringify(frameToJson(frame));
 }
 
-export async function postFrame(url: string, region: string, body: string | Buffer, opts: { token?: string | null; type?: string } = {}) {
+/**
+ * Posts a frame as a sender that honours back-pressure: a 503 (the region's queue is at its bound,
+ * which depends on how fast this shared machine processes) is sent again until taken, within
+ * `heldBackMs`; `{ heldBack: 'answer' }` returns the 503 itself, for tests of the bound.
+ */
+export async function postFrame(url: string, region: string, body: string | Buffer, opts: { token?: string | null; type?: string; heldBack?: 'resend' | 'answer'; heldBackMs?: number } = {}) {
   const headers: Record<string, string> = { 'content-type': opts.type ?? 'application/json' };
   const token = opts.token === undefined ? TOKEN : opts.token;
   if (token !== null) headers.authorization = `Bearer ${token}`;
-  const r = await fetch(`${url}/api/regions/${region}/frames`, { method: 'POST', headers, body });
-  return { status: r.status, body: (await r.json()) as Record<string, unknown> };
+  const end = Date.now() + (opts.heldBackMs ?? 120_000);
+  for (;;) {
+    const r = await fetch(`${url}/api/regions/${region}/frames`, { method: 'POST', headers, body });
+    const answer = { status: r.status, body: (await r.json()) as Record<string, unknown> };
+    if (r.status !== 503 || opts.heldBack === 'answer' || answer.body.field === '(server)') return answer;
+    if (Date.now() > end) throw new Error(`${region}: the frame was held back (503) for more than ${opts.heldBackMs ?? 120_000} ms`);
+    await new Promise((res) => setTimeout(res, 100));
+  }
 }
 
 export async function getJson<T = Record<string, unknown>>(url: string, path: string, token?: string): Promise<T> {

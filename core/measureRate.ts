@@ -1,0 +1,118 @@
+// One rate measurement from one frame with its velocity: the composition of the engine's steps
+// (flux transport, G_theta and G_A, the label split, emergence and shear with vector data, the
+// noise uncertainty). Pure: everything it needs comes in, the kernel cache is the caller's.
+//
+//   const { sample, split, gTheta } = measureRate({ frame, labels, noiseG: 8 });
+
+import type { FluxKernelCache } from './fluxKernel.js';
+import { fluxKernelFor } from './fluxKernel.js';
+import type { Frame } from './frame.js';
+import { hasVectorData } from './frame.js';
+import type { VelocityMaps } from './fluxTransport.js';
+import type { PatchCentre } from './frameAssembly/wcs.js';
+import { fluxTransport } from './fluxTransport.js';
+import { convolveTransport, helicityFluxFromConvolutions } from './helicityFlux.js';
+import type { LabelSplit } from './labelSplit.js';
+import { splitByLabels } from './labelSplit.js';
+import { emergenceShear, emergenceTerm } from './emergenceShear.js';
+import { estimateNoiseLevel } from './noiseLevel.js';
+import { rateSigmaFromNoise } from './rateUncertainty.js';
+import type { MotionCovariance } from './motionUncertainty.js';
+import { rateSigmaFromMotions } from './motionUncertainty.js';
+import type { RateSample } from './rateSample.js';
+import { UNSIGNED_FLUX_FLOOR_NOISE, unsignedFlux } from './rateSample.js';
+
+export interface RateInput {
+  readonly frame: Frame;
+  /** Velocity when not carried by the frame (inferred between frames). */
+  readonly velocity?: VelocityMaps;
+  readonly velocityMethod?: string;
+  /** Footpoint labels; the frame's own labels when undefined; null for none. */
+  readonly labels?: Int32Array | null;
+  /** Sample time and interval when the velocity spans a frame pair. */
+  readonly time?: number;
+  readonly dtS?: number;
+  /** Noise of bn in G; estimated from the frame when not given. */
+  readonly noiseG?: number;
+  readonly cache?: FluxKernelCache;
+  /** Errors of the footpoint motions the velocity was built from (for the uncertainty). */
+  readonly motions?: ReadonlyMap<number, MotionCovariance>;
+  /** The frames those motions were measured between, UTC ms. */
+  readonly motionFrom?: number;
+  readonly motionTo?: number;
+  /**
+   * Normal plasma velocity (km/s) when `velocity` is the footpoint velocity u of vector data: the
+   * emergence term comes from it and the horizontal field, the shear term is the rest of the total.
+   */
+  readonly normalVelocity?: Float64Array;
+  /** The patch centre of the sample (core/frameAssembly/wcs.ts), passed through. */
+  readonly centre?: PatchCentre;
+  /** Quality flags to add (e.g. from the velocity model). */
+  readonly flags?: readonly string[];
+}
+
+export interface RateMeasurement {
+  readonly sample: RateSample;
+  readonly split?: LabelSplit;
+  /** G_theta density, Mx^2 cm^-2 s^-1, NaN where no data. */
+  readonly gTheta: Float64Array;
+  /** The flux transport the rate was computed from (for the footpoints' motions). */
+  readonly transport: ReturnType<typeof fluxTransport>;
+}
+
+export function measureRate(input: RateInput): RateMeasurement {
+  const { frame } = input;
+  const kernel = fluxKernelFor(frame, input.cache);
+  const t = fluxTransport(frame, input.velocity);
+  const conv = convolveTransport(kernel, t);
+  const flux = helicityFluxFromConvolutions(kernel, t, conv);
+  const flags: string[] = [...(input.flags ?? [])];
+  if (flux.maskedFraction > 0) flags.push('masked-pixels');
+  const labels = input.labels === undefined ? frame.labels : input.labels ?? undefined;
+  let split: LabelSplit | undefined;
+  if (labels) {
+    split = splitByLabels(kernel, t, labels, { total: flux.total, ...(input.cache && { cache: input.cache }) });
+    if (split.ids.length === 0) { flags.push('no-footpoints'); split = undefined; }
+  } else {
+    flags.push('no-footpoints');
+  }
+  const vector = input.velocity ? (input.velocity.vz !== undefined && frame.bx !== undefined) : hasVectorData(frame);
+  let es: { emergence: number; shear: number } | undefined;
+  if (vector) {
+    es = emergenceShear({ ...frame, vx: input.velocity?.vx ?? frame.vx, vy: input.velocity?.vy ?? frame.vy, vz: input.velocity?.vz ?? frame.vz }, flux.apx, flux.apy);
+  } else if (input.normalVelocity && frame.bx && frame.by) {
+    const emergence = emergenceTerm(flux.apx, flux.apy, frame.bx, frame.by, input.normalVelocity, frame.dx, frame.dy);
+    es = { emergence, shear: flux.total - emergence };
+  }
+  const noiseG = input.noiseG ?? estimateNoiseLevel(frame.bn).sigma;
+  // The uncertainty needs u itself; where the flux transport is Bn u with u given, use it.
+  const ux = input.velocity?.vx ?? frame.vx!;
+  const uy = input.velocity?.vy ?? frame.vy!;
+  const sigmaNoise = rateSigmaFromNoise(conv, ux, uy, t.valid, Number.isFinite(noiseG) ? noiseG : 0, frame.dx, frame.dy);
+  const motion = input.motions && labels
+    ? rateSigmaFromMotions(t, conv, labels, input.motions, frame, kernel)
+    : { total: 0, spin: 0, orbit: 0 };
+  const sample: RateSample = {
+    time: input.time ?? frame.time,
+    dtS: input.dtS ?? 0,
+    total: flux.total,
+    totalGa: flux.totalGa,
+    spin: split?.spinTotal ?? 0,
+    orbit: split?.orbitTotal ?? 0,
+    background: split?.background ?? flux.total,
+    ...(es && { emergence: es.emergence, shear: es.shear }),
+    sigmaTotal: Math.hypot(sigmaNoise, motion.total),
+    sigmaSpin: motion.spin,
+    sigmaOrbit: motion.orbit,
+    sigmaMotion: motion.total,
+    ...(input.motions && input.motionFrom !== undefined && input.motionTo !== undefined && { motionFrom: input.motionFrom, motionTo: input.motionTo }),
+    noiseG,
+    unsignedFlux: unsignedFlux(frame.bn, frame.dx, frame.dy, Number.isFinite(noiseG) && noiseG > 0 ? UNSIGNED_FLUX_FLOOR_NOISE * noiseG : 0),
+    velocityMethod: input.velocityMethod ?? 'given',
+    splitMethod: split ? 'labels' : 'none',
+    maskedFraction: flux.maskedFraction,
+    flags,
+    ...(input.centre && { centre: input.centre }),
+  };
+  return { sample, ...(split && { split }), gTheta: flux.gTheta, transport: t };
+}

@@ -1,0 +1,28 @@
+// Stage "broadcast": a committed frame is announced to the region's viewers: the frame, its
+// series row, the alert changes it made (each also to the log and the webhook), the region's
+// status; then whoever listens for processed frames (tests, the benchmark) hears of it.
+//
+//   committed$.pipe(broadcastFrames({ region: 'ar1', send, announce, status, processed }))
+
+import type { MonoTypeOperatorFunction } from 'rxjs';
+import { tap } from 'rxjs';
+import type { AlertChange, AlertRecord } from '../../core/alerts/alertState.js';
+import type { AccumulatedFrame } from './frameWork.js';
+
+export interface BroadcastDeps {
+  readonly region: string;
+  readonly send: (message: unknown) => void;
+  readonly announce: (alert: AlertRecord, change: AlertChange) => void;
+  readonly status: () => unknown;
+  readonly processed?: (frameId: number) => void;
+}
+
+export function broadcastFrames(deps: BroadcastDeps): MonoTypeOperatorFunction<AccumulatedFrame> {
+  return tap((a) => {
+    deps.send({ type: 'frame', frame_id: a.frame.id, time: new Date(a.frame.time).toISOString() });
+    if (a.row) deps.send({ type: 'sample', sample: a.row });
+    for (const ch of a.changes) deps.announce(ch.alert, ch.change);
+    deps.send({ type: 'status', status: deps.status() });
+    deps.processed?.(a.frame.id);
+  });
+}
