@@ -99,7 +99,8 @@ export function seriesRow(sample: RateSample, point: BudgetPoint, frameId: numbe
   };
 }
 
-function csvCell(v: unknown): string {
+/** One CSV cell: empty for no value, lists joined by ";", quoted when it holds a comma, quote or line break. */
+export function csvCell(v: unknown): string {
   if (v === null || v === undefined) return '';
   if (Array.isArray(v)) return csvCell(v.join(';'));
   if (typeof v === 'number') return Number.isFinite(v) ? String(v) : '';

@@ -1,0 +1,164 @@
+// The survey folder and what it holds:
+//
+//   survey.json              the plan: regions (settings, frame counts, problems), tasks, time limit
+//   survey.sbatch            the Slurm batch script (a job array, one array task per task)
+//   regions/NAME.index.json  a region's ordered frames (file, time, grid) and the files set aside
+//   results/task-NNNNN.json  a task's result, written atomically: complete, or failed with the reason
+//   results/task-NNNNN.started   written when a task starts (host, job, time)
+//   logs/                    Slurm's output of each array task
+//   merged/                  what `survey merge` writes: survey.csv, survey.json, regions/NAME.csv|json
+//
+// Results are read back exactly (resultCodec.ts). Results are written temp + fsync + rename +
+// fsync of the folder, so a task killed at any moment leaves its result whole or absent.
+
+import { readFile } from 'node:fs/promises';
+import { join } from 'node:path';
+import { InputError } from '../../core/inputError.js';
+import type { ScannedFrame, SkippedFile } from '../archiveOrder.js';
+import { writeFileAtomic } from '../atomicFile.js';
+import type { BatchConfig } from '../batchConfig.js';
+import type { ChunkOutput } from '../chunkSeams.js';
+import { fileProblem } from '../fileProblem.js';
+import { decodeResult, encodeResult } from './resultCodec.js';
+import type { SurveyTask } from './taskPlan.js';
+
+export const PLAN_FORMAT = 'helicord survey plan 1';
+export const RESULT_FORMAT = 'helicord survey task result 1';
+
+export interface SurveyRegion {
+  readonly name: string;
+  /** The folder or pattern, as resolved (absolute). */
+  readonly frames: string;
+  /** The region's config file, when the manifest gave one. */
+  readonly config?: string;
+  /** The settings its tasks use (the config file's, the command line's components over them). */
+  readonly settings: BatchConfig;
+  /** SHA-256 of the settings in canonical JSON. */
+  readonly settingsDigest: string;
+  /** Usable frames (in the region's index). */
+  readonly frameCount: number;
+  /** Files set aside by the plan's scan. */
+  readonly skippedCount: number;
+  /** Why the region has no tasks (a missing or empty folder, no usable frame, a bad config). */
+  readonly problem?: string;
+}
+
+export interface SurveyPlan {
+  readonly format: typeof PLAN_FORMAT;
+  /** helicord version that made the plan. */
+  readonly version: string;
+  readonly created: string;
+  readonly manifest: string;
+  /** Time limit of one task, s (the batch script's --time; `run --local` keeps it too). */
+  readonly timeLimitS: number;
+  readonly chunkFrames: number;
+  readonly regions: readonly SurveyRegion[];
+  readonly tasks: readonly SurveyTask[];
+}
+
+export interface RegionIndex {
+  readonly region: string;
+  readonly entries: readonly ScannedFrame[];
+  readonly skipped: readonly SkippedFile[];
+  readonly reordered: readonly string[];
+}
+
+export interface TaskProvenance {
+  readonly version: string;
+  readonly settingsDigest: string;
+  readonly settings: BatchConfig;
+  /** Every file the task read (its primer frames too), with its SHA-256. */
+  readonly inputs: readonly { readonly file: string; readonly sha256: string }[];
+  readonly host: string;
+  readonly started: string;
+  readonly finished: string;
+  readonly workers: number;
+  /** SLURM_JOB_ID, SLURM_ARRAY_JOB_ID, SLURM_ARRAY_TASK_ID when run by Slurm. */
+  readonly slurm?: Record<string, string>;
+}
+
+export interface CompleteResult {
+  readonly format: typeof RESULT_FORMAT;
+  readonly status: 'complete';
+  readonly task: SurveyTask;
+  /** The first frame analysed (primer frames from..start-1 only prime the state). */
+  readonly primerFrom: number;
+  readonly provenance: TaskProvenance;
+  /** The task's chunks, raw (outcomes of its own frames, primer tables), in time order. */
+  readonly chunks: readonly ChunkOutput[];
+}
+
+export interface FailedResult {
+  readonly format: typeof RESULT_FORMAT;
+  readonly status: 'failed';
+  readonly task: SurveyTask;
+  /** Why, in words ("timed out after 62 s: the time limit is 00:01:00"). */
+  readonly reason: string;
+  readonly timedOut: boolean;
+  readonly version: string;
+  readonly host: string;
+  readonly time: string;
+}
+
+export type TaskResult = CompleteResult | FailedResult;
+
+export const planPath = (dir: string) => join(dir, 'survey.json');
+export const scriptPath = (dir: string) => join(dir, 'survey.sbatch');
+export const regionIndexPath = (dir: string, region: string) => join(dir, 'regions', `${region}.index.json`);
+export const resultPath = (dir: string, id: number) => join(dir, 'results', `task-${String(id).padStart(5, '0')}.json`);
+export const startedPath = (dir: string, id: number) => join(dir, 'results', `task-${String(id).padStart(5, '0')}.started`);
+export const mergedDir = (dir: string) => join(dir, 'merged');
+
+async function readText(path: string, what: string): Promise<string> {
+  try {
+    return await readFile(path, 'utf8');
+  } catch (e) {
+    throw new InputError(path, what, fileProblem(e));
+  }
+}
+
+export async function readPlan(dir: string): Promise<SurveyPlan> {
+  const text = await readText(planPath(dir), '(file)');
+  let plan: SurveyPlan;
+  try {
+    plan = JSON.parse(text) as SurveyPlan;
+  } catch (e) {
+    throw new InputError(planPath(dir), '(file)', `cannot be read as JSON: ${(e as Error).message}`);
+  }
+  if (plan.format !== PLAN_FORMAT) throw new InputError(planPath(dir), 'format', `is not a helicord survey plan (format ${JSON.stringify(plan.format)})`);
+  return plan;
+}
+
+export async function readRegionIndex(dir: string, region: string): Promise<RegionIndex> {
+  return JSON.parse(await readText(regionIndexPath(dir, region), '(file)')) as RegionIndex;
+}
+
+/** A task's result, or undefined when it has none (an unreadable one is a failure to redo). */
+export async function readResult(dir: string, id: number): Promise<TaskResult | undefined> {
+  let text: string;
+  try {
+    text = await readFile(resultPath(dir, id), 'utf8');
+  } catch (e) {
+    if ((e as NodeJS.ErrnoException).code === 'ENOENT') return undefined;
+    throw new InputError(resultPath(dir, id), '(file)', fileProblem(e));
+  }
+  const r = decodeResult(text) as TaskResult;
+  if (r.format !== RESULT_FORMAT) throw new InputError(resultPath(dir, id), 'format', `is not a helicord survey task result (format ${JSON.stringify(r.format)})`);
+  return r;
+}
+
+export async function isComplete(dir: string, id: number): Promise<boolean> {
+  try {
+    return (await readResult(dir, id))?.status === 'complete';
+  } catch {
+    return false;
+  }
+}
+
+export function writeResult(dir: string, result: TaskResult): Promise<void> {
+  return writeFileAtomic(resultPath(dir, result.task.id), encodeResult(result));
+}
+
+export function writeJson(path: string, value: unknown): Promise<void> {
+  return writeFileAtomic(path, JSON.stringify(value, null, 2) + '\n');
+}
