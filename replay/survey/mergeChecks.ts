@@ -36,6 +36,7 @@ export function regionCoverage(frameCount: number, results: readonly CompleteRes
     for (const chunk of r.chunks) {
       for (const o of chunk.outcomes) {
         if (o.index < r.task.start || o.index >= r.task.end) return `task ${r.task.id} reports frame ${o.index}, outside its frames ${r.task.start}-${r.task.end - 1}`;
+        if (owner[o.index] === r.task.id) return `frame ${o.index} (${o.file}) is reported twice by task ${r.task.id}`;
         if (owner[o.index] !== -1) return `frame ${o.index} (${o.file}) is in the results of tasks ${owner[o.index]} and ${r.task.id}`;
         owner[o.index] = r.task.id;
       }

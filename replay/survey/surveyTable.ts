@@ -28,6 +28,7 @@ export interface ThresholdCrossing {
 export interface SurveyRow {
   readonly region: string;
   readonly status: RegionStatus;
+  /** Why the region has no result, or the files it skipped and why (status ok). */
   readonly problem: string | null;
   /** Usable frames found by the plan's scan. */
   readonly frames_planned: number;
@@ -69,8 +70,11 @@ export function regionRow(region: string, planned: number, a: ArchiveSeries): Su
     .filter((rec) => !DATA_RULES.has(rec.rule))
     .flatMap((rec) => rec.history.filter((h) => h.to === 'raised').map((h) => ({ rule: rec.rule, time: h.time, threshold: rec.threshold, unit: rec.unit })))
     .sort((p, q) => (p.time < q.time ? -1 : p.time > q.time ? 1 : 0));
+  const shown = a.skipped.slice(0, 3).map((f) => `${f.file}: ${f.reason}`);
+  const problem = a.skipped.length === 0 ? null
+    : `skipped ${a.skipped.length} file(s): ${shown.join('; ')}${a.skipped.length > shown.length ? `; and ${a.skipped.length - shown.length} more (in the region's JSON)` : ''}`;
   return {
-    region, status: 'ok', problem: null, frames_planned: planned, frames_used: a.used, frames_skipped: a.skipped.length, samples: rows.length,
+    region, status: 'ok', problem, frames_planned: planned, frames_used: a.used, frames_skipped: a.skipped.length, samples: rows.length,
     gaps: a.series.state.budget.gaps.length, first_time: rows[0]?.time ?? null, last_time: last?.time ?? null,
     peak_rate: peak?.rate_total ?? null, peak_rate_sigma: peak?.sigma_rate_total ?? null, peak_rate_time: peak?.time ?? null,
     budget_total: last?.budget_total ?? null, budget_sigma: last?.sigma_budget_total ?? null,

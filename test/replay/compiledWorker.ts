@@ -37,3 +37,19 @@ export function ensureCompiledWorker(): void {
   }
   if (!existsSync(worker)) throw new Error('could not compile the batch worker into dist/');
 }
+
+/**
+ * The whole command line compiled (for tests that start `bin/helicord.js` as a process, e.g. a
+ * Slurm job): dist/server/cli.js not older than the sources it imports, else `tsc -p tsconfig.json`.
+ */
+export function ensureCompiledCli(): void {
+  ensureCompiledWorker();
+  const cli = join(root, 'dist', 'server', 'cli.js');
+  if (existsSync(cli) && statSync(cli).mtimeMs >= newestInClosure(join(root, 'server', 'cli.ts'))) return;
+  try {
+    execFileSync(join(root, 'node_modules', '.bin', 'tsc'), ['-p', join(root, 'tsconfig.json')], { cwd: root, stdio: 'pipe' });
+  } catch {
+    // Type errors of files being written by others: tsc still emits; check the output.
+  }
+  if (!existsSync(cli)) throw new Error('could not compile the command line into dist/');
+}
