@@ -37,6 +37,8 @@ export function patchGrid(lonDeg: number, latDeg: number, sizeDeg: number, n: nu
 }
 
 const D2R = Math.PI / 180;
+/** Carrington's sidereal rate, microrad/s (14.1844 deg/day). */
+const CARRINGTON = (14.1844 * D2R) / 86400 * 1e6;
 
 /** Angle between two points, radians. */
 export function angleBetween(lon1: number, lat1: number, lon2: number, lat2: number): number {
@@ -80,4 +82,69 @@ export function spotScene(grid: SphericalGrid, spots: readonly SphereSpot[], bal
     for (let i = 0; i < n; i++) bn[i] -= flux / area;
   }
   return { bn, vx, vy, labels };
+}
+
+/**
+ * Velocity of a turning of the sphere about the axis through (lonDeg, latDeg) at omega rad/s
+ * (counter-clockwise seen from the corona above that point), within `radiusDeg` of it: vx east, vy north, km/s.
+ */
+export function turnAbout(grid: SphericalGrid, lonDeg: number, latDeg: number, omega: number, radiusDeg = 180) {
+  const n = grid.nx * grid.ny;
+  const vx = new Float64Array(n), vy = new Float64Array(n);
+  const rKm = grid.radiusMm * 1e3;
+  const c = [Math.cos(latDeg * D2R) * Math.cos(lonDeg * D2R), Math.cos(latDeg * D2R) * Math.sin(lonDeg * D2R), Math.sin(latDeg * D2R)];
+  for (let i = 0; i < n; i++) {
+    if (angleBetween(grid.lonDeg[i], grid.latDeg[i], lonDeg, latDeg) > radiusDeg * D2R) continue;
+    const lat = grid.latDeg[i] * D2R, lon = grid.lonDeg[i] * D2R;
+    const x = [Math.cos(lat) * Math.cos(lon), Math.cos(lat) * Math.sin(lon), Math.sin(lat)];
+    const v = [c[1] * x[2] - c[2] * x[1], c[2] * x[0] - c[0] * x[2], c[0] * x[1] - c[1] * x[0]];
+    vx[i] = omega * rKm * (-Math.sin(lon) * v[0] + Math.cos(lon) * v[1]);
+    vy[i] = omega * rKm * (-Math.sin(lat) * Math.cos(lon) * v[0] - Math.sin(lat) * Math.sin(lon) * v[1] + Math.cos(lat) * v[2]);
+  }
+  return { vx, vy };
+}
+
+/** The three patch scenes of the planar-error table (docs/sphere.md), scaled with the patch size `s` (degrees). */
+export function patchScene(grid: SphericalGrid, kind: 'orbit' | 'spin' | 'rotation', lon: number, lat: number, s: number) {
+  const n = grid.nx * grid.ny;
+  if (kind === 'orbit') {
+    // Two opposite spots 0.4 s apart, each carried without turning (its centre's velocity over the
+    // whole spot) as if they circled the patch centre at 2 microrad/s.
+    const spots = [
+      { lonDeg: lon - 0.14 * s, latDeg: lat - 0.14 * s, peak: 1000, sigmaDeg: 0.05 * s },
+      { lonDeg: lon + 0.14 * s, latDeg: lat + 0.14 * s, peak: -800, sigmaDeg: 0.06 * s },
+    ];
+    const sc = spotScene(grid, spots);
+    const turn = turnAbout(grid, lon, lat, 2e-6);
+    const vx = new Float64Array(n), vy = new Float64Array(n);
+    for (const p of spots) {
+      let best = Infinity, at = 0;
+      for (let i = 0; i < n; i++) {
+        const d = angleBetween(grid.lonDeg[i], grid.latDeg[i], p.lonDeg, p.latDeg);
+        if (d < best) { best = d; at = i; }
+      }
+      for (let i = 0; i < n; i++) {
+        if (angleBetween(grid.lonDeg[i], grid.latDeg[i], p.lonDeg, p.latDeg) < 4 * p.sigmaDeg * D2R) { vx[i] = turn.vx[at]; vy[i] = turn.vy[at]; }
+      }
+    }
+    return { bn: sc.bn, vx, vy };
+  }
+  if (kind === 'spin') {
+    const sc = spotScene(grid, [
+      { lonDeg: lon - 0.1 * s, latDeg: lat, peak: 1200, sigmaDeg: 0.08 * s, omega: 3e-6 },
+      { lonDeg: lon + 0.2 * s, latDeg: lat + 0.1 * s, peak: -700, sigmaDeg: 0.06 * s },
+    ]);
+    return { bn: sc.bn, vx: sc.vx, vy: sc.vy };
+  }
+  // A bipole whose spots sit 0.3 s apart in latitude, moved by the Howard profile in Carrington's frame.
+  const sc = spotScene(grid, [
+    { lonDeg: lon - 0.05 * s, latDeg: lat - 0.15 * s, peak: 900, sigmaDeg: 0.06 * s },
+    { lonDeg: lon + 0.05 * s, latDeg: lat + 0.15 * s, peak: -900, sigmaDeg: 0.06 * s },
+  ]);
+  const vx = new Float64Array(n);
+  for (let i = 0; i < n; i++) {
+    const b = grid.latDeg[i] * D2R;
+    vx[i] = (2.894 - 0.428 * Math.sin(b) ** 2 - 0.370 * Math.sin(b) ** 4 - CARRINGTON) * 1e-6 * grid.radiusMm * 1e3 * Math.cos(b);
+  }
+  return { bn: sc.bn, vx, vy: new Float64Array(n) };
 }
