@@ -12,6 +12,7 @@ export const SERIES_COLUMNS = [
   'rate_total_ga', 'rate_emergence', 'rate_shear', 'sigma_rate_total', 'sigma_budget_total',
   'sigma_rate_spin', 'sigma_rate_orbit', 'velocity_method', 'split_method', 'noise_g', 'masked_fraction', 'flags', 'frame_id',
   'flux_unsigned', 'budget_normalised', 'centre_lon_deg', 'centre_lat_deg', 'centre_disk_angle_deg',
+  'braid_entropy_rate', 'braid_entropy_rate_run', 'braid_strands', 'braid_flagged_triples',
 ] as const;
 export type SeriesColumn = (typeof SERIES_COLUMNS)[number];
 
@@ -57,6 +58,16 @@ export interface SeriesRow {
   readonly centre_lon_deg: number | null;
   readonly centre_lat_deg: number | null;
   readonly centre_disk_angle_deg: number | null;
+  /**
+   * The braid of the largest footpoints (core/braid/, docs/braids.md): entropy per hour of the
+   * sliding window and of the whole run, the strands followed, and the window's triples braided
+   * with no net crossing of any pair (unseen by the pair budget). Filled by the batch and the
+   * monitor from core/braid/braidColumns.ts; absent (empty CSV cells) where the braid is not followed.
+   */
+  readonly braid_entropy_rate?: number | null;
+  readonly braid_entropy_rate_run?: number | null;
+  readonly braid_strands?: number | null;
+  readonly braid_flagged_triples?: number | null;
 }
 
 const finiteOrNull = (v: number | undefined): number | null => (v !== undefined && Number.isFinite(v) ? v : null);

@@ -7,6 +7,11 @@ import type { AccumulationSettings, AccumulationState } from '../core/accumulate
 import { accumulate, accumulateRefusal, emptyAccumulation, intervalsS, seriesCadenceS } from '../core/accumulate.js';
 import { alertRecords } from '../core/alerts/evaluateRules.js';
 import type { AlertChange } from '../core/alerts/alertState.js';
+import type { BraidReport, BraidSettings } from '../core/braid/braidTracker.js';
+import { braidStep, emptyBraidState } from '../core/braid/braidTracker.js';
+import { braidInputFromFootpoints } from '../core/braid/braidInput.js';
+import { braidColumns, braidReportJson } from '../core/braid/braidColumns.js';
+import type { FootpointReport } from '../core/footpoints/footpointReport.js';
 import type { PatchCentre } from '../core/frameAssembly/wcs.js';
 import type { RateSample } from '../core/rateSample.js';
 import type { SeriesRow } from '../core/seriesColumns.js';
@@ -32,10 +37,32 @@ export interface ArchiveSeries {
   /** Whatever else the analysis reported per frame (footpoints, events, notes). */
   readonly extras: { index: number; file: string; time?: number; extra: Record<string, unknown> }[];
   readonly series: SeriesResult;
+  /** The braid of the largest footpoints after each frame with footpoints (by frame index), and the last. */
+  readonly braid?: { readonly byIndex: ReadonlyMap<number, BraidReport>; readonly last?: BraidReport; readonly segments: readonly { time: number; reason: string; strands: readonly number[] }[] };
+}
+
+/** The braid fold (core/braid/braidTracker.ts) over the frames' footpoint reports in time order. */
+function archiveBraid(extras: ArchiveSeries['extras'], settings: BraidSettings = {}): NonNullable<ArchiveSeries['braid']> {
+  const byIndex = new Map<number, BraidReport>();
+  const segments: { time: number; reason: string; strands: readonly number[] }[] = [];
+  let state = emptyBraidState();
+  let last: BraidReport | undefined;
+  const reports = extras.map((e) => ({ index: e.index, fp: e.extra.footpoints as FootpointReport | undefined }))
+    .filter((e): e is { index: number; fp: FootpointReport & { footpoints: NonNullable<FootpointReport['footpoints']> } } => e.fp?.footpoints !== undefined)
+    .sort((a, b) => a.fp.time - b.fp.time);
+  for (const { index, fp } of reports) {
+    if (last && !(fp.time > last.time)) continue;
+    const step = braidStep(state, braidInputFromFootpoints(fp), settings);
+    state = step.state;
+    last = step.report;
+    byIndex.set(index, last);
+    if (last.segmentStarted !== null) segments.push({ time: last.time, reason: last.segmentStarted, strands: last.strands });
+  }
+  return { byIndex, ...(last && { last }), segments };
 }
 
 /** Budget, series rows and alerts from the samples in time order (refusals feed the data rules). */
-function buildSeries(samples: { sample: RateSample; index: number; file: string; centre?: PatchCentre }[], refusalTimes: number[], config: BatchConfig, cadenceS?: number): SeriesResult {
+function buildSeries(samples: { sample: RateSample; index: number; file: string; centre?: PatchCentre }[], refusalTimes: number[], config: BatchConfig, cadenceS?: number, braid?: ArchiveSeries['braid']): SeriesResult {
   let state = emptyAccumulation();
   const settings: AccumulationSettings = {
     budget: { ...(cadenceS !== undefined && { cadenceS }), ...config.budget },
@@ -59,7 +86,7 @@ function buildSeries(samples: { sample: RateSample; index: number; file: string;
     const step = accumulate(state, sample, settings, { frameId: index, centre });
     state = step.state;
     alertChanges.push(...step.changes.map((c) => c.change));
-    rows.push({ ...step.row, file });
+    rows.push({ ...step.row, ...(braid && braidColumns(braid.byIndex.get(index))), file });
   }
   return { rows, state, alertChanges };
 }
@@ -88,7 +115,8 @@ export function archiveSeries(index: Pick<ArchiveIndex, 'entries' | 'skipped'>, 
   samples.sort((a, b) => a.sample.time - b.sample.time);
   // The budget's gap rule starts from the archive's cadence until it has seen enough intervals.
   const cadenceS = seriesCadenceS(intervalsS(index.entries.map((e) => e.time)));
-  return { used, skipped, waiting, extras, series: buildSeries(samples, refusalTimes, config, cadenceS) };
+  const braid = archiveBraid(extras);
+  return { used, skipped, waiting, extras, series: buildSeries(samples, refusalTimes, config, cadenceS, braid), braid };
 }
 
 /** Times of footpoints and events (UTC ms in core) as ISO strings. */
@@ -127,5 +155,9 @@ export function archiveJson(folder: string, reordered: readonly string[], a: Arc
     ...(events.length > 0 && { events }),
     alerts: alertRecords(series.state.rules),
     alert_changes: series.alertChanges,
+    // The braid after the last frame (segment, window with its word and triples, run) and where segments began (docs/braids.md).
+    ...(a.braid?.last && {
+      braid: { ...braidReportJson(a.braid.last), segments: a.braid.segments.map((g) => ({ ...g, time: new Date(g.time).toISOString() })) },
+    }),
   };
 }
