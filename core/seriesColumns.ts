@@ -72,12 +72,11 @@ export interface SeriesRow {
 
 const finiteOrNull = (v: number | undefined): number | null => (v !== undefined && Number.isFinite(v) ? v : null);
 
-/**
- * The series row of one sample and the budget point it produced; `centre`, where the sample was
- * taken on the Sun, when the frames' headers say.
- */
-export function seriesRow(sample: RateSample, point: BudgetPoint, frameId: number | null = null, centre: PatchCentre | undefined = sample.centre): SeriesRow {
-  const flux = sample.unsignedFlux;
+/** The columns of a series row that come from the sample alone (what `helicord rate` prints). */
+export type SampleColumns = Omit<SeriesRow, 'budget_total' | 'budget_spin' | 'budget_orbit' | 'budget_background' | 'sigma_budget_total' | 'budget_normalised' | 'frame_id'>;
+
+/** The sample's own columns, spelled as in the series; `centre` where it was taken on the Sun. */
+export function sampleColumns(sample: RateSample, centre: PatchCentre | undefined = sample.centre): SampleColumns {
   return {
     time: new Date(sample.time).toISOString(),
     dt_s: sample.dtS,
@@ -85,15 +84,10 @@ export function seriesRow(sample: RateSample, point: BudgetPoint, frameId: numbe
     rate_spin: sample.spin,
     rate_orbit: sample.orbit,
     rate_background: sample.background,
-    budget_total: point.values.total,
-    budget_spin: point.values.spin,
-    budget_orbit: point.values.orbit,
-    budget_background: point.values.background,
     rate_total_ga: sample.totalGa,
     rate_emergence: finiteOrNull(sample.emergence),
     rate_shear: finiteOrNull(sample.shear),
     sigma_rate_total: sample.sigmaTotal,
-    sigma_budget_total: point.sigmaTotal,
     sigma_rate_spin: sample.sigmaSpin ?? 0,
     sigma_rate_orbit: sample.sigmaOrbit ?? 0,
     velocity_method: sample.velocityMethod,
@@ -101,12 +95,49 @@ export function seriesRow(sample: RateSample, point: BudgetPoint, frameId: numbe
     noise_g: finiteOrNull(sample.noiseG),
     masked_fraction: sample.maskedFraction,
     flags: [...sample.flags],
-    frame_id: frameId,
-    flux_unsigned: finiteOrNull(flux),
-    budget_normalised: flux !== undefined && flux > 0 ? finiteOrNull(point.values.total / (flux * flux)) : null,
+    flux_unsigned: finiteOrNull(sample.unsignedFlux),
     centre_lon_deg: finiteOrNull(centre?.lonDeg),
     centre_lat_deg: finiteOrNull(centre?.latDeg),
     centre_disk_angle_deg: finiteOrNull(centre?.diskAngleDeg),
+  };
+}
+
+/**
+ * The series row of one sample and the budget point it produced; `centre`, where the sample was
+ * taken on the Sun, when the frames' headers say.
+ */
+export function seriesRow(sample: RateSample, point: BudgetPoint, frameId: number | null = null, centre: PatchCentre | undefined = sample.centre): SeriesRow {
+  const flux = sample.unsignedFlux;
+  const own = sampleColumns(sample, centre);
+  return {
+    time: own.time,
+    dt_s: own.dt_s,
+    rate_total: own.rate_total,
+    rate_spin: own.rate_spin,
+    rate_orbit: own.rate_orbit,
+    rate_background: own.rate_background,
+    budget_total: point.values.total,
+    budget_spin: point.values.spin,
+    budget_orbit: point.values.orbit,
+    budget_background: point.values.background,
+    rate_total_ga: own.rate_total_ga,
+    rate_emergence: own.rate_emergence,
+    rate_shear: own.rate_shear,
+    sigma_rate_total: own.sigma_rate_total,
+    sigma_budget_total: point.sigmaTotal,
+    sigma_rate_spin: own.sigma_rate_spin,
+    sigma_rate_orbit: own.sigma_rate_orbit,
+    velocity_method: own.velocity_method,
+    split_method: own.split_method,
+    noise_g: own.noise_g,
+    masked_fraction: own.masked_fraction,
+    flags: own.flags,
+    frame_id: frameId,
+    flux_unsigned: own.flux_unsigned,
+    budget_normalised: flux !== undefined && flux > 0 ? finiteOrNull(point.values.total / (flux * flux)) : null,
+    centre_lon_deg: own.centre_lon_deg,
+    centre_lat_deg: own.centre_lat_deg,
+    centre_disk_angle_deg: own.centre_disk_angle_deg,
   };
 }
 

@@ -19,6 +19,9 @@ import { isDiskFull } from './diskFull.js';
 import type { HostPolicy } from './hostCheck.js';
 import { hostAllowed, originAllowed } from './hostCheck.js';
 import { decodeFrameBlob } from './frameBlob.js';
+import type { FootpointReport } from '../core/footpoints/footpointReport.js';
+import { footpointsForWire, tracksForWire } from '../core/wire/footpointWire.js';
+import { gapsForWire } from '../core/wire/gapWire.js';
 import type { Pipeline } from './pipeline.js';
 import type { RegionAdmin } from './regionAdmin.js';
 import { checkRegionName } from './regionName.js';
@@ -220,8 +223,7 @@ function seriesRoutes(ctx: ApiContext, h: ApiHelpers): express.Router {
     const name = existing(req, res);
     if (name === undefined) return;
     const from = timeParam(req, 'from', 0), to = timeParam(req, 'to', Number.MAX_SAFE_INTEGER);
-    const gaps = pipeline.accumulation(name).budget.gaps.filter((g) => g.to >= from && g.from <= to)
-      .map((g) => ({ from: iso(g.from), to: iso(g.to), bridged: g.bridged }));
+    const gaps = gapsForWire(pipeline.accumulation(name).budget.gaps, { from, to });
     res.json({ region: name, samples: store.samples(name, from, to), gaps });
   });
 
@@ -257,7 +259,7 @@ function seriesRoutes(ctx: ApiContext, h: ApiHelpers): express.Router {
   r.get('/export.json', (req, res) => {
     const name = existing(req, res);
     if (name === undefined) return;
-    const gaps = pipeline.accumulation(name).budget.gaps.map((g) => ({ from: iso(g.from), to: iso(g.to), bridged: g.bridged }));
+    const gaps = gapsForWire(pipeline.accumulation(name).budget.gaps);
     res.json({ region: name, columns: SERIES_COLUMNS, samples: store.samples(name), gaps });
   });
 
@@ -290,48 +292,14 @@ function frameRoutes(ctx: ApiContext, h: ApiHelpers): express.Router {
     res.json({ region: f.region, removed: r });
   });
 
-  // Footpoints of a frame in the shape of docs/api.md (the stored report of the analysis, its
-  // extra columns kept), with tracks: each footpoint id's centroids over the last 20 frames.
-  interface StoredReport {
-    footpoints?: Record<string, unknown>[];
-    pairMatrix?: { ids: number[]; orbitExact: (number | null)[][] | null; orbitPoint: (number | null)[][] };
-  }
-  const apiFootpoints = (stored: unknown): Record<string, unknown>[] => {
-    const r = (stored ?? {}) as StoredReport;
-    const rows = Array.isArray(r.footpoints) ? r.footpoints : [];
-    const ids = r.pairMatrix?.ids ?? [];
-    return rows.map((row) => {
-      const i = ids.indexOf(row.id as number);
-      const partners: { id: number; orbit: number }[] = [];
-      if (i >= 0 && r.pairMatrix) {
-        ids.forEach((other, j) => {
-          if (j === i) return;
-          const orbit = r.pairMatrix!.orbitExact?.[i]?.[j] ?? r.pairMatrix!.orbitPoint[i]?.[j] ?? null;
-          if (orbit !== null) partners.push({ id: other, orbit });
-        });
-        partners.sort((a, b) => Math.abs(b.orbit) - Math.abs(a.orbit));
-      }
-      return {
-        ...row,
-        omega_method: (row.omegaSource as string | null) ?? 'unobservable',
-        spin: (row.spinExact as number | null) ?? (row.spinPoint as number | null) ?? null,
-        spin_point: (row.spinPoint as number | null) ?? null,
-        partners,
-      };
-    });
-  };
+  // Footpoints of a frame in the wire's shape (core/wire/footpointWire.ts, docs/api.md), with
+  // tracks: each footpoint id's centroids over the last 20 frames.
   r.get('/frames/:id/footpoints', (req, res) => {
     const f = frameOf(req, res);
     if (!f) return;
     const { footpoints, events } = store.footpoints(f.id);
-    const tracks: Record<string, [number, number][]> = {};
-    for (const stored of store.recentFootpoints(f.region, f.time, 20)) {
-      for (const fp of ((stored ?? {}) as StoredReport).footpoints ?? []) {
-        if (typeof fp.x !== 'number' || typeof fp.y !== 'number' || fp.id === undefined) continue;
-        (tracks[String(fp.id)] ??= []).push([fp.x, fp.y]);
-      }
-    }
-    res.json({ frame_id: f.id, time: iso(f.time), footpoints: apiFootpoints(footpoints), tracks, events: events ?? [] });
+    const tracks = tracksForWire(store.recentFootpoints(f.region, f.time, 20) as (FootpointReport | null)[]);
+    res.json({ frame_id: f.id, time: iso(f.time), footpoints: footpointsForWire(footpoints as FootpointReport | null), tracks, events: events ?? [] });
   });
 
   // A Map, not an object: a layer named after an Object.prototype member ("toString") is no layer.

@@ -22,6 +22,8 @@ import { acknowledgeAlert, newAlertMachine } from '../core/alerts/alertState.js'
 import type { RulesState } from '../core/alerts/evaluateRules.js';
 import { alertRecords } from '../core/alerts/evaluateRules.js';
 import { RULES, ruleParams } from '../core/alerts/ruleCatalogue.js';
+import type { ViewerMessage, WireStatus } from '../core/wire/viewerMessages.js';
+import { alertMessage, statusMessage } from '../core/wire/viewerMessages.js';
 import { DiskFullError, isDiskFull } from './diskFull.js';
 import { DiskStatus } from './diskStatus.js';
 import type { ComputePool } from './computePool.js';
@@ -44,7 +46,7 @@ import { validateArrivals } from './stages/validateArrivals.js';
 export type { Arrival, IngestAnswer, Payload } from './stages/arrivalValues.js';
 
 export interface Broadcaster {
-  send(region: string, message: unknown): void;
+  send(region: string, message: ViewerMessage): void;
   /** Sends every viewer of the region a fresh snapshot (after frames were put back in order). */
   resync(region: string): void;
 }
@@ -420,11 +422,11 @@ export class Pipeline {
     }
     this.setAccumulation(region, next);
     const alert = rules.machines[id].record;
-    this.hub.send(region, { type: 'alert', alert });
+    this.hub.send(region, alertMessage(alert));
     return alert;
   }
 
-  status(region: string): Record<string, unknown> {
+  status(region: string): WireStatus {
     const c = this.accumulation(region);
     return {
       last_frame_time: isoOrNull(this.store.latestTime(region)),
@@ -466,7 +468,7 @@ export class Pipeline {
       this.setAccumulation(region, next);
       await this.writer.call('setRegionAccumulation', region, next);
       for (const ch of step.changes) this.announceAlert(region, ch.alert, ch.change, row.settings);
-      this.hub.send(region, { type: 'status', status: this.status(region) });
+      this.hub.send(region, statusMessage(this.status(region)));
     } catch (e) {
       if (isDiskFull(e)) this.disk.full('recording a refusal', e);
       else this.quiet.say('refusal-write', `recording a refusal for ${region} failed: ${(e as Error).message ?? e}`);
@@ -652,7 +654,7 @@ export class Pipeline {
   }
 
   private announceAlert(region: string, alert: AlertRecord, change: AlertChange, settings: RegionSettings): void {
-    this.hub.send(region, { type: 'alert', alert });
+    this.hub.send(region, alertMessage(alert));
     this.log(`${region}: alert ${alert.rule} ${change.from} -> ${change.to} (value ${change.evidence.value})`);
     this.options.onAlert?.(region, alert, change, settings);
   }

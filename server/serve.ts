@@ -8,6 +8,7 @@ import { monitorEventLoopDelay } from 'node:perf_hooks';
 import { existsSync } from 'node:fs';
 import { fileURLToPath } from 'node:url';
 import { resolve } from 'node:path';
+import { BUDGET_DEFAULTS } from '../core/budget.js';
 import { pageRouter } from './staticPage.js';
 import { loadOrCreateToken } from './auth.js';
 import { ComputePool } from './computePool.js';
@@ -18,6 +19,8 @@ import { FolderWatch } from './folderWatch.js';
 import { hostPolicy } from './hostCheck.js';
 import { DEFAULT_INTAKE_MEMORY_MB, DEFAULT_MAX_FRAME_PIXELS, IntakePool } from './intakePool.js';
 import { buildApp } from './httpApi.js';
+import { gapsForWire } from '../core/wire/gapWire.js';
+import { snapshotMessage } from '../core/wire/viewerMessages.js';
 import { DEFAULT_QUEUE_LIMIT, Pipeline } from './pipeline.js';
 import { RegionAdmin } from './regionAdmin.js';
 import { finishLeftChores } from './regionFiles.js';
@@ -120,14 +123,15 @@ export async function serve(options: ServeOptions): Promise<RunningMonitor> {
   const snapshot = (region: string) => {
     const latest = store.latestTime(region);
     const frames = latest === undefined ? [] : store.framesInRange(region, latest, latest);
-    return {
-      type: 'snapshot', region,
+    return snapshotMessage(region, {
       samples: store.lastSamples(region, 2000),
-      gaps: pipeline.accumulation(region).budget.gaps.map((g) => ({ from: new Date(g.from).toISOString(), to: new Date(g.to).toISOString(), bridged: g.bridged })),
+      gaps: gapsForWire(pipeline.accumulation(region).budget.gaps),
       alerts: store.region(region) ? pipeline.alerts(region) : [],
       status: pipeline.status(region),
       latest_frame: frames.length ? { frame_id: frames[0].id, time: new Date(frames[0].time).toISOString() } : null,
-    };
+      // The region's gap rule (its budget gapFactor), so the page breaks its lines where the budget sees a gap.
+      gap_factor: store.region(region)?.settings.budget.gapFactor ?? BUDGET_DEFAULTS.gapFactor,
+    });
   };
   const hub = new ViewerHub(snapshot, 4 * 1024 * 1024, log, options.maxViewers ?? 1000);
   pipeline = new Pipeline(store, writer, pool, intake, hub, {

@@ -3,6 +3,7 @@
 // Every write to a viewer goes through the hub's limit (a viewer that does not read is dropped);
 // an ingest socket is paused while its region's queue is at its bound. Nothing here may throw
 // out of an event handler: a failure is answered or logged.
+import type { SnapshotMessage } from '../core/wire/viewerMessages.js';
 import type { IncomingMessage, Server } from 'node:http';
 import type { Duplex } from 'node:stream';
 import { WebSocketServer } from 'ws';
@@ -24,7 +25,7 @@ export interface WsContext {
   readonly token: string;
   readonly readToken: boolean;
   readonly bodyLimit: number;
-  readonly snapshot: (region: string) => unknown;
+  readonly snapshot: (region: string) => SnapshotMessage;
   readonly hosts: HostPolicy;
   readonly log?: (line: string) => void;
 }

@@ -1,6 +1,6 @@
-// Footpoints as the page uses them, from what the footpoints route sends. The contract shape
-// (docs/api.md) is read first; the core's own field names (spinExact, omegaSource) are accepted
-// as a fallback so a server that stores the analysis rows unchanged still shows in the ledger.
+// Footpoints as the page uses them, from what the footpoints route sends (the wire's shape:
+// core/wire/footpointWire.ts, docs/api.md), checked field by field: the page never trusts a
+// message to be whole.
 // Entries without a finite position or id are dropped rather than drawn at the origin.
 
 import type { OrbitPartner, WireFootpoint } from './wire.js';
@@ -18,7 +18,7 @@ export function normaliseFootpoint(raw: unknown): WireFootpoint | undefined {
   if (id === undefined || x === null || y === null) return undefined;
   const flux = num(r.flux) ?? 0;
   const omega = num(r.omega);
-  const methodRaw = r.omega_method ?? r.omegaSource;
+  const methodRaw = r.omega_method;
   const omega_method: WireFootpoint['omega_method'] =
     methodRaw === 'velocity' || methodRaw === 'pattern' ? methodRaw : omega === null ? 'unobservable' : 'velocity';
   const partners: OrbitPartner[] = Array.isArray(r.partners)
@@ -38,11 +38,11 @@ export function normaliseFootpoint(raw: unknown): WireFootpoint | undefined {
     area: num(r.area) ?? 0,
     omega: omega_method === 'unobservable' ? null : omega,
     omega_method,
-    spin: num(r.spin) ?? num(r.spinExact),
-    spin_point: num(r.spin_point) ?? num(r.spinPoint),
+    spin: num(r.spin),
+    spin_point: num(r.spin_point),
     partners,
-    ...(num(r.omegaPatternError) !== null ? { omegaPatternError: num(r.omegaPatternError) } : {}),
-    ...(typeof r.patternNote === 'string' ? { patternNote: r.patternNote } : {}),
+    ...(num(r.omega_error) !== null ? { omega_error: num(r.omega_error) } : {}),
+    ...(typeof r.omega_note === 'string' ? { omega_note: r.omega_note } : {}),
     ...(outline && outline.length >= 3 ? { outline } : {}),
   };
 }

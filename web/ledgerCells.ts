@@ -35,10 +35,10 @@ export function rotationReason(note: string | null | undefined): string {
 /** The rotation cell: "—" when unmeasurable, not observable or within its 1σ error. */
 export function rotationCell(fp: LedgerFootpoint): Cell {
   const omega = fp.omega;
-  if (fp.omega_method === 'unobservable' || omega === null || !Number.isFinite(omega)) return { text: NO_VALUE, title: rotationReason(fp.patternNote) };
+  if (fp.omega_method === 'unobservable' || omega === null || !Number.isFinite(omega)) return { text: NO_VALUE, title: rotationReason(fp.omega_note) };
   // A round footpoint has no pattern to turn: a rate from the velocity field there is noise.
-  if (fp.patternNote === 'axisymmetric') return { text: NO_VALUE, title: `${ROUND_FOOTPOINT}; the velocity field gives ${formatOmega(omega)}` };
-  const err = fp.omegaPatternError;
+  if (fp.omega_note === 'axisymmetric') return { text: NO_VALUE, title: `${ROUND_FOOTPOINT}; the velocity field gives ${formatOmega(omega)}` };
+  const err = fp.omega_error;
   if (typeof err === 'number' && Number.isFinite(err) && err > 0) {
     if (Math.abs(omega) <= err) return { text: NO_VALUE, title: `rotation ${formatOmega(omega)} is within its error ±${formatOmega(err).replace(/^\+/, '')} (1σ)` };
     return { text: `${formatOmega(omega)}${fp.omega_method === 'pattern' ? ' (pattern)' : ''}`, title: `±${formatOmega(err).replace(/^\+/, '')} (1σ)` };
@@ -49,7 +49,7 @@ export function rotationCell(fp: LedgerFootpoint): Cell {
 /** The spin cell: "—" with the reason when the spin is null (round footpoints and the like). */
 export function spinCell(fp: LedgerFootpoint): Cell {
   if (fp.spin === null || !Number.isFinite(fp.spin)) {
-    return { text: NO_VALUE, title: fp.patternNote ? rotationReason(fp.patternNote) : 'spin not measurable' };
+    return { text: NO_VALUE, title: fp.omega_note ? rotationReason(fp.omega_note) : 'spin not measurable' };
   }
   return { text: formatRate(fp.spin), title: '' };
 }

@@ -16,8 +16,15 @@ import type { FrameAssemblySettings } from '../../core/frameAssembly/assembleFra
 import { mergeAssemblySettings, readsComponentFiles } from '../../core/frameAssembly/componentLayouts.js';
 import type { PatchCentre } from '../../core/frameAssembly/wcs.js';
 import { framePatchCentre, meanCentre } from '../../core/frameAssembly/wcs.js';
+import type { FootpointReport } from '../../core/footpoints/footpointReport.js';
 import { footpointReport } from '../../core/footpoints/footpointReport.js';
+import { sampleColumns } from '../../core/seriesColumns.js';
+import { footpointsForWire } from '../../core/wire/footpointWire.js';
 import { InputError } from '../../core/inputError.js';
+import type { BraidReport } from '../../core/braid/braidTracker.js';
+import { braidStep, emptyBraidState } from '../../core/braid/braidTracker.js';
+import { braidInputFromFootpoints } from '../../core/braid/braidInput.js';
+import { braidReportJson } from '../../core/braid/braidColumns.js';
 import type { RateSample } from '../../core/rateSample.js';
 import { measureRate } from '../../core/measureRate.js';
 import type { VelocityMethod } from '../../core/velocity/velocitySettings.js';
@@ -32,8 +39,8 @@ export const RATE_SPEC: CommandSpec = {
   name: 'rate',
   usage: ['rate FRAME [FRAME ...] [options]'],
   summary: 'the injection rate of one frame, a pair or a sequence, printed as JSON',
-  description: 'Helicity injection rate printed as JSON (Mx^2/s): total, total_ga, spin, orbit, background, and emergence, shear '
-    + 'with vector data, with the unsigned flux (Mx) and, when the headers give them, the patch centre. One frame must carry its '
+  description: 'Helicity injection rate printed as JSON (Mx^2/s) in the series\' own columns: rate_total, rate_total_ga, rate_spin, rate_orbit, '
+    + 'rate_background, sigma_rate_total, and rate_emergence, rate_shear with vector data, with the unsigned flux flux_unsigned (Mx) and, when the headers give them, the patch centre. One frame must carry its '
     + 'velocity; with frames that carry none, the velocity is inferred between the last two and the rate is at their mid-time. '
     + 'A sequence (any number of frames, taken in time order) is tracked through: footpoint ids and windings follow, footpoint '
     + 'motions are measured over the 720 s motion baseline; the last frame\'s sample is printed, sample_frames names its frames, '
@@ -83,25 +90,18 @@ function settingsFrom(args: ParsedArgs, base: AnalysisSettings): AnalysisSetting
   };
 }
 
+/** One sample as JSON: the series' own columns (core/seriesColumns.ts sampleColumns), one spelling everywhere. */
 function sampleJson(s: RateSample, centre?: PatchCentre): Record<string, unknown> {
+  return { ...sampleColumns(s, centre), unit: 'Mx^2/s' };
+}
+
+/** The footpoints of the analysis in the wire's shape (core/wire/footpointWire.ts) and the orbit matrix of the split. */
+function footpointsJson(report: FootpointReport): Record<string, unknown> {
+  const m = report.pairMatrix;
   return {
-    time: new Date(s.time).toISOString(),
-    dt_s: s.dtS,
-    total: s.total,
-    total_ga: s.totalGa,
-    spin: s.spin,
-    orbit: s.orbit,
-    background: s.background,
-    ...(s.emergence !== undefined && { emergence: s.emergence, shear: s.shear }),
-    sigma_total: s.sigmaTotal,
-    noise_g: s.noiseG,
-    flux_unsigned: s.unsignedFlux ?? null,
-    masked_fraction: s.maskedFraction,
-    velocity_method: s.velocityMethod,
-    split_method: s.splitMethod,
-    flags: s.flags,
-    ...(centre && { centre: { lon_deg: centre.lonDeg, lat_deg: centre.latDeg, disk_angle_deg: centre.diskAngleDeg ?? null } }),
-    unit: 'Mx^2/s',
+    footpoints: footpointsForWire(report),
+    pair_ids: m?.ids ?? [],
+    orbit_matrix: m ? m.orbitExact ?? m.orbitPoint : [],
   };
 }
 
@@ -156,10 +156,14 @@ export async function rateCommand(args: ParsedArgs, out: NodeJS.WritableStream):
   let state: AnalysisState = {};
   let analysis: FrameAnalysis | undefined;
   const ownSamples: Record<string, unknown>[] = [];
+  // The braid of the largest footpoints through the sequence (docs/braids.md).
+  let braid = emptyBraidState();
+  let braidReport: BraidReport | undefined;
   let centre: PatchCentre | undefined, before: PatchCentre | undefined;
   for (const f of frames) {
     analysis = analyseFrame(f.frame, state, settings, cache);
     state = analysis.state;
+    if (analysis.footpoints) ({ state: braid, report: braidReport } = braidStep(braid, braidInputFromFootpoints(analysis.footpoints)));
     before = centre;
     centre = framePatchCentre(f.frame);
     if (analysis.sample && hasVelocity(f.frame) && f !== frames[frames.length - 1]) {
@@ -183,8 +187,9 @@ export async function rateCommand(args: ParsedArgs, out: NodeJS.WritableStream):
     result.spin_point = analysis.footpoints.point.spin;
     result.orbit_point = analysis.footpoints.point.orbit;
     result.footpoint_count = analysis.footpoints.footpoints.length;
-    if (args.boolean('footpoints')) result.footpoints = footpointReport(analysis.footpoints, true);
+    if (args.boolean('footpoints')) Object.assign(result, footpointsJson(footpointReport(analysis.footpoints, true)));
   }
+  if (braidReport) result.braid = braidReportJson(braidReport);
   out.write(JSON.stringify(result, null, 2) + '\n');
   return 0;
 }

@@ -7,22 +7,24 @@
 import type { MonoTypeOperatorFunction } from 'rxjs';
 import { tap } from 'rxjs';
 import type { AlertChange, AlertRecord } from '../../core/alerts/alertState.js';
+import type { ViewerMessage, WireStatus } from '../../core/wire/viewerMessages.js';
+import { frameMessage, sampleMessage, statusMessage } from '../../core/wire/viewerMessages.js';
 import type { AccumulatedFrame } from './frameWork.js';
 
 export interface BroadcastDeps {
   readonly region: string;
-  readonly send: (message: unknown) => void;
+  readonly send: (message: ViewerMessage) => void;
   readonly announce: (alert: AlertRecord, change: AlertChange) => void;
-  readonly status: () => unknown;
+  readonly status: () => WireStatus;
   readonly processed?: (frameId: number) => void;
 }
 
 export function broadcastFrames(deps: BroadcastDeps): MonoTypeOperatorFunction<AccumulatedFrame> {
   return tap((a) => {
-    deps.send({ type: 'frame', frame_id: a.frame.id, time: new Date(a.frame.time).toISOString() });
-    if (a.row) deps.send({ type: 'sample', sample: a.row });
+    deps.send(frameMessage(a.frame.id, a.frame.time));
+    if (a.row) deps.send(sampleMessage(a.row));
     for (const ch of a.changes) deps.announce(ch.alert, ch.change);
-    deps.send({ type: 'status', status: deps.status() });
+    deps.send(statusMessage(deps.status()));
     deps.processed?.(a.frame.id);
   });
 }

@@ -15,29 +15,29 @@ const fp = (over: Partial<WireFootpoint>): WireFootpoint => ({
 
 describe('ledger cells', () => {
   it('shows a rotation larger than its error, with the error on hover', () => {
-    const c = rotationCell(fp({ omega: 2 * DEG_H, omegaPatternError: 0.5 * DEG_H }));
+    const c = rotationCell(fp({ omega: 2 * DEG_H, omega_error: 0.5 * DEG_H }));
     expect(c.text).toBe('+2.0°/h (pattern)');
     expect(c.title).toBe('±0.50°/h (1σ)');
   });
 
   it('shows "—" for a rotation within its error, the value and error on hover', () => {
-    const c = rotationCell(fp({ omega: -6.0e-7 * DEG_H, omegaPatternError: 0.3 * DEG_H }));
+    const c = rotationCell(fp({ omega: -6.0e-7 * DEG_H, omega_error: 0.3 * DEG_H }));
     expect(c.text).toBe('—');
     expect(c.title).toBe('rotation −6.0e-7°/h is within its error ±0.30°/h (1σ)');
     // Exactly at the error is not a measurement either.
-    expect(rotationCell(fp({ omega: 0.3 * DEG_H, omegaPatternError: 0.3 * DEG_H })).text).toBe('—');
+    expect(rotationCell(fp({ omega: 0.3 * DEG_H, omega_error: 0.3 * DEG_H })).text).toBe('—');
   });
 
   it('shows "—" for a round footpoint even when the velocity field gives a number', () => {
-    const c = rotationCell(fp({ omega: 9.2e-10 * DEG_H, omega_method: 'velocity', patternNote: 'axisymmetric' }));
+    const c = rotationCell(fp({ omega: 9.2e-10 * DEG_H, omega_method: 'velocity', omega_note: 'axisymmetric' }));
     expect(c.text).toBe('—');
     expect(c.title).toBe(`${ROUND_FOOTPOINT}; the velocity field gives +9.2e-10°/h`);
     expect(c.title).toContain('rotation not observable (round footpoint)');
   });
 
   it('shows "—" with the reason for an unmeasurable rotation', () => {
-    expect(rotationCell(fp({ omega: null, omega_method: 'unobservable', patternNote: 'too-noisy' }))).toEqual({ text: '—', title: 'rotation not measurable (pattern too noisy)' });
-    expect(rotationCell(fp({ omega: null, omega_method: 'unobservable', patternNote: 'first-frame' })).title).toMatch(/first frame/);
+    expect(rotationCell(fp({ omega: null, omega_method: 'unobservable', omega_note: 'too-noisy' }))).toEqual({ text: '—', title: 'rotation not measurable (pattern too noisy)' });
+    expect(rotationCell(fp({ omega: null, omega_method: 'unobservable', omega_note: 'first-frame' })).title).toMatch(/first frame/);
     expect(rotationCell(fp({ omega: null, omega_method: 'unobservable' }))).toEqual({ text: '—', title: 'rotation not measurable' });
   });
 
@@ -48,7 +48,7 @@ describe('ledger cells', () => {
   });
 
   it('shows a null spin as "—" with the reason, a measured spin with its unit', () => {
-    expect(spinCell(fp({ spin: null, patternNote: 'axisymmetric' }))).toEqual({ text: '—', title: 'rotation not observable (round footpoint)' });
+    expect(spinCell(fp({ spin: null, omega_note: 'axisymmetric' }))).toEqual({ text: '—', title: 'rotation not observable (round footpoint)' });
     expect(spinCell(fp({ spin: null }))).toEqual({ text: '—', title: 'spin not measurable' });
     expect(spinCell(fp({ spin: -4.04e36 }))).toEqual({ text: '\u22124.0e36 Mx²/s', title: '' });
   });
@@ -76,9 +76,9 @@ describe('frame numbering', () => {
   });
 
   it('keeps the rotation error and the note the monitor sends with a footpoint row', () => {
-    const f = normaliseFootpoint({ id: 4, x: 1, y: 2, flux: 1e20, omega: null, omegaSource: null, patternNote: 'axisymmetric', omegaPatternError: 2e-6, spinExact: null });
-    expect(f?.patternNote).toBe('axisymmetric');
-    expect(f?.omegaPatternError).toBe(2e-6);
+    const f = normaliseFootpoint({ id: 4, x: 1, y: 2, flux: 1e20, omega: null, omegaSource: null, omega_note: 'axisymmetric', omega_error: 2e-6, spinExact: null });
+    expect(f?.omega_note).toBe('axisymmetric');
+    expect(f?.omega_error).toBe(2e-6);
     expect(spinCell(f!).title).toBe(ROUND_FOOTPOINT);
   });
 });

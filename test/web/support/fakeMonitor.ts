@@ -36,6 +36,8 @@ export interface FakeRegionState {
 export const FAKE_TOKEN = 'fake-token-for-tests';
 const T0 = Date.UTC(2026, 2, 14, 6, 0, 0);
 const CADENCE_S = 720;
+/** The double's gap rule, sent in its snapshot as the monitor sends its region's. */
+export const GAP_FACTOR = 3;
 const GRID = 96;
 const DX = 0.72;
 
@@ -46,8 +48,8 @@ function footpointsAt(k: number): WireFootpoint[] {
   const r = 12;
   const spots: WireFootpoint[] = [
     { id: 1, polarity: 1, flux: 2.1e21, x: cx + r * Math.cos(angle), y: cx + r * Math.sin(angle), area: 40, omega: 4e-5, omega_method: 'velocity', spin: -1.2e35, spin_point: -1.1e35, partners: [{ id: 2, orbit: -3.4e35 }, { id: 3, orbit: 2e34 }] },
-    { id: 2, polarity: -1, flux: -1.9e21, x: cx - r * Math.cos(angle), y: cx - r * Math.sin(angle), area: 36, omega: -1.5e-5, omega_method: 'pattern', omegaPatternError: 3e-5, spin: 4e34, spin_point: 3.8e34, partners: [{ id: 1, orbit: -3.4e35 }] },
-    { id: 3, polarity: 1, flux: 4e20, x: cx + 20, y: cx - 22, area: 10, omega: null, omega_method: 'unobservable', patternNote: 'axisymmetric', spin: null, spin_point: null, partners: [{ id: 1, orbit: 2e34 }] },
+    { id: 2, polarity: -1, flux: -1.9e21, x: cx - r * Math.cos(angle), y: cx - r * Math.sin(angle), area: 36, omega: -1.5e-5, omega_method: 'pattern', omega_error: 3e-5, spin: 4e34, spin_point: 3.8e34, partners: [{ id: 1, orbit: -3.4e35 }] },
+    { id: 3, polarity: 1, flux: 4e20, x: cx + 20, y: cx - 22, area: 10, omega: null, omega_method: 'unobservable', omega_note: 'axisymmetric', spin: null, spin_point: null, partners: [{ id: 1, orbit: 2e34 }] },
   ];
   return spots;
 }
@@ -255,6 +257,7 @@ export class FakeMonitor {
     return {
       type: 'snapshot', region: r.name, samples: r.samples.slice(-50), gaps: r.gaps, alerts: r.alerts, status: this.status(r),
       latest_frame: last ? { frame_id: last.frame_id, time: last.time } : null,
+      gap_factor: GAP_FACTOR,
     };
   }
 
@@ -273,6 +276,11 @@ export class FakeMonitor {
   }
 }
 
+/** The scripted unsigned flux at frame k, Mx: growing as the region emerges (invented). */
+export function fluxAt(k: number): number {
+  return 4.4e21 * (1 + 0.02 * k);
+}
+
 /** Adds frame k (and its sample) to the state; with a monitor, tells its viewers. */
 export function pushFrame(r: FakeRegionState, k: number, monitor?: FakeMonitor, options: { skipGapBefore?: boolean } = {}): WireSample {
   const t = new Date(T0 + k * CADENCE_S * 1000).toISOString();
@@ -285,6 +293,7 @@ export function pushFrame(r: FakeRegionState, k: number, monitor?: FakeMonitor, 
     budget_total: budget, budget_spin: 0.3 * budget, budget_orbit: 0.6 * budget, budget_background: 0.1 * budget,
     rate_total_ga: rate, rate_emergence: null, rate_shear: null, sigma_rate_total: 2e35, sigma_budget_total: 2e35 * CADENCE_S * Math.sqrt(k + 1),
     velocity_method: 'dave', split_method: 'labels', noise_g: 6, masked_fraction: 0.01, flags: ['spin-unobservable'], frame_id: k,
+    flux_unsigned: fluxAt(k), budget_normalised: budget / fluxAt(k) ** 2,
   };
   r.samples.push(sample);
   r.frames.push({ frame_id: k, time: t, nx: GRID, ny: GRID, dx: DX, dy: DX });
@@ -301,8 +310,8 @@ export function raiseBudgetAlert(r: FakeRegionState, threshold: number, monitor?
   const s = r.samples.at(-1)!;
   const risingAt = r.samples.at(-2)?.time ?? s.time;
   const alert: WireAlert = {
-    id: 'budget-1', rule: 'accumulated |H| above threshold', state: 'raised', since: s.time, threshold, unit: 'Mx^2',
-    source: 'Liokati et al. 2022', evidence: { value: s.budget_total ?? 0, window_from: r.samples[0].time, window_to: s.time },
+    id: 'budget-1', rule: 'budget-emerging', state: 'raised', since: s.time, threshold, unit: 'Mx^2',
+    source: 'Liokati et al. 2022', evidence: { value: s.budget_total ?? 0, window_from: s.time, window_to: s.time, threshold, sigma: s.sigma_budget_total, sigma_factor: 2 },
     acknowledged: false,
     history: [
       { time: risingAt, from: 'quiet', to: 'rising' },
@@ -312,4 +321,39 @@ export function raiseBudgetAlert(r: FakeRegionState, threshold: number, monitor?
   r.alerts = r.alerts.filter((a) => a.id !== alert.id).concat(alert);
   monitor?.broadcast({ type: 'alert', alert });
   return alert;
+}
+
+/**
+ * Two more rules raised within a few minutes of the budget alert (so their chart markers would
+ * collide), and the quiet rules as the monitor sends them: evidence from the moment each rule was
+ * made (stale), which the page must not show as current. Values invented.
+ */
+export function raiseCrowdedAlerts(r: FakeRegionState, monitor?: FakeMonitor): WireAlert[] {
+  const s = r.samples.at(-1)!;
+  const before = r.samples.at(-2)!;
+  const first = r.samples[0];
+  const raisedAt = (id: string, rule: string, time: string, threshold: number, unit: string, source: string, evidence: WireAlert['evidence']): WireAlert => ({
+    id, rule, state: 'raised', since: time, threshold, unit, source, evidence, acknowledged: false,
+    history: [{ time, from: 'rising', to: 'raised', evidence }],
+  });
+  const quiet = (id: string, rule: string, threshold: number, unit: string, source: string, evidence: WireAlert['evidence']): WireAlert => ({
+    id, rule, state: 'quiet', since: first.time, threshold, unit, source, evidence, acknowledged: false, history: [],
+  });
+  const alerts = [
+    raisedAt('peak-rate', 'peak-rate', before.time, 3e36, 'Mx^2/s', 'a level set for the test region (the published default is 6e36 Mx^2/s, LaBonte, Georgoulis & Rust 2007)',
+      { value: 3.4e36, window_from: r.samples.at(-4)!.time, window_to: before.time, threshold: 3e36, sigma: 2e35, sigma_factor: 2 }),
+    raisedAt('sign-reversal', 'sign-reversal', s.time, 0, 'Mx^2/s', 'our rule (no published level)',
+      { value: 3.1e36, window_from: before.time, window_to: s.time, threshold: 4e35, rate: 3.1e36, budget: -2.2e42, sigma: 2e35, budget_floor: 9e39 }),
+    quiet('budget', 'budget', 2e42, 'Mx^2', 'Tziotziou, Georgoulis & Raouafi 2012 (ApJL 759, L4): eruptive active regions sit above 2e42 Mx^2',
+      { value: 0, window_from: first.time, window_to: first.time, threshold: 2e42, sigma: 0, sigma_factor: 2 }),
+    quiet('build-up-plateau', 'build-up-plateau', 3e42, 'Mx^2', 'Park et al. 2010',
+      { value: 0, window_from: first.time, window_to: first.time, threshold: 3e42, plateau_s: 2160, phase_s: 114000, sign: 0, within_published_range: false }),
+    quiet('data-gap', 'data-gap', 0, 's', 'our rule', { value: 0, window_from: first.time, window_to: first.time, threshold: 0, bridged: null }),
+    quiet('refusals', 'refusals', 3, 'frames', 'our rule: 3 or more frames refused within an hour', { value: 0, window_from: first.time, window_to: first.time, threshold: 3 }),
+  ];
+  for (const a of alerts) {
+    r.alerts = r.alerts.filter((x) => x.id !== a.id).concat(a);
+    monitor?.broadcast({ type: 'alert', alert: a });
+  }
+  return alerts;
 }
