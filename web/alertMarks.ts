@@ -4,6 +4,7 @@
 
 import type { WireAlert } from './wire.js';
 import { isoToMs } from './seriesMerge.js';
+import { ruleShortName } from './alertWords.js';
 
 export interface ThresholdLine {
   value: number;
@@ -16,6 +17,8 @@ export interface AlertMoment {
   t: number;
   alertId: string | number;
   rule: string;
+  /** The rule in a few words, for the marker's label. */
+  label: string;
 }
 
 /** Published defaults for accumulated |H| (sources as in README.md's alert table). */
@@ -48,7 +51,7 @@ function linesFrom(alerts: readonly WireAlert[], pick: (unit: string) => boolean
     if (v === 0) continue;
     if (seen.has(v)) continue;
     seen.add(v);
-    out.push({ value: v, label: a.rule, source: shortSource(a.source ?? '') });
+    out.push({ value: v, label: ruleShortName(a.rule), source: shortSource(a.source ?? '') });
   }
   return out.sort((x, y) => y.value - x.value);
 }
@@ -81,7 +84,7 @@ export function raisedMoments(alerts: readonly WireAlert[]): AlertMoment[] {
     const key = `${a.id}|${t}`;
     if (!Number.isFinite(t) || seen.has(key)) return;
     seen.add(key);
-    out.push({ t, alertId: a.id, rule: a.rule });
+    out.push({ t, alertId: a.id, rule: a.rule, label: ruleShortName(a.rule) });
   };
   for (const a of alerts) {
     let found = false;

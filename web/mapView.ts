@@ -4,6 +4,7 @@
 // highlight only redraws the vector layer over the cached image.
 
 import { buildLut, GREYS, niceCeil, PURPLE_ORANGE, rasterize, robustAbsLimit, symmetricTicks } from './colourScale.js';
+import { axisTicks, scaleBar, tickText } from './mapAxes.js';
 import { equalAreaRadius, fitMap, fromCanvas, glyphArc, hitFootpoint, splitTrack, toCanvas, type MapFit } from './mapGeometry.js';
 import { OKABE_ITO } from './palette.js';
 import { rotationCell } from './ledgerCells.js';
@@ -36,7 +37,23 @@ export interface MapDrawReport {
   highlighted: string | null;
   rasterMs: number;
   drawMs: number;
+  /** Tick labels drawn on the axes (Mm) and the scale bar's text. */
+  axes: { x: string[]; y: string[]; scaleBar: string };
 }
+
+/** What the map shows under the pointer. */
+export interface MapProbe {
+  xMm: number;
+  yMm: number;
+  bn: number | null;
+  /** undefined: the G_theta layer is not loaded (yet); null: no data at that pixel. */
+  gtheta: number | null | undefined;
+  gthetaUnit: string;
+}
+
+/** Room around the map for the axes (CSS px). */
+const MARGIN = { left: 44, right: 8, top: 6, bottom: 34 };
+const NO_AXES = { x: [] as string[], y: [] as string[], scaleBar: '' };
 
 const PURPLE_ORANGE_LUT = buildLut(PURPLE_ORANGE, 256);
 /** A track step longer than this (or twice the footpoint's radius) is a hand-over, not motion, Mm. */
@@ -59,7 +76,7 @@ export class MapView {
   private bnUserSet = false;
   /** The G_theta overlay range, kept across frames in the same way. */
   private gFixed: number | null = null;
-  report: MapDrawReport = { footpoints: 0, outlines: 0, glyphs: 0, tracks: 0, highlighted: null, rasterMs: 0, drawMs: 0 };
+  report: MapDrawReport = { footpoints: 0, outlines: 0, glyphs: 0, tracks: 0, highlighted: null, rasterMs: 0, drawMs: 0, axes: NO_AXES };
   onPick: ((id: string | null) => void) | undefined;
 
   constructor(canvas: HTMLCanvasElement, bar: HTMLCanvasElement) {
@@ -94,8 +111,38 @@ export class MapView {
     this.highlighted = null;
     if (!this.bnUserSet) this.bnFixed = null;
     this.gFixed = null;
-    this.report = { footpoints: 0, outlines: 0, glyphs: 0, tracks: 0, highlighted: null, rasterMs: 0, drawMs: 0 };
+    this.report = { footpoints: 0, outlines: 0, glyphs: 0, tracks: 0, highlighted: null, rasterMs: 0, drawMs: 0, axes: NO_AXES };
     this.draw();
+  }
+
+  /** Adds the G_theta layer to the frame shown (loaded later, for the overlay or the hover readout). */
+  setGtheta(frameId: string | number, layer: MapLayer): void {
+    if (!this.scene || String(this.scene.frameId) !== String(frameId)) return;
+    this.scene = { ...this.scene, gtheta: layer };
+    if (this.overlay) {
+      this.rasterizeScene();
+      this.draw();
+    }
+  }
+
+  hasGtheta(): boolean {
+    return this.scene?.gtheta !== undefined;
+  }
+
+  /** The values under canvas position (px, py), CSS px; undefined off the map. */
+  probeAt(px: number, py: number): MapProbe | undefined {
+    const s = this.scene;
+    const fit = this.fit;
+    if (!s || !fit) return undefined;
+    const [x, y] = fromCanvas(fit, px, py);
+    const ix = Math.round(x / fit.dx);
+    const iy = Math.round(y / fit.dy);
+    if (ix < 0 || iy < 0 || ix >= s.bn.nx || iy >= s.bn.ny) return undefined;
+    const at = (layer: MapLayer): number | null => {
+      const v = layer.data[iy * layer.nx + ix];
+      return Number.isFinite(v) ? v : null;
+    };
+    return { xMm: x, yMm: y, bn: at(s.bn), gtheta: s.gtheta ? at(s.gtheta) : undefined, gthetaUnit: s.gtheta?.unit ?? '' };
   }
 
   setOverlay(on: boolean): void {
@@ -210,16 +257,88 @@ export class MapView {
       this.drawBar();
       return;
     }
-    const fit = fitMap(s.bn.nx, s.bn.ny, s.bn.dx, s.bn.dy, w, h);
+    const inner = fitMap(s.bn.nx, s.bn.ny, s.bn.dx, s.bn.dy, w - MARGIN.left - MARGIN.right, h - MARGIN.top - MARGIN.bottom);
+    const fit = { ...inner, offX: inner.offX + MARGIN.left, offY: inner.offY + MARGIN.top };
     this.fit = fit;
     ctx.imageSmoothingEnabled = fit.sx < 1; // upscaled maps show their pixels
     ctx.drawImage(this.image, fit.offX, fit.offY, s.bn.nx * fit.sx, s.bn.ny * fit.sy);
+    ctx.save();
+    ctx.beginPath();
+    ctx.rect(fit.offX, fit.offY, s.bn.nx * fit.sx, s.bn.ny * fit.sy);
+    ctx.clip();
     const rep = this.drawFootpoints(ctx, s, fit);
+    const bar = this.drawScaleBar(ctx, fit);
+    ctx.restore();
+    const axes = this.drawAxes(ctx, fit);
     this.drawBar();
-    this.report = { ...rep, rasterMs: this.report.rasterMs, drawMs: performance.now() - t0 };
+    this.report = { ...rep, axes: { ...axes, scaleBar: bar }, rasterMs: this.report.rasterMs, drawMs: performance.now() - t0 };
   }
 
-  private drawFootpoints(ctx: CanvasRenderingContext2D, s: MapScene, fit: MapFit): Omit<MapDrawReport, 'rasterMs' | 'drawMs'> {
+  /** Axes in Mm along the bottom and the left of the map: x = ix·dx at pixel centres, +y up. */
+  private drawAxes(ctx: CanvasRenderingContext2D, fit: MapFit): { x: string[]; y: string[] } {
+    const x0 = fit.offX;
+    const y0 = fit.offY;
+    const wPx = fit.nx * fit.sx;
+    const hPx = fit.ny * fit.sy;
+    const xMax = (fit.nx - 0.5) * fit.dx;
+    const yMax = (fit.ny - 0.5) * fit.dy;
+    ctx.save();
+    ctx.strokeStyle = '#333';
+    ctx.lineWidth = 1;
+    ctx.strokeRect(Math.round(x0) + 0.5, Math.round(y0) + 0.5, Math.round(wPx) - 1, Math.round(hPx) - 1);
+    ctx.fillStyle = '#222';
+    ctx.font = '11px system-ui, sans-serif';
+    const xs: string[] = [];
+    const ys: string[] = [];
+    ctx.textAlign = 'center';
+    ctx.textBaseline = 'top';
+    for (const v of axisTicks(-fit.dx / 2, xMax, Math.max(2, Math.floor(wPx / 60)))) {
+      const [px] = toCanvas(fit, v, 0);
+      ctx.fillRect(Math.round(px), y0 + hPx, 1, 4);
+      const t = tickText(v);
+      ctx.fillText(t, px, y0 + hPx + 5);
+      xs.push(t);
+    }
+    ctx.fillText('x (Mm)', x0 + wPx / 2, y0 + hPx + 19);
+    ctx.textAlign = 'right';
+    ctx.textBaseline = 'middle';
+    for (const v of axisTicks(-fit.dy / 2, yMax, Math.max(2, Math.floor(hPx / 45)))) {
+      const [, py] = toCanvas(fit, 0, v);
+      ctx.fillRect(x0 - 4, Math.round(py), 4, 1);
+      const t = tickText(v);
+      ctx.fillText(t, x0 - 6, py);
+      ys.push(t);
+    }
+    ctx.translate(10, y0 + hPx / 2);
+    ctx.rotate(-Math.PI / 2);
+    ctx.textAlign = 'center';
+    ctx.fillText('y (Mm)', 0, 0);
+    ctx.restore();
+    return { x: xs, y: ys };
+  }
+
+  /** A scale bar of a round length in the bottom-right corner of the map, on a light plate. */
+  private drawScaleBar(ctx: CanvasRenderingContext2D, fit: MapFit): string {
+    const pxPerMm = fit.sx / fit.dx;
+    const bar = scaleBar(pxPerMm, Math.min(120, (fit.nx * fit.sx) / 4));
+    if (bar.px < 8) return '';
+    const text = `${tickText(bar.mm)} Mm`;
+    const right = fit.offX + fit.nx * fit.sx - 8;
+    const bottom = fit.offY + fit.ny * fit.sy - 8;
+    ctx.font = '11px system-ui, sans-serif';
+    const tw = ctx.measureText(text).width;
+    const plateW = Math.max(bar.px, tw) + 10;
+    ctx.fillStyle = 'rgba(255,255,255,0.85)';
+    ctx.fillRect(right - plateW, bottom - 24, plateW, 24);
+    ctx.fillStyle = '#000';
+    ctx.fillRect(right - 5 - bar.px, bottom - 7, bar.px, 3);
+    ctx.textAlign = 'center';
+    ctx.textBaseline = 'alphabetic';
+    ctx.fillText(text, right - 5 - bar.px / 2, bottom - 11);
+    return text;
+  }
+
+  private drawFootpoints(ctx: CanvasRenderingContext2D, s: MapScene, fit: MapFit): Omit<MapDrawReport, 'rasterMs' | 'drawMs' | 'axes'> {
     const pxPerMm = fit.sx / fit.dx;
     let outlines = 0;
     let glyphs = 0;

@@ -6,7 +6,9 @@ import { reconnectDelayMs } from './reconnect.js';
 import { routes } from './routes.js';
 import { parseViewerMessage, type ViewerMessage } from './wire.js';
 
-export type LinkState = 'connecting' | 'live' | 'reconnecting' | 'closed';
+import type { LinkState } from './pageStore.js';
+
+export type { LinkState };
 
 /** Close codes of the viewer socket after which there is nothing to reconnect to (docs/api.md). */
 export const REGION_REMOVED = 4004;

@@ -58,8 +58,8 @@ export interface WireFootpoint {
   spin_point: number | null;
   /** 1-sigma of the pattern rotation, rad/s, and why there is no pattern rotation (analysis fields
    *  passed along with the row; absent from older answers). */
-  omegaPatternError?: number | null;
-  patternNote?: string | null;
+  omega_error?: number | null;
+  omega_note?: string | null;
   partners: OrbitPartner[];
   outline?: [number, number][];
 }
@@ -111,6 +111,8 @@ export interface ReplayInfo {
   speed: number;
   position: number;
   total: number;
+  /** `demo`, `folder <path>` or `region <name>` (docs/api.md "Replay"). */
+  source?: string;
 }
 
 export interface FeedStatus {
@@ -151,6 +153,9 @@ export type ViewerMessage =
       alerts: WireAlert[];
       status: FeedStatus;
       latest_frame: LatestFrame | null;
+      /** The region's gap rule: an interval over gap_factor x the cadence is a gap (its budget
+       *  setting `gapFactor`); absent from monitors older than this field. */
+      gap_factor?: number;
     }
   | { type: 'sample'; sample: WireSample }
   | { type: 'alert'; alert: WireAlert }

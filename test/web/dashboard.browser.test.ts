@@ -5,25 +5,50 @@
 // The page is built with web/build.mjs into a temporary folder first.
 
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
+import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { cpus, loadavg, tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import type { Page } from 'playwright-core';
 import { announceMissingChromium, chromiumPath, inCi, launchChromium, screenshotDir, type LaunchedBrowser, waitForProbe } from './support/browser.js';
 import { niceCeil, robustAbsLimit } from '../../web/colourScale.js';
-import { bnMap, FAKE_TOKEN, FakeMonitor, newRegionState, pushFrame, raiseBudgetAlert, type FakeRegionState } from './support/fakeMonitor.js';
+import { bnMap, FAKE_TOKEN, FakeMonitor, newRegionState, pushFrame, raiseBudgetAlert, raiseCrowdedAlerts, type FakeRegionState } from './support/fakeMonitor.js';
 
 const root = fileURLToPath(new URL('../..', import.meta.url));
 
+type Box = { x: number; y: number; w: number; h: number };
+type ChartProbe = {
+  markers: number; points: number; thresholdLines: number; markerBoxes: Box[]; labelBoxes: Box[]; keyedThresholds: string[]; boxesApart: boolean;
+  bandHalfPx: number; bandWidened: boolean; xRange: [number, number]; xTicks: string[]; yTicks: string[];
+};
 type Probe = {
   region?: string; samples: number; lastSampleTime: string | null; link: string; linkOpens: number; follow: boolean;
-  mapFrame: string | number | null; selectedFootpoint: string | null;
+  mapFrame: string | number | null; selectedFootpoint: string | null; gapFactor: number | null;
+  view: { kind: string }; shownRange: [number, number] | null;
   alerts: { id: string; state: string; acknowledged: boolean }[];
-  map: { footpoints: number; outlines: number; glyphs: number; tracks: number; highlighted: string | null; colourBar: string; colourLimit: number; bnRange: number | null };
-  rateChart: { markers: number; points: number; thresholdLines: number };
-  budgetChart: { markers: number; points: number; thresholdLines: number; thresholds: number[] };
+  map: {
+    footpoints: number; outlines: number; glyphs: number; tracks: number; highlighted: string | null; colourBar: string; colourLimit: number; bnRange: number | null;
+    axes: { x: string[]; y: string[]; scaleBar: string };
+  };
+  rateChart: ChartProbe;
+  budgetChart: ChartProbe & { thresholds: number[] };
+  fluxChart: { flux: number; normalised: number; yTicks: string[] };
 };
+
+/** No two boxes overlap (marker triangles, marker labels, threshold labels). */
+function overlaps(boxes: Box[]): [Box, Box][] {
+  const out: [Box, Box][] = [];
+  for (let i = 0; i < boxes.length; i++) {
+    for (let j = i + 1; j < boxes.length; j++) {
+      const a = boxes[i], b = boxes[j];
+      if (a.x < b.x + b.w && b.x < a.x + a.w && a.y < b.y + b.h && b.y < a.y + a.h) out.push([a, b]);
+    }
+  }
+  return out;
+}
+
+/** Words that look like the wire's field names (snake_case) or rule ids (kebab-case). */
+const INTERNAL_NAME = /\b[a-z]+_[a-z_]+\b|\b(?:peak-rate|sign-reversal|build-up-plateau|data-gap|budget-emerging)\b/;
 
 const probe = (page: Page): Promise<Probe> => page.evaluate('window.helicordProbe.state()') as Promise<Probe>;
 
@@ -113,6 +138,24 @@ describe.skipIf(!chromiumPath && !inCi)('dashboard in Chromium against the test 
     expect(await page.locator('#rate-provenance').innerText()).toBe(
       "velocity inferred (DAVE) from the field's motions; spin of round footpoints not observable (not in the spin rate)",
     );
+    // The gap rule comes from the monitor's snapshot.
+    expect(p.gapFactor).toBe(3);
+    // Axes a reader can quote: the map in Mm (96 pixels of 0.72 Mm: 0 to 69 Mm) with a scale bar,
+    // the charts with time and value ticks.
+    expect(p.map.axes.x).toEqual(expect.arrayContaining(['0', '20', '40', '60']));
+    expect(p.map.axes.y).toEqual(expect.arrayContaining(['0', '20', '40', '60']));
+    expect(p.map.axes.scaleBar).toMatch(/^\d+ Mm$/);
+    for (const c of [p.rateChart, p.budgetChart]) {
+      expect(c.xTicks.filter((t) => /\d\d:\d\d|03-14/.test(t)).length).toBeGreaterThanOrEqual(3);
+      expect(c.yTicks.length).toBeGreaterThanOrEqual(3);
+    }
+    // The ±1σ band shows even where it is thinner than the line.
+    expect(p.rateChart.bandHalfPx).toBeGreaterThanOrEqual(3);
+    expect(p.budgetChart.bandHalfPx).toBeGreaterThanOrEqual(3);
+    // The flux panel: Phi and H/Phi^2 for every sample, with their own axis ticks.
+    expect(p.fluxChart.flux).toBe(30);
+    expect(p.fluxChart.normalised).toBe(30);
+    expect(p.fluxChart.yTicks.some((t) => /e21/.test(t))).toBe(true);
     await page.screenshot({ path: join(shots, 'fake-01-loaded.png') });
   });
 
@@ -168,14 +211,104 @@ describe.skipIf(!chromiumPath && !inCi)('dashboard in Chromium against the test 
     expect(await item.getAttribute('data-state')).toBe('raised');
     const text = await item.innerText();
     expect(text).toMatch(/raised/i);
-    expect(text).toContain('accumulated |H| above threshold');
+    expect(text).toContain('Accumulated helicity above the level for emerging regions');
     expect(text).toContain('source: Liokati et al. 2022');
-    expect(text).toMatch(/value \d\.\d\de\d\d Mx²/);
+    // In words and units, in data time, with the wall-clock arrival beside it.
+    expect(text).toMatch(/when raised: \|budget\| \d\.\de\d\d Mx² ± [\d.]+e\d\d Mx² past \d\.\de\d\d Mx²/);
+    expect(text).toMatch(/raised since 2026-03-14 \d\d:\d\d UTC \(data time\) · arrived 20\d\d-\d\d-\d\d \d\d:\d\d:\d\d UTC \(wall clock\)/);
+    expect(text).not.toMatch(INTERNAL_NAME);
     const p = await until(page, 'the alert marker on the budget chart', (s) => s.budgetChart.markers === 1);
     // The threshold now comes from the alert, not the defaults.
     expect(p.budgetChart.thresholds).toEqual([threshold]);
     expect(p.budgetChart.thresholdLines).toBe(1);
     await page.locator('.panel.budget').screenshot({ path: join(shots, 'fake-03-budget-alert.png') });
+  });
+
+  it('keeps markers and labels apart when alerts crowd, and says the quiet rules in current values', async () => {
+    raiseCrowdedAlerts(region, monitor);
+    const p = await until(page, 'three raised moments within two samples', (s) => s.alerts.length === 7 && s.rateChart.thresholdLines === 1 && s.budgetChart.markers >= 1);
+    // Three moments 12 min apart (budget-emerging and sign-reversal at the same sample): one marker per place, a label each.
+    expect(p.rateChart.markers).toBe(2);
+    expect(p.rateChart.labelBoxes.length + p.rateChart.keyedThresholds.length).toBeGreaterThanOrEqual(3);
+    for (const c of [p.rateChart, p.budgetChart]) {
+      expect(overlaps([...c.markerBoxes, ...c.labelBoxes])).toEqual([]);
+      expect(c.boxesApart).toBe(true);
+    }
+    // The rate threshold (+3e36; -3e36 is off the scale) runs through the curve's range: where its label finds no
+    // room off the curves it is named in the note under the chart.
+    if (p.rateChart.keyedThresholds.length > 0) expect(await page.locator('#rate-note').innerText()).toContain('3.0e36 Mx²/s');
+    const log = await page.locator('#alerts').innerText();
+    expect(log).not.toMatch(INTERNAL_NAME);
+    expect(log).not.toMatch(/value 0 ± 0|window .*–.*00:00/);
+    // Quiet rules: where the region stands now, from the newest sample.
+    const last = region.samples.at(-1)!;
+    const quietBudget = await page.locator('#alerts li[data-alert="budget"]').innerText();
+    expect(quietBudget).toContain(`now |budget| ${(last.budget_total as number).toExponential(1).replace('e+', 'e')} Mx²`);
+    expect(quietBudget).toMatch(/% of 2\.0e42 Mx²/);
+    expect(await page.locator('#alerts li[data-alert="build-up-plateau"]').innerText()).toMatch(/now built up \d\.\de\d\d Mx² over [\d.]+ (h|min), flat for/);
+    expect(await page.locator('#alerts li[data-alert="data-gap"]').innerText()).toMatch(/1 gap, the last 2026-03-14 \d\d:\d\d – \d\d:\d\d UTC \(data time\) \(a gap: a step over 3 × the 12 min cadence\)/);
+    // The refusals rule runs on the wall clock and says so.
+    expect(await page.locator('#alerts li[data-alert="refusals"]').innerText()).toMatch(/since 2026-03-14 06:00:00 UTC \(wall clock\)/);
+    // The sign-reversal rule in words: the rate against the budget's sign.
+    expect(await page.locator('#alerts li[data-alert="sign-reversal"]').innerText()).toMatch(/when raised: rate 3\.1e36 Mx²\/s ± 2\.0e35 Mx²\/s against the budget's sign \(−2\.2e42 Mx²\)/);
+    await page.locator('.panel.rate').screenshot({ path: join(shots, 'fake-10-crowded-markers.png') });
+    await page.locator('.panel.alerts').screenshot({ path: join(shots, 'fake-11-alert-log.png') });
+  });
+
+  it('reads Bn and G_theta with units under the pointer on the map', async () => {
+    const box = (await page.locator('#map').boundingBox())!;
+    // Footpoint 1's centre is somewhere on the map; any pixel of the map gives a reading.
+    await page.mouse.move(box.x + box.width / 2, box.y + box.height / 2);
+    const readout = page.locator('#map-readout');
+    await readout.waitFor({ state: 'visible' });
+    await readout.filter({ hasText: /G_θ [−\d.e]+ Mx² (s⁻¹ cm⁻²|cm⁻² s⁻¹)|G_θ — \(no data\)/ }).waitFor();
+    const text = await readout.innerText();
+    expect(text).toMatch(/^x [\d.]+ Mm, y [\d.]+ Mm\nBn (−)?[\d.]+ G\nG_θ /);
+    await page.locator('.panel.map').screenshot({ path: join(shots, 'fake-12-map-hover.png') });
+    await page.mouse.move(0, 0);
+  });
+
+  it('shows a chosen time range on every chart and exports only that range', async () => {
+    const last = Date.parse(region.samples.at(-1)!.time);
+    await page.locator('#range-6h').click();
+    let p = await until(page, 'the last 6 h', (s) => s.view.kind === 'last' && s.rateChart.xRange[0] === last - 6 * 3_600_000);
+    expect(p.shownRange).toEqual([last - 6 * 3_600_000, last]);
+    expect(p.budgetChart.xRange).toEqual(p.rateChart.xRange);
+    expect(p.rateChart.bandHalfPx).toBeGreaterThanOrEqual(3);
+    expect(await page.locator('#range-text').innerText()).toMatch(/^last 6 h: 2026-03-14 06:24 UTC – 2026-03-14 12:24 UTC \(data time\)$/);
+    // The exports follow the range: the CSV holds the samples of the last 6 h only.
+    const [csvDownload] = await Promise.all([page.waitForEvent('download'), page.locator('#export-csv').click()]);
+    expect(csvDownload.suggestedFilename()).toBe('demo-series-20260314-0624-20260314-1224.csv');
+    const csvPath = join(shots, 'fake-export-range.csv');
+    await csvDownload.saveAs(csvPath);
+    const lines = readFileSync(csvPath, 'utf8').trim().split('\n');
+    const inRange = region.samples.filter((x) => Date.parse(x.time) >= last - 6 * 3_600_000);
+    expect(lines.length - 1).toBe(inRange.length);
+    expect(lines[1].split(',')[0]).toBe(inRange[0].time);
+    // Pan to earlier by half the span: it stops at the first sample (06:00) rather than show empty time.
+    const first = Date.parse(region.samples[0].time);
+    await page.locator('#range-earlier').click();
+    p = await until(page, 'panned earlier', (s) => s.view.kind === 'fixed' && s.rateChart.xRange[0] === first);
+    expect(p.rateChart.xRange).toEqual([first, first + 6 * 3_600_000]);
+    expect(await page.locator('#range-earlier').isDisabled()).toBe(true);
+    // A range dragged out on the budget chart.
+    const chart = (await page.locator('#budget-chart').boundingBox())!;
+    await page.mouse.move(chart.x + chart.width * 0.35, chart.y + chart.height * 0.5);
+    await page.mouse.down();
+    await page.mouse.move(chart.x + chart.width * 0.5, chart.y + chart.height * 0.5, { steps: 5 });
+    await page.mouse.move(chart.x + chart.width * 0.6, chart.y + chart.height * 0.5, { steps: 5 });
+    await page.mouse.up();
+    p = await until(page, 'the dragged range on the charts', (s) => s.view.kind === 'fixed' && s.shownRange !== null && s.shownRange[1] - s.shownRange[0] < 3 * 3_600_000 &&
+      s.rateChart.xRange[0] === s.shownRange[0] && s.budgetChart.xRange[1] === s.shownRange[1]);
+    // Dragged from 35 % to 60 % of the chart's width: a span inside the 6 h shown before.
+    expect(p.shownRange![0]).toBeGreaterThan(first);
+    expect(p.shownRange![1]).toBeLessThan(first + 6 * 3_600_000);
+    expect(p.rateChart.bandHalfPx).toBeGreaterThanOrEqual(3);
+    expect(p.rateChart.xTicks.length).toBeGreaterThanOrEqual(2);
+    await page.screenshot({ path: join(shots, 'fake-13-zoomed.png') });
+    await page.locator('#range-reset').click();
+    p = await until(page, 'all again on the charts', (s) => s.view.kind === 'all' && s.follow && s.rateChart.xRange[0] === first);
+    expect(p.rateChart.xRange).toEqual([first, last]);
   });
 
   it('acknowledges an alert after asking for the token once', async () => {
@@ -305,6 +438,46 @@ describe.skipIf(!chromiumPath && !inCi)('dashboard in Chromium against the test 
     } finally {
       await other.close();
       await guarded.close();
+    }
+  });
+
+  it('on an empty monitor says how to send a frame, with this address and where the token is', async () => {
+    const empty = new FakeMonitor(new Map(), outDir);
+    await empty.listen();
+    const other = await browser.context.newPage();
+    try {
+      await other.goto(empty.url + '/');
+      const help = other.locator('#first-help');
+      await help.waitFor({ state: 'visible' });
+      const text = await help.innerText();
+      expect(text).toContain(`${empty.url}/api/regions/ar-test-`);
+      expect(text).toMatch(/TOKEN=\$\(cat \.\/data\/token\)/);
+      expect(text).toMatch(/data folder \(--data, \.\/data by default\)/);
+      expect(text).toMatch(/--data-binary @frame\.fits/);
+      // Not stuck on "connecting" with empty 0-1 charts: the charts are not shown at all.
+      expect(await other.locator('#panels').isVisible()).toBe(false);
+      expect(await other.locator('#feed').innerText()).toMatch(/no region yet · waiting for the first frame/);
+      for (const [w, h] of [[1280, 800], [1920, 1080], [800, 1000]] as const) {
+        await other.setViewportSize({ width: w, height: h });
+        await other.screenshot({ path: join(shots, `fake-empty-${w}.png`) });
+      }
+    } finally {
+      await other.close();
+      await empty.close();
+    }
+  });
+
+  it('lays out at 1280x800, 1920x1080 and 800 px wide (screenshots)', async () => {
+    for (const [w, h] of [[1920, 1080], [800, 1000], [1280, 800]] as const) {
+      await page.setViewportSize({ width: w, height: h });
+      // Charts and the map follow their boxes after a resize.
+      await page.waitForTimeout(400);
+      const p = await probe(page);
+      expect(p.map.axes.x.length).toBeGreaterThanOrEqual(3);
+      expect(p.rateChart.xTicks.length).toBeGreaterThanOrEqual(2);
+      expect(overlaps([...p.rateChart.markerBoxes, ...p.rateChart.labelBoxes])).toEqual([]);
+      expect(overlaps([...p.budgetChart.markerBoxes, ...p.budgetChart.labelBoxes])).toEqual([]);
+      await page.screenshot({ path: join(shots, `fake-demo-${w}.png`), fullPage: w === 800 });
     }
   });
 

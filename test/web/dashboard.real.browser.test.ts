@@ -15,6 +15,7 @@ import { fileURLToPath } from 'node:url';
 import type { Page } from 'playwright-core';
 import { announceMissingChromium, chromiumPath, inCi, launchChromium, screenshotDir, type LaunchedBrowser, waitForProbe } from './support/browser.js';
 import { freePort, RealMonitor, realMonitorAvailable, realServePath } from './support/realMonitor.js';
+import { synth } from '../../replay/synthCommand.js';
 
 const root = fileURLToPath(new URL('../..', import.meta.url));
 const haveServer = realMonitorAvailable(root);
@@ -23,8 +24,9 @@ type Probe = {
   region?: string; samples: number; link: string; linkOpens: number; mapFrame: string | number | null; follow: boolean; selectedFootpoint: string | null;
   alerts: { id: string; rule: string; state: string }[];
   map: { footpoints: number; rasterMs: number; highlighted: string | null };
-  rateChart: { markers: number; points: number };
-  budgetChart: { markers: number; points: number; thresholds: number[] };
+  rateChart: { markers: number; points: number; boxesApart: boolean };
+  budgetChart: { markers: number; points: number; thresholds: number[]; boxesApart: boolean };
+  gapFactor: number | null;
 };
 const probe = (page: Page): Promise<Probe> => page.evaluate('window.helicordProbe.state()') as Promise<Probe>;
 
@@ -75,6 +77,10 @@ describe.skipIf((!chromiumPath || !haveServer) && !inCi)('dashboard in Chromium 
     expect(later.rateChart.points).toBeGreaterThan(first.rateChart.points);
     expect(later.budgetChart.points).toBeGreaterThan(first.budgetChart.points);
     expect(await page.locator('#feed').innerText()).toMatch(/live.*last frame 2026-.*cadence 12 min/s);
+    // The demo says in one line what is watched.
+    expect(await page.locator('#demo-note').innerText()).toMatch(/^Demo: an invented active region .* every number is invented\.$/);
+    // The gap rule comes from the monitor: the region's default factor.
+    expect((await probe(page)).gapFactor).toBe(3);
     await page.screenshot({ path: join(shots, 'real-01-loaded.png') });
   });
 
@@ -87,8 +93,27 @@ describe.skipIf((!chromiumPath || !haveServer) && !inCi)('dashboard in Chromium 
     // Thresholds on the budget chart come from the server's budget rules (|H| in Mx²).
     expect(p.budgetChart.thresholds.length).toBeGreaterThan(0);
     expect(p.budgetChart.thresholds).toContain(2e42);
+    // The log in words and units: no wire field names, no rule ids, and every time says its clock.
+    const log = await page.locator('#alerts').innerText();
+    expect(log).not.toMatch(/\b[a-z]+_[a-z_]+\b|\b(?:peak-rate|sign-reversal|build-up-plateau|data-gap|budget-emerging)\b/);
+    expect(log).toMatch(/\(data time\)/);
+    // The sign-reversal rule stays quiet on this demo (the budget and the rate keep one sign), and says
+    // where the region stands calmly: under its floor, or the rate with the budget's sign.
+    const sign = page.locator('#alerts li[data-alert="sign-reversal"]');
+    if ((await sign.count()) > 0) {
+      expect(await sign.getAttribute('data-state')).toBe('quiet');
+      expect(await sign.innerText()).toMatch(/now budget .* under the floor of 9\.0e39 Mx²|now rate .* with the budget's sign/);
+    }
+    // Markers and labels do not overlap.
+    for (const c of [p.rateChart, p.budgetChart]) expect(c.boxesApart).toBe(true);
     await page.locator('#h-alerts').scrollIntoViewIfNeeded();
     await page.screenshot({ path: join(shots, 'real-02-alert.png'), fullPage: true });
+    await page.evaluate('window.scrollTo(0, 0)');
+    for (const [w, h] of [[1920, 1080], [800, 1000], [1280, 800]] as const) {
+      await page.setViewportSize({ width: w, height: h });
+      await page.waitForTimeout(400);
+      await page.screenshot({ path: join(shots, `real-demo-${w}.png`), fullPage: w === 800 });
+    }
   }, 60_000);
 
   it('shows the map of a picked frame, and highlights a footpoint from the ledger when the server sends any', async () => {
@@ -145,6 +170,97 @@ describe.skipIf((!chromiumPath || !haveServer) && !inCi)('dashboard in Chromium 
     expect(after.region).toBe('demo');
     await page.screenshot({ path: join(shots, 'real-05-after-restart.png') });
   }, 70_000);
+
+  it('logged no page errors', () => {
+    expect(problems).toEqual([]);
+  });
+});
+
+describe.skipIf((!chromiumPath || !haveServer) && !inCi)('dashboard in Chromium against the real monitor: an archive replayed, and an empty monitor', () => {
+  let browser: LaunchedBrowser;
+  let page: Page;
+  let monitor: RealMonitor;
+  let empty: RealMonitor;
+  let dataDir: string;
+  let emptyDir: string;
+  let archive: string;
+  const shots = screenshotDir(root);
+  const problems: string[] = [];
+
+  beforeAll(async () => {
+    if (!chromiumPath) throw new Error('CI=true but no Chromium found: the browser tests must run in CI (apt-get install chromium)');
+    if (!haveServer) throw new Error(`CI=true but ${realServePath(root)} is missing: build first`);
+    const { buildPage } = await import('../../web/build.mjs');
+    await buildPage();
+    dataDir = mkdtempSync(join(tmpdir(), 'helicord-real-archive-'));
+    emptyDir = mkdtempSync(join(tmpdir(), 'helicord-real-empty-'));
+    archive = mkdtempSync(join(tmpdir(), 'helicord-archive-'));
+    // An archive of FITS frames without velocities (inferred, as a user's would be): 40 frames at the
+    // demo story's 12 min cadence from its 24th hour, where |H| crosses the 2e42 Mx^2 level.
+    const quiet = { write: () => true } as unknown as NodeJS.WritableStream;
+    await synth({ out: archive, frames: 40, size: 64, withVelocity: false, demo: { storyH: 72, storyStartH: 24, cadenceS: 720 }, progress: quiet });
+    monitor = new RealMonitor(root, dataDir, await freePort(), 60, { demo: false, replay: { region: 'ar-replay', folder: archive, speed: 0 } });
+    empty = new RealMonitor(root, emptyDir, await freePort(), 60, { demo: false });
+    await Promise.all([monitor.start(), empty.start()]);
+    browser = await launchChromium(chromiumPath);
+    page = await browser.context.newPage();
+    page.on('pageerror', (e) => problems.push(`pageerror: ${e.message}`));
+    page.on('console', (m) => {
+      if (m.type() === 'error' && !m.text().startsWith('Failed to load resource') && !/WebSocket/.test(m.text())) problems.push(m.text());
+    });
+  }, 120_000);
+
+  afterAll(async () => {
+    await browser?.close();
+    await monitor?.stop(1000);
+    await empty?.stop(1000);
+    for (const d of [dataDir, emptyDir, archive]) if (d) rmSync(d, { recursive: true, force: true });
+  });
+
+  it('shows the replayed archive with map axes, flux, a kept colour range and a readable log', async () => {
+    await page.goto(monitor.url + '/');
+    const p = await until(page, 'the replayed archive with most of its samples', (s) => s.region === 'ar-replay' && s.samples >= 30 && s.mapFrame !== null && s.map.rasterMs > 0, 120_000);
+    const state = (await page.evaluate('window.helicordProbe.state()')) as Probe & {
+      map: { axes: { x: string[]; y: string[]; scaleBar: string }; bnRange: number; colourLimit: number };
+      fluxChart: { flux: number; yTicks: string[] };
+      rateChart: { xTicks: string[]; yTicks: string[]; bandHalfPx: number };
+    };
+    expect(state.map.axes.x.length).toBeGreaterThanOrEqual(3);
+    expect(state.map.axes.scaleBar).toMatch(/^\d+ Mm$/);
+    expect(state.rateChart.xTicks.length).toBeGreaterThanOrEqual(3);
+    expect(state.rateChart.yTicks.length).toBeGreaterThanOrEqual(3);
+    expect(state.rateChart.bandHalfPx).toBeGreaterThanOrEqual(3);
+    expect(state.fluxChart.flux).toBeGreaterThan(0);
+    expect(await page.locator('#demo-note').isVisible()).toBe(false);
+    // The colour range is the one taken from the first frame shown, kept while the replay goes on.
+    const range0 = state.map.bnRange;
+    await until(page, 'later frames on the map', (s) => s.mapFrame !== p.mapFrame, 60_000).catch(() => undefined);
+    expect(((await page.evaluate('window.helicordProbe.state()')) as typeof state).map.bnRange).toBe(range0);
+    expect(await page.locator('#alerts').innerText()).not.toMatch(/\b[a-z]+_[a-z_]+\b|\b(?:peak-rate|sign-reversal|build-up-plateau|data-gap|budget-emerging)\b/);
+    for (const [w, h] of [[1920, 1080], [800, 1000], [1280, 800]] as const) {
+      await page.setViewportSize({ width: w, height: h });
+      await page.waitForTimeout(400);
+      await page.screenshot({ path: join(shots, `real-archive-${w}.png`), fullPage: w === 800 });
+    }
+  }, 180_000);
+
+  it('on an empty monitor says how to send a frame to its own address', async () => {
+    const other = await browser.context.newPage();
+    try {
+      await other.goto(empty.url + '/');
+      await other.locator('#first-help').waitFor({ state: 'visible' });
+      const text = await other.locator('#first-help').innerText();
+      expect(text).toContain(`${empty.url}/api/regions/ar-test-`);
+      expect(text).toContain('TOKEN=$(cat ./data/token)');
+      expect(await other.locator('#feed').innerText()).not.toMatch(/connecting/);
+      for (const [w, h] of [[1920, 1080], [800, 1000], [1280, 800]] as const) {
+        await other.setViewportSize({ width: w, height: h });
+        await other.screenshot({ path: join(shots, `real-empty-${w}.png`) });
+      }
+    } finally {
+      await other.close();
+    }
+  });
 
   it('logged no page errors', () => {
     expect(problems).toEqual([]);

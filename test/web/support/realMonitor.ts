@@ -34,7 +34,11 @@ export class RealMonitor {
   url = '';
   log = '';
 
-  constructor(private readonly root: string, readonly dataDir: string, readonly port: number, private readonly demoIntervalMs = 60) {}
+  constructor(
+    private readonly root: string, readonly dataDir: string, readonly port: number, private readonly demoIntervalMs = 60,
+    /** Without the demo (an empty monitor), or with a folder of frames replayed into a region as `helicord replay` does. */
+    private readonly setup: { demo?: boolean; replay?: { region: string; folder: string; speed: number } } = {},
+  ) {}
 
   /** The bearer token the monitor made at first start (kept in its data folder). */
   token(): string {
@@ -42,9 +46,13 @@ export class RealMonitor {
   }
 
   async start(): Promise<void> {
+    const replay = this.setup.replay;
+    const archiveModule = pathToFileURL(join(this.root, 'dist', 'replay', 'archiveSource.js')).href;
     const script = `
       const { serve } = await import(${JSON.stringify(pathToFileURL(realServePath(this.root)).href)});
-      const m = await serve({ dataDir: ${JSON.stringify(this.dataDir)}, port: ${this.port}, demo: true, demoIntervalMs: ${this.demoIntervalMs}, workers: 1 });
+      ${replay ? `const { openArchive } = await import(${JSON.stringify(archiveModule)});` : ''}
+      const replays = ${replay ? `[{ region: ${JSON.stringify(replay.region)}, from: { archive: await openArchive(${JSON.stringify(replay.folder)}) }, speed: ${replay.speed} }]` : '[]'};
+      const m = await serve({ dataDir: ${JSON.stringify(this.dataDir)}, port: ${this.port}, demo: ${this.setup.demo ?? true}, demoIntervalMs: ${this.demoIntervalMs}, workers: 1, replays });
       process.on('SIGTERM', () => { m.close().then(() => process.exit(0), () => process.exit(1)); });
     `;
     // A launcher file, not `node -e`: worker threads inherit execArgv, and --input-type breaks them.
