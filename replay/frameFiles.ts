@@ -9,7 +9,13 @@ import { frameFromFits } from '../core/frameAssembly/assembleFrame.js';
 import { framesFromFileSet } from '../core/frameAssembly/componentFiles.js';
 import { parseFrameJson } from '../core/frameJson.js';
 import { InputError } from '../core/inputError.js';
+import { checkPhysicalLimits } from '../core/physicalLimits.js';
 import { fileProblem } from './fileProblem.js';
+
+function withinLimits(frame: Frame, source: string): Frame {
+  checkPhysicalLimits(frame, source);
+  return frame;
+}
 
 const FITS_NAME = /\.(fits|fts|fit)(\.gz)?$/i;
 /** Largest inflated .fits.gz accepted (a 4096^2 float64 map with five companions is ~800 MB). */
@@ -56,6 +62,11 @@ export async function readBytes(path: string, settings: FrameAssemblySettings = 
  * pixel budget, also for JSON frames and before a .gz is inflated past it.
  */
 export function frameFromFileBytes(path: string, bytes: Uint8Array, settings: FrameAssemblySettings = {}): Frame {
+  // The same physical limits as the monitor's intake: a corrupt map does not reach a budget.
+  return withinLimits(readFrameBytes(path, bytes, settings), path);
+}
+
+function readFrameBytes(path: string, bytes: Uint8Array, settings: FrameAssemblySettings): Frame {
   const name = basename(path);
   const maxPixels = settings.read?.maxPixels;
   if (/\.json$/i.test(name)) {
@@ -95,5 +106,5 @@ export async function loadFrameFileSet(paths: readonly string[], settings: Frame
     if (!FITS_NAME.test(basename(p))) throw new InputError(p, '(file)', 'a multi-file frame set takes FITS files (.fits, .fts, .fit, optionally .gz)');
     files.push({ name: p, bytes: await readBytes(p, settings) });
   }
-  return framesFromFileSet(files, settings);
+  return framesFromFileSet(files, settings).map((f) => withinLimits(f, f.provenance?.source ?? paths[0]));
 }

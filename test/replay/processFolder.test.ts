@@ -201,19 +201,26 @@ describe('a folder with bad files', () => {
     await copyFile(join(bad, 'demo_0006.json'), join(bad, 'demo_0006_again.json'));
     const other = demoRegion({ frames: 12, size: 32, withVelocity: true, startTime: Date.UTC(2026, 0, 1, 1) }).frameAt(0);
     await writeFile(join(bad, 'demo_0007_small.json'), JSON.stringify(frameToJson(other)));
+    // A frame at a time of its own with one pixel no photosphere has (core/physicalLimits.ts): taken,
+    // it would add a sample and a rate of order 1e110 Mx^2/s to the budget.
+    const eighth = demoRegion({ frames: 12, size: 48, withVelocity: true, startTime: Date.UTC(2026, 0, 1) }).frameAt(8);
+    const hotBn = Float64Array.from(eighth.bn);
+    hotBn[100] = 1e38;
+    await writeFile(join(bad, 'demo_0008_hot.json'), JSON.stringify(frameToJson({ ...eighth, time: eighth.time + 1000, bn: hotBn })));
 
     const progress = new Collect(false);
     const r = await processFolder({ folder: bad, out: join(dir, 'bad.csv'), json: join(dir, 'bad.json'), workers: 2, progress });
     await processFolder({ folder: good, out: join(dir, 'good.csv'), workers: 2, progress: new Collect(false) });
     expect(r.used).toBe(12);
     const byFile = Object.fromEntries(r.skipped.map((s) => [s.file.split('/').pop(), s.reason]));
-    expect(Object.keys(byFile).sort()).toEqual(['demo_0004x_corrupt.json', 'demo_0006_again.json', 'demo_0007_small.json']);
+    expect(Object.keys(byFile).sort()).toEqual(['demo_0004x_corrupt.json', 'demo_0006_again.json', 'demo_0007_small.json', 'demo_0008_hot.json']);
     expect(byFile['demo_0004x_corrupt.json']).toMatch(/not valid JSON/);
     expect(byFile['demo_0006_again.json']).toMatch(/same time .* as .*demo_0006\.json/);
     expect(byFile['demo_0007_small.json']).toMatch(/grid is 32x32 .* not the archive's 48x48/);
+    expect(byFile['demo_0008_hot.json']).toMatch(/bn\[100\].*1e\+38 G is beyond the physical limit/);
     expect(r.reordered.map((f) => f.split('/').pop())).toContain('zz_renamed.json');
     for (const name of Object.keys(byFile)) expect(progress.text).toContain(name);
-    expect(progress.text).toMatch(/used 12 frames, skipped 3/);
+    expect(progress.text).toMatch(/used 12 frames, skipped 4/);
     const badRows = parseCsv(await readFile(join(dir, 'bad.csv'), 'utf8'));
     const goodRows = parseCsv(await readFile(join(dir, 'good.csv'), 'utf8'));
     expect(badRows.map((x) => x.budget_total)).toEqual(goodRows.map((x) => x.budget_total));
@@ -222,7 +229,7 @@ describe('a folder with bad files', () => {
     const times = badRows.map((x) => Date.parse(x.time));
     expect([...times].sort((a, b) => a - b)).toEqual(times);
     const doc = JSON.parse(await readFile(join(dir, 'bad.json'), 'utf8'));
-    expect(doc.frames.skipped).toHaveLength(3);
+    expect(doc.frames.skipped).toHaveLength(4);
   });
 
   it('refuses a folder without frames and a missing folder, naming them', async () => {
