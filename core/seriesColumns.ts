@@ -12,6 +12,7 @@ export const SERIES_COLUMNS = [
   'rate_total_ga', 'rate_emergence', 'rate_shear', 'sigma_rate_total', 'sigma_budget_total',
   'sigma_rate_spin', 'sigma_rate_orbit', 'velocity_method', 'split_method', 'noise_g', 'masked_fraction', 'flags', 'frame_id',
   'flux_unsigned', 'budget_normalised', 'centre_lon_deg', 'centre_lat_deg', 'centre_disk_angle_deg',
+  'rate_rotation', 'rate_own_motions', 'rate_north', 'rate_south', 'budget_rotation', 'budget_north', 'budget_south', 'planar_departure',
   'braid_entropy_rate', 'braid_entropy_rate_run', 'braid_strands', 'braid_flagged_triples',
 ] as const;
 export type SeriesColumn = (typeof SERIES_COLUMNS)[number];
@@ -68,6 +69,21 @@ export interface SeriesRow {
   readonly braid_entropy_rate_run?: number | null;
   readonly braid_strands?: number | null;
   readonly braid_flagged_triples?: number | null;
+  /**
+   * A region on the sphere (core/sphere/, docs/sphere.md): the injection of the differential-rotation
+   * profile alone and the rest (the region's own motions), the rate and budget where B_r sits north and
+   * south of the equator, the rotation share's budget (Mx^2/s, Mx^2), and for a patch the planar
+   * engine's departure from the spherical answer. Filled from core/sphere/sphereColumns.ts; absent
+   * (empty CSV cells) for planar regions.
+   */
+  readonly rate_rotation?: number | null;
+  readonly rate_own_motions?: number | null;
+  readonly rate_north?: number | null;
+  readonly rate_south?: number | null;
+  readonly budget_rotation?: number | null;
+  readonly budget_north?: number | null;
+  readonly budget_south?: number | null;
+  readonly planar_departure?: number | null;
 }
 
 const finiteOrNull = (v: number | undefined): number | null => (v !== undefined && Number.isFinite(v) ? v : null);

@@ -18,6 +18,7 @@ import { fluxTransport } from '../fluxTransport.js';
 import { helicityFluxTotal } from '../helicityFlux.js';
 import { nextPowerOfTwo } from '../fft.js';
 import { pixelSpinRate } from './pixelSpin.js';
+import type { PotentialGradient } from './potentialGradient.js';
 import { potentialGradients } from './potentialGradient.js';
 import { rateFromGradient } from './sphericalHelicityFlux.js';
 import type { SphericalGrid } from './sphericalGrid.js';
@@ -123,6 +124,8 @@ export interface PatchComparisonOptions {
   /** Most row-pair work (ny^2 times the padded row) for the spherical sum (default 3.5e7, a 360 x 180 map). */
   readonly maxRowPairWork?: number;
   readonly cache?: FluxKernelCache;
+  /** grad_s psi of the patch at full resolution when already made (used when the sum is exact). */
+  readonly gradient?: PotentialGradient;
 }
 
 /** The planar and spherical rates of a patch and their distance (per frame). */
@@ -136,7 +139,7 @@ export function comparePatch(grid: SphericalGrid, t: SphericalTransport, options
   // The pair sum does not depend on the pixels' own spin: pass none.
   const noSpin = (g: SphericalGrid) => new Float64Array(g.nx * g.ny);
   if (f === 1) {
-    const g = potentialGradients(grid, [t.bn])[0];
+    const g = options.gradient ?? potentialGradients(grid, [t.bn])[0];
     const pairs = rateFromGradient(grid, t, g, t.ue, t.un, noSpin(grid)).pairs;
     return { planar, sphericalPairs: pairs, selfPixel, spherical: pairs + selfPixel, planarDeparture: (planar - pairs) / Math.abs(pairs), coarsening: 1 };
   }

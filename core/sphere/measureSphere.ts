@@ -1,0 +1,121 @@
+// One sample of a map on the sphere (whole Sun or patch): the rate, the differential-rotation share
+// and the rest (the region's own motions), the rate by hemisphere, the label split when footpoints
+// are given, and for a patch how far the planar engine is from the spherical answer. What the
+// monitor and the batch call per frame for a spherical region (docs/sphere.md).
+//
+// The spherical sums are exact when their row-pair work is within the budget (always for a 360 x
+// 180 whole Sun at the default); a larger patch is measured as the planar engine at full resolution
+// plus the curvature correction found on a coarse copy (core/sphere/patchOnSphere.ts), for the
+// rate and for the rotation share alike; then the hemispheres, the density map and the split are
+// not given (they need the spherical potential at full resolution).
+
+import { InputError } from '../inputError.js';
+import type { RotationProfile } from './differentialRotation.js';
+import { HOWARD_1990_SIDEREAL, defaultFrameRate, differentialRotationShare, rotationMotion } from './differentialRotation.js';
+import { comparePatch, rowPairWork } from './patchOnSphere.js';
+import { pixelSpinRate } from './pixelSpin.js';
+import { potentialGradients } from './potentialGradient.js';
+import { rateFromGradient, sphericalHelicityFlux } from './sphericalHelicityFlux.js';
+import type { SphericalGrid } from './sphericalGrid.js';
+import { nativeVelocity } from './sphericalGrid.js';
+import type { SphericalSplit } from './sphericalSplit.js';
+import { splitSphericalByLabels } from './sphericalSplit.js';
+import { sphericalTransport } from './sphericalTransport.js';
+
+export interface SphereSettings {
+  /** Rotation profile, sidereal microrad/s (default Howard, Harvey & Forgach 1990). */
+  readonly rotationProfile?: RotationProfile;
+  /** Rate of the frame the velocities are seen in, microrad/s (default Carrington's for CR axes, the Earth's orbit for HG). */
+  readonly frameRateMicroradPerS?: number;
+  /** Most row-pair work for an exact spherical sum (default 3.5e7, a 360 x 180 map). */
+  readonly maxRowPairWork?: number;
+}
+
+export interface SphereMaps {
+  readonly bn: ArrayLike<number>;
+  /** Toward increasing longitude and toward the north, km/s. */
+  readonly vx: ArrayLike<number>;
+  readonly vy: ArrayLike<number>;
+  readonly labels?: Int32Array;
+}
+
+export interface SphereMeasurement {
+  readonly wholeSun: boolean;
+  /** The rate, Mx^2/s: pixel pairs plus the pixels' own spin. */
+  readonly total: number;
+  readonly pairs: number;
+  readonly selfPixel: number;
+  /** The injection of the rotation profile alone, and the rest (the region's own motions), Mx^2/s. */
+  readonly rotation: number;
+  readonly ownMotions: number;
+  /** The rate where B_r sits north (latitude >= 0) and south of the equator, Mx^2/s; null when not exact. */
+  readonly north: number | null;
+  readonly south: number | null;
+  readonly rotationNorth: number | null;
+  readonly rotationSouth: number | null;
+  /** For a patch: the planar engine's rate and (planar - spherical) / |spherical| of the pair sums; coarsening 1 = exact. */
+  readonly planar?: { readonly rate: number; readonly departure: number; readonly coarsening: number };
+  readonly split?: SphericalSplit;
+  /** G_A density, Mx^2 cm^-2 s^-1 (NaN where no data); absent when not exact. */
+  readonly density?: Float64Array;
+  readonly maskedFraction: number;
+  readonly rotationProfile: RotationProfile;
+  readonly frameRateMicroradPerS: number;
+}
+
+export function measureSphere(grid: SphericalGrid, maps: SphereMaps, settings: SphereSettings = {}, source = 'map'): SphereMeasurement {
+  const profile = settings.rotationProfile ?? HOWARD_1990_SIDEREAL;
+  for (const key of ['a', 'b', 'c'] as const) {
+    if (!Number.isFinite(profile[key])) throw new InputError(source, `rotationProfile.${key}`, `${profile[key]} is not a number (microrad/s)`);
+  }
+  const frameRate = settings.frameRateMicroradPerS ?? defaultFrameRate(grid);
+  if (!Number.isFinite(frameRate)) throw new InputError(source, 'frameRateMicroradPerS', `${frameRate} is not a number`);
+  const budget = settings.maxRowPairWork ?? 3.5e7;
+  const t = sphericalTransport(grid, maps.bn, maps.vx, maps.vy, source);
+  const n = grid.nx * grid.ny;
+  const base = { wholeSun: grid.wholeSun, maskedFraction: t.maskedFraction, rotationProfile: profile, frameRateMicroradPerS: frameRate };
+
+  if (rowPairWork(grid.nx, grid.ny) > budget) {
+    if (grid.wholeSun) throw new InputError(source, 'NAXIS', `a whole-Sun map of ${grid.nx} x ${grid.ny} is beyond the work budget (maxRowPairWork ${budget}); give it at lower resolution or raise the budget`);
+    const c = comparePatch(grid, t, { maxRowPairWork: budget });
+    const m = rotationMotion(grid, profile, frameRate);
+    const { ue, un } = nativeVelocity(grid, m.vx, m.vy);
+    const none = new Float64Array(n);
+    const rt = { ...t, ue, un };
+    const rc = comparePatch(grid, rt, { maxRowPairWork: budget });
+    const rotSelf = rateFromGradient(grid, t, { ge: none, gn: none }, ue, un, m.spin).selfPixel;
+    const rotation = rc.sphericalPairs + rotSelf;
+    return {
+      ...base, total: c.spherical, pairs: c.sphericalPairs, selfPixel: c.selfPixel, rotation, ownMotions: c.spherical - rotation,
+      north: null, south: null, rotationNorth: null, rotationSouth: null,
+      planar: { rate: c.planar, departure: c.planarDeparture, coarsening: c.coarsening },
+    };
+  }
+
+  const gradient = potentialGradients(grid, [t.bn])[0];
+  const f = sphericalHelicityFlux(grid, t, gradient);
+  const rot = differentialRotationShare(grid, t, gradient, profile, frameRate);
+  // By hemisphere: the per-pixel contributions of the rate and of the rotation share.
+  const per = { pairs: new Float64Array(n), self: new Float64Array(n) };
+  rateFromGradient(grid, t, gradient, t.ue, t.un, pixelSpinRate(grid, t.ue, t.un, t.valid), per);
+  const m = rotationMotion(grid, profile, frameRate);
+  const mv = nativeVelocity(grid, m.vx, m.vy);
+  const perRot = { pairs: new Float64Array(n), self: new Float64Array(n) };
+  rateFromGradient(grid, t, gradient, mv.ue, mv.un, m.spin, perRot);
+  let north = 0, south = 0, rn = 0, rs = 0;
+  for (let i = 0; i < n; i++) {
+    const v = per.pairs[i] + per.self[i], r = perRot.pairs[i] + perRot.self[i];
+    if (grid.latDeg[i] >= 0) { north += v; rn += r; } else { south += v; rs += r; }
+  }
+  let planar: SphereMeasurement['planar'];
+  if (!grid.wholeSun) {
+    const c = comparePatch(grid, t, { maxRowPairWork: budget, gradient });
+    planar = { rate: c.planar, departure: c.planarDeparture, coarsening: c.coarsening };
+  }
+  const split = maps.labels ? splitSphericalByLabels(grid, t, maps.labels, { total: f.total }) : undefined;
+  return {
+    ...base, total: f.total, pairs: f.pairs, selfPixel: f.selfPixel, rotation: rot.total, ownMotions: f.total - rot.total,
+    north, south, rotationNorth: rn, rotationSouth: rs, density: f.density,
+    ...(planar && { planar }), ...(split && { split }),
+  };
+}
