@@ -39,7 +39,7 @@ export function ruleClock(rule: string): 'data' | 'wall' {
 
 function time(iso: string | undefined | null, clock: 'data' | 'wall'): string {
   const ms = typeof iso === 'string' ? isoToMs(iso) : Number.NaN;
-  return `${formatUtc(ms, clock === 'wall')}${clock === 'wall' ? ' (wall clock)' : ''}`;
+  return `${formatUtc(ms, clock === 'wall')} (${clock === 'wall' ? 'wall clock' : 'data time'})`;
 }
 
 function span(fromIso: unknown, toIso: unknown): string {
