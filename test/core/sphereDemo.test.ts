@@ -1,0 +1,62 @@
+// The invented whole Sun of the demo (core/sphere/inventedSun.ts) through the spherical sample and
+// its series columns: a region of the whole Sun, budgets per hemisphere and the rotation share.
+import { describe, expect, it } from 'vitest';
+import { rotationMotion, HOWARD_1990_SIDEREAL, CARRINGTON_SIDEREAL_MICRORAD_S, differentialRotationShare } from '../../core/sphere/differentialRotation.js';
+import { potentialGradients } from '../../core/sphere/potentialGradient.js';
+import { sphericalTransport } from '../../core/sphere/sphericalTransport.js';
+import { DEMO_BIPOLES, inventedSun } from '../../core/sphere/inventedSun.js';
+import { measureSphere } from '../../core/sphere/measureSphere.js';
+import { accumulateSphere, emptySphereBudget } from '../../core/sphere/sphereColumns.js';
+import { sphericalGrid } from '../../core/sphere/sphericalGrid.js';
+
+describe('the invented whole Sun', () => {
+  const start = Date.UTC(2026, 2, 1);
+
+  it('reads as a whole-Sun Carrington map, flux-balanced, dated by its keywords', () => {
+    const m = inventedSun(DEMO_BIPOLES, 3600, start, { ny: 60 });
+    const g = sphericalGrid(m.keywords, m.nx, m.ny, 'demo');
+    expect(g.wholeSun).toBe(true);
+    expect(m.keywords['DATE-OBS']).toBe('2026-03-01T01:00:00.000');
+    let flux = 0, unsigned = 0;
+    for (let i = 0; i < m.bn.length; i++) { const a = g.rowAreaMm2[Math.floor(i / g.nx)]; flux += m.bn[i] * a; unsigned += Math.abs(m.bn[i]) * a; }
+    expect(Math.abs(flux)).toBeLessThan(1e-12 * unsigned);
+  });
+
+  it('a day of 6-hourly maps: rotation share negative north and positive south, the twisting bipoles\' own motions by their sense of turning, budgets integrated per hemisphere', () => {
+    let state = emptySphereBudget();
+    const rows = [];
+    const ms = [];
+    for (let k = 0; k < 5; k++) {
+      const map = inventedSun(DEMO_BIPOLES, k * 6 * 3600, start, { ny: 90 });
+      const g = sphericalGrid(map.keywords, map.nx, map.ny, 'demo');
+      const m = measureSphere(g, map);
+      const step = accumulateSphere(state, start + k * 6 * 3600 * 1000, m);
+      state = step.state;
+      rows.push(step.columns);
+      ms.push(m);
+      if (k === 0) {
+        // Own motions are the rate of the velocity less the profile's (to the pixel spin's finite differences).
+        const rot = rotationMotion(g, HOWARD_1990_SIDEREAL, CARRINGTON_SIDEREAL_MICRORAD_S);
+        const own = measureSphere(g, { bn: map.bn, vx: map.vx.map((v, i) => v - rot.vx[i]), vy: map.vy });
+        // They differ by the profile's pixel spin taken by central differences (here) or analytically
+        // (in the share): (h^2/6) times its third derivative over its first, a few h^2 of that spin.
+        const t = sphericalTransport(g, map.bn, map.vx, map.vy);
+        const share = differentialRotationShare(g, t, potentialGradients(g, [t.bn])[0]);
+        const h = Math.PI / 90;
+        expect(Math.abs(share.selfPixel)).toBeGreaterThan(0);
+        expect(Math.abs(own.total - m.ownMotions)).toBeLessThan(3 * h * h * Math.abs(share.selfPixel));
+      }
+    }
+    for (const m of ms) {
+      expect(m.rotationNorth!).toBeLessThan(0);
+      expect(m.rotationSouth!).toBeGreaterThan(0);
+      // The northern twisting bipole turns counter-clockwise (negative), the southern clockwise.
+      expect(m.north! - m.rotationNorth!).toBeLessThan(0);
+      expect(m.south! - m.rotationSouth!).toBeGreaterThan(0);
+    }
+    const day = 24 * 3600;
+    const trapezoid = (f: (m: (typeof ms)[number]) => number) => ms.slice(1).reduce((s, m, i) => s + ((f(ms[i]) + f(m)) / 2) * 6 * 3600, 0);
+    expect(Math.abs(rows[4].budget_north! - trapezoid((m) => m.north!))).toBeLessThan(1e-12 * Math.abs(ms[0].north! * day));
+    expect(Math.abs(rows[4].budget_rotation! - trapezoid((m) => m.rotation))).toBeLessThan(1e-12 * Math.abs(ms[0].rotation * day));
+  }, 30000);
+});
