@@ -18,6 +18,8 @@ import type { ScannedFrame, SkippedFile } from '../archiveOrder.js';
 import { writeFileAtomic } from '../atomicFile.js';
 import type { BatchConfig } from '../batchConfig.js';
 import type { ChunkOutput } from '../chunkSeams.js';
+import type { SeriesRow } from '../../core/seriesColumns.js';
+import type { ThresholdCrossing } from './surveyTable.js';
 import { fileProblem } from '../fileProblem.js';
 import { decodeResult, encodeResult } from './resultCodec.js';
 import type { SurveyTask } from './taskPlan.js';
@@ -77,6 +79,28 @@ export interface TaskProvenance {
   readonly slurm?: Record<string, string>;
 }
 
+/**
+ * What a task found on its own frames, readable without the merge: its series (budget and alerts
+ * from zero at its first frame: the region's own when the task covers the whole region, otherwise
+ * the merge's are the region's), the alert crossings, and the footpoints of its last frame.
+ */
+export interface TaskSummary {
+  readonly wholeRegion: boolean;
+  readonly note?: string;
+  readonly framesUsed: number;
+  readonly skipped: readonly SkippedFile[];
+  readonly series: readonly SeriesRow[];
+  readonly alertCrossings: readonly ThresholdCrossing[];
+  /** The footpoint table of the task's last frame with footpoints (ids of this task's tracking). */
+  readonly footpoints?: {
+    readonly time: number;
+    readonly count: number;
+    readonly rows: readonly { id: number; polarity: 1 | -1; flux: number; spinBudget: number | null }[];
+    /** Events (appeared, vanished, merged, split) over the task's frames. */
+    readonly events: number;
+  };
+}
+
 export interface CompleteResult {
   readonly format: typeof RESULT_FORMAT;
   readonly status: 'complete';
@@ -84,6 +108,7 @@ export interface CompleteResult {
   /** The first frame analysed (primer frames from..start-1 only prime the state). */
   readonly primerFrom: number;
   readonly provenance: TaskProvenance;
+  readonly summary: TaskSummary;
   /** The task's chunks, raw (outcomes of its own frames, primer tables), in time order. */
   readonly chunks: readonly ChunkOutput[];
 }

@@ -3,6 +3,7 @@
 // the last sample, which alert thresholds were crossed and when), or the reason a region has no
 // result. Pure: from a region's series (replay/archiveSeries.ts).
 
+import type { RulesState } from '../../core/alerts/evaluateRules.js';
 import { alertRecords } from '../../core/alerts/evaluateRules.js';
 import { csvCell } from '../../core/seriesColumns.js';
 import type { ArchiveSeries } from '../archiveSeries.js';
@@ -59,6 +60,14 @@ export interface SurveyRow {
 /** Rules on the data rather than on the Sun: their story is in `gaps` and `frames_skipped`. */
 const DATA_RULES = new Set(['data-gap', 'refusals']);
 
+/** Every raising of an alert rule on the Sun, in time order. */
+export function thresholdCrossings(rules: RulesState): ThresholdCrossing[] {
+  return alertRecords(rules)
+    .filter((rec) => !DATA_RULES.has(rec.rule))
+    .flatMap((rec) => rec.history.filter((h) => h.to === 'raised').map((h) => ({ rule: rec.rule, time: h.time, threshold: rec.threshold, unit: rec.unit })))
+    .sort((p, q) => (p.time < q.time ? -1 : p.time > q.time ? 1 : 0));
+}
+
 const share = (part: number, whole: number) => (whole !== 0 && Number.isFinite(part / whole) ? part / whole : null);
 
 export function regionRow(region: string, planned: number, a: ArchiveSeries): SurveyRow {
@@ -66,10 +75,7 @@ export function regionRow(region: string, planned: number, a: ArchiveSeries): Su
   const last = rows.at(-1);
   let peak = rows[0];
   for (const r of rows) if (Math.abs(r.rate_total) > Math.abs(peak.rate_total)) peak = r;
-  const crossings: ThresholdCrossing[] = alertRecords(a.series.state.rules)
-    .filter((rec) => !DATA_RULES.has(rec.rule))
-    .flatMap((rec) => rec.history.filter((h) => h.to === 'raised').map((h) => ({ rule: rec.rule, time: h.time, threshold: rec.threshold, unit: rec.unit })))
-    .sort((p, q) => (p.time < q.time ? -1 : p.time > q.time ? 1 : 0));
+  const crossings = thresholdCrossings(a.series.state.rules);
   const shown = a.skipped.slice(0, 3).map((f) => `${f.file}: ${f.reason}`);
   const problem = a.skipped.length === 0 ? null
     : `skipped ${a.skipped.length} file(s): ${shown.join('; ')}${a.skipped.length > shown.length ? `; and ${a.skipped.length - shown.length} more (in the region's JSON)` : ''}`;

@@ -14,7 +14,13 @@ import type { WorkerPool } from '../workerPool.js';
 import { formatSlurmTime } from './slurmTime.js';
 import { helicordVersion, sha256File } from './provenance.js';
 import { problemText } from './regionFiles.js';
-import type { CompleteResult, FailedResult, SurveyPlan } from './surveyFolder.js';
+import type { CompleteResult, FailedResult, RegionIndex, SurveyPlan, TaskSummary } from './surveyFolder.js';
+import type { FootpointReport } from '../../core/footpoints/footpointReport.js';
+import { archiveSeries } from '../archiveSeries.js';
+import type { BatchConfig } from '../batchConfig.js';
+import type { ChunkOutput } from '../chunkSeams.js';
+import { mergeChunks } from '../chunkSeams.js';
+import { thresholdCrossings } from './surveyTable.js';
 import { RESULT_FORMAT, isComplete, readRegionIndex, startedPath, writeResult } from './surveyFolder.js';
 import type { SurveyTask } from './taskPlan.js';
 
@@ -51,12 +57,33 @@ export async function computeTask(dir: string, plan: SurveyPlan, task: SurveyTas
     settings: settings.analysis, components: settings.components, ...(tick && { tick }),
   });
   return {
-    format: RESULT_FORMAT, status: 'complete', task, primerFrom,
+    format: RESULT_FORMAT, status: 'complete', task, primerFrom, summary: taskSummary(task, index.entries, chunks, settings),
     provenance: {
       version: helicordVersion(), settingsDigest: region.settingsDigest, settings, inputs,
       host: hostname(), started, finished: new Date().toISOString(), workers: pool.size, ...(slurmIds() && { slurm: slurmIds() }),
     },
     chunks,
+  };
+}
+
+/** The task's own series, alert crossings and last footpoint table (surveyFolder.ts TaskSummary). */
+function taskSummary(task: SurveyTask, entries: RegionIndex['entries'], chunks: readonly ChunkOutput[], settings: BatchConfig): TaskSummary {
+  const merged = mergeChunks(chunks);
+  const own = archiveSeries({ entries, skipped: [] }, merged.outcomes, settings);
+  const wholeRegion = task.start === 0 && task.end === entries.length;
+  const reports = merged.outcomes.map((o) => o.extra?.footpoints as FootpointReport | undefined).filter((r): r is FootpointReport => r?.footpoints !== undefined);
+  const last = reports.at(-1);
+  return {
+    wholeRegion,
+    ...(!wholeRegion && { note: `frames ${task.start}-${task.end - 1} of ${entries.length}: budget and alerts from zero at this task's first frame; the region's come from survey merge` }),
+    framesUsed: own.used, skipped: own.skipped, series: own.series.rows,
+    alertCrossings: thresholdCrossings(own.series.state.rules),
+    ...(last && {
+      footpoints: {
+        time: last.time, count: last.count, events: reports.reduce((n, r) => n + r.events.length, 0),
+        rows: last.footpoints!.map((f) => ({ id: f.id, polarity: f.polarity, flux: f.flux, spinBudget: f.spinBudget })),
+      },
+    }),
   };
 }
 

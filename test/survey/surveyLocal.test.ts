@@ -162,6 +162,21 @@ describe('survey run --local and merge', () => {
     expect(again.rerun).toEqual([]);
     expect(await rowOf('ar-slow')).toMatchObject({ status: 'ok', frames_used: 6, samples: 5 });
     expect(await rowOf('ar-a')).toEqual(merged.rows.find((x) => x.region === 'ar-a'));
+
+    // A task's own summary: the region's series when it covers the whole region; for a chunk,
+    // the same rates with a budget from zero at its first frame.
+    const slow = (await readResult(survey, 7)) as CompleteResult;
+    const slowRows = csvRows(await readFile(join(survey, 'merged', 'regions', 'ar-slow.csv'), 'utf8'));
+    expect(slow.summary).toMatchObject({ wholeRegion: true, framesUsed: 6 });
+    expect(slow.summary.series.map((r) => [r.time, r.rate_total, r.budget_total])).toEqual(slowRows.slice(1).map((l) => [l[0], Number(l[2]), Number(l[6])]));
+    expect(slow.summary.alertCrossings).toEqual((await rowOf('ar-slow')).thresholds_crossed);
+    expect(slow.summary.footpoints!.count).toBe(slow.summary.footpoints!.rows.length);
+    const middle = (await readResult(survey, 3)) as CompleteResult;
+    expect(middle.summary.wholeRegion).toBe(false);
+    expect(middle.summary.note).toMatch(/^frames 4-8 of 14: budget and alerts from zero/);
+    const bRows = csvRows(await readFile(join(survey, 'merged', 'regions', 'ar-b.csv'), 'utf8')).slice(1);
+    expect(middle.summary.series.map((r) => [r.time, r.rate_total])).toEqual(bRows.slice(3, 8).map((l) => [l[0], Number(l[2])]));
+    expect(middle.summary.series[0].budget_total).not.toBe(Number(bRows[3][6]));
   }, 180_000);
 
   it('refuses results of another version or other settings, and a frame reported by two tasks', async () => {
