@@ -49,11 +49,12 @@ export function clusterMoments(moments: readonly Moment[], minGapPx: number): Mo
 /**
  * Label boxes for markers at the given x positions: each label tries the right of its marker, then
  * the left, in lane 0, 1, ... (lane k at top + k * height); a label that fits in no lane is left
- * out (undefined: the marker keeps its number, the log has the words). Boxes stay inside
- * [left, right] and clear of `blocked` (the markers themselves, other labels).
+ * out (undefined: the marker stays, the log has the words). Boxes stay inside [left, right],
+ * clear of `blocked` (the markers themselves, other labels) and, given `curves`, of the drawn curves.
  */
 export function placeMarkerLabels(
   items: readonly { px: number; width: number }[], height: number, top: number, left: number, right: number, lanes: number, blocked: readonly Box[],
+  curves?: CurveColumns,
 ): (Box | undefined)[] {
   const taken = blocked.slice();
   return items.map(({ px, width }) => {
@@ -62,7 +63,7 @@ export function placeMarkerLabels(
       for (const x of [px + 9, px - 9 - width]) {
         if (x < left || x + width > right) continue;
         const box = { x, y, w: width, h: height };
-        if (taken.some((b) => boxesOverlap(b, box))) continue;
+        if (taken.some((b) => boxesOverlap(b, box)) || (curves !== undefined && boxHitsCurves(curves, box))) continue;
         taken.push(box);
         return box;
       }

@@ -205,7 +205,7 @@ const marksPlugin: Plugin<'line'> = {
     for (const c of clusters) markerBoxes.push({ x: c.px - 6, y: a.top, w: 12, h: 10 });
     ctx.font = '10px system-ui, sans-serif';
     const texts = clusters.map((c) => c.labels.join(', '));
-    const placed = placeMarkerLabels(texts.map((t, i) => ({ px: clusters[i].px, width: ctx.measureText(t).width + 6 })), 13, a.top, a.left, a.right, 2, markerBoxes);
+    const placed = placeMarkerLabels(texts.map((t, i) => ({ px: clusters[i].px, width: ctx.measureText(t).width + 6 })), 13, a.top, a.left, a.right, 3, markerBoxes, cols);
     clusters.forEach((c, i) => {
       ctx.strokeStyle = SERIES_STYLE.marker;
       ctx.lineWidth = 1.5;
@@ -340,7 +340,7 @@ export function createSeriesChart(canvas: HTMLCanvasElement, kind: ChartKind): L
         x: UTC_TIME_AXIS as never,
         y: {
           // Headroom above the data for the alert markers along the top.
-          grace: '12%',
+          grace: '18%',
           ticks: { callback: (v) => formatSci(Number(v), 2) },
           title: { display: true, text: kind === 'rate' ? `dH/dt (${unit})` : `H (${unit})` },
         },

@@ -18,9 +18,10 @@ export function axisTicks(min: number, max: number, maxTicks: number): number[] 
   return out;
 }
 
-/** Tick text: no trailing zeros, at most one decimal below 10. */
+/** Tick text: no trailing zeros, at most one decimal below 10, a minus sign for negatives. */
 export function tickText(v: number): string {
-  return Math.abs(v) >= 10 || Number.isInteger(v) ? String(Math.round(v)) : v.toFixed(1);
+  const text = Math.abs(v) >= 10 || Number.isInteger(v) ? String(Math.round(v)) : v.toFixed(1);
+  return text.replace('-', '\u2212'); // a true minus sign, as everywhere on the page
 }
 
 /** A scale bar: the round length (1, 2, 5 x 10^k Mm) whose bar is at most maxPx long. */
@@ -31,4 +32,38 @@ export function scaleBar(pxPerMm: number, maxPx: number): { mm: number; px: numb
   let mm = p;
   for (const m of [1, 2, 5]) if (m * p <= maxMm) mm = m * p;
   return { mm, px: mm * pxPerMm };
+}
+
+/**
+ * Round ticks along a map edge from the world values at its pixels (`values[i]` at pixel i, in
+ * degrees, NaN where the projection gives none): each tick's fractional pixel position where the
+ * values cross it, by linear interpolation. Longitudes are unwrapped first (359.9 -> 360.1, not 0.1)
+ * and labelled back in 0..360.
+ */
+export function edgeTicks(values: readonly number[], maxTicks: number, longitude = false): { pos: number; value: number }[] {
+  const v = values.slice();
+  if (longitude) {
+    for (let i = 1; i < v.length; i++) {
+      if (!Number.isFinite(v[i]) || !Number.isFinite(v[i - 1])) continue;
+      while (v[i] - v[i - 1] > 180) v[i] -= 360;
+      while (v[i] - v[i - 1] < -180) v[i] += 360;
+    }
+  }
+  const finite = v.filter((x) => Number.isFinite(x));
+  if (finite.length < 2) return [];
+  const ticks = axisTicks(Math.min(...finite), Math.max(...finite), maxTicks);
+  const out: { pos: number; value: number }[] = [];
+  for (const t of ticks) {
+    for (let i = 1; i < v.length; i++) {
+      const a = v[i - 1];
+      const b = v[i];
+      if (!Number.isFinite(a) || !Number.isFinite(b) || a === b) continue;
+      if ((t - a) * (t - b) <= 0) {
+        const value = longitude ? ((t % 360) + 360) % 360 : t;
+        out.push({ pos: i - 1 + (t - a) / (b - a), value: Math.abs(value) < 1e-9 ? 0 : value });
+        break;
+      }
+    }
+  }
+  return out;
 }

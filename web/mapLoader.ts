@@ -60,7 +60,7 @@ export class MapLoader {
     if (hit) return hit;
     const a = await getJson<MapAnswer>(routes.map(region, frameId, layer));
     const data = decodeFloat32Base64(a.data, a.nx * a.ny, `map ${layer} of frame ${frameId}`);
-    return this.remember(key, { data, nx: a.nx, ny: a.ny, dx: a.dx, dy: a.dy, unit: a.unit });
+    return this.remember(key, { data, nx: a.nx, ny: a.ny, dx: a.dx, dy: a.dy, unit: a.unit, ...(a.wcs && { wcs: a.wcs }) });
   }
 
   private async footpoints(region: string, frameId: string | number): Promise<FootpointsAnswer> {

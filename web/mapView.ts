@@ -4,7 +4,9 @@
 // highlight only redraws the vector layer over the cached image.
 
 import { buildLut, GREYS, niceCeil, PURPLE_ORANGE, rasterize, robustAbsLimit, symmetricTicks } from './colourScale.js';
-import { axisTicks, scaleBar, tickText } from './mapAxes.js';
+import { pixelToWorld } from '../core/frameAssembly/wcs.js';
+import { axisTicks, edgeTicks, scaleBar, tickText } from './mapAxes.js';
+import type { MapWcs } from './wire.js';
 import { equalAreaRadius, fitMap, fromCanvas, glyphArc, hitFootpoint, splitTrack, toCanvas, type MapFit } from './mapGeometry.js';
 import { OKABE_ITO } from './palette.js';
 import { rotationCell } from './ledgerCells.js';
@@ -18,6 +20,8 @@ export interface MapLayer {
   dx: number;
   dy: number;
   unit: string;
+  /** Heliographic (or other spherical) world coordinates of the pixels, when the monitor sends them. */
+  wcs?: MapWcs;
 }
 
 export interface MapScene {
@@ -37,8 +41,8 @@ export interface MapDrawReport {
   highlighted: string | null;
   rasterMs: number;
   drawMs: number;
-  /** Tick labels drawn on the axes (Mm) and the scale bar's text. */
-  axes: { x: string[]; y: string[]; scaleBar: string };
+  /** Tick labels drawn on the axes (Mm), the degree axes (top, right) when the frame has a WCS, and the scale bar's text. */
+  axes: { x: string[]; y: string[]; lon: string[]; lat: string[]; worldAxes: string; scaleBar: string };
 }
 
 /** What the map shows under the pointer. */
@@ -49,11 +53,15 @@ export interface MapProbe {
   /** undefined: the G_theta layer is not loaded (yet); null: no data at that pixel. */
   gtheta: number | null | undefined;
   gthetaUnit: string;
+  /** Heliographic longitude and latitude of the pixel, degrees, and their frame, when the map has a WCS. */
+  world?: { lon: number; lat: number; name: string };
 }
 
 /** Room around the map for the axes (CSS px). */
 const MARGIN = { left: 44, right: 8, top: 6, bottom: 34 };
-const NO_AXES = { x: [] as string[], y: [] as string[], scaleBar: '' };
+const NO_AXES = { x: [] as string[], y: [] as string[], lon: [] as string[], lat: [] as string[], worldAxes: '', scaleBar: '' };
+/** Extra room for the degree axes (top and right) when the frame has world coordinates. */
+const WORLD_MARGIN = { top: 30, right: 36 };
 
 const PURPLE_ORANGE_LUT = buildLut(PURPLE_ORANGE, 256);
 /** A track step longer than this (or twice the footpoint's radius) is a hand-over, not motion, Mm. */
@@ -142,7 +150,12 @@ export class MapView {
       const v = layer.data[iy * layer.nx + ix];
       return Number.isFinite(v) ? v : null;
     };
-    return { xMm: x, yMm: y, bn: at(s.bn), gtheta: s.gtheta ? at(s.gtheta) : undefined, gthetaUnit: s.gtheta?.unit ?? '' };
+    const hg = heliographic(s.bn.wcs);
+    const w = hg ? pixelToWorld(hg.wcs, ix + 1, iy + 1) : undefined;
+    return {
+      xMm: x, yMm: y, bn: at(s.bn), gtheta: s.gtheta ? at(s.gtheta) : undefined, gthetaUnit: s.gtheta?.unit ?? '',
+      ...(w && hg && { world: { lon: w[0], lat: w[1], name: hg.name } }),
+    };
   }
 
   setOverlay(on: boolean): void {
@@ -257,8 +270,11 @@ export class MapView {
       this.drawBar();
       return;
     }
-    const inner = fitMap(s.bn.nx, s.bn.ny, s.bn.dx, s.bn.dy, w - MARGIN.left - MARGIN.right, h - MARGIN.top - MARGIN.bottom);
-    const fit = { ...inner, offX: inner.offX + MARGIN.left, offY: inner.offY + MARGIN.top };
+    const world = heliographic(s.bn.wcs);
+    const top = MARGIN.top + (world ? WORLD_MARGIN.top : 0);
+    const right = MARGIN.right + (world ? WORLD_MARGIN.right : 0);
+    const inner = fitMap(s.bn.nx, s.bn.ny, s.bn.dx, s.bn.dy, w - MARGIN.left - right, h - top - MARGIN.bottom);
+    const fit = { ...inner, offX: inner.offX + MARGIN.left, offY: inner.offY + top };
     this.fit = fit;
     ctx.imageSmoothingEnabled = fit.sx < 1; // upscaled maps show their pixels
     ctx.drawImage(this.image, fit.offX, fit.offY, s.bn.nx * fit.sx, s.bn.ny * fit.sy);
@@ -270,8 +286,9 @@ export class MapView {
     const bar = this.drawScaleBar(ctx, fit);
     ctx.restore();
     const axes = this.drawAxes(ctx, fit);
+    const degrees = world ? this.drawWorldAxes(ctx, fit, world) : { lon: [], lat: [], worldAxes: '' };
     this.drawBar();
-    this.report = { ...rep, axes: { ...axes, scaleBar: bar }, rasterMs: this.report.rasterMs, drawMs: performance.now() - t0 };
+    this.report = { ...rep, axes: { ...axes, ...degrees, scaleBar: bar }, rasterMs: this.report.rasterMs, drawMs: performance.now() - t0 };
   }
 
   /** Axes in Mm along the bottom and the left of the map: x = ix·dx at pixel centres, +y up. */
@@ -315,6 +332,55 @@ export class MapView {
     ctx.fillText('y (Mm)', 0, 0);
     ctx.restore();
     return { x: xs, y: ys };
+  }
+
+  /**
+   * Degree axes from the frame's WCS: longitude along the top edge, latitude along the right edge,
+   * ticks where the edge pixels' world values cross round degrees (core's pixelToWorld, checked
+   * against astropy in test/fits/wcs.test.ts). Along a tilted or oblique projection these are the
+   * values at the edge, which is what an edge tick says.
+   */
+  private drawWorldAxes(ctx: CanvasRenderingContext2D, fit: MapFit, world: { wcs: MapWcs; name: string }): { lon: string[]; lat: string[]; worldAxes: string } {
+    const { wcs, name } = world;
+    const nx = fit.nx;
+    const ny = fit.ny;
+    // FITS pixels are 1-based, at pixel centres; the top row of the picture is row ny.
+    const top = Array.from({ length: nx }, (_, i) => pixelToWorld(wcs, i + 1, ny)?.[0] ?? Number.NaN);
+    const side = Array.from({ length: ny }, (_, j) => pixelToWorld(wcs, nx, j + 1)?.[1] ?? Number.NaN);
+    const x0 = fit.offX;
+    const y0 = fit.offY;
+    const wPx = nx * fit.sx;
+    const hPx = ny * fit.sy;
+    const lon: string[] = [];
+    const lat: string[] = [];
+    ctx.save();
+    ctx.fillStyle = '#222';
+    ctx.font = '11px system-ui, sans-serif';
+    ctx.textAlign = 'center';
+    ctx.textBaseline = 'bottom';
+    for (const t of edgeTicks(top, Math.max(2, Math.floor(wPx / 70)), true)) {
+      const px = x0 + (t.pos + 0.5) * fit.sx;
+      ctx.fillRect(Math.round(px), y0 - 4, 1, 4);
+      const text = `${tickText(t.value)}°`;
+      ctx.fillText(text, px, y0 - 5);
+      lon.push(text);
+    }
+    ctx.fillText(`${name} longitude (°), along the top edge`, x0 + wPx / 2, y0 - 18);
+    ctx.textAlign = 'left';
+    ctx.textBaseline = 'middle';
+    for (const t of edgeTicks(side, Math.max(2, Math.floor(hPx / 45)))) {
+      const py = y0 + hPx - (t.pos + 0.5) * fit.sy;
+      ctx.fillRect(x0 + wPx, Math.round(py), 4, 1);
+      const text = `${tickText(t.value)}°`;
+      ctx.fillText(text, x0 + wPx + 6, py);
+      lat.push(text);
+    }
+    ctx.translate(x0 + wPx + 32, y0 + hPx / 2);
+    ctx.rotate(Math.PI / 2);
+    ctx.textAlign = 'center';
+    ctx.fillText(`${name} latitude (°)`, 0, 0);
+    ctx.restore();
+    return { lon, lat, worldAxes: name };
   }
 
   /** A scale bar of a round length in the bottom-right corner of the map, on a light plate. */
@@ -548,4 +614,11 @@ function wrapText(ctx: CanvasRenderingContext2D, text: string, x: number, y: num
     lines++;
   }
   return lines;
+}
+
+/** The frame's WCS when its axes are heliographic (Carrington or Stonyhurst), with their name. */
+function heliographic(wcs: MapWcs | undefined): { wcs: MapWcs; name: string } | undefined {
+  const head = wcs?.ctype[0]?.slice(0, 4).toUpperCase();
+  if (!wcs || (head !== 'CRLN' && head !== 'HGLN')) return undefined;
+  return { wcs, name: head === 'CRLN' ? 'Carrington' : 'Stonyhurst' };
 }

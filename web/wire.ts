@@ -71,6 +71,10 @@ export interface FootpointsAnswer {
   tracks: Record<string, [number, number][]>;
 }
 
+/** The frame's world coordinates (FITS WCS as core/frameAssembly/wcs.ts reads them), when the
+ *  answer carries them: the monitor does not send them on the map route yet (they are in maps.fits). */
+export type MapWcs = import('../core/frameAssembly/wcs.js').FrameWcs;
+
 export interface MapAnswer {
   frame_id: string | number;
   time: string;
@@ -82,6 +86,7 @@ export interface MapAnswer {
   dy: number;
   encoding: 'float32-base64';
   data: string;
+  wcs?: MapWcs | null;
 }
 
 export type AlertState = 'quiet' | 'rising' | 'raised' | 'settled';

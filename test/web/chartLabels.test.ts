@@ -54,3 +54,16 @@ describe('threshold labels', () => {
     expect(boxesOverlap({ x: 0, y: 0, w: 10, h: 10 }, { x: 10, y: 0, w: 10, h: 10 })).toBe(false);
   });
 });
+
+describe('marker labels and curves', () => {
+  it('keep off a curve that runs along the top, or stay out', () => {
+    // A curve along y = 5 from x = 0 to 400: the first lane (y 0-13) is on it, the second (13-26) is free.
+    const cols = curveColumns([[{ x: 0, y: 5 }, { x: 400, y: 5 }]], 0, 400, 2);
+    const [box] = placeMarkerLabels([{ px: 200, width: 60 }], 13, 0, 0, 400, 3, [], cols);
+    expect(box).toBeDefined();
+    expect(box!.y).toBe(13);
+    expect(boxHitsCurves(cols, box!)).toBe(false);
+    const filled = curveColumns([[{ x: 0, y: 5 }, { x: 400, y: 5 }], [{ x: 0, y: 20 }, { x: 400, y: 20 }], [{ x: 0, y: 33 }, { x: 400, y: 33 }]], 0, 400, 2);
+    expect(placeMarkerLabels([{ px: 200, width: 60 }], 13, 0, 0, 400, 3, [], filled)).toEqual([undefined]);
+  });
+});

@@ -12,7 +12,7 @@ import { fileURLToPath } from 'node:url';
 import type { Page } from 'playwright-core';
 import { announceMissingChromium, chromiumPath, inCi, launchChromium, screenshotDir, type LaunchedBrowser, waitForProbe } from './support/browser.js';
 import { niceCeil, robustAbsLimit } from '../../web/colourScale.js';
-import { bnMap, FAKE_TOKEN, FakeMonitor, newRegionState, pushFrame, raiseBudgetAlert, raiseCrowdedAlerts, type FakeRegionState } from './support/fakeMonitor.js';
+import { bnMap, CEA_WCS, FAKE_TOKEN, FakeMonitor, newRegionState, pushFrame, raiseBudgetAlert, raiseCrowdedAlerts, type FakeRegionState } from './support/fakeMonitor.js';
 
 const root = fileURLToPath(new URL('../..', import.meta.url));
 
@@ -28,7 +28,7 @@ type Probe = {
   alerts: { id: string; state: string; acknowledged: boolean }[];
   map: {
     footpoints: number; outlines: number; glyphs: number; tracks: number; highlighted: string | null; colourBar: string; colourLimit: number; bnRange: number | null;
-    axes: { x: string[]; y: string[]; scaleBar: string };
+    axes: { x: string[]; y: string[]; lon: string[]; lat: string[]; worldAxes: string; scaleBar: string };
   };
   rateChart: ChartProbe;
   budgetChart: ChartProbe & { thresholds: number[] };
@@ -464,6 +464,34 @@ describe.skipIf(!chromiumPath && !inCi)('dashboard in Chromium against the test 
     } finally {
       await other.close();
       await empty.close();
+    }
+  });
+
+  it('adds heliographic degree axes and the pointer position in degrees when the maps carry a WCS', async () => {
+    const cea = newRegionState('ar-cea');
+    cea.wcs = CEA_WCS;
+    for (let k = 0; k < 4; k++) pushFrame(cea, k);
+    const withWcs = new FakeMonitor(new Map([['ar-cea', cea]]), outDir);
+    await withWcs.listen();
+    const other = await browser.context.newPage();
+    try {
+      await other.goto(withWcs.url + '/');
+      const p = await until(other, 'the map with degree axes', (s) => s.map.axes.lon.length > 0);
+      // Carrington 121.25 +- 48 pixels of 0.0593 deg (about 2.8 deg) along the top edge; -18.5 +- 2.8 on the right.
+      expect(p.map.axes.worldAxes).toBe('Carrington');
+      const degrees = (labels: string[]): number[] => labels.map((l) => Number(l.replace('°', '').replace('−', '-')));
+      expect(p.map.axes.lon.length).toBeGreaterThanOrEqual(2);
+      for (const v of degrees(p.map.axes.lon)) expect(Math.abs(v - 121.25)).toBeLessThan(3);
+      expect(p.map.axes.lat.length).toBeGreaterThanOrEqual(2);
+      for (const v of degrees(p.map.axes.lat)) expect(Math.abs(v + 18.5)).toBeLessThan(3);
+      expect(p.map.axes.x).toEqual(expect.arrayContaining(['0', '20', '40', '60']));
+      const box = (await other.locator('#map').boundingBox())!;
+      await other.mouse.move(box.x + box.width / 2, box.y + box.height / 2);
+      await other.locator('#map-readout').filter({ hasText: /Carrington 12[01]\.\d\d°, −1[89]\.\d\d°/ }).waitFor();
+      await other.locator('.panel.map').screenshot({ path: join(shots, 'fake-14-map-degrees.png') });
+    } finally {
+      await other.close();
+      await withWcs.close();
     }
   });
 

@@ -1,7 +1,9 @@
 // The map's axes and scale bar: round ticks (1, 2, 5 x 10^k Mm) over the map's extent and a bar
 // of a round length no longer than asked.
 import { describe, expect, it } from 'vitest';
-import { axisTicks, niceStep, scaleBar, tickText } from '../../web/mapAxes.js';
+import { axisTicks, edgeTicks, niceStep, scaleBar, tickText } from '../../web/mapAxes.js';
+import { pixelToWorld } from '../../core/frameAssembly/wcs.js';
+import { CEA_WCS } from './support/fakeMonitor.js';
 
 describe('map axes', () => {
   it('tick round values inside the extent', () => {
@@ -11,6 +13,7 @@ describe('map axes', () => {
     expect(niceStep(92, 4)).toBe(50);
     expect(niceStep(0.9, 5)).toBe(0.2);
     expect(axisTicks(0, 1, 5).map(tickText)).toEqual(['0', '0.2', '0.4', '0.6', '0.8', '1']);
+    expect([-18, -0.5].map(tickText)).toEqual(['−18', '−0.5']);
   });
 
   it('draw a scale bar of a round length, at most the pixels given', () => {
@@ -18,5 +21,26 @@ describe('map axes', () => {
     expect(scaleBar(4, 200)).toEqual({ mm: 50, px: 200 });
     expect(scaleBar(0.5, 120)).toEqual({ mm: 200, px: 100 });
     expect(scaleBar(0, 120)).toEqual({ mm: 0, px: 0 });
+  });
+});
+
+describe('degree ticks along an edge', () => {
+  it('sit where the edge pixels cross round degrees', () => {
+    // Values 10.2, 10.7, 11.2, 11.7 at pixels 0..3, ticks every 0.5: 11 is crossed 0.6 of the way from pixel 1 to 2.
+    const t = edgeTicks([10.2, 10.7, 11.2, 11.7], 3);
+    expect(t.map((x) => x.value)).toEqual([10.5, 11, 11.5]);
+    expect(t.map((x) => x.pos)).toEqual([0.6, 1.6, 2.6].map((p) => expect.closeTo(p, 9)));
+    // Longitudes across 0/360 are unwrapped and labelled back in 0..360.
+    const ticks = edgeTicks([359.2, 359.7, 0.2, 0.7], 3, true);
+    expect(ticks.map((x) => x.value)).toEqual([359.5, 0, 0.5]);
+    expect(ticks[1].pos).toBeCloseTo(1.6, 9);
+  });
+
+  it('match the core WCS (astropy-checked) at the tick positions of a CEA Carrington frame', () => {
+    const top = Array.from({ length: 96 }, (_, i) => pixelToWorld(CEA_WCS, i + 1, 96)![0]);
+    for (const t of edgeTicks(top, 6, true)) {
+      // The world longitude at the tick's fractional pixel, from the WCS itself.
+      expect(pixelToWorld(CEA_WCS, t.pos + 1, 96)![0]).toBeCloseTo(t.value, 3);
+    }
   });
 });

@@ -29,6 +29,7 @@ export function centreWords(s: Pick<WireSample, 'centre_lon_deg' | 'centre_lat_d
 export function mapReadoutLines(p: MapProbe): string[] {
   return [
     `x ${p.xMm.toFixed(1)} Mm, y ${p.yMm.toFixed(1)} Mm`,
+    ...(p.world ? [`${p.world.name} ${p.world.lon.toFixed(2)}°, ${p.world.lat >= 0 ? '+' : '−'}${Math.abs(p.world.lat).toFixed(2)}°`] : []),
     `Bn ${p.bn === null ? '— (no data)' : formatGauss(p.bn)}`,
     `G_θ ${p.gtheta === undefined ? 'loading…' : p.gtheta === null ? '— (no data)' : `${formatSci(p.gtheta, 3)} ${prettyUnit(p.gthetaUnit)}`}`,
   ];

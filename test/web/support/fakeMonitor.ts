@@ -5,6 +5,7 @@
 
 import express from 'express';
 import { createServer, type Server } from 'node:http';
+import type { MapWcs } from '../../../web/wire.js';
 import type { AddressInfo } from 'node:net';
 import { WebSocketServer, type WebSocket } from 'ws';
 import { pageRouter } from '../../../server/staticPage.js';
@@ -31,6 +32,8 @@ export interface FakeRegionState {
   refusals: { time_received: string; source: string; reason: string; field: string }[];
   replay: ReplayInfo | null;
   replayActions: { action: string; value?: unknown }[];
+  /** World coordinates sent with the maps (the real monitor does not send them on the map route yet). */
+  wcs?: MapWcs;
 }
 
 export const FAKE_TOKEN = 'fake-token-for-tests';
@@ -162,7 +165,7 @@ export class FakeMonitor {
       const data = layer === 'gtheta' ? gthetaMap(k) : bnMap(k);
       res.json({
         frame_id: k, time: f.time, layer, unit: layer === 'gtheta' ? 'Mx^2 s^-1 cm^-2' : 'G', nx: GRID, ny: GRID, dx: DX, dy: DX,
-        encoding: 'float32-base64', data: Buffer.from(data.buffer).toString('base64'),
+        encoding: 'float32-base64', data: Buffer.from(data.buffer).toString('base64'), ...(r.wcs && { wcs: r.wcs }),
       });
     });
     app.get('/api/regions/:region/alerts', (req, res) => {
@@ -280,6 +283,12 @@ export class FakeMonitor {
 export function fluxAt(k: number): number {
   return 4.4e21 * (1 + 0.02 * k);
 }
+
+/** A Carrington CEA grid for the double's 96 x 96 maps: 0.0593 deg pixels (0.72 Mm at one solar
+ *  radius, 696 Mm: 0.72 / (696 pi / 180)), centred at Carrington 121.25, -18.5 (invented). */
+export const CEA_WCS: MapWcs = {
+  ctype: ['CRLN-CEA', 'CRLT-CEA'], cunit: ['deg', 'deg'], crpix: [48.5, 48.5], crval: [121.25, -18.5], cdelt: [0.0593, 0.0593], pc: [1, 0, 0, 1], pv: {},
+};
 
 /** Adds frame k (and its sample) to the state; with a monitor, tells its viewers. */
 export function pushFrame(r: FakeRegionState, k: number, monitor?: FakeMonitor, options: { skipGapBefore?: boolean } = {}): WireSample {
