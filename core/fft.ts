@@ -99,18 +99,26 @@ export function fftColumns(
   }
 }
 
-function fftColumnBlock(
+/**
+ * The transform of columns c0..c1 of a row-major block of `width` columns (fftColumns' step).
+ * With `inputBitReversed` the rows already stand in bit-reversed order (the caller wrote input row
+ * i to row rev[i]) and the permutation is skipped; with `upperHalfZero` as well, input rows >= n/2
+ * are taken as zero and never read (they sit at the odd rows), so they need not be written.
+ */
+export function fftColumnBlock(
   plan: FftPlan, re: Float64Array, im: Float64Array, width: number, c0: number, c1: number,
-  sign: -1 | 1, upperHalfZero: boolean,
+  sign: -1 | 1, upperHalfZero: boolean, inputBitReversed = false,
 ): void {
   const { n, cos, sin, rev } = plan;
-  for (let i = 0; i < n; i++) {
-    const j = rev[i];
-    if (j > i) {
-      const a = i * width, b = j * width;
-      for (let c = c0; c < c1; c++) {
-        let t = re[a + c]; re[a + c] = re[b + c]; re[b + c] = t;
-        t = im[a + c]; im[a + c] = im[b + c]; im[b + c] = t;
+  if (!inputBitReversed) {
+    for (let i = 0; i < n; i++) {
+      const j = rev[i];
+      if (j > i) {
+        const a = i * width, b = j * width;
+        for (let c = c0; c < c1; c++) {
+          let t = re[a + c]; re[a + c] = re[b + c]; re[b + c] = t;
+          t = im[a + c]; im[a + c] = im[b + c]; im[b + c] = t;
+        }
       }
     }
   }
@@ -150,30 +158,48 @@ function fftColumnBlock(
     }
     size = 8;
   }
-  // Two radix-2 stages (sizes s and 2s) per pass over the rows: four rows a, b = a + s/2,
-  // c = a + s, d = c + s/2 go through both stages in registers, halving memory traffic.
+  // Two radix-2 stages (sizes s and 2s) per pass over the rows, as one radix-4 butterfly: four
+  // rows a, b = a + s/2, c = a + s, d = c + s/2 go through both stages in registers (half the
+  // memory traffic), with three twiddle products instead of four (W_2s^(j+s/2) = sign*i W_2s^j).
+  const halfN = n >> 1;
   for (; size * 2 <= n; size <<= 2) {
     const h = size >> 1;
-    const s1 = n / size, s2 = n / (2 * size);
+    const s2 = n / (2 * size), s1 = 2 * s2;
     for (let g = 0; g < n; g += 2 * size) {
-      for (let j = 0; j < h; j++) {
+      {
+        // j = 0: every twiddle is 1.
+        const a = g * width, b = a + h * width, cc = a + size * width, d = cc + h * width;
+        for (let c = c0; c < c1; c++) {
+          const ar = re[a + c], ai = im[a + c], br = re[b + c], bi = im[b + c];
+          const cr = re[cc + c], ci = im[cc + c], dr = re[d + c], di = im[d + c];
+          const a1r = ar + br, a1i = ai + bi, b1r = ar - br, b1i = ai - bi;
+          const u1r = cr + dr, u1i = ci + di, vr = cr - dr, vi = ci - di;
+          const u2r = -sign * vi, u2i = sign * vr;
+          re[a + c] = a1r + u1r; im[a + c] = a1i + u1i;
+          re[cc + c] = a1r - u1r; im[cc + c] = a1i - u1i;
+          re[b + c] = b1r + u2r; im[b + c] = b1i + u2i;
+          re[d + c] = b1r - u2r; im[d + c] = b1i - u2i;
+        }
+      }
+      for (let j = 1; j < h; j++) {
         const w1r = cos[j * s1], w1i = sign * sin[j * s1];
         const w2r = cos[j * s2], w2i = sign * sin[j * s2];
-        const w3r = cos[(j + h) * s2], w3i = sign * sin[(j + h) * s2];
+        // W^(3j) beyond the table's half turn: cos, sin of (k - n/2) with the sign flipped.
+        const k3 = 3 * j * s2;
+        const w3r = k3 < halfN ? cos[k3] : -cos[k3 - halfN];
+        const w3i = sign * (k3 < halfN ? sin[k3] : -sin[k3 - halfN]);
         const a = (g + j) * width, b = a + h * width, cc = a + size * width, d = cc + h * width;
         for (let c = c0; c < c1; c++) {
           const ar = re[a + c], ai = im[a + c];
-          const br = re[b + c], bi = im[b + c];
-          const cr = re[cc + c], ci = im[cc + c];
-          const dr = re[d + c], di = im[d + c];
-          // stage of size s on (a, b) and (c, d)
-          const t1r = w1r * br - w1i * bi, t1i = w1r * bi + w1i * br;
-          const t2r = w1r * dr - w1i * di, t2i = w1r * di + w1i * dr;
-          const a1r = ar + t1r, a1i = ai + t1i, b1r = ar - t1r, b1i = ai - t1i;
-          const c1r = cr + t2r, c1i = ci + t2i, d1r = cr - t2r, d1i = ci - t2i;
-          // stage of size 2s on (a, c) and (b, d)
-          const u1r = w2r * c1r - w2i * c1i, u1i = w2r * c1i + w2i * c1r;
-          const u2r = w3r * d1r - w3i * d1i, u2i = w3r * d1i + w3i * d1r;
+          const xr = re[b + c], xi = im[b + c];
+          const yr = re[cc + c], yi = im[cc + c];
+          const zr = re[d + c], zi = im[d + c];
+          const br = w1r * xr - w1i * xi, bi = w1r * xi + w1i * xr;
+          const cr = w2r * yr - w2i * yi, ci = w2r * yi + w2i * yr;
+          const dr = w3r * zr - w3i * zi, di = w3r * zi + w3i * zr;
+          const a1r = ar + br, a1i = ai + bi, b1r = ar - br, b1i = ai - bi;
+          const u1r = cr + dr, u1i = ci + di, vr = cr - dr, vi = ci - di;
+          const u2r = -sign * vi, u2i = sign * vr;
           re[a + c] = a1r + u1r; im[a + c] = a1i + u1i;
           re[cc + c] = a1r - u1r; im[cc + c] = a1i - u1i;
           re[b + c] = b1r + u2r; im[b + c] = b1i + u2i;
@@ -278,4 +304,118 @@ export function realInverseFftRow(
   const pairs = len >> 1;
   for (let i = 0, o = outOffset; i < pairs; i++, o += 2) { out[o] = zr[i] * s; out[o + 1] = zi[i] * s; }
   if (len & 1) out[outOffset + len - 1] = zr[pairs] * s;
+}
+
+/** Rows the batched real transforms take together: a block of N/2 x ROW_BLOCK stays in cache. */
+export const ROW_BLOCK = 16;
+
+/** Scratch for the batched real transforms of one plan: N/2 rows of ROW_BLOCK columns. */
+export interface RowBlock {
+  readonly re: Float64Array;
+  readonly im: Float64Array;
+}
+
+export function createRowBlock(plan: RealFftPlan): RowBlock {
+  const size = Math.max(1, plan.n >> 1) * ROW_BLOCK;
+  return { re: new Float64Array(size), im: new Float64Array(size) };
+}
+
+/**
+ * realFftRow for `rows` rows at once: row r of x starts at inOffset + r*inStride (`count` values,
+ * zero-extended to N), its half spectrum goes to outRe/outIm[outOffset + r*outStride ..+N/2].
+ * The rows are packed side by side into `block` in bit-reversed order and transformed together
+ * (fftColumnBlock: the twiddles stay out of the inner loop); when count <= N/2 the zero upper half
+ * of each packed row is never written nor added. The same sums as realFftRow, in the same order.
+ */
+export function realFftRows(
+  plan: RealFftPlan, x: ArrayLike<number>, inOffset: number, inStride: number, count: number, rows: number,
+  outRe: Float64Array, outIm: Float64Array, outOffset: number, outStride: number, block: RowBlock,
+): void {
+  const m = plan.n >> 1;
+  const { cos, sin } = plan;
+  const rev = plan.half.rev;
+  const B = ROW_BLOCK;
+  const zr = block.re, zi = block.im;
+  const len = Math.min(count, plan.n);
+  const pairs = len >> 1, odd = len & 1;
+  const filled = pairs + odd;
+  const upperZero = m >= 2 && filled * 2 <= m;
+  // Rows the transform reads that the input leaves empty (with upperZero it never reads >= m/2).
+  const zeroEnd = upperZero ? m >> 1 : m;
+  for (let r0 = 0; r0 < rows; r0 += B) {
+    const bw = Math.min(B, rows - r0);
+    for (let c = 0; c < bw; c++) {
+      const o = inOffset + (r0 + c) * inStride;
+      for (let i = 0; i < pairs; i++) {
+        const t = rev[i] * B + c;
+        zr[t] = x[o + 2 * i]; zi[t] = x[o + 2 * i + 1];
+      }
+      if (odd) { const t = rev[pairs] * B + c; zr[t] = x[o + len - 1]; zi[t] = 0; }
+      for (let i = filled; i < zeroEnd; i++) { const t = rev[i] * B + c; zr[t] = 0; zi[t] = 0; }
+    }
+    fftColumnBlock(plan.half, zr, zi, B, 0, bw, -1, upperZero, true);
+    for (let c = 0; c < bw; c++) {
+      const base = outOffset + (r0 + c) * outStride;
+      outRe[base] = zr[c] + zi[c]; outIm[base] = 0;
+      outRe[base + m] = zr[c] - zi[c]; outIm[base + m] = 0;
+      for (let k = 1, h = m >> 1; k <= h; k++) {
+        const b = m - k;
+        const zkr = zr[k * B + c], zki = zi[k * B + c], zbr = zr[b * B + c], zbi = zi[b * B + c];
+        const er = 0.5 * (zkr + zbr), ei = 0.5 * (zki - zbi);
+        const or = 0.5 * (zki + zbi), oi = -0.5 * (zkr - zbr);
+        const cs = cos[k], sn = sin[k];
+        const tr = cs * or + sn * oi, ti = cs * oi - sn * or;
+        outRe[base + k] = er + tr; outIm[base + k] = ei + ti;
+        outRe[base + b] = er - tr; outIm[base + b] = ti - ei;
+      }
+    }
+  }
+}
+
+/**
+ * realInverseFftRow for `rows` rows at once: the half spectrum of row r at
+ * re/im[inOffset + r*inStride ..+N/2], its first `count` samples times `scale` to
+ * out[outOffset + r*outStride ..]. The same sums as realInverseFftRow, in the same order.
+ */
+export function realInverseFftRows(
+  plan: RealFftPlan, re: Float64Array, im: Float64Array, inOffset: number, inStride: number, rows: number,
+  out: Float64Array, outOffset: number, outStride: number, count: number, scale: number, block: RowBlock,
+): void {
+  const m = plan.n >> 1;
+  const { cos, sin } = plan;
+  const rev = plan.half.rev;
+  const B = ROW_BLOCK;
+  const zr = block.re, zi = block.im;
+  const s = scale / m;
+  const len = Math.min(count, plan.n);
+  const pairs = len >> 1;
+  for (let r0 = 0; r0 < rows; r0 += B) {
+    const bw = Math.min(B, rows - r0);
+    for (let c = 0; c < bw; c++) {
+      const base = inOffset + (r0 + c) * inStride;
+      {
+        const xr = re[base], xi = im[base], yr = re[base + m], yi = -im[base + m];
+        const er = 0.5 * (xr + yr), ei = 0.5 * (xi + yi), or = 0.5 * (xr - yr), oi = 0.5 * (xi - yi);
+        zr[c] = er - oi; zi[c] = ei + or; // rev[0] = 0
+      }
+      for (let k = 1, h = m >> 1; k <= h; k++) {
+        const b = m - k;
+        const xr = re[base + k], xi = im[base + k];
+        const yr = re[base + b], yi = -im[base + b];
+        const er = 0.5 * (xr + yr), ei = 0.5 * (xi + yi);
+        const dr = 0.5 * (xr - yr), di = 0.5 * (xi - yi);
+        const cs = cos[k], sn = sin[k];
+        const or = dr * cs - di * sn, oi = dr * sn + di * cs;
+        const tk = rev[k] * B + c, tb = rev[b] * B + c;
+        zr[tk] = er - oi; zi[tk] = ei + or;
+        zr[tb] = er + oi; zi[tb] = or - ei;
+      }
+    }
+    fftColumnBlock(plan.half, zr, zi, B, 0, bw, 1, false, true);
+    for (let c = 0; c < bw; c++) {
+      const o = outOffset + (r0 + c) * outStride;
+      for (let i = 0; i < pairs; i++) { out[o + 2 * i] = zr[i * B + c] * s; out[o + 2 * i + 1] = zi[i * B + c] * s; }
+      if (len & 1) out[o + len - 1] = zr[pairs * B + c] * s;
+    }
+  }
 }

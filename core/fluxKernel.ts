@@ -5,8 +5,8 @@
 // (the kernel is 0 at r = 0).
 
 import type { Grid } from './grid.js';
-import type { PaddedPlan } from './paddedTransform.js';
-import { createPaddedPlan, createSpectrum, forwardPadded } from './paddedTransform.js';
+import type { PaddedPlan, PaddedWorkspace } from './paddedTransform.js';
+import { createPaddedPlan, createPaddedWorkspace, createSpectrum, forwardPadded } from './paddedTransform.js';
 import { CM_PER_MM } from './units.js';
 
 export interface FluxKernel extends Grid {
@@ -14,6 +14,17 @@ export interface FluxKernel extends Grid {
   /** Imaginary parts of the spectra of x/r^2 and y/r^2, times dx dy (Mm^2) times 1e8 cm/Mm. */
   readonly kxIm: Float64Array;
   readonly kyIm: Float64Array;
+  /**
+   * Transform buffers reused by every convolution with this kernel (made at the first one): they
+   * belong to whoever owns the kernel, as the kernel cache does, so nothing large is allocated per
+   * call. Calls are synchronous, so one kernel serves one caller at a time by construction.
+   */
+  readonly scratch: { workspace?: PaddedWorkspace };
+}
+
+/** The kernel's transform buffers (three maps: the most any convolution here needs at once). */
+export function kernelWorkspace(kernel: FluxKernel): PaddedWorkspace {
+  return kernel.scratch.workspace ??= createPaddedWorkspace(kernel.plan, 3);
 }
 
 /** An explicit, caller-owned cache of kernels by grid (shape and pixel size). */
@@ -42,7 +53,7 @@ export function createFluxKernel(grid: Grid): FluxKernel {
   const sy = createSpectrum(plan);
   forwardPadded(plan, kx, px, py, sx);
   forwardPadded(plan, ky, px, py, sy);
-  return { nx, ny, dx, dy, plan, kxIm: sx.im, kyIm: sy.im };
+  return { nx, ny, dx, dy, plan, kxIm: sx.im, kyIm: sy.im, scratch: {} };
 }
 
 /** The kernel for `grid`, from `cache` when it holds one, otherwise made (and stored there). */

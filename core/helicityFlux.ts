@@ -7,12 +7,13 @@
 //   P = Kx * Bn,  Q = Ky * Bn,  R = Kx * Fy - Ky * Fx,
 // and then  G_theta = -(1/2pi) (Fy P - Fx Q - Bn R),  A_p = (1/2pi) (-Q, P),
 //           G_A     = -(1/pi) (Fy P - Fx Q).
-// Three forward and three inverse padded FFTs in all. Units: G_theta and G_A in Mx^2 cm^-2 s^-1
+// Three forward and three inverse padded FFTs in all (core/paddedTransform.ts convolvePadded). Units: G_theta and G_A in Mx^2 cm^-2 s^-1
 // (per unit area of boundary), totals in Mx^2/s, A_p in Mx/cm (G cm).
 
 import type { FluxKernel } from './fluxKernel.js';
+import { kernelWorkspace } from './fluxKernel.js';
 import type { FluxTransport } from './fluxTransport.js';
-import { createSpectrum, forwardPadded, inversePadded } from './paddedTransform.js';
+import { SPECTRUM_BLOCK, convolvePadded } from './paddedTransform.js';
 import { CM_PER_KM, pixelAreaCm2 } from './units.js';
 
 export interface KernelConvolutions {
@@ -23,50 +24,49 @@ export interface KernelConvolutions {
   readonly r: Float64Array;
 }
 
-/** Multiplies a spectrum by i*k (k real, per frequency) into `out`; out may alias `s`. */
-function timesIK(k: Float64Array, sre: Float64Array, sim: Float64Array, ore: Float64Array, oim: Float64Array): void {
-  for (let i = 0; i < k.length; i++) {
-    const a = sre[i], b = sim[i], c = k[i];
-    ore[i] = -c * b;
-    oim[i] = c * a;
-  }
-}
-
 /** P and Q: the convolutions of bn with the kernel (what A_p needs). */
 export function convolveField(kernel: FluxKernel, bn: ArrayLike<number>): { p: Float64Array; q: Float64Array } {
   const { plan, kxIm, kyIm, nx, ny } = kernel;
-  const sb = createSpectrum(plan);
-  const work = createSpectrum(plan);
-  forwardPadded(plan, bn, nx, ny, sb);
   const p = new Float64Array(nx * ny);
   const q = new Float64Array(nx * ny);
-  timesIK(kxIm, sb.re, sb.im, work.re, work.im);
-  inversePadded(plan, work, p);
-  timesIK(kyIm, sb.re, sb.im, work.re, work.im);
-  inversePadded(plan, work, q);
+  const B = SPECTRUM_BLOCK, w = plan.w;
+  // P^ = i kx Bn^, Q^ = i ky Bn^.
+  convolvePadded(plan, kernelWorkspace(kernel), [bn], [p, q], (inRe, inIm, outRe, outIm, c0, width, rev) => {
+    const br = inRe[0], bi = inIm[0], pr = outRe[0], pi = outIm[0], qr = outRe[1], qi = outIm[1];
+    for (let ky = 0; ky < plan.py; ky++) {
+      const s = ky * B, t = rev[ky] * B, k = ky * w + c0;
+      for (let c = 0; c < width; c++) {
+        const a = kxIm[k + c], b = kyIm[k + c], re = br[s + c], im = bi[s + c];
+        pr[t + c] = -a * im; pi[t + c] = a * re;
+        qr[t + c] = -b * im; qi[t + c] = b * re;
+      }
+    }
+  });
   return { p, q };
 }
 
 /** P, Q and R for a flux transport (what G_theta needs). */
 export function convolveTransport(kernel: FluxKernel, t: { bn: ArrayLike<number>; fx: ArrayLike<number>; fy: ArrayLike<number> }): KernelConvolutions {
   const { plan, kxIm, kyIm, nx, ny } = kernel;
-  const { p, q } = convolveField(kernel, t.bn);
-  const sx = createSpectrum(plan);
-  const sy = createSpectrum(plan);
-  forwardPadded(plan, t.fx, nx, ny, sx);
-  forwardPadded(plan, t.fy, nx, ny, sy);
-  // R^ = i kx Fy^ - i ky Fx^, written into sx.
-  const { re: xr, im: xi } = sx;
-  const { re: yr, im: yi } = sy;
-  for (let i = 0; i < kxIm.length; i++) {
-    const a = kxIm[i], b = kyIm[i];
-    const re = -a * yi[i] + b * xi[i];
-    const im = a * yr[i] - b * xr[i];
-    xr[i] = re;
-    xi[i] = im;
-  }
+  const p = new Float64Array(nx * ny);
+  const q = new Float64Array(nx * ny);
   const r = new Float64Array(nx * ny);
-  inversePadded(plan, sx, r);
+  const B = SPECTRUM_BLOCK, w = plan.w;
+  // P^ = i kx Bn^, Q^ = i ky Bn^, R^ = i kx Fy^ - i ky Fx^.
+  convolvePadded(plan, kernelWorkspace(kernel), [t.bn, t.fx, t.fy], [p, q, r], (inRe, inIm, outRe, outIm, c0, width, rev) => {
+    const br = inRe[0], bi = inIm[0], xr = inRe[1], xi = inIm[1], yr = inRe[2], yi = inIm[2];
+    const pr = outRe[0], pi = outIm[0], qr = outRe[1], qi = outIm[1], rr = outRe[2], ri = outIm[2];
+    for (let ky = 0; ky < plan.py; ky++) {
+      const s = ky * B, o = rev[ky] * B, k = ky * w + c0;
+      for (let c = 0; c < width; c++) {
+        const a = kxIm[k + c], b = kyIm[k + c], re = br[s + c], im = bi[s + c];
+        pr[o + c] = -a * im; pi[o + c] = a * re;
+        qr[o + c] = -b * im; qi[o + c] = b * re;
+        rr[o + c] = -a * yi[s + c] + b * xi[s + c];
+        ri[o + c] = a * yr[s + c] - b * xr[s + c];
+      }
+    }
+  });
   return { p, q, r };
 }
 

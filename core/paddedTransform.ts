@@ -3,8 +3,11 @@
 // half spectrum (px/2+1 columns by py rows), split into re and im. Rows that are zero on input
 // are never transformed, and only the nx*ny block is computed on the way back.
 
-import type { FftPlan, RealFftPlan } from './fft.js';
-import { createFftPlan, createRealFftPlan, fftColumns, nextPowerOfTwo, realFftRow, realInverseFftRow } from './fft.js';
+import type { FftPlan, RealFftPlan, RowBlock } from './fft.js';
+import {
+  createFftPlan, createRealFftPlan, createRowBlock, fftColumnBlock, fftColumns, nextPowerOfTwo, realFftRow,
+  realFftRows, realInverseFftRow, realInverseFftRows,
+} from './fft.js';
 
 export interface PaddedPlan {
   readonly nx: number;
@@ -53,4 +56,91 @@ export function inversePadded(plan: PaddedPlan, spec: Spectrum, out: Float64Arra
   const { nx, ny, w, py, rows, cols } = plan;
   fftColumns(cols, spec.re, spec.im, w, 1);
   for (let r = 0; r < ny; r++) realInverseFftRow(rows, spec.re, spec.im, r * w, out, r * nx, nx, 1 / py);
+}
+
+/** Columns of the half spectrum that convolvePadded carries through both column passes together. */
+export const SPECTRUM_BLOCK = 16;
+
+/**
+ * Buffers for convolvePadded, reused from call to call by whoever owns them (a kernel keeps one:
+ * core/fluxKernel.ts). Only the ny rows an input fills are kept per map (half the padded spectrum),
+ * and the column passes run on blocks of SPECTRUM_BLOCK columns that stay in cache.
+ */
+export interface PaddedWorkspace {
+  readonly channels: number;
+  /** Half spectra per map, ny rows of w: the inputs' after the row pass, the outputs' before theirs. */
+  readonly rowRe: Float64Array[];
+  readonly rowIm: Float64Array[];
+  /** Column blocks, py rows of SPECTRUM_BLOCK: the inputs' and the outputs'. */
+  readonly inRe: Float64Array[];
+  readonly inIm: Float64Array[];
+  readonly outRe: Float64Array[];
+  readonly outIm: Float64Array[];
+  readonly rowBlock: RowBlock;
+}
+
+export function createPaddedWorkspace(plan: PaddedPlan, channels: number): PaddedWorkspace {
+  const rowSize = plan.w * plan.ny, blockSize = plan.py * SPECTRUM_BLOCK;
+  const maps = (size: number) => Array.from({ length: channels }, () => new Float64Array(size));
+  return {
+    channels, rowRe: maps(rowSize), rowIm: maps(rowSize),
+    inRe: maps(blockSize), inIm: maps(blockSize), outRe: maps(blockSize), outIm: maps(blockSize),
+    rowBlock: createRowBlock(plan.rows),
+  };
+}
+
+/**
+ * Forms the outputs' spectra from the inputs' for columns c0 .. c0+width of the half spectrum.
+ * inRe/inIm[j][ky*SPECTRUM_BLOCK + c] hold input j at frequency (c0 + c, ky); output j's value at
+ * (c0 + c, ky) goes to outRe/outIm[j][rev[ky]*SPECTRUM_BLOCK + c] (bit-reversed rows, the order
+ * the inverse column pass reads).
+ */
+export type SpectralStep = (
+  inRe: readonly Float64Array[], inIm: readonly Float64Array[], outRe: readonly Float64Array[], outIm: readonly Float64Array[],
+  c0: number, width: number, rev: Uint32Array,
+) => void;
+
+/**
+ * Linear convolutions through the padded transforms in one go: the forward transforms of `inputs`
+ * (nx*ny maps), `step` forming the outputs' spectra, and the inverse transforms, whose nx*ny blocks
+ * go to `outputs` (the same as forwardPadded, a product, inversePadded per output, to rounding).
+ * The column passes, forward and inverse, run block by block of columns while the block is in
+ * cache; rows that are zero are never transformed; nothing is allocated (`work` is reused).
+ */
+export function convolvePadded(
+  plan: PaddedPlan, work: PaddedWorkspace, inputs: readonly ArrayLike<number>[], outputs: readonly Float64Array[], step: SpectralStep,
+): void {
+  const { nx, ny, w, py, rows, cols } = plan;
+  if (inputs.length > work.channels || outputs.length > work.channels) throw new RangeError('workspace has too few channels');
+  const B = SPECTRUM_BLOCK;
+  const { rowRe, rowIm, inRe, inIm, outRe, outIm, rowBlock } = work;
+  for (let j = 0; j < inputs.length; j++) realFftRows(rows, inputs[j], 0, nx, nx, ny, rowRe[j], rowIm[j], 0, w, rowBlock);
+  const rev = cols.rev;
+  const upperZero = py >= 2 && 2 * ny <= py;
+  const zeroEnd = upperZero ? py >> 1 : py;
+  for (let c0 = 0; c0 < w; c0 += B) {
+    const bw = Math.min(B, w - c0);
+    for (let j = 0; j < inputs.length; j++) {
+      const sr = rowRe[j], si = rowIm[j], br = inRe[j], bi = inIm[j];
+      for (let y = 0; y < ny; y++) {
+        const t = rev[y] * B, s = y * w + c0;
+        for (let c = 0; c < bw; c++) { br[t + c] = sr[s + c]; bi[t + c] = si[s + c]; }
+      }
+      for (let y = ny; y < zeroEnd; y++) {
+        const t = rev[y] * B;
+        br.fill(0, t, t + bw); bi.fill(0, t, t + bw);
+      }
+      fftColumnBlock(cols, br, bi, B, 0, bw, -1, upperZero, true);
+    }
+    step(inRe, inIm, outRe, outIm, c0, bw, rev);
+    for (let j = 0; j < outputs.length; j++) {
+      const br = outRe[j], bi = outIm[j], sr = rowRe[j], si = rowIm[j];
+      fftColumnBlock(cols, br, bi, B, 0, bw, 1, false, true);
+      for (let y = 0; y < ny; y++) {
+        const t = y * B, s = y * w + c0;
+        for (let c = 0; c < bw; c++) { sr[s + c] = br[t + c]; si[s + c] = bi[t + c]; }
+      }
+    }
+  }
+  for (let j = 0; j < outputs.length; j++) realInverseFftRows(rows, rowRe[j], rowIm[j], 0, w, ny, outputs[j], 0, nx, nx, 1 / py, rowBlock);
 }

@@ -1,6 +1,7 @@
 // The FFT against the discrete Fourier transform written out from its definition.
 import { describe, expect, it } from 'vitest';
-import { createFftPlan, createRealFftPlan, fftColumns, fftRow, realFftRow, realInverseFftRow } from '../../core/fft.js';
+import { createFftPlan, createRealFftPlan, createRowBlock, fftColumns, fftRow, realFftRow, realFftRows, realInverseFftRow, realInverseFftRows } from '../../core/fft.js';
+import { SPECTRUM_BLOCK, convolvePadded, createPaddedPlan, createPaddedWorkspace, createSpectrum, forwardPadded, inversePadded } from '../../core/paddedTransform.js';
 
 function dft(re: number[], im: number[], sign: number): [number[], number[]] {
   const n = re.length;
@@ -71,6 +72,77 @@ describe('fft (checked against the DFT definition)', () => {
       const back = new Float64Array(n);
       realInverseFftRow(plan, sr, si, 0, back, 0, n);
       for (let t = 0; t < n; t++) expect(back[t]).toBeCloseTo(x[t], 12);
+    });
+  }
+});
+
+describe('batched real transforms and the fused padded convolution (same numbers as the one-row path)', () => {
+  for (const [n, count, rows] of [[2, 1, 3], [8, 4, 17], [16, 7, 5], [64, 32, 33], [256, 100, 40], [32, 32, 16]] as const) {
+    it(`realFftRows / realInverseFftRows, length ${n}, ${count} samples, ${rows} rows, agree with realFftRow / realInverseFftRow per row to 1e-12`, () => {
+      const plan = createRealFftPlan(n), block = createRowBlock(plan);
+      const x = Float64Array.from(rand(count * rows, 3 + n));
+      const w = n / 2 + 1;
+      const br = new Float64Array(w * rows), bi = new Float64Array(w * rows);
+      realFftRows(plan, x, 0, count, count, rows, br, bi, 0, w, block);
+      const sr = new Float64Array(w), si = new Float64Array(w);
+      const back = new Float64Array(count * rows), one = new Float64Array(count);
+      realInverseFftRows(plan, br, bi, 0, w, rows, back, 0, count, count, 0.5, block);
+      let scale = 0;
+      for (const v of br) scale = Math.max(scale, Math.abs(v));
+      for (let r = 0; r < rows; r++) {
+        realFftRow(plan, x, r * count, count, sr, si, 0);
+        for (let k = 0; k < w; k++) {
+          expect(Math.abs(br[r * w + k] - sr[k])).toBeLessThanOrEqual(1e-12 * scale);
+          expect(Math.abs(bi[r * w + k] - si[k])).toBeLessThanOrEqual(1e-12 * scale);
+        }
+        realInverseFftRow(plan, sr, si, 0, one, 0, count, 0.5);
+        for (let i = 0; i < count; i++) {
+          expect(Math.abs(back[r * count + i] - one[i])).toBeLessThanOrEqual(1e-12);
+          expect(back[r * count + i]).toBeCloseTo(0.5 * x[r * count + i], 12); // scale 0.5 halves the input
+        }
+      }
+    });
+  }
+
+  for (const [nx, ny] of [[1, 1], [1, 6], [5, 1], [13, 9], [40, 33], [64, 64]] as const) {
+    it(`convolvePadded ${nx}x${ny} equals forwardPadded, the product, inversePadded to 1e-12`, () => {
+      const plan = createPaddedPlan(nx, ny), work = createPaddedWorkspace(plan, 3);
+      const a = Float64Array.from(rand(nx * ny, 11)), b = Float64Array.from(rand(nx * ny, 12));
+      const k = Float64Array.from(rand(plan.w * plan.py, 13));
+      // Outputs: i k A^ and A^ B^ (a product of two inputs), the way the helicity flux uses them.
+      const out1 = new Float64Array(nx * ny), out2 = new Float64Array(nx * ny);
+      convolvePadded(plan, work, [a, b], [out1, out2], (inRe, inIm, outRe, outIm, c0, width, rev) => {
+        for (let ky = 0; ky < plan.py; ky++) for (let c = 0; c < width; c++) {
+          const s = ky * SPECTRUM_BLOCK + c, o = rev[ky] * SPECTRUM_BLOCK + c, kk = k[ky * plan.w + c0 + c];
+          outRe[0][o] = -kk * inIm[0][s]; outIm[0][o] = kk * inRe[0][s];
+          outRe[1][o] = inRe[0][s] * inRe[1][s] - inIm[0][s] * inIm[1][s];
+          outIm[1][o] = inRe[0][s] * inIm[1][s] + inIm[0][s] * inRe[1][s];
+        }
+      });
+      const sa = createSpectrum(plan), sb = createSpectrum(plan), s1 = createSpectrum(plan);
+      forwardPadded(plan, a, nx, ny, sa);
+      forwardPadded(plan, b, nx, ny, sb);
+      for (let i = 0; i < k.length; i++) {
+        s1.re[i] = -k[i] * sa.im[i]; s1.im[i] = k[i] * sa.re[i];
+        const r = sa.re[i] * sb.re[i] - sa.im[i] * sb.im[i], m = sa.re[i] * sb.im[i] + sa.im[i] * sb.re[i];
+        sb.re[i] = r; sb.im[i] = m;
+      }
+      const ref1 = new Float64Array(nx * ny), ref2 = new Float64Array(nx * ny);
+      inversePadded(plan, s1, ref1);
+      inversePadded(plan, sb, ref2);
+      for (let i = 0; i < nx * ny; i++) {
+        expect(Math.abs(out1[i] - ref1[i])).toBeLessThanOrEqual(1e-12 * Math.max(1, Math.abs(ref1[i])));
+        expect(Math.abs(out2[i] - ref2[i])).toBeLessThanOrEqual(1e-12 * Math.max(1, Math.abs(ref2[i])));
+      }
+      // Nothing was carried over: a second call gives the same numbers.
+      const again = new Float64Array(nx * ny);
+      convolvePadded(plan, work, [a, b], [again], (inRe, inIm, outRe, outIm, c0, width, rev) => {
+        for (let ky = 0; ky < plan.py; ky++) for (let c = 0; c < width; c++) {
+          const s = ky * SPECTRUM_BLOCK + c, o = rev[ky] * SPECTRUM_BLOCK + c, kk = k[ky * plan.w + c0 + c];
+          outRe[0][o] = -kk * inIm[0][s]; outIm[0][o] = kk * inRe[0][s];
+        }
+      });
+      expect(Array.from(again)).toEqual(Array.from(out1));
     });
   }
 });
