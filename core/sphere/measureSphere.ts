@@ -12,7 +12,16 @@
 import { InputError } from '../inputError.js';
 import type { RotationProfile } from './differentialRotation.js';
 import { HOWARD_1990_SIDEREAL, defaultFrameRate, differentialRotationShare, rotationMotion } from './differentialRotation.js';
-import { comparePatch, rowPairWork } from './patchOnSphere.js';
+import { comparePatch, flattenPatch, rowPairWork } from './patchOnSphere.js';
+import { sphericalRateSigma } from './sphericalRateNoise.js';
+import { estimateNoiseLevel } from '../noiseLevel.js';
+import { UNSIGNED_FLUX_FLOOR_NOISE } from '../rateSample.js';
+import type { RateSample } from '../rateSample.js';
+import { CM_PER_MM } from '../units.js';
+import { createFluxKernel } from '../fluxKernel.js';
+import { fluxTransport } from '../fluxTransport.js';
+import { convolveTransport } from '../helicityFlux.js';
+import { rateSigmaFromNoise } from '../rateUncertainty.js';
 import { pixelSpinRate } from './pixelSpin.js';
 import { potentialGradients } from './potentialGradient.js';
 import { rateFromGradient, sphericalHelicityFlux } from './sphericalHelicityFlux.js';
@@ -29,6 +38,8 @@ export interface SphereSettings {
   readonly frameRateMicroradPerS?: number;
   /** Most row-pair work for an exact spherical sum (default 3.5e7, a 360 x 180 map). */
   readonly maxRowPairWork?: number;
+  /** Noise of B_r per pixel, G (default: estimated from the map, core/noiseLevel.ts). */
+  readonly noiseG?: number;
 }
 
 export interface SphereMaps {
@@ -59,6 +70,11 @@ export interface SphereMeasurement {
   /** G_A density, Mx^2 cm^-2 s^-1 (NaN where no data); absent when not exact. */
   readonly density?: Float64Array;
   readonly maskedFraction: number;
+  /** 1-sigma of the total from the noise of B_r (linear propagation; for a patch beyond the budget, the planar engine's), Mx^2/s. */
+  readonly sigmaTotal: number;
+  readonly noiseG: number;
+  /** Sum of |B_r| dS over valid pixels at or above 3 noise units, Mx (as core/rateSample.ts). */
+  readonly unsignedFlux: number;
   readonly rotationProfile: RotationProfile;
   readonly frameRateMicroradPerS: number;
 }
@@ -73,7 +89,17 @@ export function measureSphere(grid: SphericalGrid, maps: SphereMaps, settings: S
   const budget = settings.maxRowPairWork ?? 3.5e7;
   const t = sphericalTransport(grid, maps.bn, maps.vx, maps.vy, source);
   const n = grid.nx * grid.ny;
-  const base = { wholeSun: grid.wholeSun, maskedFraction: t.maskedFraction, rotationProfile: profile, frameRateMicroradPerS: frameRate };
+  const noiseG = settings.noiseG ?? estimateNoiseLevel(maps.bn).sigma;
+  let unsigned = 0;
+  const floor = Number.isFinite(noiseG) && noiseG > 0 ? UNSIGNED_FLUX_FLOOR_NOISE * noiseG : 0;
+  for (let i = 0; i < n; i++) {
+    if (t.valid[i] && Math.abs(t.bn[i]) >= floor) unsigned += Math.abs(t.bn[i]) * grid.rowAreaMm2[Math.floor(i / grid.nx)] * CM_PER_MM * CM_PER_MM;
+  }
+  const base = {
+    wholeSun: grid.wholeSun, maskedFraction: t.maskedFraction, rotationProfile: profile, frameRateMicroradPerS: frameRate,
+    noiseG, unsignedFlux: unsigned,
+  };
+  const noise = Number.isFinite(noiseG) ? noiseG : 0;
 
   if (rowPairWork(grid.nx, grid.ny) > budget) {
     if (grid.wholeSun) throw new InputError(source, 'NAXIS', `a whole-Sun map of ${grid.nx} x ${grid.ny} is beyond the work budget (maxRowPairWork ${budget}); give it at lower resolution or raise the budget`);
@@ -85,8 +111,11 @@ export function measureSphere(grid: SphericalGrid, maps: SphereMaps, settings: S
     const rc = comparePatch(grid, rt, { maxRowPairWork: budget });
     const rotSelf = rateFromGradient(grid, t, { ge: none, gn: none }, ue, un, m.spin).selfPixel;
     const rotation = rc.sphericalPairs + rotSelf;
+    const flat = flattenPatch(grid, t);
+    const ft = fluxTransport(flat);
+    const sigmaTotal = rateSigmaFromNoise(convolveTransport(createFluxKernel(flat), ft), flat.vx, flat.vy, ft.valid, noise, flat.dx, flat.dy);
     return {
-      ...base, total: c.spherical, pairs: c.sphericalPairs, selfPixel: c.selfPixel, rotation, ownMotions: c.spherical - rotation,
+      ...base, sigmaTotal, total: c.spherical, pairs: c.sphericalPairs, selfPixel: c.selfPixel, rotation, ownMotions: c.spherical - rotation,
       north: null, south: null, rotationNorth: null, rotationSouth: null,
       planar: { rate: c.planar, departure: c.planarDeparture, coarsening: c.coarsening },
     };
@@ -114,8 +143,27 @@ export function measureSphere(grid: SphericalGrid, maps: SphereMaps, settings: S
   }
   const split = maps.labels ? splitSphericalByLabels(grid, t, maps.labels, { total: f.total }) : undefined;
   return {
-    ...base, total: f.total, pairs: f.pairs, selfPixel: f.selfPixel, rotation: rot.total, ownMotions: f.total - rot.total,
+    ...base, sigmaTotal: sphericalRateSigma(grid, t, gradient, noise), total: f.total, pairs: f.pairs, selfPixel: f.selfPixel, rotation: rot.total, ownMotions: f.total - rot.total,
     north, south, rotationNorth: rn, rotationSouth: rs, density: f.density,
     ...(planar && { planar }), ...(split && { split }),
+  };
+}
+
+/**
+ * The rate sample of a spherical measurement, for the budget, the rules and the series like any
+ * other (core/accumulate.ts): spin, orbit and background from the label split when there is one,
+ * otherwise all background; the G_A total is the total (the sphere has one form); flags
+ * 'whole-sun' or 'sphere-patch', with 'no-footpoints' and 'masked-pixels' as measureRate gives them.
+ */
+export function sphereRateSample(m: SphereMeasurement, time: number, dtS: number, velocityMethod = 'given'): RateSample {
+  const flags: string[] = [m.wholeSun ? 'whole-sun' : 'sphere-patch'];
+  if (m.maskedFraction > 0) flags.push('masked-pixels');
+  const split = m.split && m.split.ids.length > 0 ? m.split : undefined;
+  if (!split) flags.push('no-footpoints');
+  return {
+    time, dtS, total: m.total, totalGa: m.total,
+    spin: split ? split.spinTotal : 0, orbit: split ? split.orbitTotal : 0, background: split ? split.background : m.total,
+    sigmaTotal: m.sigmaTotal, sigmaSpin: 0, sigmaOrbit: 0, sigmaMotion: 0, noiseG: m.noiseG, unsignedFlux: m.unsignedFlux,
+    velocityMethod, splitMethod: split ? 'labels' : 'none', maskedFraction: m.maskedFraction, flags,
   };
 }

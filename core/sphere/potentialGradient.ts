@@ -30,16 +30,26 @@ export interface PotentialGradient {
   readonly gn: Float64Array;
 }
 
+interface RowPairPlan {
+  readonly p: number;
+  readonly h: number;
+  readonly plan: ReturnType<typeof createRealFftPlan>;
+  /** Scale from the convolution of B (G) times row areas (Mm^2) to grad psi in G cm. */
+  readonly scale: number;
+}
+
+function rowPairPlan(grid: SphericalGrid): RowPairPlan {
+  const p = nextPowerOfTwo(Math.max(2, 2 * grid.nx - 1));
+  return { p, h: p / 2 + 1, plan: createRealFftPlan(p), scale: CM_PER_MM / (4 * Math.PI * grid.radiusMm) };
+}
+
 /**
- * grad_s psi at every pixel for each source map (B_r in G, 0 where there is no data), all sharing
- * one pass over the row pairs.
+ * Visits every row pair (target r, source s) with a source row that `wanted(s)`, giving the
+ * half spectrum of g_N + g_E along the row: real part the spectrum of g_N, imaginary part that of g_E.
  */
-export function potentialGradients(grid: SphericalGrid, sources: readonly ArrayLike<number>[]): PotentialGradient[] {
-  const { nx, ny, colLon, rowLat, rowAreaMm2, radiusMm } = grid;
-  const q = sources.length;
-  const p = nextPowerOfTwo(Math.max(2, 2 * nx - 1));
-  const h = p / 2 + 1;
-  const plan = createRealFftPlan(p);
+function forEachRowPair(grid: SphericalGrid, rp: RowPairPlan, wanted: (s: number) => boolean, visit: (r: number, s: number, kr: Float64Array, ki: Float64Array) => void): void {
+  const { nx, ny, colLon, rowLat } = grid;
+  const { p, h, plan } = rp;
   const step = nx > 1 ? colLon[1] - colLon[0] : 0;
   // Kernel index d (target column minus source column) holds the source at angle D = -d step.
   const sinD = new Float64Array(p), half2 = new Float64Array(p);
@@ -51,33 +61,12 @@ export function potentialGradients(grid: SphericalGrid, sources: readonly ArrayL
     half2[j] = 2 * Math.sin(a / 2) ** 2;
     used[j] = 1;
   }
-  // Spectra of every source row (times its pixel area), per source map.
-  const sr = new Float64Array(q * ny * h), si = new Float64Array(q * ny * h);
-  const row = new Float64Array(nx);
-  const rowHasFlux = new Uint8Array(q * ny);
-  for (let m = 0; m < q; m++) {
-    const b = sources[m];
-    for (let s = 0; s < ny; s++) {
-      let any = false;
-      for (let k = 0; k < nx; k++) { row[k] = b[s * nx + k] * rowAreaMm2[s]; if (row[k] !== 0) any = true; }
-      if (!any) continue;
-      rowHasFlux[m * ny + s] = 1;
-      realFftRow(plan, row, 0, nx, sr, si, (m * ny + s) * h);
-    }
-  }
   const kernel = new Float64Array(p);
   const kr = new Float64Array(h), ki = new Float64Array(h);
-  const er = new Float64Array(q * h), ei = new Float64Array(q * h);
-  const nr = new Float64Array(q * h), ni = new Float64Array(q * h);
-  const out = sources.map(() => ({ ge: new Float64Array(nx * ny), gn: new Float64Array(nx * ny) }));
   const sinT = rowLat.map(Math.sin), cosT = rowLat.map(Math.cos);
-  const scale = CM_PER_MM / (4 * Math.PI * radiusMm); // area Mm^2 / R Mm -> Mm, to cm
-  const anySourceRow = new Uint8Array(ny);
-  for (let m = 0; m < q; m++) for (let s = 0; s < ny; s++) if (rowHasFlux[m * ny + s]) anySourceRow[s] = 1;
   for (let r = 0; r < ny; r++) {
-    er.fill(0); ei.fill(0); nr.fill(0); ni.fill(0);
     for (let s = 0; s < ny; s++) {
-      if (!anySourceRow[s]) continue;
+      if (!wanted(s)) continue;
       const dt = rowLat[r] - rowLat[s];
       const a = 2 * Math.sin(dt / 2) ** 2, c = cosT[r] * cosT[s], sdt = Math.sin(dt);
       const e = -cosT[s], nn = sinT[r] * cosT[s];
@@ -89,21 +78,95 @@ export function potentialGradients(grid: SphericalGrid, sources: readonly ArrayL
         kernel[j] = (e * sinD[j] + sdt - nn * half2[j]) / den;
       }
       realFftRow(plan, kernel, 0, p, kr, ki, 0);
-      for (let m = 0; m < q; m++) {
-        if (!rowHasFlux[m * ny + s]) continue;
-        const o = (m * ny + s) * h, w = m * h;
-        for (let f = 0; f < h; f++) {
-          const br = sr[o + f], bi = si[o + f], kn = kr[f], ke = ki[f];
-          // East: B^ times i Im(K^); north: B^ times Re(K^).
-          er[w + f] -= bi * ke; ei[w + f] += br * ke;
-          nr[w + f] += br * kn; ni[w + f] += bi * kn;
-        }
-      }
+      visit(r, s, kr, ki);
     }
+  }
+}
+
+/** Half spectra of the rows of a map times the row areas (zero rows flagged). */
+function rowSpectra(grid: SphericalGrid, rp: RowPairPlan, map: ArrayLike<number>, weight: (r: number) => number) {
+  const { nx, ny } = grid;
+  const { h, plan } = rp;
+  const re = new Float64Array(ny * h), im = new Float64Array(ny * h), any = new Uint8Array(ny);
+  const row = new Float64Array(nx);
+  for (let s = 0; s < ny; s++) {
+    let nonzero = false;
+    const w = weight(s);
+    for (let k = 0; k < nx; k++) { row[k] = map[s * nx + k] * w; if (row[k] !== 0) nonzero = true; }
+    if (!nonzero) continue;
+    any[s] = 1;
+    realFftRow(plan, row, 0, nx, re, im, s * h);
+  }
+  return { re, im, any };
+}
+
+/**
+ * grad_s psi at every pixel for each source map (B_r in G, 0 where there is no data), all sharing
+ * one pass over the row pairs.
+ */
+export function potentialGradients(grid: SphericalGrid, sources: readonly ArrayLike<number>[]): PotentialGradient[] {
+  const { nx, ny, rowAreaMm2 } = grid;
+  const q = sources.length;
+  const rp = rowPairPlan(grid);
+  const { h, plan, scale } = rp;
+  const spectra = sources.map((b) => rowSpectra(grid, rp, b, (s) => rowAreaMm2[s]));
+  const er = new Float64Array(q * h), ei = new Float64Array(q * h);
+  const nr = new Float64Array(q * h), ni = new Float64Array(q * h);
+  const out = sources.map(() => ({ ge: new Float64Array(nx * ny), gn: new Float64Array(nx * ny) }));
+  const anySource = (s: number) => spectra.some((x) => x.any[s] === 1);
+  const finishRow = (r: number) => {
     for (let m = 0; m < q; m++) {
       realInverseFftRow(plan, er, ei, m * h, out[m].ge, r * nx, nx, scale);
       realInverseFftRow(plan, nr, ni, m * h, out[m].gn, r * nx, nx, scale);
     }
-  }
+    er.fill(0); ei.fill(0); nr.fill(0); ni.fill(0);
+  };
+  let current = 0;
+  forEachRowPair(grid, rp, anySource, (r, s, kr, ki) => {
+    while (current < r) finishRow(current++);
+    for (let m = 0; m < q; m++) {
+      const sp = spectra[m];
+      if (!sp.any[s]) continue;
+      const o = s * h, w = m * h;
+      for (let f = 0; f < h; f++) {
+        const br = sp.re[o + f], bi = sp.im[o + f], kn = kr[f], ke = ki[f];
+        // East: B^ times i Im(K^); north: B^ times Re(K^).
+        er[w + f] -= bi * ke; ei[w + f] += br * ke;
+        nr[w + f] += br * kn; ni[w + f] += bi * kn;
+      }
+    }
+  });
+  while (current < ny) finishRow(current++);
+  return out;
+}
+
+/**
+ * The transposed sum: for every pixel k, Sum_j [F_N(j) g_E(j <- k) - F_E(j) g_N(j <- k)] with
+ * F = B u dS at the target pixels j (G km/s Mm^2, native components) and g(j <- k) the gradient at
+ * j of a unit source at k (the same kernels as potentialGradients, read the other way round),
+ * G km/s cm (with the 1/(4 pi R) and Mm -> cm of the forward sum). This is how the rate changes
+ * with B at the sources, which the forward sum alone does not give on a sphere (the ordered pair
+ * weight is not symmetric).
+ */
+export function transposedSums(grid: SphericalGrid, fe: ArrayLike<number>, fn: ArrayLike<number>): Float64Array {
+  const { nx, ny } = grid;
+  const rp = rowPairPlan(grid);
+  const { h, plan, scale } = rp;
+  const se = rowSpectra(grid, rp, fe, () => 1), sn = rowSpectra(grid, rp, fn, () => 1);
+  const yr = new Float64Array(ny * h), yi = new Float64Array(ny * h);
+  // Reading the kernel the other way round reverses the longitude difference: the spectrum's conjugate.
+  forEachRowPair(grid, rp, () => true, (r, s, kr, ki) => {
+    if (!se.any[r] && !sn.any[r]) return;
+    const o = r * h, w = s * h;
+    for (let f = 0; f < h; f++) {
+      const ner = sn.re[o + f], nei = sn.im[o + f], eer = se.re[o + f], eei = se.im[o + f];
+      const kn = kr[f], ke = ki[f];
+      // F_N^ times (-i Im K^) minus F_E^ times Re K^.
+      yr[w + f] += nei * ke - eer * kn;
+      yi[w + f] += -ner * ke - eei * kn;
+    }
+  });
+  const out = new Float64Array(nx * ny);
+  for (let s = 0; s < ny; s++) realInverseFftRow(plan, yr, yi, s * h, out, s * nx, nx, scale);
   return out;
 }

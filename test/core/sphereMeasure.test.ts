@@ -5,7 +5,8 @@ import { InputError } from '../../core/inputError.js';
 import { seriesCsv, SERIES_COLUMNS } from '../../core/seriesColumns.js';
 import type { SeriesRow } from '../../core/seriesColumns.js';
 import { HOWARD_1990_SIDEREAL, rotationMotion } from '../../core/sphere/differentialRotation.js';
-import { measureSphere } from '../../core/sphere/measureSphere.js';
+import { measureSphere, sphereRateSample } from '../../core/sphere/measureSphere.js';
+import { accumulate, emptyAccumulation } from '../../core/accumulate.js';
 import { accumulateSphere, emptySphereBudget } from '../../core/sphere/sphereColumns.js';
 import { sphericalHelicityFlux } from '../../core/sphere/sphericalHelicityFlux.js';
 import { sphericalTransport } from '../../core/sphere/sphericalTransport.js';
@@ -62,6 +63,25 @@ describe('a spherical sample', () => {
     expect(Math.abs(coarse.total - exact.total)).toBeLessThan(0.1 * Math.abs(exact.planar!.rate - exact.pairs));
     expect(Math.abs(coarse.rotation - exact.rotation)).toBeLessThan(0.05 * Math.abs(exact.rotation));
     expect(coarse.north).toBeNull();
+  });
+
+  it('a rate sample the budget, the rules and the series take like any other; noise sigma propagated', () => {
+    const s = spotScene(g, spots, true);
+    const m = measureSphere(g, { bn: s.bn, vx: s.vx, vy: s.vy, labels: s.labels }, { noiseG: 10 });
+    expect(m.noiseG).toBe(10);
+    expect(m.sigmaTotal).toBeGreaterThan(0);
+    expect(m.sigmaTotal).toBeLessThan(Math.abs(m.total));
+    const sample = sphereRateSample(m, Date.UTC(2026, 0, 1), 0);
+    expect(sample.flags).toContain('whole-sun');
+    expect(sample.splitMethod).toBe('labels');
+    expect(Math.abs(sample.spin + sample.orbit + sample.background - sample.total)).toBeLessThan(1e-12 * Math.abs(sample.total));
+    const step = accumulate(emptyAccumulation(), sample, {}, { frameId: 1 });
+    expect(step.row.rate_total).toBe(m.total);
+    expect(step.row.flux_unsigned).toBe(m.unsignedFlux);
+    // Unsigned flux: |B| dS over pixels at or above 3 noise units, in Mx.
+    let expected = 0;
+    for (let i = 0; i < n; i++) if (Math.abs(s.bn[i]) >= 30) expected += Math.abs(s.bn[i]) * g.rowAreaMm2[Math.floor(i / g.nx)] * 1e16;
+    expect(Math.abs(m.unsignedFlux - expected)).toBeLessThan(1e-12 * expected);
   });
 
   it('refuses a whole Sun beyond the budget and a profile that is not numbers, naming the field', () => {

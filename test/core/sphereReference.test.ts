@@ -10,7 +10,8 @@ import { rateFromGradient, sphericalHelicityFlux } from '../../core/sphere/spher
 import { sphericalGrid } from '../../core/sphere/sphericalGrid.js';
 import { splitSphericalByLabels } from '../../core/sphere/sphericalSplit.js';
 import { sphericalTransport } from '../../core/sphere/sphericalTransport.js';
-import { directGradient } from './sphereDirectSum.js';
+import { directGradient, directTransposed } from './sphereDirectSum.js';
+import { transposedSums } from '../../core/sphere/potentialGradient.js';
 
 const fx = JSON.parse(readFileSync(new URL('../fixtures/sphere/direct.json', import.meta.url), 'utf8'));
 const rel = (a: number, b: number) => Math.abs(a - b) / Math.abs(b);
@@ -74,6 +75,13 @@ describe(`spherical engine against numpy direct summation (${fx.generator})`, ()
       for (let i = 0; i < n; i++) scale = Math.max(scale, Math.abs(d.ge[i]), Math.abs(d.gn[i]));
       for (let i = 0; i < n; i++) worst = Math.max(worst, Math.abs(f.gradient.ge[i] - d.ge[i]), Math.abs(f.gradient.gn[i] - d.gn[i]));
       expect(worst / scale).toBeLessThan(1e-11);
+      // The transposed sum (how the rate changes with B at the sources) the same way.
+      const fe = new Float64Array(n).map((_, i) => Math.cos(i * 0.21) * 50), fnn = new Float64Array(n).map((_, i) => Math.sin(i * 0.53) * 40);
+      const tr = transposedSums(g, fe, fnn), dt = directTransposed(g, fe, fnn);
+      let worstT = 0, scaleT = 0;
+      for (let i = 0; i < n; i++) scaleT = Math.max(scaleT, Math.abs(dt[i]));
+      for (let i = 0; i < n; i++) worstT = Math.max(worstT, Math.abs(tr[i] - dt[i]));
+      expect(worstT / scaleT).toBeLessThan(1e-11);
     }
   });
 });
