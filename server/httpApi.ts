@@ -22,6 +22,8 @@ import { decodeFrameBlob } from './frameBlob.js';
 import type { FootpointReport } from '../core/footpoints/footpointReport.js';
 import { footpointsForWire, tracksForWire } from '../core/wire/footpointWire.js';
 import { gapsForWire } from '../core/wire/gapWire.js';
+import { braidColumns, braidReportJson } from '../core/braid/braidColumns.js';
+import type { BraidViews } from './braidViews.js';
 import type { Pipeline } from './pipeline.js';
 import type { RegionAdmin } from './regionAdmin.js';
 import { checkRegionName } from './regionName.js';
@@ -49,6 +51,8 @@ export interface ApiContext {
   readonly page?: express.Router;
   /** Host names (besides loopback) this monitor answers to (server/hostCheck.ts). */
   readonly hosts: HostPolicy;
+  /** The braid of each region's footpoints, folded over the stored frames (server/braidViews.ts). */
+  readonly braids: BraidViews;
 }
 
 function fail(res: Response, status: number, field: string, problem: string, error = problem): void {
@@ -225,6 +229,25 @@ function seriesRoutes(ctx: ApiContext, h: ApiHelpers): express.Router {
     const from = timeParam(req, 'from', 0), to = timeParam(req, 'to', Number.MAX_SAFE_INTEGER);
     const gaps = gapsForWire(pipeline.accumulation(name).budget.gaps, { from, to });
     res.json({ region: name, samples: store.samples(name, from, to), gaps });
+  });
+
+  // The braid of the largest footpoints (docs/braids.md): per frame, the window's and the run's
+  // entropy per hour, the strands and the triples braided unseen by the pair budget; the last
+  // frame's report (segment, window with its word and triples, run); where segments began.
+  r.get('/braid', (req, res) => {
+    const name = existing(req, res);
+    if (name === undefined) return;
+    const from = timeParam(req, 'from', 0), to = timeParam(req, 'to', Number.MAX_SAFE_INTEGER);
+    const h = ctx.braids.history(name);
+    const series = h.keys.flatMap((id) => {
+      const b = h.reports.get(id);
+      return b && b.time >= from && b.time <= to ? [{ frame_id: id, time: iso(b.time), ...braidColumns(b) }] : [];
+    });
+    res.json({
+      region: name, series,
+      last: h.last ? braidReportJson(h.last) : null,
+      segments: h.segments.map((g) => ({ time: iso(g.time), reason: g.reason, strands: g.strands })),
+    });
   });
 
   r.get('/alerts', (req, res) => {

@@ -18,6 +18,7 @@ import { ReplayRegistry } from './replayRegistry.js';
 import { FolderWatch } from './folderWatch.js';
 import { hostPolicy } from './hostCheck.js';
 import { DEFAULT_INTAKE_MEMORY_MB, DEFAULT_MAX_FRAME_PIXELS, IntakePool } from './intakePool.js';
+import { BraidViews } from './braidViews.js';
 import { buildApp } from './httpApi.js';
 import { gapsForWire } from '../core/wire/gapWire.js';
 import { snapshotMessage } from '../core/wire/viewerMessages.js';
@@ -156,6 +157,7 @@ export async function serve(options: ServeOptions): Promise<RunningMonitor> {
   const hosts = hostPolicy(options.allowedHosts, host);
   const app = buildApp({
     store, writer, pipeline, token, readToken, bodyLimit, startedAt: Date.now(), loopDelay: () => loop.read(), hosts,
+    braids: new BraidViews(store),
     onSettings: (region) => folders.sync(region, store.region(region)?.settings.watchFolder ?? false),
     replay: (region, action) => feeds.control(region, action),
     regions,

@@ -408,6 +408,11 @@ export class Store {
     return rows.reverse().map((r) => fromSafeJson(r.footpoints));
   }
 
+  /** The region's processed frames that have a footpoint table, in time order (ids and times only). */
+  framesWithFootpoints(region: string): { id: number; time: number }[] {
+    return this.db.prepare('SELECT id, time FROM frames WHERE region = ? AND processed = 1 AND footpoints IS NOT NULL ORDER BY time').all(region) as { id: number; time: number }[];
+  }
+
   footpoints(id: number): { footpoints: unknown; events: unknown } {
     const r = this.db.prepare('SELECT footpoints, events FROM frames WHERE id = ?').get(id) as { footpoints: string | null; events: string | null } | undefined;
     return { footpoints: r?.footpoints ? fromSafeJson(r.footpoints) : null, events: r?.events ? fromSafeJson(r.events) : null };
