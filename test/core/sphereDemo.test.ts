@@ -5,7 +5,9 @@ import { rotationMotion, HOWARD_1990_SIDEREAL, CARRINGTON_SIDEREAL_MICRORAD_S, d
 import { potentialGradients } from '../../core/sphere/potentialGradient.js';
 import { sphericalTransport } from '../../core/sphere/sphericalTransport.js';
 import { DEMO_BIPOLES, inventedSun } from '../../core/sphere/inventedSun.js';
+import type { SphereMeasurement } from '../../core/sphere/measureSphere.js';
 import { measureSphere } from '../../core/sphere/measureSphere.js';
+import type { SphereColumns } from '../../core/sphere/sphereColumns.js';
 import { accumulateSphere, emptySphereBudget } from '../../core/sphere/sphereColumns.js';
 import { sphericalGrid } from '../../core/sphere/sphericalGrid.js';
 
@@ -24,8 +26,8 @@ describe('the invented whole Sun', () => {
 
   it('a day of 6-hourly maps: rotation share negative north and positive south, the twisting bipoles\' own motions by their sense of turning, budgets integrated per hemisphere', () => {
     let state = emptySphereBudget();
-    const rows = [];
-    const ms = [];
+    const rows: SphereColumns[] = [];
+    const ms: SphereMeasurement[] = [];
     for (let k = 0; k < 5; k++) {
       const map = inventedSun(DEMO_BIPOLES, k * 6 * 3600, start, { ny: 90 });
       const g = sphericalGrid(map.keywords, map.nx, map.ny, 'demo');
@@ -55,7 +57,7 @@ describe('the invented whole Sun', () => {
       expect(m.south! - m.rotationSouth!).toBeGreaterThan(0);
     }
     const day = 24 * 3600;
-    const trapezoid = (f: (m: (typeof ms)[number]) => number) => ms.slice(1).reduce((s, m, i) => s + ((f(ms[i]) + f(m)) / 2) * 6 * 3600, 0);
+    const trapezoid = (f: (m: SphereMeasurement) => number) => ms.slice(1).reduce((s, m, i) => s + ((f(ms[i]) + f(m)) / 2) * 6 * 3600, 0);
     expect(Math.abs(rows[4].budget_north! - trapezoid((m) => m.north!))).toBeLessThan(1e-12 * Math.abs(ms[0].north! * day));
     expect(Math.abs(rows[4].budget_rotation! - trapezoid((m) => m.rotation))).toBeLessThan(1e-12 * Math.abs(ms[0].rotation * day));
   }, 30000);
