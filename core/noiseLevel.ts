@@ -74,7 +74,8 @@ export function selectKth(a: Float64Array, n: number, k: number): number {
   return a[k];
 }
 
-function median(a: Float64Array, n: number): number {
+/** Median of a[0..n) (the mean of the two middles for even n), reordering a in place; no NaN allowed. */
+export function medianInPlace(a: Float64Array, n: number): number {
   if (n % 2 === 1) return selectKth(a, n, (n - 1) >> 1);
   const hi = selectKth(a, n, n >> 1);
   // After selection everything below index n/2 is <= hi: the lower middle is their maximum.
@@ -108,7 +109,7 @@ export function estimateNoiseLevel(map: ArrayLike<number>, options: NoiseOptions
       if (v >= lo && v <= hi) work[n++] = v;
     }
     if (n === 0) break;
-    med = median(work, n);
+    med = medianInPlace(work, n);
     // Deviations refilled in the original order: the order selection leaves behind is slow to select in again.
     n = 0;
     for (let i = 0; i < count; i++) {
@@ -116,7 +117,7 @@ export function estimateNoiseLevel(map: ArrayLike<number>, options: NoiseOptions
       if (v >= lo && v <= hi) work[n++] = Math.abs(v - med);
     }
     // The first pass is unclipped; later ones are clipped at +-clip sigma.
-    const next = median(work, n) / (iter === 0 ? 1 / MAD_TO_SIGMA : clippedMadOfUnitNormal(clip));
+    const next = medianInPlace(work, n) / (iter === 0 ? 1 / MAD_TO_SIGMA : clippedMadOfUnitNormal(clip));
     used = n;
     // Settled to 0.1 %: far below the sampling scatter of a MAD.
     const settled = iter > 0 && Math.abs(next - sigma) <= 1e-3 * next;

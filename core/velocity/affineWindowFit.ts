@@ -16,7 +16,7 @@
 // Error Models). A window where the correction leaves the matrix not positive definite has too
 // little signal above the noise and is counted as ill-conditioned.
 
-import { correlateColumns, correlateRows, gaussianTaps, windowRadius } from './windowedSum.js';
+import { correlateColumnsAt, correlateFiniteRows, gaussianTaps, windowRadius } from './windowedSum.js';
 
 export interface ModelTerm {
   readonly coef: number;
@@ -91,15 +91,29 @@ export function affineWindowFit(
     valid[i] = ok;
   }
 
+  // The fit is needed at the centres to solve only: the windowed sums are evaluated there (the
+  // column pass at those pixels, the row pass on the rows their windows reach), in the same order
+  // as a full pass, so the numbers are those of the sums over the whole map.
+  let count = 0;
+  for (let i = 0; i < size; i++) if (valid[i] && (solveAt === undefined || solveAt[i] !== 0)) count++;
+  const centres = new Int32Array(count);
+  for (let i = 0, k = 0; i < size; i++) if (valid[i] && (solveAt === undefined || solveAt[i] !== 0)) centres[k++] = i;
   const r = windowRadius(sigma);
+  const rowsNeeded = new Uint8Array(ny);
+  for (let k = 0, last = -1; k < count; k++) {
+    const y = (centres[k] - (centres[k] % nx)) / nx;
+    if (y === last) continue;
+    last = y;
+    for (let e = Math.max(0, y - r); e <= Math.min(ny - 1, y + r); e++) rowsNeeded[e] = 1;
+  }
   const taps: Float64Array[] = [0, 1, 2, 3, 4].map((power) => gaussianTaps(sigma, r, power));
-  // One map per matrix entry (entry-major), so that adding a moment into an entry is one
-  // contiguous loop.
-  const sums: Float64Array[] = Array.from({ length: entries }, () => new Float64Array(size));
+  // One compact array per matrix entry (entry-major, one value per centre), so that adding a moment
+  // into an entry is one contiguous loop.
+  const sums: Float64Array[] = Array.from({ length: entries }, () => new Float64Array(count));
   const product = new Float64Array(size);
   const rowPassed = new Map<number, Float64Array>();
   const rowBuffers = [0, 1, 2, 3, 4].map(() => new Float64Array(size));
-  const column = new Float64Array(size);
+  const column = new Float64Array(count);
   // Group the moments by channel pair so that a product and its row passes are made once.
   const byPair = new Map<string, Moment[]>();
   for (const m of moments.values()) {
@@ -116,13 +130,13 @@ export function affineWindowFit(
       let rows = rowPassed.get(m.px);
       if (!rows) {
         rows = rowBuffers[m.px];
-        correlateRows(product, nx, ny, taps[m.px], rows);
+        correlateFiniteRows(product, nx, ny, taps[m.px], rows, rowsNeeded);
         rowPassed.set(m.px, rows);
       }
-      correlateColumns(rows, nx, ny, taps[m.py], column);
+      correlateColumnsAt(rows, nx, ny, taps[m.py], centres, column);
       for (const u of m.uses) {
         const target = sums[u.entry], coef = u.coef;
-        for (let i = 0; i < size; i++) target[i] += coef * column[i];
+        for (let k = 0; k < count; k++) target[k] += coef * column[k];
       }
     }
   }
@@ -139,14 +153,14 @@ export function affineWindowFit(
       const key = `${m.px},${m.py}`;
       let w = validMoment.get(key);
       if (!w) {
-        w = new Float64Array(size);
-        correlateRows(valid, nx, ny, taps[m.px], rowBuffers[0]);
-        correlateColumns(rowBuffers[0], nx, ny, taps[m.py], w);
+        w = new Float64Array(count);
+        correlateFiniteRows(valid, nx, ny, taps[m.px], rowBuffers[0], rowsNeeded);
+        correlateColumnsAt(rowBuffers[0], nx, ny, taps[m.py], centres, w);
         validMoment.set(key, w);
       }
       for (const u of m.uses) {
         const target = sums[u.entry], c = u.coef * v;
-        for (let i = 0; i < size; i++) target[i] -= c * w[i];
+        for (let k = 0; k < count; k++) target[k] -= c * w[k];
       }
     }
   }
@@ -162,24 +176,24 @@ export function affineWindowFit(
   for (let q = 0; q < n; q++) for (let p = 0; p <= q; p++) { upperMaps.push(sums[entryIndex(p, q)]); upperP.push(p); upperQ.push(q); }
   const nUpper = upperMaps.length;
   const rhsMaps = Array.from({ length: n }, (_, q) => sums[entryIndex(q, n)]);
-  for (let i = 0; i < size; i++) {
-    if (!valid[i] || (solveAt !== undefined && solveAt[i] === 0)) continue;
+  for (let at = 0; at < count; at++) {
+    const i = centres[at];
     let ok = true;
     for (let p = 0; p < n; p++) {
-      const d = diag[p][i];
+      const d = diag[p][at];
       // A column more than half noise cannot be corrected reliably (the corrected estimator's
       // variance grows without bound as its signal goes to zero): no fit there.
-      if (!(d > 0) || (rawDiag !== undefined && !(d >= MIN_SIGNAL_SHARE * rawDiag[p][i]))) { ok = false; break; }
+      if (!(d > 0) || (rawDiag !== undefined && !(d >= MIN_SIGNAL_SHARE * rawDiag[p][at]))) { ok = false; break; }
       scale[p] = 1 / Math.sqrt(d);
     }
     if (ok) {
       for (let k = 0; k < nUpper; k++) {
         const p = upperP[k], q = upperQ[k];
-        const v = upperMaps[k][i] * scale[p] * scale[q] + (p === q ? RIDGE + ridge[p] : 0);
+        const v = upperMaps[k][at] * scale[p] * scale[q] + (p === q ? RIDGE + ridge[p] : 0);
         mat[p * n + q] = v;
         mat[q * n + p] = v;
       }
-      for (let q = 0; q < n; q++) rhs[q] = -rhsMaps[q][i] * scale[q];
+      for (let q = 0; q < n; q++) rhs[q] = -rhsMaps[q][at] * scale[q];
       ok = cholesky(mat, n);
       // Each wanted parameter must be determined: the part of its (unit) column that the other
       // columns do not explain, 1 / [M^-1]_pp (with the penalties), is at least minPivot.
