@@ -93,7 +93,7 @@ describe('a spherical sample', () => {
   });
 
   it('series columns: budgets are the trapezoid integrals of the rates, and the CSV carries them in their columns', () => {
-    const base = { wholeSun: true, total: 5, pairs: 5, selfPixel: 0, ownMotions: 3, maskedFraction: 0, rotationProfile: HOWARD_1990_SIDEREAL, frameRateMicroradPerS: 0 };
+    const base = { wholeSun: true, total: 5, pairs: 5, selfPixel: 0, ownMotions: 3, maskedFraction: 0, sigmaTotal: 0, noiseG: 0, unsignedFlux: 0, rotationProfile: HOWARD_1990_SIDEREAL, frameRateMicroradPerS: 0 };
     let state = emptySphereBudget();
     const cols = [];
     for (const [k, r] of [[0, 2], [1, 4], [2, 4]] as const) {
