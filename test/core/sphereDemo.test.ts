@@ -10,6 +10,8 @@ import { measureSphere } from '../../core/sphere/measureSphere.js';
 import type { SphereColumns } from '../../core/sphere/sphereColumns.js';
 import { accumulateSphere, emptySphereBudget } from '../../core/sphere/sphereColumns.js';
 import { sphericalGrid } from '../../core/sphere/sphericalGrid.js';
+import { isSphericalFrame, sphericalFrame } from '../../core/sphere/sphericalFrame.js';
+import { frameFromMaps } from '../../core/frame.js';
 
 describe('the invented whole Sun', () => {
   const start = Date.UTC(2026, 2, 1);
@@ -61,4 +63,21 @@ describe('the invented whole Sun', () => {
     expect(Math.abs(rows[4].budget_north! - trapezoid((m) => m.north!))).toBeLessThan(1e-12 * Math.abs(ms[0].north! * day));
     expect(Math.abs(rows[4].budget_rotation! - trapezoid((m) => m.rotation))).toBeLessThan(1e-12 * Math.abs(ms[0].rotation * day));
   }, 30000);
+});
+
+describe('a frame on the sphere', () => {
+  it('is told from a flat one by its keywords and gives the grid and maps measureSphere takes', () => {
+    const map = inventedSun(DEMO_BIPOLES, 0, Date.UTC(2026, 2, 1), { ny: 30 });
+    const keywords = Object.fromEntries(Object.entries(map.keywords).filter(([, v]) => typeof v !== 'object')) as Record<string, string | number | boolean>;
+    const frame = frameFromMaps({ time: 0, nx: map.nx, ny: map.ny, dx: 12, dy: 12 }, { bn: map.bn, vx: map.vx, vy: map.vy }, 'sun.fits', { provenance: { source: 'sun.fits', keywords } });
+    expect(isSphericalFrame(frame)).toBe(true);
+    const s = sphericalFrame(frame)!;
+    expect(s.grid.wholeSun).toBe(true);
+    expect(measureSphere(s.grid, s.maps).total).toBe(measureSphere(sphericalGrid(map.keywords, map.nx, map.ny, 'x'), map).total);
+    const flat = frameFromMaps({ time: 0, nx: 4, ny: 4, dx: 1, dy: 1 }, { bn: new Float64Array(16).fill(1) }, 'flat.json');
+    expect(isSphericalFrame(flat)).toBe(false);
+    expect(sphericalFrame(flat)).toBeUndefined();
+    const still = frameFromMaps({ time: 0, nx: map.nx, ny: map.ny, dx: 12, dy: 12 }, { bn: map.bn }, 'sun.fits', { provenance: { source: 'sun.fits', keywords } });
+    expect(() => sphericalFrame(still)).toThrow(/sun.fits: vx\/vy/);
+  });
 });
