@@ -45,9 +45,14 @@ function rowPairPlan(grid: SphericalGrid): RowPairPlan {
 
 /**
  * Visits every row pair (target r, source s) with a source row that `wanted(s)`, giving the
- * half spectrum of g_N + g_E along the row: real part the spectrum of g_N, imaginary part that of g_E.
+ * half spectrum of g_N + g_E along the row: real part the spectrum of g_N, imaginary part that of
+ * g_E, with g_N to be taken times `northSign`. When the rows are symmetric about the equator the
+ * pair mirrored in it has the same g_E and the opposite g_N: one transform serves both.
  */
-function forEachRowPair(grid: SphericalGrid, rp: RowPairPlan, wanted: (s: number) => boolean, visit: (r: number, s: number, kr: Float64Array, ki: Float64Array) => void): void {
+function forEachRowPair(
+  grid: SphericalGrid, rp: RowPairPlan, wanted: (s: number) => boolean,
+  visit: (r: number, s: number, kr: Float64Array, ki: Float64Array, northSign: 1 | -1) => void,
+): void {
   const { nx, ny, colLon, rowLat } = grid;
   const { p, h, plan } = rp;
   const step = nx > 1 ? colLon[1] - colLon[0] : 0;
@@ -64,9 +69,15 @@ function forEachRowPair(grid: SphericalGrid, rp: RowPairPlan, wanted: (s: number
   const kernel = new Float64Array(p);
   const kr = new Float64Array(h), ki = new Float64Array(h);
   const sinT = rowLat.map(Math.sin), cosT = rowLat.map(Math.cos);
+  let symmetric = true;
+  for (let r = 0; r < ny; r++) if (Math.abs(rowLat[r] + rowLat[ny - 1 - r]) > 1e-14) symmetric = false;
+  const done = new Uint8Array(ny * ny);
   for (let r = 0; r < ny; r++) {
     for (let s = 0; s < ny; s++) {
-      if (!wanted(s)) continue;
+      if (done[r * ny + s]) continue;
+      const mr = ny - 1 - r, ms = ny - 1 - s;
+      const mirror = symmetric && (mr !== r || ms !== s) && wanted(ms);
+      if (!wanted(s) && !mirror) continue;
       const dt = rowLat[r] - rowLat[s];
       const a = 2 * Math.sin(dt / 2) ** 2, c = cosT[r] * cosT[s], sdt = Math.sin(dt);
       const e = -cosT[s], nn = sinT[r] * cosT[s];
@@ -78,7 +89,8 @@ function forEachRowPair(grid: SphericalGrid, rp: RowPairPlan, wanted: (s: number
         kernel[j] = (e * sinD[j] + sdt - nn * half2[j]) / den;
       }
       realFftRow(plan, kernel, 0, p, kr, ki, 0);
-      visit(r, s, kr, ki);
+      if (wanted(s)) visit(r, s, kr, ki, 1);
+      if (mirror) { visit(mr, ms, kr, ki, -1); done[mr * ny + ms] = 1; }
     }
   }
 }
@@ -110,33 +122,30 @@ export function potentialGradients(grid: SphericalGrid, sources: readonly ArrayL
   const rp = rowPairPlan(grid);
   const { h, plan, scale } = rp;
   const spectra = sources.map((b) => rowSpectra(grid, rp, b, (s) => rowAreaMm2[s]));
-  const er = new Float64Array(q * h), ei = new Float64Array(q * h);
-  const nr = new Float64Array(q * h), ni = new Float64Array(q * h);
+  // Spectra of the result, per source map and target row: east and north.
+  const er = new Float64Array(q * ny * h), ei = new Float64Array(q * ny * h);
+  const nr = new Float64Array(q * ny * h), ni = new Float64Array(q * ny * h);
   const out = sources.map(() => ({ ge: new Float64Array(nx * ny), gn: new Float64Array(nx * ny) }));
   const anySource = (s: number) => spectra.some((x) => x.any[s] === 1);
-  const finishRow = (r: number) => {
-    for (let m = 0; m < q; m++) {
-      realInverseFftRow(plan, er, ei, m * h, out[m].ge, r * nx, nx, scale);
-      realInverseFftRow(plan, nr, ni, m * h, out[m].gn, r * nx, nx, scale);
-    }
-    er.fill(0); ei.fill(0); nr.fill(0); ni.fill(0);
-  };
-  let current = 0;
-  forEachRowPair(grid, rp, anySource, (r, s, kr, ki) => {
-    while (current < r) finishRow(current++);
+  forEachRowPair(grid, rp, anySource, (r, s, kr, ki, sign) => {
     for (let m = 0; m < q; m++) {
       const sp = spectra[m];
       if (!sp.any[s]) continue;
-      const o = s * h, w = m * h;
+      const o = s * h, w = (m * ny + r) * h;
       for (let f = 0; f < h; f++) {
-        const br = sp.re[o + f], bi = sp.im[o + f], kn = kr[f], ke = ki[f];
+        const br = sp.re[o + f], bi = sp.im[o + f], kn = sign * kr[f], ke = ki[f];
         // East: B^ times i Im(K^); north: B^ times Re(K^).
         er[w + f] -= bi * ke; ei[w + f] += br * ke;
         nr[w + f] += br * kn; ni[w + f] += bi * kn;
       }
     }
   });
-  while (current < ny) finishRow(current++);
+  for (let m = 0; m < q; m++) {
+    for (let r = 0; r < ny; r++) {
+      realInverseFftRow(plan, er, ei, (m * ny + r) * h, out[m].ge, r * nx, nx, scale);
+      realInverseFftRow(plan, nr, ni, (m * ny + r) * h, out[m].gn, r * nx, nx, scale);
+    }
+  }
   return out;
 }
 
@@ -155,12 +164,12 @@ export function transposedSums(grid: SphericalGrid, fe: ArrayLike<number>, fn: A
   const se = rowSpectra(grid, rp, fe, () => 1), sn = rowSpectra(grid, rp, fn, () => 1);
   const yr = new Float64Array(ny * h), yi = new Float64Array(ny * h);
   // Reading the kernel the other way round reverses the longitude difference: the spectrum's conjugate.
-  forEachRowPair(grid, rp, () => true, (r, s, kr, ki) => {
+  forEachRowPair(grid, rp, () => true, (r, s, kr, ki, sign) => {
     if (!se.any[r] && !sn.any[r]) return;
     const o = r * h, w = s * h;
     for (let f = 0; f < h; f++) {
       const ner = sn.re[o + f], nei = sn.im[o + f], eer = se.re[o + f], eei = se.im[o + f];
-      const kn = kr[f], ke = ki[f];
+      const kn = sign * kr[f], ke = ki[f];
       // F_N^ times (-i Im K^) minus F_E^ times Re K^.
       yr[w + f] += nei * ke - eer * kn;
       yi[w + f] += -ner * ke - eei * kn;
