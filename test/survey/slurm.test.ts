@@ -4,9 +4,11 @@
 // table and region series equal `survey run --local` over the same plan to rounding. Then one
 // task is cancelled mid-way (scancel): it records why, the merge reports its region with the
 // reason and prints the tasks to submit again; resubmitting the whole array reruns only that task
-// and the merge is unchanged. Without Slurm this file skips loudly; with CI=true it fails.
+// and the merge is unchanged. A task held past its time limit is stopped by Slurm and reported as
+// timed out. Without Slurm this file skips loudly; with CI=true it fails.
 import { cp, mkdtemp, readFile, readdir, rm, writeFile } from 'node:fs/promises';
 import { existsSync } from 'node:fs';
+import { execFileSync } from 'node:child_process';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
@@ -26,7 +28,7 @@ if (missing) {
   console.warn(`SKIPPING the survey tests on a real Slurm: ${missing}`);
 }
 
-let dir: string, plan: SurveyPlan, cluster: SlurmCluster | undefined;
+let dir: string, plan: SurveyPlan, cluster: SlurmCluster | undefined, stuckJob: string;
 /** The plan folder as made, before any task ran (copied for each run). */
 const pristine = () => join(dir, 'plan');
 const sleep = (ms: number) => new Promise((r) => setTimeout(r, ms));
@@ -61,6 +63,16 @@ beforeAll(async () => {
   await writeFile(manifest, ['region,frames', ...regions.map(([n]) => `${n},frames/${n}`), ''].join('\n'));
   plan = await planSurvey({ manifest, out: pristine(), chunkFrames: 20, timeLimitS: 600, cpusPerTask: 1, workers: 2, progress: quiet() });
   cluster = await startSlurmCluster();
+  // Submitted first, so that its minute runs beside the other tests: one region whose frame 3
+  // hangs whoever reads it (a named pipe nobody writes), put in after the plan, and a limit of one
+  // minute (Slurm's smallest; it signals the task within about 30 s past it).
+  const stuck = join(dir, 'frames', 'ar-stuck');
+  await cp(join(dir, 'frames', 'ar-1'), stuck, { recursive: true });
+  await writeFile(join(dir, 'stuck.csv'), `region,frames\nar-stuck,${stuck}\n`);
+  await planSurvey({ manifest: join(dir, 'stuck.csv'), out: join(dir, 'stuck'), chunkFrames: 20, timeLimitS: 60, cpusPerTask: 1, workers: 1, progress: quiet() });
+  await rm(join(stuck, 'demo_0003.fits'));
+  execFileSync('mkfifo', [join(stuck, 'demo_0003.fits')]);
+  stuckJob = await cluster.submit(scriptPath(join(dir, 'stuck')));
 }, 180_000);
 
 afterAll(async () => {
@@ -125,5 +137,16 @@ describe.skipIf(missing !== undefined)('a survey on a real Slurm', () => {
     expect(rerun?.status, rerun?.status === 'failed' ? rerun.reason : '').toBe('complete');
     expect((await mergeSurvey(survey, { progress: quiet() })).rerun).toEqual([]);
     expectSameTables(reference, await tables(survey));
+  }, 300_000);
+
+  it('reports a task stopped by Slurm at its time limit as timed out', async () => {
+    const survey = join(dir, 'stuck');
+    await cluster!.waitDone(stuckJob, 240_000);
+    expect(await readResult(survey, 0)).toMatchObject({
+      status: 'failed', timedOut: true, reason: expect.stringMatching(/^timed out: stopped by SIGTERM after \d+ s, the time limit of a task being 00:01:00$/),
+    });
+    const merged = await mergeSurvey(survey, { progress: quiet() });
+    expect(merged.rows).toMatchObject([{ region: 'ar-stuck', status: 'incomplete', problem: expect.stringMatching(/^task 0: timed out: stopped by SIGTERM/) }]);
+    expect(merged.rerun).toEqual([0]);
   }, 300_000);
 });
