@@ -86,6 +86,20 @@ describe('survey plan', () => {
     expect(plan.regions.find((r) => r.name === 'ar-corrupt')!.skippedCount).toBe(1);
   });
 
+  it('gives each region the survey\'s config or its own; a config file that is refused is that region\'s reason', async () => {
+    await writeFile(join(dir, 'survey-config.json'), JSON.stringify({ budget: { gapFactor: 4 } }));
+    await writeFile(join(dir, 'lct.json'), JSON.stringify({ analysis: { velocity: { method: 'lct' } } }));
+    await writeFile(join(dir, 'wrong.json'), JSON.stringify({ method: 'lct' }));
+    await writeFile(join(dir, 'configs.csv'), 'region,frames,config\nr-plain,a\nr-lct,a,lct.json\nr-wrong,a,wrong.json\n');
+    const p = await planSurvey({ manifest: join(dir, 'configs.csv'), config: join(dir, 'survey-config.json'), out: join(dir, 'configs'), chunkFrames: 50, timeLimitS: 60, cpusPerTask: 1, workers: 1, progress: quiet() });
+    const [plain, lct, wrong] = p.regions;
+    expect(plain.settings).toMatchObject({ budget: { gapFactor: 4 }, analysis: {} });
+    expect(lct.settings).toMatchObject({ budget: {}, analysis: { velocity: { method: 'lct' } } });
+    expect(lct.settingsDigest).not.toBe(plain.settingsDigest);
+    expect(wrong.problem).toMatch(/wrong\.json: method: is not a setting; it belongs at analysis\.velocity\.method/);
+    expect(p.tasks.map((t) => t.region)).toEqual(['r-plain', 'r-lct']);
+  });
+
   it('refuses to plan over a survey folder that holds a plan', async () => {
     await expect(planSurvey({ manifest: join(dir, 'manifest.csv'), out: survey, chunkFrames: 6, timeLimitS: 15, cpusPerTask: 1, progress: quiet() }))
       .rejects.toThrow(/already holds a survey plan/);
