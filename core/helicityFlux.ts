@@ -24,8 +24,11 @@ export interface KernelConvolutions {
   readonly r: Float64Array;
 }
 
-/** P and Q: the convolutions of bn with the kernel (what A_p needs). */
-export function convolveField(kernel: FluxKernel, bn: ArrayLike<number>): { p: Float64Array; q: Float64Array } {
+/**
+ * P and Q: the convolutions of bn with the kernel (what A_p needs). With `rows`, only the rows y
+ * where rows[y] is non-zero are computed (the others are 0).
+ */
+export function convolveField(kernel: FluxKernel, bn: ArrayLike<number>, rows?: Uint8Array): { p: Float64Array; q: Float64Array } {
   const { plan, kxIm, kyIm, nx, ny } = kernel;
   const p = new Float64Array(nx * ny);
   const q = new Float64Array(nx * ny);
@@ -41,12 +44,17 @@ export function convolveField(kernel: FluxKernel, bn: ArrayLike<number>): { p: F
         qr[t + c] = -b * im; qi[t + c] = b * re;
       }
     }
-  });
+  }, rows);
   return { p, q };
 }
 
-/** P, Q and R for a flux transport (what G_theta needs). */
-export function convolveTransport(kernel: FluxKernel, t: { bn: ArrayLike<number>; fx: ArrayLike<number>; fy: ArrayLike<number> }): KernelConvolutions {
+/**
+ * P, Q and R for a flux transport (what G_theta needs). With `rows`, only the rows y where
+ * rows[y] is non-zero are computed (the others are 0): for callers that read a few rows.
+ */
+export function convolveTransport(
+  kernel: FluxKernel, t: { bn: ArrayLike<number>; fx: ArrayLike<number>; fy: ArrayLike<number> }, rows?: Uint8Array,
+): KernelConvolutions {
   const { plan, kxIm, kyIm, nx, ny } = kernel;
   const p = new Float64Array(nx * ny);
   const q = new Float64Array(nx * ny);
@@ -66,7 +74,7 @@ export function convolveTransport(kernel: FluxKernel, t: { bn: ArrayLike<number>
         ri[o + c] = a * yr[s + c] - b * xr[s + c];
       }
     }
-  });
+  }, rows);
   return { p, q, r };
 }
 

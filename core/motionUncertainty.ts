@@ -41,8 +41,9 @@ export function rateSigmaFromMotions(
   const { bn, valid } = t;
   const { p, q } = conv;
   const labelled = new Float64Array(bn.length);
-  for (let i = 0; i < bn.length; i++) if (labels[i] > 0 && valid[i]) labelled[i] = bn[i];
-  const own = convolveField(kernel, labelled);
+  const rows = new Uint8Array(grid.ny); // own.p, own.q are read on labelled pixels only
+  for (let i = 0; i < bn.length; i++) if (labels[i] > 0 && valid[i]) { labelled[i] = bn[i]; rows[(i - (i % nx)) / nx] = 1; }
+  const own = convolveField(kernel, labelled, rows);
   type Acc = { sx: number; sy: number; r: number; lx: number; ly: number; lr: number; flux: number; self: number };
   const acc = new Map<number, Acc>();
   for (let i = 0; i < labels.length; i++) {

@@ -105,16 +105,30 @@ export type SpectralStep = (
  * (nx*ny maps), `step` forming the outputs' spectra, and the inverse transforms, whose nx*ny blocks
  * go to `outputs` (the same as forwardPadded, a product, inversePadded per output, to rounding).
  * The column passes, forward and inverse, run block by block of columns while the block is in
- * cache; rows that are zero are never transformed; nothing is allocated (`work` is reused).
+ * cache; rows that are zero (padding, or input rows that hold only zeros) are never transformed;
+ * nothing is allocated (`work` is reused). With `outputRows`, only the output rows y where
+ * outputRows[y] is non-zero are computed; the others are set to 0.
  */
 export function convolvePadded(
   plan: PaddedPlan, work: PaddedWorkspace, inputs: readonly ArrayLike<number>[], outputs: readonly Float64Array[], step: SpectralStep,
+  outputRows?: Uint8Array,
 ): void {
   const { nx, ny, w, py, rows, cols } = plan;
   if (inputs.length > work.channels || outputs.length > work.channels) throw new RangeError('workspace has too few channels');
   const B = SPECTRUM_BLOCK;
   const { rowRe, rowIm, inRe, inIm, outRe, outIm, rowBlock } = work;
-  for (let j = 0; j < inputs.length; j++) realFftRows(rows, inputs[j], 0, nx, nx, ny, rowRe[j], rowIm[j], 0, w, rowBlock);
+  for (let j = 0; j < inputs.length; j++) {
+    // Runs of rows holding some non-zero value go through the transform; zero rows give zero.
+    const x = inputs[j];
+    const zeroRow = (y: number) => { for (let i = y * nx, e = i + nx; i < e; i++) if (x[i] !== 0) return false; return true; };
+    for (let y = 0; y < ny;) {
+      if (zeroRow(y)) { rowRe[j].fill(0, y * w, y * w + w); rowIm[j].fill(0, y * w, y * w + w); y++; continue; }
+      let end = y + 1;
+      while (end < ny && !zeroRow(end)) end++;
+      realFftRows(rows, x, y * nx, nx, nx, end - y, rowRe[j], rowIm[j], y * w, w, rowBlock);
+      y = end;
+    }
+  }
   const rev = cols.rev;
   const upperZero = py >= 2 && 2 * ny <= py;
   const zeroEnd = upperZero ? py >> 1 : py;
@@ -142,5 +156,14 @@ export function convolvePadded(
       }
     }
   }
-  for (let j = 0; j < outputs.length; j++) realInverseFftRows(rows, rowRe[j], rowIm[j], 0, w, ny, outputs[j], 0, nx, nx, 1 / py, rowBlock);
+  for (let j = 0; j < outputs.length; j++) {
+    if (!outputRows) { realInverseFftRows(rows, rowRe[j], rowIm[j], 0, w, ny, outputs[j], 0, nx, nx, 1 / py, rowBlock); continue; }
+    for (let y = 0; y < ny;) {
+      if (outputRows[y] === 0) { outputs[j].fill(0, y * nx, y * nx + nx); y++; continue; }
+      let end = y + 1;
+      while (end < ny && outputRows[end] !== 0) end++;
+      realInverseFftRows(rows, rowRe[j], rowIm[j], y * w, w, end - y, outputs[j], y * nx, nx, nx, 1 / py, rowBlock);
+      y = end;
+    }
+  }
 }

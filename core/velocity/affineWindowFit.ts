@@ -92,19 +92,17 @@ export function affineWindowFit(
   }
 
   // The fit is needed at the centres to solve only: the windowed sums are evaluated there (the
-  // column pass at those pixels, the row pass on the rows their windows reach), in the same order
+  // column pass at those pixels, the row pass at the pixels their column windows read), in the same order
   // as a full pass, so the numbers are those of the sums over the whole map.
   let count = 0;
   for (let i = 0; i < size; i++) if (valid[i] && (solveAt === undefined || solveAt[i] !== 0)) count++;
   const centres = new Int32Array(count);
   for (let i = 0, k = 0; i < size; i++) if (valid[i] && (solveAt === undefined || solveAt[i] !== 0)) centres[k++] = i;
   const r = windowRadius(sigma);
-  const rowsNeeded = new Uint8Array(ny);
-  for (let k = 0, last = -1; k < count; k++) {
-    const y = (centres[k] - (centres[k] % nx)) / nx;
-    if (y === last) continue;
-    last = y;
-    for (let e = Math.max(0, y - r); e <= Math.min(ny - 1, y + r); e++) rowsNeeded[e] = 1;
+  const rowsNeeded = new Uint8Array(size);
+  for (let k = 0; k < count; k++) {
+    const x = centres[k] % nx, y = (centres[k] - x) / nx;
+    for (let e = Math.max(0, y - r); e <= Math.min(ny - 1, y + r); e++) rowsNeeded[e * nx + x] = 1;
   }
   const taps: Float64Array[] = [0, 1, 2, 3, 4].map((power) => gaussianTaps(sigma, r, power));
   // One compact array per matrix entry (entry-major, one value per centre), so that adding a moment

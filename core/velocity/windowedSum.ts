@@ -107,18 +107,18 @@ export function windowedSum(
 }
 
 /**
- * correlateRows for the rows where `rows[y]` is non-zero only (the others are left as they are),
+ * correlateRows at the pixels where `at[i]` is non-zero only (the others are left as they are),
  * for an input that holds no NaN: the same sums in the same order as correlateRows.
  */
-export function correlateFiniteRows(input: ArrayLike<number>, nx: number, ny: number, taps: Float64Array, out: Float64Array, rows: Uint8Array): void {
+export function correlateFiniteRows(input: ArrayLike<number>, nx: number, ny: number, taps: Float64Array, out: Float64Array, at: Uint8Array): void {
   const r = (taps.length - 1) >> 1;
   const sym = tapSymmetry(taps);
   const t0 = taps[r];
+  const lo = Math.min(r, nx), hi = Math.max(lo, nx - r);
   for (let y = 0; y < ny; y++) {
-    if (rows[y] === 0) continue;
     const row = y * nx;
-    const lo = Math.min(r, nx), hi = Math.max(lo, nx - r);
     for (let x = 0; x < nx; x++) {
+      if (at[row + x] === 0) continue;
       if (sym !== 0 && x >= lo && x < hi) {
         let s = t0 * input[row + x];
         if (sym === 1) for (let d = 1; d <= r; d++) s += taps[r + d] * (input[row + x + d] + input[row + x - d]);

@@ -146,3 +146,34 @@ describe('batched real transforms and the fused padded convolution (same numbers
     });
   }
 });
+
+describe('convolvePadded with zero input rows and a subset of output rows', () => {
+  it('zero rows skipped on the way in and rows not asked for left 0 give the full result on the rows asked for', () => {
+    const nx = 24, ny = 20;
+    const plan = createPaddedPlan(nx, ny), work = createPaddedWorkspace(plan, 3);
+    const a = Float64Array.from(rand(nx * ny, 21));
+    for (const y of [0, 1, 7, 8, 9, 19]) a.fill(0, y * nx, y * nx + nx);
+    const k = Float64Array.from(rand(plan.w * plan.py, 22));
+    const step = (inRe: readonly Float64Array[], inIm: readonly Float64Array[], outRe: readonly Float64Array[], outIm: readonly Float64Array[], c0: number, width: number, rev: Uint32Array) => {
+      for (let ky = 0; ky < plan.py; ky++) for (let c = 0; c < width; c++) {
+        const s = ky * SPECTRUM_BLOCK + c, o = rev[ky] * SPECTRUM_BLOCK + c, kk = k[ky * plan.w + c0 + c];
+        outRe[0][o] = -kk * inIm[0][s]; outIm[0][o] = kk * inRe[0][s];
+      }
+    };
+    const full = new Float64Array(nx * ny), some = new Float64Array(nx * ny).fill(7);
+    convolvePadded(plan, work, [a], [full], step);
+    const rows = new Uint8Array(ny);
+    for (const y of [2, 3, 8, 15]) rows[y] = 1;
+    convolvePadded(plan, work, [a], [some], step, rows);
+    // The reference: the old path, every row transformed.
+    const sa = createSpectrum(plan), ref = new Float64Array(nx * ny);
+    forwardPadded(plan, a, nx, ny, sa);
+    for (let i = 0; i < k.length; i++) { const re = sa.re[i]; sa.re[i] = -k[i] * sa.im[i]; sa.im[i] = k[i] * re; }
+    inversePadded(plan, sa, ref);
+    for (let y = 0; y < ny; y++) for (let x = 0; x < nx; x++) {
+      const i = y * nx + x;
+      expect(Math.abs(full[i] - ref[i])).toBeLessThanOrEqual(1e-12 * Math.max(1, Math.abs(ref[i])));
+      expect(some[i]).toBe(rows[y] ? full[i] : 0);
+    }
+  });
+});
