@@ -9,7 +9,7 @@ import { DEFAULT_SETTINGS } from '../../../server/regionSettings.js';
 
 const sample = (time: number, total: number): RateSample => ({
   time, dtS: 720, total, totalGa: total, spin: 0.25 * total, orbit: 0.75 * total, background: 0,
-  sigmaTotal: 1e36, noiseG: 8, velocityMethod: 'given', splitMethod: 'labels', maskedFraction: 0, flags: [],
+  sigmaTotal: 1e36, sigmaSpin: 0, sigmaOrbit: 0, sigmaMotion: 0, noiseG: 8, velocityMethod: 'given', splitMethod: 'labels', maskedFraction: 0, flags: [],
 });
 const computed = (id: number, s?: RateSample): ComputedFrame => ({
   frame: { id, time: s?.time ?? 0, source: 'test' } as ComputedFrame['frame'],
