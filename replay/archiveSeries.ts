@@ -48,7 +48,7 @@ function archiveBraid(extras: ArchiveSeries['extras'], settings: BraidSettings =
   let state = emptyBraidState();
   let last: BraidReport | undefined;
   const reports = extras.map((e) => ({ index: e.index, fp: e.extra.footpoints as FootpointReport | undefined }))
-    .filter((e): e is { index: number; fp: FootpointReport & { footpoints: NonNullable<FootpointReport['footpoints']> } } => e.fp?.footpoints !== undefined)
+    .filter((e): e is { index: number; fp: FootpointReport } => e.fp?.footpoints !== undefined)
     .sort((a, b) => a.fp.time - b.fp.time);
   for (const { index, fp } of reports) {
     if (last && !(fp.time > last.time)) continue;

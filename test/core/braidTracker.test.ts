@@ -6,6 +6,7 @@ import { describe, expect, it } from 'vitest';
 import type { BraidFrameInput, BraidState } from '../../core/braid/braidTracker.js';
 import { braidStep, emptyBraidState } from '../../core/braid/braidTracker.js';
 import { braidInputFromFootpoints } from '../../core/braid/braidInput.js';
+import { braidMemory, restoreBraidState } from '../../core/braid/braidMemory.js';
 import { InputError } from '../../core/inputError.js';
 import { exchangeFrames, GOLDEN, GOLDEN_ENTROPY } from './braidProtocols.js';
 
@@ -68,6 +69,21 @@ describe('braid tracker', () => {
     // a strand gone
     const gone = inputs(frames).map((x, f) => (f === 40 ? { ...x, footpoints: x.footpoints.slice(1) } : x));
     expect(fold(gone, { strands: 3 }).reports[40].segmentStarted).toBe('footpoint 10 is gone');
+  });
+  it('a state stored as text and restored folds on exactly as the uninterrupted run (3 and 5 strands)', () => {
+    for (const [n, word] of [[3, GOLDEN], [5, [...GOLDEN, { position: 3, sign: 1 }, { position: 4, sign: -1 }]]] as const) {
+      const list = inputs(exchangeFrames(n, word, 3));
+      const whole = fold(list, { strands: n, windowS: 3 * 3600 });
+      const first = fold(list.slice(0, 23), { strands: n, windowS: 3 * 3600 });
+      const text = braidMemory(first.state);
+      let state = restoreBraidState(text);
+      expect(state).toEqual(first.state);
+      const rest = list.slice(23).map((input) => { const r = braidStep(state, input, { strands: n, windowS: 3 * 3600 }); state = r.state; return r.report; });
+      expect(rest).toEqual(whole.reports.slice(23));
+      expect(rest[rest.length - 1].run.entropy).toBeGreaterThan(0);
+    }
+    expect(() => restoreBraidState('{"segment": null}', 'frame 7')).toThrow(/frame 7: \(text\): is not a stored braid state/);
+    expect(() => restoreBraidState('not json')).toThrow(InputError);
   });
   it('fewer than two footpoints: no braid, no error', () => {
     const r = braidStep(emptyBraidState(), { time: 0, footpoints: [{ id: 1, x: 0, y: 0, flux: 1 }] });
