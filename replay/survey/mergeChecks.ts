@@ -6,10 +6,16 @@
 // - the input files: a file read by two tasks (the primer frames of a chunk are the last frames of
 //   the chunk before) had the same SHA-256 for both.
 
-import type { CompleteResult, SurveyPlan } from './surveyFolder.js';
+import type { CompleteResult, SurveyPlan, TaskProvenance } from './surveyFolder.js';
+
+/** As much of a complete result as the checks over the whole survey need. */
+export interface ResultStamp {
+  readonly task: CompleteResult['task'];
+  readonly provenance: Pick<TaskProvenance, 'version' | 'settingsDigest'>;
+}
 
 /** A reason to refuse the whole merge, or undefined. */
-export function mixedResults(plan: SurveyPlan, results: readonly CompleteResult[]): string | undefined {
+export function mixedResults(plan: SurveyPlan, results: readonly ResultStamp[]): string | undefined {
   const byVersion = new Map<string, number[]>();
   for (const r of results) byVersion.set(r.provenance.version, [...(byVersion.get(r.provenance.version) ?? []), r.task.id]);
   if (byVersion.size > 1) {

@@ -11,7 +11,7 @@
 // Results are read back exactly (resultCodec.ts). Results are written temp + fsync + rename +
 // fsync of the folder, so a task killed at any moment leaves its result whole or absent.
 
-import { readFile } from 'node:fs/promises';
+import { open, readFile } from 'node:fs/promises';
 import { join } from 'node:path';
 import { InputError } from '../../core/inputError.js';
 import type { ScannedFrame, SkippedFile } from '../archiveOrder.js';
@@ -172,11 +172,21 @@ export async function readResult(dir: string, id: number): Promise<TaskResult | 
   return r;
 }
 
+/**
+ * True when the task has a complete result. Results start with their format and status (and are
+ * written whole or not at all), so the first bytes tell without reading the chunks.
+ */
 export async function isComplete(dir: string, id: number): Promise<boolean> {
+  let fh;
   try {
-    return (await readResult(dir, id))?.status === 'complete';
+    fh = await open(resultPath(dir, id), 'r');
+    const head = Buffer.alloc(128);
+    const { bytesRead } = await fh.read(head, 0, head.length, 0);
+    return head.subarray(0, bytesRead).toString('utf8').startsWith(`{"format":${JSON.stringify(RESULT_FORMAT)},"status":"complete"`);
   } catch {
     return false;
+  } finally {
+    await fh?.close();
   }
 }
 

@@ -16,7 +16,7 @@ import { planSurvey } from '../../replay/survey/surveyPlan.js';
 import { runLocal, runTask } from '../../replay/survey/surveyRun.js';
 import { mergeSurvey } from '../../replay/survey/surveyMerge.js';
 import type { CompleteResult, SurveyPlan } from '../../replay/survey/surveyFolder.js';
-import { readResult, resultPath, writeResult } from '../../replay/survey/surveyFolder.js';
+import { readResult, resultPath, startedPath, writeResult } from '../../replay/survey/surveyFolder.js';
 import type { SurveyRow } from '../../replay/survey/surveyTable.js';
 import { ensureCompiledWorker } from '../replay/compiledWorker.js';
 import { csvRows, demoLike, expectSameTable, quiet } from './support.js';
@@ -220,4 +220,22 @@ describe('survey run --local and merge', () => {
     }
     expect((await mergeSurvey(survey, { progress: quiet() })).rerun).toEqual([]);
   }, 60_000);
+
+  it('says of a task without a result whether it started (and where) or never ran', async () => {
+    const kept = (await readResult(survey, 0)) as CompleteResult;
+    const started = await readFile(startedPath(survey, 0), 'utf8');
+    try {
+      await rm(resultPath(survey, 0));
+      let r = await mergeSurvey(survey, { progress: quiet() });
+      expect(r.rerun).toEqual([0]);
+      expect(r.rows[0]).toMatchObject({ region: 'ar-a', status: 'incomplete', problem: expect.stringMatching(/^task 0: started \d{4}-\d\d-\d\dT[\d:.]+Z on \S+ and left no result \(killed, out of memory, or still running\)$/) });
+      await rm(startedPath(survey, 0));
+      r = await mergeSurvey(survey, { progress: quiet() });
+      expect(r.rows[0].problem).toBe('task 0: not run yet');
+      expect(r.rows.find((x) => x.region === 'ar-b')!.status).toBe('ok');
+    } finally {
+      await writeResult(survey, kept);
+      await writeFile(startedPath(survey, 0), started);
+    }
+  });
 });
