@@ -149,6 +149,16 @@ function drawThinBand(chart: Chart<'line', XY[]>, m: ChartMarks): void {
   m.drawn = { ...m.drawn, bandHalfPx: Math.max(median, widened ? BAND_MIN_HALF_PX : 0), bandWidened: widened };
 }
 
+/** A label on a light plate in its box (the font set by the caller). */
+function drawLabel(ctx: CanvasRenderingContext2D, text: string, box: Box): void {
+  ctx.fillStyle = 'rgba(255,255,255,0.9)';
+  ctx.fillRect(box.x, box.y, box.w, box.h);
+  ctx.fillStyle = '#5a2d4a';
+  ctx.textAlign = 'left';
+  ctx.textBaseline = 'top';
+  ctx.fillText(text, box.x + 3, box.y + 1);
+}
+
 const marksPlugin: Plugin<'line'> = {
   id: 'helicordMarks',
   beforeDraw(chart) {
@@ -227,12 +237,7 @@ const marksPlugin: Plugin<'line'> = {
       ctx.stroke();
       const box = placed[i];
       if (box) {
-        ctx.fillStyle = 'rgba(255,255,255,0.9)';
-        ctx.fillRect(box.x, box.y, box.w, box.h);
-        ctx.fillStyle = '#5a2d4a';
-        ctx.textAlign = 'left';
-        ctx.textBaseline = 'top';
-        ctx.fillText(texts[i], box.x + 3, box.y + 1);
+        drawLabel(ctx, texts[i], box);
         labelBoxes.push(box);
       }
     });
@@ -252,17 +257,20 @@ const marksPlugin: Plugin<'line'> = {
         ctx.lineTo(a.right, py);
         ctx.stroke();
         ctx.setLineDash([]);
-        const text = `${t.label}: ${v < 0 ? '−' : ''}${formatSci(t.value)} ${unit}${t.source ? ' · ' + t.source : ''}`;
-        const box = placeThresholdLabel(py, ctx.measureText(text).width + 6, 14, plot, cols, [...markerBoxes, ...labelBoxes]);
-        if (box) {
-          ctx.fillStyle = 'rgba(255,255,255,0.9)';
-          ctx.fillRect(box.x, box.y, box.w, box.h);
-          ctx.fillStyle = '#5a2d4a';
-          ctx.textAlign = 'left';
-          ctx.textBaseline = 'top';
-          ctx.fillText(text, box.x + 3, box.y + 1);
+        const value = `${v < 0 ? '−' : ''}${formatSci(t.value)} ${unit}`;
+        const full = `${t.label}: ${value}${t.source ? ' · ' + t.source : ''}`;
+        // The whole label where it fits off the curves, else shorter ones; what is cut goes to the note.
+        let placed = false;
+        for (const text of [full, `${t.label}: ${value}`, value]) {
+          const box = placeThresholdLabel(py, ctx.measureText(text).width + 6, 14, plot, cols, [...markerBoxes, ...labelBoxes]);
+          if (!box) continue;
+          drawLabel(ctx, text, box);
           labelBoxes.push(box);
-        } else keyed.push(text);
+          if (text !== full) keyed.push(full);
+          placed = true;
+          break;
+        }
+        if (!placed) keyed.push(full);
         lines++;
         shown = true;
       }

@@ -43,6 +43,8 @@ export interface MapDrawReport {
   drawMs: number;
   /** Tick labels drawn on the axes (Mm), the degree axes (top, right) when the frame has a WCS, and the scale bar's text. */
   axes: { x: string[]; y: string[]; lon: string[]; lat: string[]; worldAxes: string; scaleBar: string };
+  /** Where the map image lies on its canvas, CSS px. */
+  rect: { x: number; y: number; w: number; h: number };
 }
 
 /** What the map shows under the pointer. */
@@ -84,7 +86,7 @@ export class MapView {
   private bnUserSet = false;
   /** The G_theta overlay range, kept across frames in the same way. */
   private gFixed: number | null = null;
-  report: MapDrawReport = { footpoints: 0, outlines: 0, glyphs: 0, tracks: 0, highlighted: null, rasterMs: 0, drawMs: 0, axes: NO_AXES };
+  report: MapDrawReport = { footpoints: 0, outlines: 0, glyphs: 0, tracks: 0, highlighted: null, rasterMs: 0, drawMs: 0, axes: NO_AXES, rect: { x: 0, y: 0, w: 0, h: 0 } };
   onPick: ((id: string | null) => void) | undefined;
 
   constructor(canvas: HTMLCanvasElement, bar: HTMLCanvasElement) {
@@ -119,7 +121,7 @@ export class MapView {
     this.highlighted = null;
     if (!this.bnUserSet) this.bnFixed = null;
     this.gFixed = null;
-    this.report = { footpoints: 0, outlines: 0, glyphs: 0, tracks: 0, highlighted: null, rasterMs: 0, drawMs: 0, axes: NO_AXES };
+    this.report = { footpoints: 0, outlines: 0, glyphs: 0, tracks: 0, highlighted: null, rasterMs: 0, drawMs: 0, axes: NO_AXES, rect: { x: 0, y: 0, w: 0, h: 0 } };
     this.draw();
   }
 
@@ -274,7 +276,8 @@ export class MapView {
     const top = MARGIN.top + (world ? WORLD_MARGIN.top : 0);
     const right = MARGIN.right + (world ? WORLD_MARGIN.right : 0);
     const inner = fitMap(s.bn.nx, s.bn.ny, s.bn.dx, s.bn.dy, w - MARGIN.left - right, h - top - MARGIN.bottom);
-    const fit = { ...inner, offX: inner.offX + MARGIN.left, offY: inner.offY + top };
+    // Centred across, at the top of its box (the caption and controls are above it).
+    const fit = { ...inner, offX: inner.offX + MARGIN.left, offY: top };
     this.fit = fit;
     ctx.imageSmoothingEnabled = fit.sx < 1; // upscaled maps show their pixels
     ctx.drawImage(this.image, fit.offX, fit.offY, s.bn.nx * fit.sx, s.bn.ny * fit.sy);
@@ -288,7 +291,7 @@ export class MapView {
     const axes = this.drawAxes(ctx, fit);
     const degrees = world ? this.drawWorldAxes(ctx, fit, world) : { lon: [], lat: [], worldAxes: '' };
     this.drawBar();
-    this.report = { ...rep, axes: { ...axes, ...degrees, scaleBar: bar }, rasterMs: this.report.rasterMs, drawMs: performance.now() - t0 };
+    this.report = { ...rep, axes: { ...axes, ...degrees, scaleBar: bar }, rect: { x: fit.offX, y: fit.offY, w: fit.nx * fit.sx, h: fit.ny * fit.sy }, rasterMs: this.report.rasterMs, drawMs: performance.now() - t0 };
   }
 
   /** Axes in Mm along the bottom and the left of the map: x = ix·dx at pixel centres, +y up. */
@@ -404,7 +407,7 @@ export class MapView {
     return text;
   }
 
-  private drawFootpoints(ctx: CanvasRenderingContext2D, s: MapScene, fit: MapFit): Omit<MapDrawReport, 'rasterMs' | 'drawMs' | 'axes'> {
+  private drawFootpoints(ctx: CanvasRenderingContext2D, s: MapScene, fit: MapFit): Omit<MapDrawReport, 'rasterMs' | 'drawMs' | 'axes' | 'rect'> {
     const pxPerMm = fit.sx / fit.dx;
     let outlines = 0;
     let glyphs = 0;

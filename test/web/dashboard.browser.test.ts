@@ -29,6 +29,7 @@ type Probe = {
   map: {
     footpoints: number; outlines: number; glyphs: number; tracks: number; highlighted: string | null; colourBar: string; colourLimit: number; bnRange: number | null;
     axes: { x: string[]; y: string[]; lon: string[]; lat: string[]; worldAxes: string; scaleBar: string };
+    rect: { x: number; y: number; w: number; h: number };
   };
   rateChart: ChartProbe;
   budgetChart: ChartProbe & { thresholds: number[] };
@@ -256,12 +257,19 @@ describe.skipIf(!chromiumPath && !inCi)('dashboard in Chromium against the test 
   });
 
   it('reads Bn and G_theta with units under the pointer on the map', async () => {
+    await page.locator('#map').scrollIntoViewIfNeeded();
     const box = (await page.locator('#map').boundingBox())!;
-    // Footpoint 1's centre is somewhere on the map; any pixel of the map gives a reading.
-    await page.mouse.move(box.x + box.width / 2, box.y + box.height / 2);
+    // The middle of the map image (any pixel of the map gives a reading).
+    const rect = (await probe(page)).map.rect;
+    expect(rect.w).toBeGreaterThan(100);
+    await page.mouse.move(box.x + rect.x + rect.w / 2, box.y + rect.y + rect.h / 2);
     const readout = page.locator('#map-readout');
-    await readout.waitFor({ state: 'visible' });
-    await readout.filter({ hasText: /G_θ [−\d.e]+ Mx² (s⁻¹ cm⁻²|cm⁻² s⁻¹)|G_θ — \(no data\)/ }).waitFor();
+    await readout.waitFor({ state: 'visible', timeout: 5000 }).catch(async (e: Error) => {
+      throw new Error(`${e.message}; map box ${JSON.stringify(box)}, image ${JSON.stringify(rect)}, viewport ${JSON.stringify(page.viewportSize())}`);
+    });
+    await readout.filter({ hasText: /G_θ [−\d.e-]+ Mx² (s⁻¹ cm⁻²|cm⁻² s⁻¹)|G_θ — \(no data\)/ }).waitFor({ timeout: 5000 }).catch(async (e: Error) => {
+      throw new Error(`${e.message}; the readout says ${JSON.stringify(await readout.innerText())}`);
+    });
     const text = await readout.innerText();
     expect(text).toMatch(/^x [\d.]+ Mm, y [\d.]+ Mm\nBn (−)?[\d.]+ G\nG_θ /);
     await page.locator('.panel.map').screenshot({ path: join(shots, 'fake-12-map-hover.png') });
@@ -486,7 +494,7 @@ describe.skipIf(!chromiumPath && !inCi)('dashboard in Chromium against the test 
       for (const v of degrees(p.map.axes.lat)) expect(Math.abs(v + 18.5)).toBeLessThan(3);
       expect(p.map.axes.x).toEqual(expect.arrayContaining(['0', '20', '40', '60']));
       const box = (await other.locator('#map').boundingBox())!;
-      await other.mouse.move(box.x + box.width / 2, box.y + box.height / 2);
+      await other.mouse.move(box.x + p.map.rect.x + p.map.rect.w / 2, box.y + p.map.rect.y + p.map.rect.h / 2);
       await other.locator('#map-readout').filter({ hasText: /Carrington 12[01]\.\d\d°, −1[89]\.\d\d°/ }).waitFor();
       await other.locator('.panel.map').screenshot({ path: join(shots, 'fake-14-map-degrees.png') });
     } finally {

@@ -38,6 +38,22 @@ if (!haveServer && !inCi) {
   process.stderr.write(`\n!! REAL-MONITOR BROWSER TESTS SKIPPED: ${realServePath(root)} is missing (run npm run build).\n\n`);
 }
 
+
+/** Builds the page into dist/web (where serve() looks), starts Chromium with a page whose errors go into `problems`. */
+async function pageWithErrorLog(problems: string[]): Promise<{ browser: LaunchedBrowser; page: Page }> {
+  if (!chromiumPath) throw new Error('CI=true but no Chromium found: the browser tests must run in CI (apt-get install chromium)');
+  if (!haveServer) throw new Error(`CI=true but ${realServePath(root)} is missing: build first`);
+  const { buildPage } = await import('../../web/build.mjs');
+  await buildPage();
+  const browser = await launchChromium(chromiumPath);
+  const page = await browser.context.newPage();
+  page.on('pageerror', (e) => problems.push(`pageerror: ${e.message}`));
+  page.on('console', (m) => {
+    if (m.type() === 'error' && !m.text().startsWith('Failed to load resource') && !/WebSocket/.test(m.text())) problems.push(m.text());
+  });
+  return { browser, page };
+}
+
 describe.skipIf((!chromiumPath || !haveServer) && !inCi)('dashboard in Chromium against the real monitor (demo region)', () => {
   let browser: LaunchedBrowser;
   let page: Page;
@@ -47,19 +63,10 @@ describe.skipIf((!chromiumPath || !haveServer) && !inCi)('dashboard in Chromium 
   const problems: string[] = [];
 
   beforeAll(async () => {
-    if (!chromiumPath) throw new Error('CI=true but no Chromium found: the browser tests must run in CI (apt-get install chromium)');
-    if (!haveServer) throw new Error(`CI=true but ${realServePath(root)} is missing: build first`);
-    const { buildPage } = await import('../../web/build.mjs');
-    await buildPage(); // dist/web, where serve() looks
+    ({ browser, page } = await pageWithErrorLog(problems));
     dataDir = mkdtempSync(join(tmpdir(), 'helicord-real-'));
     monitor = new RealMonitor(root, dataDir, await freePort());
     await monitor.start();
-    browser = await launchChromium(chromiumPath);
-    page = await browser.context.newPage();
-    page.on('pageerror', (e) => problems.push(`pageerror: ${e.message}`));
-    page.on('console', (m) => {
-      if (m.type() === 'error' && !m.text().startsWith('Failed to load resource') && !/WebSocket/.test(m.text())) problems.push(m.text());
-    });
   }, 60_000);
 
   afterAll(async () => {
@@ -188,10 +195,7 @@ describe.skipIf((!chromiumPath || !haveServer) && !inCi)('dashboard in Chromium 
   const problems: string[] = [];
 
   beforeAll(async () => {
-    if (!chromiumPath) throw new Error('CI=true but no Chromium found: the browser tests must run in CI (apt-get install chromium)');
-    if (!haveServer) throw new Error(`CI=true but ${realServePath(root)} is missing: build first`);
-    const { buildPage } = await import('../../web/build.mjs');
-    await buildPage();
+    ({ browser, page } = await pageWithErrorLog(problems));
     dataDir = mkdtempSync(join(tmpdir(), 'helicord-real-archive-'));
     emptyDir = mkdtempSync(join(tmpdir(), 'helicord-real-empty-'));
     archive = mkdtempSync(join(tmpdir(), 'helicord-archive-'));
@@ -202,12 +206,6 @@ describe.skipIf((!chromiumPath || !haveServer) && !inCi)('dashboard in Chromium 
     monitor = new RealMonitor(root, dataDir, await freePort(), 60, { demo: false, replay: { region: 'ar-replay', folder: archive, speed: 0 } });
     empty = new RealMonitor(root, emptyDir, await freePort(), 60, { demo: false });
     await Promise.all([monitor.start(), empty.start()]);
-    browser = await launchChromium(chromiumPath);
-    page = await browser.context.newPage();
-    page.on('pageerror', (e) => problems.push(`pageerror: ${e.message}`));
-    page.on('console', (m) => {
-      if (m.type() === 'error' && !m.text().startsWith('Failed to load resource') && !/WebSocket/.test(m.text())) problems.push(m.text());
-    });
   }, 120_000);
 
   afterAll(async () => {

@@ -27,7 +27,7 @@ function noteText(kind: ChartKind, drawn: ChartDrawn, sigma: number | null | und
   if (drawn.bandWidened) {
     parts.push(`±1σ band thinner than the line at this scale, drawn 4 px wide${sigma != null && Number.isFinite(sigma) ? ` (σ of the newest total ${formatSci(sigma)} ${unit})` : ''}`);
   }
-  if (drawn.keyedThresholds.length > 0) parts.push(`thresholds: ${drawn.keyedThresholds.join('; ')}`);
+  if (drawn.keyedThresholds.length > 0) parts.push(`thresholds (dashed lines): ${drawn.keyedThresholds.join('; ')}`);
   if (drawn.offScaleThresholds.length > 0) parts.push(`thresholds beyond the scale: ${drawn.offScaleThresholds.join(', ')}`);
   return parts.join(' · ');
 }
