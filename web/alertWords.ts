@@ -188,7 +188,9 @@ export function currentWords(a: WireAlert, ctx: AlertContext): string {
       return `${ctx.gaps.length} gap${ctx.gaps.length === 1 ? '' : 's'}, the last ${span(new Date(last.from).toISOString(), new Date(last.to).toISOString())} (data time)${rule}`;
     }
     case 'refusals':
-      return ctx.refusals !== undefined ? `${formatSci(ctx.refusals)} frame${ctx.refusals === 1 ? '' : 's'} refused since the region began` : '';
+      return ctx.refusals !== undefined
+        ? `${formatSci(ctx.refusals)} frame${ctx.refusals === 1 ? '' : 's'} refused since the region began (counted on the wall clock, as frames arrive)`
+        : '';
     default:
       return '';
   }
@@ -203,6 +205,9 @@ export function historyWords(a: WireAlert, h: AlertChange): string {
 
 /** "since …" with the clock, and the arrival (wall clock) when the page saw the change live. */
 export function sinceWords(a: WireAlert, arrivedAt?: number): string {
+  // A rule that never changed has no moment to name: the monitor dates it by when the rule or the
+  // region was made, on whichever clock that was.
+  if (a.state === 'quiet' && (a.history ?? []).length === 0) return 'quiet, never raised so far';
   const clock = ruleClock(a.rule);
   const arrival = arrivedAt !== undefined && clock === 'data' && a.state !== 'quiet' ? ` · arrived ${formatUtc(arrivedAt)} (wall clock)` : '';
   return `${a.state} since ${formatUtc(isoToMs(a.since), clock === 'wall')}${clock === 'data' ? ' (data time)' : ' (wall clock)'}${arrival}`;

@@ -72,5 +72,9 @@ describe('alert words', () => {
     expect(evidenceWords(plateau)).toBe('built up 3.5e42 Mx² (negative) over 7.2 h (2026-03-14 02:00 – 09:12 UTC, data time), flat for 3.1 h since; within the published range 3.0e42–4.5e43 Mx²');
     for (const text of [evidenceWords(gap), evidenceWords(refusals), evidenceWords(plateau), sinceWords(plateau)]) expect(text).not.toMatch(INTERNAL);
     expect(historyWords(gap, { time: '2026-03-14T09:36:00Z', from: 'quiet', to: 'raised' })).toBe('2026-03-14 09:36 UTC (data time): quiet → raised');
+    // A rule that never changed names no moment (the monitor dates it by when the region was made, a wall-clock time).
+    expect(sinceWords({ ...refusals, state: 'quiet', since: '2026-12-02T09:00:00Z' })).toBe('quiet, never raised so far');
+    expect(sinceWords({ ...gap, state: 'quiet', since: '2026-12-02T09:00:00Z' })).toBe('quiet, never raised so far');
+    expect(currentWords(refusals, { series: [], gaps: [], refusals: 0 })).toBe('0 frames refused since the region began (counted on the wall clock, as frames arrive)');
   });
 });
