@@ -77,12 +77,15 @@ export interface RotationShare extends SphericalRate {
   readonly frameRate: number;
 }
 
-/** The injection by the rotation profile alone, for the B_r of `t` and its potential gradient. */
+/**
+ * The injection by the rotation profile alone, for the B_r of `t` and its potential gradient; with
+ * `pixelSpin` false, without the pixels' own spin (for a gradient by spherical harmonics).
+ */
 export function differentialRotationShare(
   grid: SphericalGrid, t: SphericalTransport, gradient: PotentialGradient,
-  profile: RotationProfile = HOWARD_1990_SIDEREAL, frameRate = defaultFrameRate(grid),
+  profile: RotationProfile = HOWARD_1990_SIDEREAL, frameRate = defaultFrameRate(grid), pixelSpin = true,
 ): RotationShare {
   const m = rotationMotion(grid, profile, frameRate);
   const { ue, un } = nativeVelocity(grid, m.vx, m.vy);
-  return { ...rateFromGradient(grid, t, gradient, ue, un, m.spin), profile, frameRate };
+  return { ...rateFromGradient(grid, t, gradient, ue, un, pixelSpin ? m.spin : new Float64Array(m.spin.length)), profile, frameRate };
 }

@@ -3,8 +3,9 @@
 // are given, and for a patch how far the planar engine is from the spherical answer. What the
 // monitor and the batch call per frame for a spherical region (docs/sphere.md).
 //
-// The spherical sums are exact when their row-pair work is within the budget (always for a 360 x
-// 180 whole Sun at the default); a larger patch is measured as the planar engine at full resolution
+// A whole Sun is measured by spherical harmonics unless the settings ask for the pair sums. The
+// pair sums are exact when their row-pair work is within the budget (a 360 x 180 whole Sun at the
+// default); a larger patch is measured as the planar engine at full resolution
 // plus the curvature correction found on a coarse copy (core/sphere/patchOnSphere.ts), for the
 // rate and for the rotation share alike; then the hemispheres, the density map and the split are
 // not given (they need the spherical potential at full resolution).
@@ -24,6 +25,7 @@ import { convolveTransport } from '../helicityFlux.js';
 import { rateSigmaFromNoise } from '../rateUncertainty.js';
 import { pixelSpinRate } from './pixelSpin.js';
 import { potentialGradients } from './potentialGradient.js';
+import { defaultDegree, harmonicGradients } from './sphericalHarmonics.js';
 import { rateFromGradient, sphericalHelicityFlux } from './sphericalHelicityFlux.js';
 import type { SphericalGrid } from './sphericalGrid.js';
 import { nativeVelocity } from './sphericalGrid.js';
@@ -40,6 +42,13 @@ export interface SphereSettings {
   readonly maxRowPairWork?: number;
   /** Noise of B_r per pixel, G (default: estimated from the map, core/noiseLevel.ts). */
   readonly noiseG?: number;
+  /**
+   * A whole Sun by spherical harmonics (default; core/sphere/sphericalHarmonics.ts) or by the exact
+   * pair sums with each pixel's own spin (docs/sphere.md compares them). Patches use the pair sums.
+   */
+  readonly wholeSunEngine?: 'harmonics' | 'pairs';
+  /** Degree of the series (default ny - 1). */
+  readonly harmonicDegree?: number;
 }
 
 export interface SphereMaps {
@@ -52,6 +61,8 @@ export interface SphereMaps {
 
 export interface SphereMeasurement {
   readonly wholeSun: boolean;
+  /** How grad psi was made: spherical harmonics (whole Sun, no pixel's own spin) or the exact pair sums. */
+  readonly engine: 'harmonics' | 'pairs';
   /** The rate, Mx^2/s: pixel pairs plus the pixels' own spin. */
   readonly total: number;
   readonly pairs: number;
@@ -95,13 +106,16 @@ export function measureSphere(grid: SphericalGrid, maps: SphereMaps, settings: S
   for (let i = 0; i < n; i++) {
     if (t.valid[i] && Math.abs(t.bn[i]) >= floor) unsigned += Math.abs(t.bn[i]) * grid.rowAreaMm2[Math.floor(i / grid.nx)] * CM_PER_MM * CM_PER_MM;
   }
+  const harmonics = grid.wholeSun && (settings.wholeSunEngine ?? 'harmonics') === 'harmonics';
+  const degree = settings.harmonicDegree ?? defaultDegree(grid);
   const base = {
+    engine: (harmonics ? 'harmonics' : 'pairs') as 'harmonics' | 'pairs',
     wholeSun: grid.wholeSun, maskedFraction: t.maskedFraction, rotationProfile: profile, frameRateMicroradPerS: frameRate,
     noiseG, unsignedFlux: unsigned,
   };
   const noise = Number.isFinite(noiseG) ? noiseG : 0;
 
-  if (rowPairWork(grid.nx, grid.ny) > budget) {
+  if (!harmonics && rowPairWork(grid.nx, grid.ny) > budget) {
     if (grid.wholeSun) throw new InputError(source, 'NAXIS', `a whole-Sun map of ${grid.nx} x ${grid.ny} is beyond the work budget (maxRowPairWork ${budget}); give it at lower resolution or raise the budget`);
     const c = comparePatch(grid, t, { maxRowPairWork: budget });
     const m = rotationMotion(grid, profile, frameRate);
@@ -121,16 +135,18 @@ export function measureSphere(grid: SphericalGrid, maps: SphereMaps, settings: S
     };
   }
 
-  const gradient = potentialGradients(grid, [t.bn])[0];
-  const f = sphericalHelicityFlux(grid, t, gradient);
-  const rot = differentialRotationShare(grid, t, gradient, profile, frameRate);
+  const gradients = (g: SphericalGrid, sources: readonly ArrayLike<number>[]) => (harmonics ? harmonicGradients(g, sources, degree) : potentialGradients(g, sources));
+  const gradient = gradients(grid, [t.bn])[0];
+  const f = sphericalHelicityFlux(grid, t, gradient, !harmonics);
+  const rot = differentialRotationShare(grid, t, gradient, profile, frameRate, !harmonics);
   // By hemisphere: the per-pixel contributions of the rate and of the rotation share.
+  const none = new Float64Array(n);
   const per = { pairs: new Float64Array(n), self: new Float64Array(n) };
-  rateFromGradient(grid, t, gradient, t.ue, t.un, pixelSpinRate(grid, t.ue, t.un, t.valid), per);
+  rateFromGradient(grid, t, gradient, t.ue, t.un, harmonics ? none : pixelSpinRate(grid, t.ue, t.un, t.valid), per);
   const m = rotationMotion(grid, profile, frameRate);
   const mv = nativeVelocity(grid, m.vx, m.vy);
   const perRot = { pairs: new Float64Array(n), self: new Float64Array(n) };
-  rateFromGradient(grid, t, gradient, mv.ue, mv.un, m.spin, perRot);
+  rateFromGradient(grid, t, gradient, mv.ue, mv.un, harmonics ? none : m.spin, perRot);
   let north = 0, south = 0, rn = 0, rs = 0;
   for (let i = 0; i < n; i++) {
     const v = per.pairs[i] + per.self[i], r = perRot.pairs[i] + perRot.self[i];
@@ -141,9 +157,9 @@ export function measureSphere(grid: SphericalGrid, maps: SphereMaps, settings: S
     const c = comparePatch(grid, t, { maxRowPairWork: budget, gradient });
     planar = { rate: c.planar, departure: c.planarDeparture, coarsening: c.coarsening };
   }
-  const split = maps.labels ? splitSphericalByLabels(grid, t, maps.labels, { total: f.total }) : undefined;
+  const split = maps.labels ? splitSphericalByLabels(grid, t, maps.labels, { total: f.total, gradients, pixelSpin: !harmonics }) : undefined;
   return {
-    ...base, sigmaTotal: sphericalRateSigma(grid, t, gradient, noise), total: f.total, pairs: f.pairs, selfPixel: f.selfPixel, rotation: rot.total, ownMotions: f.total - rot.total,
+    ...base, sigmaTotal: sphericalRateSigma(grid, t, gradient, noise, !harmonics), total: f.total, pairs: f.pairs, selfPixel: f.selfPixel, rotation: rot.total, ownMotions: f.total - rot.total,
     north, south, rotationNorth: rn, rotationSouth: rs, density: f.density,
     ...(planar && { planar }), ...(split && { split }),
   };

@@ -77,11 +77,12 @@ export function rateFromGradient(
   return { pairs, selfPixel: self, total: pairs + self };
 }
 
-/** The rate, its density map and A_p for a spherical map (gradient made here unless given). */
-export function sphericalHelicityFlux(grid: SphericalGrid, t: SphericalTransport, gradient?: PotentialGradient): SphericalHelicityFlux {
+/** The rate, its density map and A_p for a spherical map (gradient made here unless given; `pixelSpin` false leaves out the pixels' own spin). */
+export function sphericalHelicityFlux(grid: SphericalGrid, t: SphericalTransport, gradient?: PotentialGradient, pixelSpin = true): SphericalHelicityFlux {
   const g = gradient ?? potentialGradients(grid, [t.bn])[0];
   const n = grid.nx * grid.ny;
-  const spin = pixelSpinRate(grid, t.ue, t.un, t.valid);
+  // No pixel's own spin with a gradient by spherical harmonics (core/sphere/sphericalHarmonics.ts).
+  const spin = pixelSpin ? pixelSpinRate(grid, t.ue, t.un, t.valid) : new Float64Array(n);
   const per = { pairs: new Float64Array(n), self: new Float64Array(n) };
   const rate = rateFromGradient(grid, t, g, t.ue, t.un, spin, per);
   const areas = rowAreaCm2(grid);

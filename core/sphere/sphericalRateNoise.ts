@@ -20,8 +20,11 @@ import { rowAreaCm2 } from './sphericalHelicityFlux.js';
 import type { SphericalGrid } from './sphericalGrid.js';
 import type { SphericalTransport } from './sphericalTransport.js';
 
-/** sigma of the rate (Mx^2/s) for noise `sigmaG` (G per pixel) in B_r, with the gradient of the rate's own B_r. */
-export function sphericalRateSigma(grid: SphericalGrid, t: SphericalTransport, gradient: PotentialGradient, sigmaG: number): number {
+/**
+ * sigma of the rate (Mx^2/s) for noise `sigmaG` (G per pixel) in B_r, with the gradient of the rate's
+ * own B_r (from either engine; the transposed sum is the pair sums', which the series approaches).
+ */
+export function sphericalRateSigma(grid: SphericalGrid, t: SphericalTransport, gradient: PotentialGradient, sigmaG: number, pixelSpin = true): number {
   if (!(sigmaG > 0)) return 0;
   const { nx, ny, rowAreaMm2 } = grid;
   const n = nx * ny;
@@ -34,7 +37,7 @@ export function sphericalRateSigma(grid: SphericalGrid, t: SphericalTransport, g
     fn[i] = t.bn[i] * a * t.un[i];
   }
   const back = transposedSums(grid, fe, fn);
-  const spin = pixelSpinRate(grid, t.ue, t.un, t.valid);
+  const spin = pixelSpin ? pixelSpinRate(grid, t.ue, t.un, t.valid) : new Float64Array(n);
   let s2 = 0;
   for (let r = 0; r < ny; r++) {
     const a = areas[r], sMm2 = rowAreaMm2[r];

@@ -35,6 +35,10 @@ export interface SphericalSplitOptions {
   readonly total?: number;
   /** Pixel spin, rad/s, when already computed. */
   readonly spin?: Float64Array;
+  /** How the footpoints' fields are made (default the exact pair sums; spherical harmonics for a whole Sun). */
+  readonly gradients?: (grid: SphericalGrid, sources: readonly ArrayLike<number>[]) => PotentialGradient[];
+  /** Add each pixel's own spin (default true; false with spherical harmonics). */
+  readonly pixelSpin?: boolean;
 }
 
 /** Spin, orbit and background of the rate of `t` for footpoints `labels` (0 = none). */
@@ -52,8 +56,8 @@ export function splitSphericalByLabels(
   const sources = ids.map(() => new Float64Array(n));
   for (let i = 0; i < n; i++) if (t.valid[i] && labels[i] > 0) sources[index.get(labels[i])!][i] = t.bn[i];
   const withTotal = options.total === undefined;
-  const grads: PotentialGradient[] = potentialGradients(grid, withTotal ? [...sources, t.bn] : sources);
-  const spinRate = options.spin ?? pixelSpinRate(grid, t.ue, t.un, t.valid);
+  const grads: PotentialGradient[] = (options.gradients ?? potentialGradients)(grid, withTotal ? [...sources, t.bn] : sources);
+  const spinRate = options.pixelSpin === false ? new Float64Array(n) : options.spin ?? pixelSpinRate(grid, t.ue, t.un, t.valid);
   const total = withTotal ? rateFromGradient(grid, t, grads[k], t.ue, t.un, spinRate).total : options.total!;
   // T[b][a]: the rate at footpoint b's pixels from footpoint a's field.
   const per = { pairs: new Float64Array(n), self: new Float64Array(n) };
