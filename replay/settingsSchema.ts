@@ -16,6 +16,7 @@ import { FRAME_MAPS } from '../core/frame.js';
 import { InputError } from '../core/inputError.js';
 import { RULES } from '../core/alerts/ruleCatalogue.js';
 import type { VelocitySettings } from '../core/velocity/velocitySettings.js';
+import type { BraidSettings } from '../core/braid/braidTracker.js';
 
 export type Schema =
   | { readonly kind: 'number'; readonly min?: number; readonly above?: number; readonly max?: number; readonly below?: number; readonly integer?: boolean; readonly help?: string }
@@ -75,6 +76,9 @@ export const ANALYSIS_FIELDS: Fields<AnalysisSettings> = {
   motionBaselineS: nonNegative,
 };
 
+/** The braid of the largest footpoints (docs/braids.md). */
+export const BRAID_FIELDS: Fields<BraidSettings> = { strands: count(2), windowS: positive, entryRatio: { kind: 'number', min: 1 } };
+
 export const BUDGET_FIELDS: Fields<BudgetSettings> = { gapFactor: positive, bridgeGaps: bool, minIntervals: positive, cadenceS: positive };
 
 const RULE_FIELDS: Record<string, Schema> = Object.fromEntries(RULES.map((r) => [r.id, {
@@ -109,6 +113,7 @@ export const CONFIG_SCHEMA: Schema = {
     budget: { kind: 'object', fields: BUDGET_FIELDS },
     rules: { kind: 'object', fields: RULE_FIELDS },
     components: { kind: 'object', fields: COMPONENT_FIELDS },
+    braid: { kind: 'object', fields: BRAID_FIELDS },
   },
 };
 

@@ -163,7 +163,7 @@ export async function rateCommand(args: ParsedArgs, out: NodeJS.WritableStream):
   for (const f of frames) {
     analysis = analyseFrame(f.frame, state, settings, cache);
     state = analysis.state;
-    if (analysis.footpoints) ({ state: braid, report: braidReport } = braidStep(braid, braidInputFromFootpoints(analysis.footpoints)));
+    if (analysis.footpoints) ({ state: braid, report: braidReport } = braidStep(braid, braidInputFromFootpoints(analysis.footpoints), config.braid));
     before = centre;
     centre = framePatchCentre(f.frame);
     if (analysis.sample && hasVelocity(f.frame) && f !== frames[frames.length - 1]) {
