@@ -12,6 +12,7 @@ import {
 import 'chartjs-adapter-date-fns';
 import { bandFromBreaks, breaksBefore, decimateMinMax, lineFromBreaks, type XY } from './decimate.js';
 import type { AlertMoment, ThresholdLine } from './alertMarks.js';
+import { flagWords } from './ledgerCells.js';
 import { clusterMoments, curveColumns, placeMarkerLabels, placeThresholdLabel, type Box } from './chartLabels.js';
 import { SERIES_STYLE } from './palette.js';
 import type { GapSpan, SeriesPoint } from './seriesMerge.js';
@@ -470,6 +471,6 @@ export function readoutLines(kind: ChartKind, s: WireSample, t: number): string[
     `spin ${withU(v(f.spin))}`,
     `orbit ${withU(v(f.orbit))}`,
     `background ${withU(v(f.background))}`,
-    ...(s.flags && s.flags.length > 0 ? [`flags: ${s.flags.join(', ')}`] : []),
+    ...(s.flags && s.flags.length > 0 ? [`notes: ${flagWords(s.flags).join('; ')}`] : []),
   ];
 }

@@ -54,6 +54,25 @@ export function spinCell(fp: LedgerFootpoint): Cell {
   return { text: formatRate(fp.spin), title: '' };
 }
 
+/** The sample flags in words (docs/api.md "Sample"); an unknown flag is shown as it is. */
+const FLAG_WORDS: Record<string, string> = {
+  'after-gap': 'first sample after a gap',
+  'masked-pixels': 'some pixels had no data (masked)',
+  'no-footpoints': 'no footpoints found: no spin/orbit split',
+  'spin-unobservable': 'spin of round footpoints not observable',
+  'flux-left-out': 'weak flux without a velocity taken as still',
+  'sigma-without-velocity-error': '1σ without the velocity error',
+  'first-frame': 'first frame: nothing to compare with',
+  'no-velocity': 'no velocity',
+  'noise-floor': 'noise level from the floor, not measured',
+  'motion-unknown': 'some footpoint motions unknown',
+  'spin-unknown': 'some spins unknown',
+};
+
+export function flagWords(flags: readonly string[]): string[] {
+  return flags.map((f) => FLAG_WORDS[f] ?? f);
+}
+
 const METHOD_NAMES: Record<string, string> = { lct: 'LCT', dave: 'DAVE', dave4vm: 'DAVE4VM' };
 
 /**

@@ -190,6 +190,9 @@ describe.skipIf(!chromiumPath && !inCi)('dashboard in Chromium against the test 
     expect(text).toMatch(/2026-03-14 \d\d:\d\d:00 UTC/);
     expect(text).toMatch(/total [−\d.e]+ Mx²\/s ± 2\.0e35/);
     expect(text).toMatch(/spin .* Mx²\/s/);
+    // The sample's flags in words, not as the wire spells them.
+    expect(text).toContain('notes: spin of round footpoints not observable');
+    expect(text).not.toMatch(/spin-unobservable/);
     await page.screenshot({ path: join(shots, 'fake-02-hover.png') });
     await page.mouse.click(box.x + box.width * 0.3, box.y + box.height * 0.55);
     const p = await until(page, 'the picked frame on the map', (s) => !s.follow && s.mapFrame !== 32 && s.mapFrame !== null);

@@ -92,3 +92,17 @@ describe('frame numbering', () => {
     expect(frameIndex(list, 99)).toBe(-1);
   });
 });
+
+import { sendFrameCommands } from '../../web/panels/firstScreen.js';
+
+describe('the first screen of an empty monitor', () => {
+  it('gives commands with the page address, the region name and where the token is', () => {
+    const text = sendFrameCommands('http://127.0.0.1:8750', 'ar-test-2026-12-02');
+    expect(text).toContain('TOKEN=$(cat ./data/token)');
+    expect(text).toContain('--data-binary @frame.fits http://127.0.0.1:8750/api/regions/ar-test-2026-12-02/frames');
+    expect(text).toContain("-H 'Content-Type: application/json'");
+    expect(text).toContain('mkdir -p ./data/inbox/ar-test-2026-12-02 && cp frame.fits ./data/inbox/ar-test-2026-12-02/');
+    // Short enough lines for a narrow window.
+    for (const line of text.split('\n')) expect(line.length).toBeLessThanOrEqual(100);
+  });
+});

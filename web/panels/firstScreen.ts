@@ -7,13 +7,16 @@ import { touched, type PageStore } from '../pageStore.js';
 /** The commands that send a frame to this monitor, for a region name chosen for the day. */
 export function sendFrameCommands(origin: string, region: string): string {
   return [
-    'TOKEN=$(cat ./data/token)   # the file "token" in the monitor\'s data folder (--data, ./data by default),',
-    '                            # printed at its first start; or the HELICORD_TOKEN it was started with',
+    '# the token: the file "token" in the monitor\'s data folder (--data, ./data by default),',
+    '# printed at its first start; or the HELICORD_TOKEN the monitor was started with',
+    'TOKEN=$(cat ./data/token)',
+    '# a FITS frame, or a JSON frame',
     `curl -H "Authorization: Bearer $TOKEN" -H 'Content-Type: application/fits' \\`,
     `     --data-binary @frame.fits ${origin}/api/regions/${region}/frames`,
     `curl -H "Authorization: Bearer $TOKEN" -H 'Content-Type: application/json' \\`,
     `     --data-binary @frame.json ${origin}/api/regions/${region}/frames`,
-    `cp frame.fits ./data/inbox/${region}/   # or drop files into the region's watched folder`,
+    "# or drop files into the region's watched folder (a folder made there makes the region)",
+    `mkdir -p ./data/inbox/${region} && cp frame.fits ./data/inbox/${region}/`,
   ].join('\n');
 }
 
