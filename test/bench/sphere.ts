@@ -10,6 +10,7 @@ import { potentialGradients } from '../../core/sphere/potentialGradient.js';
 import { rateFromGradient, sphericalHelicityFlux } from '../../core/sphere/sphericalHelicityFlux.js';
 import { splitSphericalByLabels } from '../../core/sphere/sphericalSplit.js';
 import { harmonicGradients } from '../../core/sphere/sphericalHarmonics.js';
+import { measureSphere } from '../../core/sphere/measureSphere.js';
 import { sphericalTransport } from '../../core/sphere/sphericalTransport.js';
 import { patchGrid, patchScene, spotScene, wholeSunGrid } from '../core/sphereScenes.js';
 
@@ -63,6 +64,10 @@ export async function bench(): Promise<void> {
     const shShare0 = differentialRotationShare(grid, t, sh.value, HOWARD_1990_SIDEREAL, 0, false);
     console.log(`  spherical harmonics to L = ${L} (own transform): ${sh.wallMs.toFixed(0)} ms wall, ${sh.cpuMs.toFixed(0)} ms CPU; rate off the pair sums' by ${((shPairs - flux.value.total) / Math.abs(flux.value.total)).toExponential(2)}, differential share by ${((shDr.total - dr.value.total) / Math.abs(dr.value.total)).toExponential(2)}; rigid rotation / differential share ${(shRigid.total / shShare0.total).toExponential(2)}`);
   }
+
+  // One whole-Sun sample as the pipeline takes it (core/sphere/measureSphere.ts, default engine: harmonics), with the split and the noise sigma.
+  const ms = timed(() => measureSphere(grid, { bn: sc.bn, vx, vy: sc.vy, labels: sc.labels }, { noiseG: 10 }));
+  console.log(`  measureSphere (harmonics, 8 footpoints, noise sigma): ${ms.wallMs.toFixed(0)} ms wall, ${ms.cpuMs.toFixed(0)} ms CPU; total ${ms.value.total.toExponential(4)} +- ${ms.value.sigmaTotal.toExponential(2)}, rotation ${ms.value.rotation.toExponential(4)}, north ${ms.value.north!.toExponential(3)}, south ${ms.value.south!.toExponential(3)}`);
 
   // A 30-degree patch: 0.03-degree pixels (1000 x 1000, an HMI-like remapped patch) and 0.12-degree ones (250 x 250).
   for (const n of [250, 1000]) {
