@@ -3,7 +3,8 @@
 
 import type { Chart } from 'chart.js';
 import { noOverlap } from './chartLabels.js';
-import { chartMarks, datasetPoints, type ChartDrawn } from './charts.js';
+import { datasetPoints } from './chartDatasets.js';
+import { chartMarks, type ChartDrawn } from './chartMarks.js';
 import type { XY } from './decimate.js';
 import { FLUX_DATASET } from './fluxChart.js';
 import type { MapView } from './mapView.js';

@@ -93,7 +93,7 @@ describe('frame numbering', () => {
   });
 });
 
-import { sendFrameCommands } from '../../web/panels/firstScreen.js';
+import { sendFrameCommands } from '../../web/firstScreenText.js';
 
 describe('the first screen of an empty monitor', () => {
   it('gives commands with the page address, the region name and where the token is', () => {

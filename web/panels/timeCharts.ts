@@ -5,7 +5,8 @@
 
 import type { Chart } from 'chart.js';
 import { budgetThresholds, raisedMoments, rateThresholds } from '../alertMarks.js';
-import { chartMarks, createSeriesChart, readoutLines, setSeriesData, timeAtPixel, type ChartDrawn, type ChartKind } from '../charts.js';
+import { chartMarks, type ChartDrawn } from '../chartMarks.js';
+import { createSeriesChart, readoutLines, setSeriesData, timeAtPixel, type ChartKind } from '../charts.js';
 import type { XY } from '../decimate.js';
 import { byId } from '../dom.js';
 import { provenanceLine } from '../ledgerCells.js';
