@@ -12,6 +12,8 @@ import { accumulateSphere, emptySphereBudget } from '../../core/sphere/sphereCol
 import { sphericalGrid } from '../../core/sphere/sphericalGrid.js';
 import { isSphericalFrame, sphericalFrame } from '../../core/sphere/sphericalFrame.js';
 import { frameFromMaps } from '../../core/frame.js';
+import { writeFits } from '../../core/fits/writeImage.js';
+import { frameFromFits } from '../../core/frameAssembly/assembleFrame.js';
 
 describe('the invented whole Sun', () => {
   const start = Date.UTC(2026, 2, 1);
@@ -79,5 +81,24 @@ describe('a frame on the sphere', () => {
     expect(sphericalFrame(flat)).toBeUndefined();
     const still = frameFromMaps({ time: 0, nx: map.nx, ny: map.ny, dx: 12, dy: 12 }, { bn: map.bn }, 'sun.fits', { provenance: { source: 'sun.fits', keywords } });
     expect(() => sphericalFrame(still)).toThrow(/sun.fits: vx\/vy/);
+  });
+
+  it('a whole-Sun FITS file (BN, VX, VY on CRLN-CAR/CRLT-CAR axes) read by the FITS reader is measured as the map it was written from (float32 rounding)', () => {
+    const map = inventedSun(DEMO_BIPOLES, 0, Date.UTC(2026, 2, 1), { ny: 45 });
+    const wcs = { ctype: ['CRLN-CAR', 'CRLT-CAR'] as [string, string], cunit: ['deg', 'deg'] as [string, string], crpix: [45.5, 23] as [number, number], crval: [180, 0] as [number, number], cdelt: [4, 4] as [number, number] };
+    const keywords = [{ key: 'DATE-OBS', value: '2026-03-01T00:00:00.000' }, { key: 'RSUN_REF', value: 696e6 }];
+    const bytes = writeFits({ images: [
+      { name: 'BN', nx: map.nx, ny: map.ny, values: Float32Array.from(map.bn), bunit: 'G', wcs, keywords },
+      { name: 'VX', nx: map.nx, ny: map.ny, values: Float32Array.from(map.vx), bunit: 'km/s', wcs },
+      { name: 'VY', nx: map.nx, ny: map.ny, values: Float32Array.from(map.vy), bunit: 'km/s', wcs },
+    ] });
+    const frame = frameFromFits(bytes, 'sun.fits');
+    const s = sphericalFrame(frame)!;
+    expect(s.grid.wholeSun).toBe(true);
+    const fromFile = measureSphere(s.grid, s.maps, { noiseG: 1 });
+    const direct = measureSphere(sphericalGrid(map.keywords, map.nx, map.ny, 'x'), map, { noiseG: 1 });
+    // float32 keeps 7 digits of each value; the rates are sums of products of them.
+    expect(Math.abs(fromFile.total - direct.total)).toBeLessThan(1e-5 * Math.abs(direct.total));
+    expect(Math.abs(fromFile.rotation - direct.rotation)).toBeLessThan(1e-5 * Math.abs(direct.rotation));
   });
 });
