@@ -8,8 +8,7 @@ import { accumulate, accumulateRefusal, emptyAccumulation, intervalsS, seriesCad
 import { alertRecords } from '../core/alerts/evaluateRules.js';
 import type { AlertChange } from '../core/alerts/alertState.js';
 import type { BraidReport, BraidSettings } from '../core/braid/braidTracker.js';
-import { braidStep, emptyBraidState } from '../core/braid/braidTracker.js';
-import { braidInputFromFootpoints } from '../core/braid/braidInput.js';
+import { emptyBraidHistory, extendBraidHistory } from '../core/braid/braidHistory.js';
 import { braidColumns, braidReportJson } from '../core/braid/braidColumns.js';
 import type { FootpointReport } from '../core/footpoints/footpointReport.js';
 import type { PatchCentre } from '../core/frameAssembly/wcs.js';
@@ -41,24 +40,13 @@ export interface ArchiveSeries {
   readonly braid?: { readonly byIndex: ReadonlyMap<number, BraidReport>; readonly last?: BraidReport; readonly segments: readonly { time: number; reason: string; strands: readonly number[] }[] };
 }
 
-/** The braid fold (core/braid/braidTracker.ts) over the frames' footpoint reports in time order. */
+/** The braid fold (core/braid/braidHistory.ts) over the frames' footpoint reports in time order. */
 function archiveBraid(extras: ArchiveSeries['extras'], settings: BraidSettings = {}): NonNullable<ArchiveSeries['braid']> {
-  const byIndex = new Map<number, BraidReport>();
-  const segments: { time: number; reason: string; strands: readonly number[] }[] = [];
-  let state = emptyBraidState();
-  let last: BraidReport | undefined;
-  const reports = extras.map((e) => ({ index: e.index, fp: e.extra.footpoints as FootpointReport | undefined }))
-    .filter((e): e is { index: number; fp: FootpointReport } => e.fp?.footpoints !== undefined)
-    .sort((a, b) => a.fp.time - b.fp.time);
-  for (const { index, fp } of reports) {
-    if (last && !(fp.time > last.time)) continue;
-    const step = braidStep(state, braidInputFromFootpoints(fp), settings);
-    state = step.state;
-    last = step.report;
-    byIndex.set(index, last);
-    if (last.segmentStarted !== null) segments.push({ time: last.time, reason: last.segmentStarted, strands: last.strands });
-  }
-  return { byIndex, ...(last && { last }), segments };
+  const frames = extras.map((e) => ({ key: e.index, footpoints: e.extra.footpoints as FootpointReport | undefined }))
+    .filter((e): e is { key: number; footpoints: FootpointReport } => e.footpoints?.footpoints !== undefined)
+    .sort((a, b) => a.footpoints.time - b.footpoints.time);
+  const h = extendBraidHistory(emptyBraidHistory<number>(), frames, settings);
+  return { byIndex: h.reports, ...(h.last && { last: h.last }), segments: h.segments };
 }
 
 /** Budget, series rows and alerts from the samples in time order (refusals feed the data rules). */
@@ -115,7 +103,7 @@ export function archiveSeries(index: Pick<ArchiveIndex, 'entries' | 'skipped'>, 
   samples.sort((a, b) => a.sample.time - b.sample.time);
   // The budget's gap rule starts from the archive's cadence until it has seen enough intervals.
   const cadenceS = seriesCadenceS(intervalsS(index.entries.map((e) => e.time)));
-  const braid = archiveBraid(extras);
+  const braid = archiveBraid(extras, config.braid);
   return { used, skipped, waiting, extras, series: buildSeries(samples, refusalTimes, config, cadenceS, braid), braid };
 }
 

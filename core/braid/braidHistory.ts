@@ -7,7 +7,7 @@
 //   let h = emptyBraidHistory<number>();
 //   h = extendBraidHistory(h, [{ key: 7, footpoints: analysis }], { strands: 3 }); // h.reports.get(7), h.last
 
-import type { FootpointAnalysis } from '../footpoints/analyseFootpoints.js';
+import type { FootpointsOfFrame } from './braidInput.js';
 import { braidInputFromFootpoints } from './braidInput.js';
 import type { BraidReport, BraidSettings, BraidState } from './braidTracker.js';
 import { braidStep, emptyBraidState } from './braidTracker.js';
@@ -33,7 +33,7 @@ export function emptyBraidHistory<K>(): BraidHistory<K> {
 
 export function extendBraidHistory<K>(
   history: BraidHistory<K>,
-  frames: readonly { readonly key: K; readonly footpoints: Pick<FootpointAnalysis, 'time' | 'footpoints' | 'events'> }[],
+  frames: readonly { readonly key: K; readonly footpoints: FootpointsOfFrame }[],
   settings: BraidSettings = {},
 ): BraidHistory<K> {
   let { state, last } = history;
