@@ -78,7 +78,12 @@ describe('braid entropy through the pipeline (Gaussian spots, 8 G noise)', () =>
     expect(last.braid_entropy_rate).toBeGreaterThan(0);
     expect(rows[0].braid_entropy_rate).toBeNull();
     const csv = seriesCsv(rows).split('\n');
-    expect(csv[0].split(',').slice(-4)).toEqual(['braid_entropy_rate', 'braid_entropy_rate_run', 'braid_strands', 'braid_flagged_triples']);
+    // the four braid columns, in this order, wherever later columns go
+    const header = csv[0].split(',');
+    const at = header.indexOf('braid_entropy_rate');
+    expect(header.slice(at, at + 4)).toEqual(['braid_entropy_rate', 'braid_entropy_rate_run', 'braid_strands', 'braid_flagged_triples']);
+    const lastCells = csv[csv.length - 2].split(',');
+    expect(Number(lastCells[at + 2])).toBe(3);
     expect(SERIES_COLUMNS).toContain('braid_entropy_rate');
     const doc = JSON.parse(JSON.stringify(archiveJson('protocol', [], a))) as { braid: { run: { entropy: number }; segment: { triples: { flagged: boolean; milnor: number }[] }; segments: unknown[] } };
     expect(doc.braid.run.entropy).toBeCloseTo(3 * GOLDEN_ENTROPY, 9);
