@@ -90,7 +90,8 @@ describe.skipIf(missing !== undefined)('a survey on a real Slurm', () => {
     await cluster!.waitDone(job);
     for (const t of plan.tasks) {
       const r = await readResult(pristine(), t.id);
-      expect(r?.status, `task ${t.id}: ${r?.status === 'failed' ? r.reason : 'no result'} (log in ${join(pristine(), 'logs')})`).toBe('complete');
+      const log = await readFile(join(pristine(), 'logs', `task-${t.id}-job-${job}.out`), 'utf8').catch((e: Error) => `(no log: ${e.message})`);
+      expect(r?.status, `task ${t.id}: ${r?.status === 'failed' ? r.reason : 'no result'}; its log:\n${log}`).toBe('complete');
       if (r?.status === 'complete') expect(r.provenance.slurm).toMatchObject({ SLURM_ARRAY_JOB_ID: job, SLURM_ARRAY_TASK_ID: String(t.id) });
     }
     const merged = await mergeSurvey(pristine(), { progress: quiet() });
