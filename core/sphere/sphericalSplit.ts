@@ -10,6 +10,7 @@
 // footpoint is spread over the whole sphere, and self and mutual terms do not separate the same
 // way: a footpoint carried round the sphere turns mutual helicity into its own (docs/sphere.md).
 
+import type { LabelSplit } from '../labelSplit.js';
 import { pixelSpinRate } from './pixelSpin.js';
 import type { PotentialGradient } from './potentialGradient.js';
 import { potentialGradients } from './potentialGradient.js';
@@ -17,18 +18,11 @@ import { rateFromGradient } from './sphericalHelicityFlux.js';
 import type { SphericalGrid } from './sphericalGrid.js';
 import type { SphericalTransport } from './sphericalTransport.js';
 
-export interface SphericalSplit {
-  /** Label values present among valid pixels, ascending (0 excluded). */
-  readonly ids: readonly number[];
-  /** Spin of each footpoint (its pixel pairs and its pixels' own spin), Mx^2/s. */
-  readonly spin: Float64Array;
-  /** Orbit of each unordered pair, Mx^2/s: row-major K*K, symmetric, zero diagonal. */
-  readonly orbit: Float64Array;
-  readonly spinTotal: number;
-  readonly orbitTotal: number;
-  readonly background: number;
-  readonly total: number;
-}
+/**
+ * The same figures as the planar split (core/labelSplit.ts): ids, spin per footpoint (on the sphere
+ * with its pixels' own spin when the pair sums are used), orbit per pair (K*K), totals, background.
+ */
+export type SphericalSplit = Pick<LabelSplit, 'ids' | 'spin' | 'orbit' | 'spinTotal' | 'orbitTotal' | 'background' | 'total'>;
 
 export interface SphericalSplitOptions {
   /** The total when already computed with the same velocity (saves its convolution). */
