@@ -10,8 +10,11 @@ export function sampleCubic(map: ArrayLike<number>, nx: number, ny: number, px: 
   const wx2 = ((-1.5 * tx + 2) * tx + 0.5) * tx, wx3 = (0.5 * tx - 0.5) * tx * tx;
   const dx0 = (-1.5 * tx + 2) * tx - 0.5, dx1 = (4.5 * tx - 5) * tx;
   const dx2 = (-4.5 * tx + 4) * tx + 0.5, dx3 = (1.5 * tx - 1) * tx;
-  const wy = [((-0.5 * ty + 1) * ty - 0.5) * ty, (1.5 * ty - 2.5) * ty * ty + 1, ((-1.5 * ty + 2) * ty + 0.5) * ty, (0.5 * ty - 0.5) * ty * ty];
-  const dyw = [(-1.5 * ty + 2) * ty - 0.5, (4.5 * ty - 5) * ty, (-4.5 * ty + 4) * ty + 0.5, (1.5 * ty - 1) * ty];
+  // Row weights as scalars (no array per sample: this runs for every window pixel of every fit step).
+  const wy0 = ((-0.5 * ty + 1) * ty - 0.5) * ty, wy1 = (1.5 * ty - 2.5) * ty * ty + 1;
+  const wy2 = ((-1.5 * ty + 2) * ty + 0.5) * ty, wy3 = (0.5 * ty - 0.5) * ty * ty;
+  const dy0 = (-1.5 * ty + 2) * ty - 0.5, dy1 = (4.5 * ty - 5) * ty;
+  const dy2 = (-4.5 * ty + 4) * ty + 0.5, dy3 = (1.5 * ty - 1) * ty;
   let v = 0, gx = 0, gy = 0;
   let row = (iy - 1) * nx + ix - 1;
   for (let k = 0; k < 4; k++, row += nx) {
@@ -19,9 +22,11 @@ export function sampleCubic(map: ArrayLike<number>, nx: number, ny: number, px: 
     const h = wx0 * a + wx1 * b + wx2 * c + wx3 * d;
     if (!Number.isFinite(h)) return false;
     const hd = dx0 * a + dx1 * b + dx2 * c + dx3 * d;
-    v += wy[k] * h;
-    gy += dyw[k] * h;
-    gx += wy[k] * hd;
+    const w = k === 0 ? wy0 : k === 1 ? wy1 : k === 2 ? wy2 : wy3;
+    const dw = k === 0 ? dy0 : k === 1 ? dy1 : k === 2 ? dy2 : dy3;
+    v += w * h;
+    gy += dw * h;
+    gx += w * hd;
   }
   out[0] = v; out[1] = gx; out[2] = gy;
   return true;
