@@ -108,18 +108,34 @@ export function sphericalGrid(k: KeywordRecord, nx: number, ny: number, source: 
   let oblique = false;
   const h = 1e-3; // pixels, for the direction of the native north
   const north = Math.sign(d2);
+  /** World coordinates and native-north angle of pixel (i, j), 0-based, by the WCS. */
+  const world = (i: number, j: number): [number, number, number] => {
+    const c = pixelToWorld(w, i + 1, j + 1);
+    const a = pixelToWorld(w, i + 1, j + 1 + h), b = pixelToWorld(w, i + 1, j + 1 - h);
+    if (!c || !a || !b) throw new InputError(source, 'WCS', `pixel (${i + 1}, ${j + 1}) has no world coordinates`);
+    let dl = a[0] - b[0];
+    dl -= 360 * Math.round(dl / 360);
+    const dE = north * dl * Math.cos(c[1] * D2R), dN = north * (a[1] - b[1]);
+    return [c[0], c[1], Math.atan2(-dE, dN)];
+  };
+  // Native coordinates are the heliographic ones (longitude offset by CRVAL1) unless the projection
+  // is oblique: tried on the corners and the centre, then every pixel by the formula, which is far
+  // faster than the WCS for a large whole-Sun map; otherwise every pixel by the WCS.
+  const lon0 = w.crval[0] * f1;
+  const wrap = (d: number) => ((d % 360) + 360) % 360;
+  const plain = [[0, 0], [nx - 1, 0], [0, ny - 1], [nx - 1, ny - 1], [nx >> 1, ny >> 1]].every(([i, j]) => {
+    const [lon, lat, t] = world(i, j);
+    let dl = lon - wrap(lon0 + colLon[i] / D2R);
+    dl -= 360 * Math.round(dl / 360);
+    return Math.abs(t) <= 1e-9 && Math.abs(dl) <= 1e-9 && Math.abs(lat - rowLat[j] / D2R) <= 1e-9;
+  });
   for (let j = 0; j < ny; j++) {
     for (let i = 0; i < nx; i++) {
-      const c = pixelToWorld(w, i + 1, j + 1);
-      const a = pixelToWorld(w, i + 1, j + 1 + h), b = pixelToWorld(w, i + 1, j + 1 - h);
-      if (!c || !a || !b) throw new InputError(source, 'WCS', `pixel (${i + 1}, ${j + 1}) has no world coordinates`);
       const p = j * nx + i;
-      lonDeg[p] = c[0]; latDeg[p] = c[1];
-      let dl = a[0] - b[0];
-      dl -= 360 * Math.round(dl / 360);
-      const dE = north * dl * Math.cos(c[1] * D2R), dN = north * (a[1] - b[1]);
-      turn[p] = Math.atan2(-dE, dN);
-      if (Math.abs(turn[p]) > 1e-9) oblique = true;
+      if (plain) { lonDeg[p] = wrap(lon0 + colLon[i] / D2R); latDeg[p] = rowLat[j] / D2R; continue; }
+      const [lon, lat, t] = world(i, j);
+      lonDeg[p] = lon; latDeg[p] = lat; turn[p] = t;
+      if (Math.abs(t) > 1e-9) oblique = true;
     }
   }
   return {
