@@ -86,7 +86,7 @@ function buildUpNow(series: readonly SeriesPoint[]): { view: ReturnType<typeof v
 
 /** The evidence of the rule's last change, in words. */
 export function evidenceWords(a: WireAlert): string {
-  const ev = a.evidence ?? {};
+  const ev: Readonly<Record<string, unknown>> = a.evidence ?? {};
   const unit = prettyUnit(a.unit ?? '');
   const value = num(ev.value);
   const threshold = num(a.threshold) ?? num(ev.threshold);

@@ -12,7 +12,7 @@ function num(v: unknown): number | null {
 export function normaliseFootpoint(raw: unknown): WireFootpoint | undefined {
   if (typeof raw !== 'object' || raw === null) return undefined;
   const r = raw as Record<string, unknown>;
-  const id = typeof r.id === 'number' || typeof r.id === 'string' ? r.id : undefined;
+  const id = typeof r.id === 'number' && Number.isInteger(r.id) ? r.id : undefined;
   const x = num(r.x);
   const y = num(r.y);
   if (id === undefined || x === null || y === null) return undefined;
@@ -26,7 +26,7 @@ export function normaliseFootpoint(raw: unknown): WireFootpoint | undefined {
         const q = p as Record<string, unknown> | null;
         const orbit = num(q?.orbit);
         const pid = q?.id;
-        return orbit !== null && (typeof pid === 'number' || typeof pid === 'string') ? [{ id: pid, orbit }] : [];
+        return orbit !== null && typeof pid === 'number' ? [{ id: pid, orbit }] : [];
       })
     : [];
   const outline = Array.isArray(r.outline)

@@ -26,7 +26,8 @@ function syntheticSample(i: number, t0: number, stepS: number): WireSample {
     rate_background: 0.05 * rate, budget_total: rate * i * stepS * 0.5, budget_spin: 0, budget_orbit: 0, budget_background: 0,
     rate_total_ga: rate, rate_emergence: null, rate_shear: null, sigma_rate_total: 0.1 * Math.abs(rate) + 1e35,
     sigma_budget_total: 1e40 + i * 1e37, velocity_method: 'given', split_method: 'labels', noise_g: 5, masked_fraction: 0, flags: [],
-    frame_id: i,
+    frame_id: i, sigma_rate_spin: 0, sigma_rate_orbit: 0, flux_unsigned: null, budget_normalised: null,
+    centre_lon_deg: null, centre_lat_deg: null, centre_disk_angle_deg: null,
   };
 }
 

@@ -1,68 +1,27 @@
 // The shapes on the wire between the monitor and the page (docs/api.md). Times stay ISO strings
 // here; the page converts them to ms once, when a sample enters its own series (seriesMerge.ts).
 
-export interface WireSample {
-  time: string;
-  dt_s: number;
-  rate_total: number | null;
-  rate_spin: number | null;
-  rate_orbit: number | null;
-  rate_background: number | null;
-  budget_total: number | null;
-  budget_spin: number | null;
-  budget_orbit: number | null;
-  budget_background: number | null;
-  rate_total_ga: number | null;
-  rate_emergence: number | null;
-  rate_shear: number | null;
-  sigma_rate_total: number | null;
-  sigma_budget_total: number | null;
-  sigma_rate_spin?: number | null;
-  sigma_rate_orbit?: number | null;
-  velocity_method: string;
-  split_method: string;
-  noise_g: number | null;
-  masked_fraction: number | null;
-  flags: string[];
-  frame_id: string | number;
-  /** Unsigned flux, Mx, and the budget over its square (H / Phi^2); absent from older rows. */
-  flux_unsigned?: number | null;
-  budget_normalised?: number | null;
-  /** Patch centre, Stonyhurst degrees, and its angle from disk centre, when the headers give them. */
-  centre_lon_deg?: number | null;
-  centre_lat_deg?: number | null;
-  centre_disk_angle_deg?: number | null;
-}
+// The shapes the monitor builds are typed once, in core/wire/ and core/seriesColumns.ts (one
+// spelling everywhere: CSV, JSON exports, API, page, `helicord rate`); the page reads them as they
+// are. What only the page asks for (maps, region lists, replay control) is typed here.
+import type { AlertChange as CoreAlertChange, AlertRecord, AlertStateName, Evidence } from '../core/alerts/alertState.js';
+import type { SeriesRow } from '../core/seriesColumns.js';
+import type { OrbitPartner as CoreOrbitPartner, WireFootpoint as CoreFootpoint } from '../core/wire/footpointWire.js';
+import type { WireGap as CoreGap } from '../core/wire/gapWire.js';
+import type { WireStatus } from '../core/wire/viewerMessages.js';
 
-export interface WireGap {
-  from: string;
-  to: string;
-  bridged: boolean;
-}
+export type WireSample = SeriesRow;
+export type WireGap = CoreGap;
+export type OrbitPartner = CoreOrbitPartner;
 
-export interface OrbitPartner {
-  id: number | string;
-  orbit: number;
-}
-
-export interface WireFootpoint {
-  id: number | string;
-  polarity: 1 | -1;
-  flux: number;
-  x: number;
-  y: number;
-  area: number;
-  omega: number | null;
-  omega_method: 'velocity' | 'pattern' | 'unobservable';
-  spin: number | null;
-  spin_point: number | null;
-  /** 1-sigma of the pattern rotation, rad/s, and why there is no pattern rotation (analysis fields
-   *  passed along with the row; absent from older answers). */
-  omega_error?: number | null;
-  omega_note?: string | null;
-  partners: OrbitPartner[];
-  outline?: [number, number][];
-}
+/**
+ * A footpoint as the page holds it: the contract's fields it draws and lists (the page checks each
+ * one on arrival, web/footpointShape.ts), the others when present; `outline` only from the test
+ * double (the monitor sends none).
+ */
+export type WireFootpoint = Pick<CoreFootpoint, 'id' | 'polarity' | 'flux' | 'x' | 'y' | 'area' | 'omega' | 'omega_method' | 'spin' | 'spin_point' | 'partners'>
+  & Partial<Pick<CoreFootpoint, 'omega_error' | 'omega_note' | 'status' | 'spin_budget'>>
+  & { readonly outline?: readonly (readonly [number, number])[] };
 
 export interface FootpointsAnswer {
   frame_id: string | number;
@@ -89,27 +48,16 @@ export interface MapAnswer {
   wcs?: MapWcs | null;
 }
 
-export type AlertState = 'quiet' | 'rising' | 'raised' | 'settled';
-
-export interface AlertChange {
-  time: string;
-  from: AlertState;
-  to: AlertState;
-  evidence?: Record<string, unknown>;
-}
-
-export interface WireAlert {
-  id: string | number;
-  rule: string;
-  state: AlertState;
-  since: string;
-  threshold: number | null;
-  unit: string;
-  source: string;
-  evidence: { value?: number; window_from?: string; window_to?: string; [key: string]: unknown };
-  acknowledged: boolean;
-  history: AlertChange[];
-}
+export type AlertState = AlertStateName;
+/** Evidence as the page reads it: every field may be missing (the words say what they can). */
+export type WireEvidence = Readonly<Partial<Evidence>> & Readonly<Record<string, unknown>>;
+export type AlertChange = Omit<CoreAlertChange, 'evidence'> & { readonly evidence?: WireEvidence };
+/** An alert record (core/alerts/alertState.ts) as the page reads it: evidence and threshold may be missing. */
+export type WireAlert = Omit<AlertRecord, 'evidence' | 'history' | 'threshold'> & {
+  readonly threshold: number | null;
+  readonly evidence: WireEvidence | null;
+  readonly history: readonly AlertChange[];
+};
 
 export interface ReplayInfo {
   state: 'playing' | 'paused' | 'done';
@@ -120,19 +68,8 @@ export interface ReplayInfo {
   source?: string;
 }
 
-export interface FeedStatus {
-  last_frame_time: string | null;
-  cadence_s: number | null;
-  refusals: number;
-  gaps: number;
-  /** Frames of the region waiting (arriving, or stored and not yet computed). */
-  queue: number;
-  /** The bound of that queue: past it senders are held back. */
-  queue_limit?: number;
-  /** The monitor's disk is full: frames wait for space. */
-  disk_full?: boolean;
-  replay: ReplayInfo | null;
-}
+/** The region's status (core/wire/viewerMessages.ts), its replay state read as the page shows it. */
+export type FeedStatus = Omit<WireStatus, 'replay'> & { readonly replay: ReplayInfo | null };
 
 export interface RegionInfo {
   name: string;

@@ -15,6 +15,7 @@ function sample(i: number, t0: number): WireSample {
     time: new Date(t0 + i * 60_000).toISOString(), dt_s: 60, rate_total: r, rate_spin: 0.6 * r, rate_orbit: 0.4 * r, rate_background: 0,
     budget_total: r * i, budget_spin: 0, budget_orbit: 0, budget_background: 0, rate_total_ga: r, rate_emergence: null, rate_shear: null,
     sigma_rate_total: 1e35, sigma_budget_total: 1e39, velocity_method: 'given', split_method: 'labels', noise_g: 5, masked_fraction: 0, flags: [], frame_id: i,
+    sigma_rate_spin: 0, sigma_rate_orbit: 0, flux_unsigned: null, budget_normalised: null, centre_lon_deg: null, centre_lat_deg: null, centre_disk_angle_deg: null,
   };
 }
 

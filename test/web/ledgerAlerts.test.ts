@@ -29,9 +29,9 @@ describe('footpoint ledger', () => {
     expect(topPartners(fp(9, 1, 0, 0, [[1, 1], [2, -5], [3, 3], [4, 2]]), 2)).toEqual([{ id: 2, orbit: -5 }, { id: 3, orbit: 3 }]);
   });
 
-  it('sorts string ids numerically', () => {
-    const r = [{ ...rows[0], id: 'fp10' }, { ...rows[1], id: 'fp2' }];
-    expect(sortFootpoints(r, 'id', 'ascending').map((x) => x.id)).toEqual(['fp2', 'fp10']);
+  it('sorts ids numerically', () => {
+    const r = [{ ...rows[0], id: 10 }, { ...rows[1], id: 2 }];
+    expect(sortFootpoints(r, 'id', 'ascending').map((x) => x.id)).toEqual([2, 10]);
   });
 });
 

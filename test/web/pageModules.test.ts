@@ -43,6 +43,7 @@ const sample = (time: string, frame: number): WireSample => ({
   time, dt_s: 720, rate_total: 1, rate_spin: 0, rate_orbit: 0, rate_background: 0, budget_total: 2, budget_spin: 0, budget_orbit: 0,
   budget_background: 0, rate_total_ga: 1, rate_emergence: null, rate_shear: null, sigma_rate_total: 0, sigma_budget_total: 0,
   velocity_method: 'dave', split_method: 'labels', noise_g: 5, masked_fraction: 0, flags: [], frame_id: frame,
+  sigma_rate_spin: 0, sigma_rate_orbit: 0, flux_unsigned: null, budget_normalised: null, centre_lon_deg: null, centre_lat_deg: null, centre_disk_angle_deg: null,
 });
 
 describe('the page store', () => {
@@ -72,7 +73,7 @@ describe('viewer messages', () => {
   it('take the gap factor and the latest frame from the snapshot, and note when an alert arrived', () => {
     const s = initialPageState();
     const snap = applyViewerMessage(s, {
-      type: 'snapshot', region: 'r', samples: [], gaps: [], alerts: [], status: { last_frame_time: null, cadence_s: 720, refusals: 0, gaps: 0, queue: 0, replay: null },
+      type: 'snapshot', region: 'r', samples: [], gaps: [], alerts: [], status: { last_frame_time: null, cadence_s: 720, refusals: 0, gaps: 0, queue: 0, queue_limit: 16, disk_full: false, replay: null },
       latest_frame: { frame_id: 9, time: '2026-03-14T10:00:00Z' }, gap_factor: 4,
     }, 0);
     expect(snap.gapFactor).toBe(4);

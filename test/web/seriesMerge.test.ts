@@ -7,7 +7,8 @@ function sample(iso: string, rate: number): WireSample {
     time: iso, dt_s: 720, rate_total: rate, rate_spin: rate / 2, rate_orbit: rate / 2, rate_background: 0,
     budget_total: rate * 720, budget_spin: 0, budget_orbit: 0, budget_background: 0, rate_total_ga: rate,
     rate_emergence: null, rate_shear: null, sigma_rate_total: 1, sigma_budget_total: 1, velocity_method: 'given',
-    split_method: 'labels', noise_g: 5, masked_fraction: 0, flags: [], frame_id: iso,
+    split_method: 'labels', noise_g: 5, masked_fraction: 0, flags: [], frame_id: Date.parse(iso) / 1000,
+    sigma_rate_spin: 0, sigma_rate_orbit: 0, flux_unsigned: null, budget_normalised: null, centre_lon_deg: null, centre_lat_deg: null, centre_disk_angle_deg: null,
   };
 }
 const at = (min: number): string => new Date(Date.UTC(2026, 2, 14, 6, min)).toISOString();

@@ -60,7 +60,7 @@ describe('the gap rule from the server', () => {
 const row = (k: number): SeriesPoint => {
   const time = new Date(T0 + k * 720_000).toISOString();
   const s = {
-    time, dt_s: 720, rate_total: k, rate_spin: null, rate_orbit: 0, rate_background: 0, budget_total: k * 720, budget_spin: 0, budget_orbit: 0,
+    time, dt_s: 720, rate_total: k, rate_spin: Number.NaN, rate_orbit: 0, rate_background: 0, budget_total: k * 720, budget_spin: 0, budget_orbit: 0,
     budget_background: 0, rate_total_ga: k, rate_emergence: null, rate_shear: null, sigma_rate_total: 1, sigma_budget_total: 2, sigma_rate_spin: 0,
     sigma_rate_orbit: 0, velocity_method: 'dave', split_method: 'labels', noise_g: 5, masked_fraction: 0, flags: ['a', 'b'], frame_id: k,
     flux_unsigned: 1e21, budget_normalised: k * 720 / 1e42, centre_lon_deg: null, centre_lat_deg: null, centre_disk_angle_deg: null,

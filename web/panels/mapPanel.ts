@@ -93,7 +93,7 @@ export function mountMapPanel(store: PageStore): MapPanel {
   );
 
   const wanted = (s: Readonly<PageState>): string | number | undefined =>
-    s.follow ? s.latestFrame?.frame_id : s.series[s.pickedIndex]?.s.frame_id;
+    s.follow ? s.latestFrame?.frame_id : s.series[s.pickedIndex]?.s.frame_id ?? undefined;
 
   const requestWanted = (force = false): void => {
     const s = store.get();

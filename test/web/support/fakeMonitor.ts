@@ -177,9 +177,10 @@ export class FakeMonitor {
       if (!r || !authorised(req, res)) return;
       const a = r.alerts.find((x) => String(x.id) === req.params.id);
       if (!a) return void res.status(404).json({ error: 'no such alert', field: 'id', problem: req.params.id });
-      a.acknowledged = true;
-      this.broadcast({ type: 'alert', alert: a });
-      res.json(a);
+      const acked = { ...a, acknowledged: true };
+      r.alerts[r.alerts.indexOf(a)] = acked;
+      this.broadcast({ type: 'alert', alert: acked });
+      res.json(acked);
     });
     app.get('/api/regions/:region/refusals', (req, res) => {
       const r = region(req, res);
@@ -270,7 +271,7 @@ export class FakeMonitor {
   }
 
   status(r: FakeRegionState): FeedStatus {
-    return { last_frame_time: r.frames.at(-1)?.time ?? null, cadence_s: CADENCE_S, refusals: r.refusals.length, gaps: r.gaps.length, queue: 0, replay: r.replay };
+    return { last_frame_time: r.frames.at(-1)?.time ?? null, cadence_s: CADENCE_S, refusals: r.refusals.length, gaps: r.gaps.length, queue: 0, queue_limit: 16, disk_full: false, replay: r.replay };
   }
 
   broadcast(message: unknown): void {
@@ -303,6 +304,7 @@ export function pushFrame(r: FakeRegionState, k: number, monitor?: FakeMonitor, 
     rate_total_ga: rate, rate_emergence: null, rate_shear: null, sigma_rate_total: 2e35, sigma_budget_total: 2e35 * CADENCE_S * Math.sqrt(k + 1),
     velocity_method: 'dave', split_method: 'labels', noise_g: 6, masked_fraction: 0.01, flags: ['spin-unobservable'], frame_id: k,
     flux_unsigned: fluxAt(k), budget_normalised: budget / fluxAt(k) ** 2,
+    sigma_rate_spin: 0, sigma_rate_orbit: 0, centre_lon_deg: null, centre_lat_deg: null, centre_disk_angle_deg: null,
   };
   r.samples.push(sample);
   r.frames.push({ frame_id: k, time: t, nx: GRID, ny: GRID, dx: DX, dy: DX });
@@ -343,7 +345,7 @@ export function raiseCrowdedAlerts(r: FakeRegionState, monitor?: FakeMonitor): W
   const first = r.samples[0];
   const raisedAt = (id: string, rule: string, time: string, threshold: number, unit: string, source: string, evidence: WireAlert['evidence']): WireAlert => ({
     id, rule, state: 'raised', since: time, threshold, unit, source, evidence, acknowledged: false,
-    history: [{ time, from: 'rising', to: 'raised', evidence }],
+    history: [{ time, from: 'rising', to: 'raised', ...(evidence && { evidence }) }],
   });
   const quiet = (id: string, rule: string, threshold: number, unit: string, source: string, evidence: WireAlert['evidence']): WireAlert => ({
     id, rule, state: 'quiet', since: first.time, threshold, unit, source, evidence, acknowledged: false, history: [],
