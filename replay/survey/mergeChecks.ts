@@ -25,7 +25,7 @@ export function mixedResults(plan: SurveyPlan, results: readonly ResultStamp[]):
   for (const r of results) {
     const region = plan.regions.find((g) => g.name === r.task.region);
     const planned = plan.tasks[r.task.id];
-    if (!region || !planned || planned.region !== r.task.region || planned.start !== r.task.start || planned.end !== r.task.end) {
+    if (!region || !planned || planned.region !== r.task.region || planned.start !== r.task.start || planned.end !== r.task.end || planned.primerFrom !== r.task.primerFrom) {
       return `the result of task ${r.task.id} (region ${r.task.region}, frames ${r.task.start}-${r.task.end - 1}) is not a task of this plan`;
     }
     if (r.provenance.settingsDigest !== region.settingsDigest) {

@@ -1,6 +1,6 @@
 // The survey folder and what it holds:
 //
-//   survey.json              the plan: regions (settings, frame counts, problems), tasks, time limit
+//   survey.json              the plan: regions (settings, frame counts, problems), tasks (frames, primer), time limit
 //   survey.sbatch            the Slurm batch script (a job array, one array task per task)
 //   regions/NAME.index.json  a region's ordered frames (file, time, grid) and the files set aside
 //   results/task-NNNNN.json  a task's result, written atomically: complete, or failed with the reason
@@ -105,8 +105,6 @@ export interface CompleteResult {
   readonly format: typeof RESULT_FORMAT;
   readonly status: 'complete';
   readonly task: SurveyTask;
-  /** The first frame analysed (primer frames from..start-1 only prime the state). */
-  readonly primerFrom: number;
   readonly provenance: TaskProvenance;
   readonly summary: TaskSummary;
   /** The task's chunks, raw (outcomes of its own frames, primer tables), in time order. */

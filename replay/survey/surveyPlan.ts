@@ -15,6 +15,7 @@ import type { FrameAssemblySettings } from '../../core/frameAssembly/assembleFra
 import { mergeAssemblySettings } from '../../core/frameAssembly/componentLayouts.js';
 import { InputError } from '../../core/inputError.js';
 import { indexScans } from '../archiveSource.js';
+import { primerStart } from '../chunkPriming.js';
 import type { BatchConfig } from '../batchConfig.js';
 import { readBatchConfig } from '../batchConfig.js';
 import { fileProblem } from '../fileProblem.js';
@@ -103,6 +104,7 @@ export async function planSurvey(args: PlanArgs): Promise<SurveyPlan> {
 
   const total = listed.reduce((n, r) => n + r.files.length, 0);
   const regions: SurveyRegion[] = [];
+  const entriesOf = new Map<string, RegionIndex['entries']>();
   const pool = startWorkerPool(Math.max(1, Math.min(args.workers ?? availableParallelism(), total)));
   try {
     progress.start('reading', total);
@@ -118,6 +120,7 @@ export async function planSurvey(args: PlanArgs): Promise<SurveyPlan> {
         }
       }
       await writeJson(regionIndexPath(out, r.name), index);
+      entriesOf.set(r.name, index.entries);
       regions.push({
         name: r.name, frames: r.frames, ...(r.config !== undefined && { config: r.config }),
         settings: r.settings, settingsDigest: sha256Text(canonicalJson(r.settings)),
@@ -130,7 +133,8 @@ export async function planSurvey(args: PlanArgs): Promise<SurveyPlan> {
     await pool.close();
   }
 
-  const tasks = planTasks(regions.map((r) => ({ name: r.name, frames: r.frameCount })), args.chunkFrames);
+  const tasks = planTasks(regions.map((r) => ({ name: r.name, frames: r.frameCount })), args.chunkFrames,
+    (name, start) => primerStart(entriesOf.get(name)!, start, regions.find((r) => r.name === name)!.settings.analysis));
   const plan: SurveyPlan = {
     format: PLAN_FORMAT, version, created: new Date().toISOString(), manifest: resolve(args.manifest),
     timeLimitS: args.timeLimitS, chunkFrames: args.chunkFrames, regions, tasks,

@@ -49,6 +49,9 @@ export async function computeTask(dir: string, plan: SurveyPlan, task: SurveyTas
   const settings = region.settings;
   const jobs = index.entries.map((e, i): ChunkJob => ({ index: i, file: e.file, ...(e.files && { files: e.files }) }));
   const primerFrom = primerStart(index.entries, task.start, settings.analysis);
+  if (primerFrom !== task.primerFrom) {
+    throw new InputError(dir, 'task', `task ${task.id} needs frames from ${primerFrom} on to prime its analysis, the plan says ${task.primerFrom} (a plan made by another helicord version? plan again)`);
+  }
   const inputs: { file: string; sha256: string }[] = [];
   for (const e of index.entries.slice(primerFrom, task.end)) {
     for (const file of e.files ?? [e.file]) inputs.push({ file, sha256: await sha256File(file).catch((err: unknown) => { throw new InputError(file, '(file)', problemText(err)); }) });
@@ -57,7 +60,7 @@ export async function computeTask(dir: string, plan: SurveyPlan, task: SurveyTas
     settings: settings.analysis, components: settings.components, ...(tick && { tick }),
   });
   return {
-    format: RESULT_FORMAT, status: 'complete', task, primerFrom, summary: taskSummary(task, index.entries, chunks, settings),
+    format: RESULT_FORMAT, status: 'complete', task, summary: taskSummary(task, index.entries, chunks, settings),
     provenance: {
       version: helicordVersion(), settingsDigest: region.settingsDigest, settings, inputs,
       host: hostname(), started, finished: new Date().toISOString(), workers: pool.size, ...(slurmIds() && { slurm: slurmIds() }),

@@ -14,14 +14,25 @@ export interface SurveyTask {
   /** Frames start .. end-1 of the region's ordered frames are this task's. */
   readonly start: number;
   readonly end: number;
+  /**
+   * The first frame it analyses: frames primerFrom .. start-1 only prime the analysis state (the
+   * overlap with the task before, replay/chunkPriming.ts); start when there are none.
+   */
+  readonly primerFrom: number;
 }
 
-export function planTasks(regions: readonly { name: string; frames: number }[], chunkFrames: number): SurveyTask[] {
+/**
+ * The tasks of the regions in order; `primerOf(region, start)` says where a chunk starting at
+ * `start` must begin (replay/chunkPriming.ts primerStart over the region's frames).
+ */
+export function planTasks(regions: readonly { name: string; frames: number }[], chunkFrames: number, primerOf: (region: string, start: number) => number): SurveyTask[] {
   if (!(Number.isInteger(chunkFrames) && chunkFrames >= 1)) throw new Error(`chunkFrames must be a positive integer, got ${chunkFrames}`);
   const tasks: SurveyTask[] = [];
   for (const r of regions) {
     if (r.frames === 0) continue;
-    for (const c of contiguousChunks(r.frames, Math.ceil(r.frames / chunkFrames))) tasks.push({ id: tasks.length, region: r.name, ...c });
+    for (const c of contiguousChunks(r.frames, Math.ceil(r.frames / chunkFrames))) {
+      tasks.push({ id: tasks.length, region: r.name, ...c, primerFrom: c.start === 0 ? 0 : primerOf(r.name, c.start) });
+    }
   }
   return tasks;
 }

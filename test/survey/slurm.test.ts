@@ -84,7 +84,7 @@ describe.skipIf(missing !== undefined)('a survey on a real Slurm', () => {
   let reference: Record<string, string>;
 
   it('runs as a job array whose merge equals run --local on the same plan', async () => {
-    expect(plan.tasks.map((t) => [t.region, t.start, t.end])).toEqual([['ar-1', 0, 8], ['ar-2', 0, 8], ['ar-3', 0, 10], ['ar-4', 0, 20], ['ar-4', 20, 40]]);
+    expect(plan.tasks.map((t) => [t.region, t.start, t.end, t.primerFrom])).toEqual([['ar-1', 0, 8, 0], ['ar-2', 0, 8, 0], ['ar-3', 0, 10, 0], ['ar-4', 0, 20, 0], ['ar-4', 20, 40, 15]]);
     // The plan's own batch script, submitted from its folder (the survey folder it names is pristine()).
     const job = await cluster!.submit(scriptPath(pristine()));
     await cluster!.waitDone(job);

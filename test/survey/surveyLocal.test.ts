@@ -78,6 +78,9 @@ describe('survey plan', () => {
     expect(plan.tasks.map((t) => [t.region, t.start, t.end])).toEqual([
       ['ar-a', 0, 4], ['ar-a', 4, 8], ['ar-b', 0, 4], ['ar-b', 4, 9], ['ar-b', 9, 14], ['ar-corrupt', 0, 3], ['ar-corrupt', 3, 7], ['ar-slow', 0, 6],
     ]);
+    // At 720 s a chunk is primed with the pair partners of the four frames tracked before it
+    // (chunkPriming.ts): 5 frames back, or from the region's first frame when it starts sooner.
+    expect(plan.tasks.map((t) => t.primerFrom)).toEqual([0, 0, 0, 0, 4, 0, 0, 0]);
     const problems = Object.fromEntries(plan.regions.map((r) => [r.name, r.problem ?? null]));
     expect(problems['ar-a']).toBeNull();
     expect(problems['ar-missing']).toMatch(/not-there does not exist/);

@@ -52,13 +52,14 @@ describe('Slurm time limits', () => {
 });
 
 describe('the tasks', () => {
-  it('one per region, a long region in contiguous chunks of at most chunkFrames, regions without frames left out', () => {
-    const tasks = planTasks([{ name: 'a', frames: 5 }, { name: 'none', frames: 0 }, { name: 'b', frames: 11 }], 5);
+  it('one per region, a long region in contiguous chunks of at most chunkFrames with their primer frames, regions without frames left out', () => {
+    // Each chunk's primer reaches 2 frames back here (a stand-in for chunkPriming's primerStart).
+    const tasks = planTasks([{ name: 'a', frames: 5 }, { name: 'none', frames: 0 }, { name: 'b', frames: 11 }], 5, (_r, start) => start - 2);
     expect(tasks).toEqual([
-      { id: 0, region: 'a', start: 0, end: 5 },
-      { id: 1, region: 'b', start: 0, end: 3 }, { id: 2, region: 'b', start: 3, end: 7 }, { id: 3, region: 'b', start: 7, end: 11 },
+      { id: 0, region: 'a', start: 0, end: 5, primerFrom: 0 },
+      { id: 1, region: 'b', start: 0, end: 3, primerFrom: 0 }, { id: 2, region: 'b', start: 3, end: 7, primerFrom: 1 }, { id: 3, region: 'b', start: 7, end: 11, primerFrom: 5 },
     ]);
-    expect(() => planTasks([], 0)).toThrow(/positive integer/);
+    expect(() => planTasks([], 0, () => 0)).toThrow(/positive integer/);
   });
 
   it('as sbatch --array lists them', () => {
