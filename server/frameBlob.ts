@@ -5,6 +5,7 @@
 import { createHash } from 'node:crypto';
 import type { Frame } from '../core/frame.js';
 import { FRAME_MAPS } from '../core/frame.js';
+import { open } from 'node:fs/promises';
 import { InputError } from '../core/inputError.js';
 
 const MAGIC = 0x4d434c48; // "HLCM" little-endian
@@ -80,6 +81,23 @@ export function decodeFrameBlob(bytes: Uint8Array, source: string): FrameBlobCon
     off += n * 4;
   }
   return { header, float, int };
+}
+
+/** The header of a stored blob, read without its maps (a frame's provenance for its map's coordinates). */
+export async function readFrameBlobHeader(path: string, source: string): Promise<FrameBlobHeader> {
+  const file = await open(path, 'r');
+  try {
+    const head = Buffer.alloc(12);
+    await file.read(head, 0, 12, 0);
+    if (head.readUInt32LE(0) !== MAGIC) throw new InputError(source, '(file)', 'is not a helicord map file');
+    const len = head.readUInt32LE(8);
+    const json = Buffer.alloc(len);
+    const { bytesRead } = await file.read(json, 0, len, 12);
+    if (bytesRead < len) throw new InputError(source, '(file)', `is truncated: its header needs ${len} bytes, ${bytesRead} there`);
+    return JSON.parse(json.toString('utf8')) as FrameBlobHeader;
+  } finally {
+    await file.close();
+  }
 }
 
 /** The stored form of a frame (provenance kept in the header). */

@@ -14,11 +14,12 @@ import { writeFits } from '../core/fits/writeImage.js';
 import type { ImageToWrite } from '../core/fits/writeImage.js';
 import { gridImage } from '../replay/mapImages.js';
 import type { Frame } from '../core/frame.js';
+import { frameWcs } from '../core/frameAssembly/wcs.js';
 import { isLoopback, tokenMatches } from './auth.js';
 import { isDiskFull } from './diskFull.js';
 import type { HostPolicy } from './hostCheck.js';
 import { hostAllowed, originAllowed } from './hostCheck.js';
-import { decodeFrameBlob } from './frameBlob.js';
+import { decodeFrameBlob, readFrameBlobHeader } from './frameBlob.js';
 import type { FootpointReport } from '../core/footpoints/footpointReport.js';
 import { footpointsForWire, tracksForWire } from '../core/wire/footpointWire.js';
 import { gapsForWire } from '../core/wire/gapWire.js';
@@ -344,9 +345,14 @@ function frameRoutes(ctx: ApiContext, h: ApiHelpers): express.Router {
     const values = spec.int ? (Object.hasOwn(content.int, spec.name) ? content.int[spec.name] : undefined) : (Object.hasOwn(content.float, spec.name) ? content.float[spec.name] : undefined);
     if (!values) return fail(res, 404, 'layer', `frame ${f.id} has no ${layer} map`);
     const f32 = Float32Array.from(values);
+    // The frame's world coordinates (heliographic or celestial), when its headers had them: the page
+    // draws degree axes from them (core/frameAssembly/wcs.ts pixelToWorld).
+    const head = spec.from === 'frame' ? content.header : await readFrameBlobHeader(join(store.dataDir, f.file), f.file);
+    const keywords = (head.provenance as Frame['provenance'] | undefined)?.keywords;
+    const wcs = keywords ? frameWcs(keywords, f.nx, f.ny) ?? null : null;
     res.json({
       frame_id: f.id, time: iso(f.time), layer, unit: spec.unit, nx: f.nx, ny: f.ny, dx: f.dx, dy: f.dy,
-      encoding: 'float32-base64', data: Buffer.from(f32.buffer).toString('base64'),
+      encoding: 'float32-base64', data: Buffer.from(f32.buffer).toString('base64'), wcs,
     });
   });
 
