@@ -50,15 +50,17 @@ export function convolveField(kernel: FluxKernel, bn: ArrayLike<number>, rows?: 
 
 /**
  * P, Q and R for a flux transport (what G_theta needs). With `rows`, only the rows y where
- * rows[y] is non-zero are computed (the others are 0): for callers that read a few rows.
+ * rows[y] is non-zero are computed (the others are 0): for callers that read a few rows. With
+ * `into`, the maps are written there (a caller convolving many times reuses one set).
  */
 export function convolveTransport(
   kernel: FluxKernel, t: { bn: ArrayLike<number>; fx: ArrayLike<number>; fy: ArrayLike<number> }, rows?: Uint8Array,
+  into?: KernelConvolutions,
 ): KernelConvolutions {
   const { plan, kxIm, kyIm, nx, ny } = kernel;
-  const p = new Float64Array(nx * ny);
-  const q = new Float64Array(nx * ny);
-  const r = new Float64Array(nx * ny);
+  const p = into?.p ?? new Float64Array(nx * ny);
+  const q = into?.q ?? new Float64Array(nx * ny);
+  const r = into?.r ?? new Float64Array(nx * ny);
   const B = SPECTRUM_BLOCK, w = plan.w;
   // P^ = i kx Bn^, Q^ = i ky Bn^, R^ = i kx Fy^ - i ky Fx^.
   convolvePadded(plan, kernelWorkspace(kernel), [t.bn, t.fx, t.fy], [p, q, r], (inRe, inIm, outRe, outIm, c0, width, rev) => {

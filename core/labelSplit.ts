@@ -176,6 +176,8 @@ export function splitByLabels(
   }
   const fftSums = new Float64Array(k * k);
   const mb = new Float64Array(n), mfx = new Float64Array(n), mfy = new Float64Array(n);
+  // One set of convolution maps for every full-grid convolution below (each overwrites it).
+  const convMaps = { p: new Float64Array(n), q: new Float64Array(n), r: new Float64Array(n) };
   // The convolutions are read at labelled pixels only: rows without one are not transformed back.
   const labelledRows = new Uint8Array(ny);
   for (let i = 0; i < n; i++) if (valid[i] && labels[i] > 0) labelledRows[(i - (i % nx)) / nx] = 1;
@@ -186,7 +188,7 @@ export function splitByLabels(
     for (let i = 0; i < n; i++) {
       if (valid[i] && labels[i] === ids[a]) { mb[i] = bn[i]; mfx[i] = fx[i]; mfy[i] = fy[i]; }
     }
-    const { p, q, r } = convolveTransport(kernel, { bn: mb, fx: mfx, fy: mfy }, labelledRows);
+    const { p, q, r } = convolveTransport(kernel, { bn: mb, fx: mfx, fy: mfy }, labelledRows, convMaps);
     for (let i = 0; i < n; i++) {
       if (!valid[i] || labels[i] <= 0) continue;
       const b = index.get(labels[i])!;
@@ -238,7 +240,7 @@ export function splitByLabels(
     // Orbit total = (labelled-labelled double sum) - spins, by one convolution of all labelled pixels.
     mb.fill(0); mfx.fill(0); mfy.fill(0);
     for (let i = 0; i < n; i++) if (valid[i] && labels[i] > 0) { mb[i] = bn[i]; mfx[i] = fx[i]; mfy[i] = fy[i]; }
-    const { p, q, r } = convolveTransport(kernel, { bn: mb, fx: mfx, fy: mfy }, labelledRows);
+    const { p, q, r } = convolveTransport(kernel, { bn: mb, fx: mfx, fy: mfy }, labelledRows, convMaps);
     let labelled = 0;
     for (let i = 0; i < n; i++) if (valid[i] && labels[i] > 0) labelled += fy[i] * p[i] - fx[i] * q[i] - bn[i] * r[i];
     orbitTotal = fftFactor * labelled - spinTotal;
