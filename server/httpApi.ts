@@ -14,6 +14,7 @@ import { writeFits } from '../core/fits/writeImage.js';
 import type { ImageToWrite } from '../core/fits/writeImage.js';
 import { gridImage } from '../replay/mapImages.js';
 import type { Frame } from '../core/frame.js';
+import type { SeriesRow } from '../core/seriesColumns.js';
 import { frameWcs } from '../core/frameAssembly/wcs.js';
 import { isLoopback, tokenMatches } from './auth.js';
 import { isDiskFull } from './diskFull.js';
@@ -224,12 +225,22 @@ function seriesRoutes(ctx: ApiContext, h: ApiHelpers): express.Router {
   const { store, pipeline } = ctx;
   const { regionName, existingRegion, requireToken, existing, timeParam } = h;
   const r = regionRouter();
+  // The braid columns of each row, from the braid folded over the stored frames (the rows are
+  // stored as the frame is committed, before the braid view sees it): as \`process\` writes them.
+  const withBraid = (name: string, rows: SeriesRow[]): SeriesRow[] => {
+    const h = ctx.braids.history(name);
+    if (h.reports.size === 0) return rows;
+    return rows.map((row) => {
+      const b = row.frame_id === null ? undefined : h.reports.get(row.frame_id);
+      return b ? { ...row, ...braidColumns(b) } : row;
+    });
+  };
   r.get('/series', (req, res) => {
     const name = existing(req, res);
     if (name === undefined) return;
     const from = timeParam(req, 'from', 0), to = timeParam(req, 'to', Number.MAX_SAFE_INTEGER);
     const gaps = gapsForWire(pipeline.accumulation(name).budget.gaps, { from, to });
-    res.json({ region: name, samples: store.samples(name, from, to), gaps });
+    res.json({ region: name, samples: withBraid(name, store.samples(name, from, to)), gaps });
   });
 
   // The braid of the largest footpoints (docs/braids.md): per frame, the window's and the run's
@@ -277,14 +288,14 @@ function seriesRoutes(ctx: ApiContext, h: ApiHelpers): express.Router {
   r.get('/export.csv', (req, res) => {
     const name = existing(req, res);
     if (name === undefined) return;
-    res.type('text/csv').set('content-disposition', `attachment; filename="${name}-series.csv"`).send(seriesCsv(store.samples(name)));
+    res.type('text/csv').set('content-disposition', `attachment; filename="${name}-series.csv"`).send(seriesCsv(withBraid(name, store.samples(name))));
   });
 
   r.get('/export.json', (req, res) => {
     const name = existing(req, res);
     if (name === undefined) return;
     const gaps = gapsForWire(pipeline.accumulation(name).budget.gaps);
-    res.json({ region: name, columns: SERIES_COLUMNS, samples: store.samples(name), gaps });
+    res.json({ region: name, columns: SERIES_COLUMNS, samples: withBraid(name, store.samples(name)), gaps });
   });
 
   return r;

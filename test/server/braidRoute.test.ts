@@ -12,7 +12,13 @@ import type { AnalysisState } from '../../core/frameAnalysis.js';
 import { analyseFrame } from '../../core/frameAnalysis.js';
 import { exchangeFrames, GOLDEN, GOLDEN_ENTROPY } from '../core/braidProtocols.js';
 import { sceneFrame } from '../footpoints/scene.js';
-import { TOKEN, frameBody, getJson, postFrame, startMonitor, waitIdle } from './support.js';
+import { mkdirSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
+import { join } from 'node:path';
+import { Writable } from 'node:stream';
+import type { SeriesRow } from '../../core/seriesColumns.js';
+import { processFolder } from '../../replay/processCommand.js';
+import { ensureCompiledWorker } from '../replay/compiledWorker.js';
+import { TOKEN, frameBody, getJson, postFrame, startMonitor, tempDir, waitIdle } from './support.js';
 
 const grid = { nx: 64, ny: 64, dx: 0.36, dy: 0.36 };
 const SPACING = 4;
@@ -72,6 +78,41 @@ describe('the braid route', () => {
       expect(after.series.some((r) => r.frame_id === ids[gone])).toBe(false);
     } finally {
       await m.stop();
+    }
+  }, 240_000);
+
+  it('the monitor\'s series rows carry the braid columns process writes for the same frames', async () => {
+    await ensureCompiledWorker();
+    const dir = tempDir();
+    const folder = join(dir, 'frames');
+    mkdirSync(folder);
+    frames.forEach((f, k) => writeFileSync(join(folder, `f${String(k).padStart(3, '0')}.json`), frameBody(f)));
+    const silent = new Writable({ write: (_c, _e, done) => done() });
+    await processFolder({ folder, out: join(dir, 'series.csv'), workers: 1, progress: silent });
+    const csv = readFileSync(join(dir, 'series.csv'), 'utf8').trim().split('\n');
+    const cols = csv[0].split(',');
+    const batch = csv.slice(1).map((line) => Object.fromEntries(line.split(',').map((v, i) => [cols[i], v])));
+    const m = await startMonitor();
+    try {
+      for (const f of frames) expect((await postFrame(m.url, 'braid', frameBody(f))).status).toBe(201);
+      await waitIdle(m.url, 120_000);
+      const live = (await getJson<{ samples: SeriesRow[] }>(m.url, '/api/regions/braid/export.json')).samples;
+      expect(live).toHaveLength(batch.length);
+      let compared = 0;
+      live.forEach((row, i) => {
+        expect(row.time).toBe(batch[i].time);
+        for (const k of ['braid_entropy_rate', 'braid_entropy_rate_run', 'braid_strands', 'braid_flagged_triples'] as const) {
+          const want = batch[i][k] === '' ? null : Number(batch[i][k]);
+          const got = row[k] ?? null;
+          if (want === null) { expect(got).toBeNull(); continue; }
+          expect(got).toBeCloseTo(want, 9);
+          compared++;
+        }
+      });
+      expect(compared).toBeGreaterThan(3 * batch.length);
+    } finally {
+      await m.stop();
+      rmSync(dir, { recursive: true, force: true });
     }
   }, 240_000);
 
