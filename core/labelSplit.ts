@@ -39,6 +39,12 @@ export interface LabelSplit {
   readonly convolvedFootpoints: number;
   /** False when the pair matrix holds only the pairs among the largest footpoints (NaN elsewhere). */
   readonly pairsComplete: boolean;
+  /**
+   * Kx * Bn and Ky * Bn of the labelled pixels alone, on the rows that hold a labelled pixel (0
+   * elsewhere), when the split had to convolve them (pairs incomplete): the motion uncertainty
+   * needs the same field (core/motionUncertainty.ts) and takes it from here.
+   */
+  readonly labelledField?: { readonly p: Float64Array; readonly q: Float64Array };
 }
 
 export interface LabelSplitOptions {
@@ -236,6 +242,7 @@ export function splitByLabels(
       else { orbit[a * k + b] = v; orbit[b * k + a] = v; orbitTotal += v; }
     }
   }
+  let labelledField: { p: Float64Array; q: Float64Array } | undefined;
   if (!pairsComplete) {
     // Orbit total = (labelled-labelled double sum) - spins, by one convolution of all labelled pixels.
     mb.fill(0); mfx.fill(0); mfy.fill(0);
@@ -244,10 +251,11 @@ export function splitByLabels(
     let labelled = 0;
     for (let i = 0; i < n; i++) if (valid[i] && labels[i] > 0) labelled += fy[i] * p[i] - fx[i] * q[i] - bn[i] * r[i];
     orbitTotal = fftFactor * labelled - spinTotal;
+    labelledField = { p, q };
   }
   const total = options.total ?? helicityFluxTotal(kernel, t);
   return {
     ids, spin, orbit, spinTotal, orbitTotal, background: total - spinTotal - orbitTotal, total,
-    convolvedFootpoints: big.reduce((s, v) => s + v, 0), pairsComplete,
+    convolvedFootpoints: big.reduce((s, v) => s + v, 0), pairsComplete, ...(labelledField && { labelledField }),
   };
 }

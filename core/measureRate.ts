@@ -90,7 +90,7 @@ export function measureRate(input: RateInput): RateMeasurement {
   const uy = input.velocity?.vy ?? frame.vy!;
   const sigmaNoise = rateSigmaFromNoise(conv, ux, uy, t.valid, Number.isFinite(noiseG) ? noiseG : 0, frame.dx, frame.dy);
   const motion = input.motions && labels
-    ? rateSigmaFromMotions(t, conv, labels, input.motions, frame, kernel)
+    ? rateSigmaFromMotions(t, conv, labels, input.motions, frame, kernel, split?.labelledField)
     : { total: 0, spin: 0, orbit: 0 };
   const sample: RateSample = {
     time: input.time ?? frame.time,

@@ -30,10 +30,14 @@ export interface MotionCovariance {
   readonly cy: number;
 }
 
-/** sigma (Mx^2/s) of total, spin and orbit from the motions of the footpoints labelled in `labels`. */
+/**
+ * sigma (Mx^2/s) of total, spin and orbit from the motions of the footpoints labelled in `labels`.
+ * `labelledField`: Kx * Bn and Ky * Bn of the labelled pixels when already made (the label split
+ * makes them: LabelSplit.labelledField), read on labelled pixels only.
+ */
 export function rateSigmaFromMotions(
   t: FluxTransport, conv: KernelConvolutions, labels: Int32Array, motions: ReadonlyMap<number, MotionCovariance>, grid: Grid,
-  kernel: FluxKernel,
+  kernel: FluxKernel, labelledField?: { readonly p: Float64Array; readonly q: Float64Array },
 ): { total: number; spin: number; orbit: number } {
   const { nx, dx, dy } = grid;
   const area = pixelAreaCm2(dx, dy);
@@ -43,7 +47,7 @@ export function rateSigmaFromMotions(
   const labelled = new Float64Array(bn.length);
   const rows = new Uint8Array(grid.ny); // own.p, own.q are read on labelled pixels only
   for (let i = 0; i < bn.length; i++) if (labels[i] > 0 && valid[i]) { labelled[i] = bn[i]; rows[(i - (i % nx)) / nx] = 1; }
-  const own = convolveField(kernel, labelled, rows);
+  const own = labelledField ?? convolveField(kernel, labelled, rows);
   type Acc = { sx: number; sy: number; r: number; lx: number; ly: number; lr: number; flux: number; self: number };
   const acc = new Map<number, Acc>();
   for (let i = 0; i < labels.length; i++) {
