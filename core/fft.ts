@@ -329,8 +329,13 @@ export function createRowBlock(plan: RealFftPlan): RowBlock {
  */
 export function realFftRows(
   plan: RealFftPlan, x: ArrayLike<number>, inOffset: number, inStride: number, count: number, rows: number,
-  outRe: Float64Array, outIm: Float64Array, outOffset: number, outStride: number, block: RowBlock,
+  outRe: Float64Array, outIm: Float64Array, outOffset: number, outStride: number, block: RowBlock, spectrumBlock = 0,
 ): void {
+  // With spectrumBlock b (a power of two), frequency k of row r sits at
+  // outOffset + floor(k / b) * outStride + r * b + k % b (blocks of b frequencies, rows inside).
+  const shift = spectrumBlock > 0 ? Math.log2(spectrumBlock) : 0, mask = spectrumBlock - 1;
+  const at = (r: number, k: number) => spectrumBlock > 0
+    ? outOffset + (k >> shift) * outStride + r * spectrumBlock + (k & mask) : outOffset + r * outStride + k;
   const m = plan.n >> 1;
   const { cos, sin } = plan;
   const rev = plan.half.rev;
@@ -355,9 +360,10 @@ export function realFftRows(
     }
     fftColumnBlock(plan.half, zr, zi, B, 0, bw, -1, upperZero, true);
     for (let c = 0; c < bw; c++) {
-      const base = outOffset + (r0 + c) * outStride;
-      outRe[base] = zr[c] + zi[c]; outIm[base] = 0;
-      outRe[base + m] = zr[c] - zi[c]; outIm[base + m] = 0;
+      const r = r0 + c;
+      const o0 = at(r, 0), om = at(r, m);
+      outRe[o0] = zr[c] + zi[c]; outIm[o0] = 0;
+      outRe[om] = zr[c] - zi[c]; outIm[om] = 0;
       for (let k = 1, h = m >> 1; k <= h; k++) {
         const b = m - k;
         const zkr = zr[k * B + c], zki = zi[k * B + c], zbr = zr[b * B + c], zbi = zi[b * B + c];
@@ -365,8 +371,9 @@ export function realFftRows(
         const or = 0.5 * (zki + zbi), oi = -0.5 * (zkr - zbr);
         const cs = cos[k], sn = sin[k];
         const tr = cs * or + sn * oi, ti = cs * oi - sn * or;
-        outRe[base + k] = er + tr; outIm[base + k] = ei + ti;
-        outRe[base + b] = er - tr; outIm[base + b] = ti - ei;
+        const ok = at(r, k), ob = at(r, b);
+        outRe[ok] = er + tr; outIm[ok] = ei + ti;
+        outRe[ob] = er - tr; outIm[ob] = ti - ei;
       }
     }
   }
@@ -379,8 +386,12 @@ export function realFftRows(
  */
 export function realInverseFftRows(
   plan: RealFftPlan, re: Float64Array, im: Float64Array, inOffset: number, inStride: number, rows: number,
-  out: Float64Array, outOffset: number, outStride: number, count: number, scale: number, block: RowBlock,
+  out: Float64Array, outOffset: number, outStride: number, count: number, scale: number, block: RowBlock, spectrumBlock = 0,
 ): void {
+  // spectrumBlock as in realFftRows (the spectra's layout; inStride is then the block stride).
+  const shift = spectrumBlock > 0 ? Math.log2(spectrumBlock) : 0, mask = spectrumBlock - 1;
+  const at = (r: number, k: number) => spectrumBlock > 0
+    ? inOffset + (k >> shift) * inStride + r * spectrumBlock + (k & mask) : inOffset + r * inStride + k;
   const m = plan.n >> 1;
   const { cos, sin } = plan;
   const rev = plan.half.rev;
@@ -392,16 +403,18 @@ export function realInverseFftRows(
   for (let r0 = 0; r0 < rows; r0 += B) {
     const bw = Math.min(B, rows - r0);
     for (let c = 0; c < bw; c++) {
-      const base = inOffset + (r0 + c) * inStride;
+      const r = r0 + c;
       {
-        const xr = re[base], xi = im[base], yr = re[base + m], yi = -im[base + m];
+        const o0 = at(r, 0), om = at(r, m);
+        const xr = re[o0], xi = im[o0], yr = re[om], yi = -im[om];
         const er = 0.5 * (xr + yr), ei = 0.5 * (xi + yi), or = 0.5 * (xr - yr), oi = 0.5 * (xi - yi);
         zr[c] = er - oi; zi[c] = ei + or; // rev[0] = 0
       }
       for (let k = 1, h = m >> 1; k <= h; k++) {
         const b = m - k;
-        const xr = re[base + k], xi = im[base + k];
-        const yr = re[base + b], yi = -im[base + b];
+        const ok = at(r, k), ob = at(r, b);
+        const xr = re[ok], xi = im[ok];
+        const yr = re[ob], yi = -im[ob];
         const er = 0.5 * (xr + yr), ei = 0.5 * (xi + yi);
         const dr = 0.5 * (xr - yr), di = 0.5 * (xi - yi);
         const cs = cos[k], sn = sin[k];

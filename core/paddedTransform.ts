@@ -68,7 +68,11 @@ export const SPECTRUM_BLOCK = 16;
  */
 export interface PaddedWorkspace {
   readonly channels: number;
-  /** Half spectra per map, ny rows of w: the inputs' after the row pass, the outputs' before theirs. */
+  /**
+   * Half spectra per map, ny rows of w, stored by blocks of SPECTRUM_BLOCK frequencies (rows inside
+   * a block, so that a column block is one contiguous run): the inputs' after the row pass, the
+   * outputs' before theirs.
+   */
   readonly rowRe: Float64Array[];
   readonly rowIm: Float64Array[];
   /** Column blocks, py rows of SPECTRUM_BLOCK: the inputs' and the outputs'. */
@@ -80,7 +84,7 @@ export interface PaddedWorkspace {
 }
 
 export function createPaddedWorkspace(plan: PaddedPlan, channels: number): PaddedWorkspace {
-  const rowSize = plan.w * plan.ny, blockSize = plan.py * SPECTRUM_BLOCK;
+  const rowSize = Math.ceil(plan.w / SPECTRUM_BLOCK) * SPECTRUM_BLOCK * plan.ny, blockSize = plan.py * SPECTRUM_BLOCK;
   const maps = (size: number) => Array.from({ length: channels }, () => new Float64Array(size));
   return {
     channels, rowRe: maps(rowSize), rowIm: maps(rowSize),
@@ -117,15 +121,20 @@ export function convolvePadded(
   if (inputs.length > work.channels || outputs.length > work.channels) throw new RangeError('workspace has too few channels');
   const B = SPECTRUM_BLOCK;
   const { rowRe, rowIm, inRe, inIm, outRe, outIm, rowBlock } = work;
+  const stride = ny * B; // one block of B frequencies: ny rows of B
   for (let j = 0; j < inputs.length; j++) {
     // Runs of rows holding some non-zero value go through the transform; zero rows give zero.
     const x = inputs[j];
     const zeroRow = (y: number) => { for (let i = y * nx, e = i + nx; i < e; i++) if (x[i] !== 0) return false; return true; };
     for (let y = 0; y < ny;) {
-      if (zeroRow(y)) { rowRe[j].fill(0, y * w, y * w + w); rowIm[j].fill(0, y * w, y * w + w); y++; continue; }
+      if (zeroRow(y)) {
+        for (let b = y * B; b < rowRe[j].length; b += stride) { rowRe[j].fill(0, b, b + B); rowIm[j].fill(0, b, b + B); }
+        y++;
+        continue;
+      }
       let end = y + 1;
       while (end < ny && !zeroRow(end)) end++;
-      realFftRows(rows, x, y * nx, nx, nx, end - y, rowRe[j], rowIm[j], y * w, w, rowBlock);
+      realFftRows(rows, x, y * nx, nx, nx, end - y, rowRe[j], rowIm[j], y * B, stride, rowBlock, B);
       y = end;
     }
   }
@@ -136,8 +145,8 @@ export function convolvePadded(
     const bw = Math.min(B, w - c0);
     for (let j = 0; j < inputs.length; j++) {
       const sr = rowRe[j], si = rowIm[j], br = inRe[j], bi = inIm[j];
-      for (let y = 0; y < ny; y++) {
-        const t = rev[y] * B, s = y * w + c0;
+      for (let y = 0, s = (c0 / B) * stride; y < ny; y++, s += B) {
+        const t = rev[y] * B;
         for (let c = 0; c < bw; c++) { br[t + c] = sr[s + c]; bi[t + c] = si[s + c]; }
       }
       for (let y = ny; y < zeroEnd; y++) {
@@ -150,19 +159,18 @@ export function convolvePadded(
     for (let j = 0; j < outputs.length; j++) {
       const br = outRe[j], bi = outIm[j], sr = rowRe[j], si = rowIm[j];
       fftColumnBlock(cols, br, bi, B, 0, bw, 1, false, true);
-      for (let y = 0; y < ny; y++) {
-        const t = y * B, s = y * w + c0;
-        for (let c = 0; c < bw; c++) { sr[s + c] = br[t + c]; si[s + c] = bi[t + c]; }
-      }
+      // Rows 0..ny-1 of the block, in natural order after the pass: one contiguous copy.
+      sr.set(br.subarray(0, stride), (c0 / B) * stride);
+      si.set(bi.subarray(0, stride), (c0 / B) * stride);
     }
   }
   for (let j = 0; j < outputs.length; j++) {
-    if (!outputRows) { realInverseFftRows(rows, rowRe[j], rowIm[j], 0, w, ny, outputs[j], 0, nx, nx, 1 / py, rowBlock); continue; }
+    if (!outputRows) { realInverseFftRows(rows, rowRe[j], rowIm[j], 0, stride, ny, outputs[j], 0, nx, nx, 1 / py, rowBlock, B); continue; }
     for (let y = 0; y < ny;) {
       if (outputRows[y] === 0) { outputs[j].fill(0, y * nx, y * nx + nx); y++; continue; }
       let end = y + 1;
       while (end < ny && outputRows[end] !== 0) end++;
-      realInverseFftRows(rows, rowRe[j], rowIm[j], y * w, w, end - y, outputs[j], y * nx, nx, nx, 1 / py, rowBlock);
+      realInverseFftRows(rows, rowRe[j], rowIm[j], y * B, stride, end - y, outputs[j], y * nx, nx, nx, 1 / py, rowBlock, B);
       y = end;
     }
   }
