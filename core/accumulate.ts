@@ -20,11 +20,15 @@ import { upperMedian } from './quantile.js';
 import type { RateSample } from './rateSample.js';
 import type { SeriesRow } from './seriesColumns.js';
 import { seriesRow } from './seriesColumns.js';
+import type { SphereBudgetState } from './sphere/sphereColumns.js';
+import { accumulateSphere, emptySphereBudget } from './sphere/sphereColumns.js';
 
-/** What one step carries to the next: the budget and the rule memory. */
+/** What one step carries to the next: the budget and the rule memory (and a spherical region's budgets). */
 export interface AccumulationState {
   readonly budget: BudgetState;
   readonly rules: RulesState;
+  /** The rotation share's and the hemispheres' budgets, from the first sample on the sphere on (core/sphere/sphereColumns.ts). */
+  readonly sphere?: SphereBudgetState;
 }
 
 export interface AccumulationSettings {
@@ -70,9 +74,12 @@ export function accumulate(state: AccumulationState, sample: RateSample, setting
     budget: point.values.total, sigmaBudget: point.sigmaTotal,
     ...(point.gap && { gap: point.gap }),
   }, { rules: settings.rules ?? {} });
-  const row = seriesRow(sample, point, origin.frameId ?? null, origin.centre ?? sample.centre);
+  const flat = seriesRow(sample, point, origin.frameId ?? null, origin.centre ?? sample.centre);
+  // A sample on the sphere adds its columns (same budget settings, so the same gaps); planar rows leave them out.
+  const sphere = sample.sphere && accumulateSphere(state.sphere ?? emptySphereBudget(), sample.time, sample.sphere, settings.budget);
+  const row = sphere ? { ...flat, ...sphere.columns } : flat;
   return {
-    state: { ...state, budget: b.state, rules: rules.state },
+    state: { ...state, budget: b.state, rules: rules.state, ...(sphere && { sphere: sphere.state }) },
     // The budget marks a gap on the first sample after it.
     row: point.gap ? { ...row, flags: [...row.flags, 'after-gap'] } : row,
     point,

@@ -31,6 +31,8 @@ import { SEGMENTATION_DEFAULTS } from './footpoints/segmentation.js';
 import { smoothMap } from './footpoints/smoothing.js';
 import type { RateSample } from './rateSample.js';
 import { measureRate } from './measureRate.js';
+import type { SphereAnalysisSettings } from './sphere/sphereFrameAnalysis.js';
+import { analyseSphericalFrame, sphereToMeasure } from './sphere/sphereFrameAnalysis.js';
 import { inferVelocity } from './velocity/inferVelocity.js';
 import { midFrame } from './velocity/midFrame.js';
 import { pairNoise } from './velocity/pairNoise.js';
@@ -56,6 +58,8 @@ export interface AnalysisSettings {
    * the motion is taken between the newest frame and the oldest kept frame within this span.
    */
   readonly motionBaselineS?: number;
+  /** Maps on the sphere (whole Sun; heliographic patches when asked): rotation profile, frame rate, engine (docs/sphere.md). */
+  readonly sphere?: SphereAnalysisSettings;
 }
 
 export const DEFAULT_MOTION_BASELINE_S = 720;
@@ -104,6 +108,9 @@ export function analyseFrame(
   frame: Frame, state: AnalysisState, settings: AnalysisSettings = {}, cache?: FluxKernelCache,
 ): FrameAnalysis {
   checkFrame(frame);
+  // A map on the sphere has its own engine (core/sphere/sphereFrameAnalysis.ts says which maps).
+  const onSphere = sphereToMeasure(frame, settings.sphere);
+  if (onSphere) return analyseSphericalFrame(frame, onSphere, settings);
   const keepFootpoints = state.footpoints && { footpoints: state.footpoints };
   const baselineS = settings.motionBaselineS ?? DEFAULT_MOTION_BASELINE_S;
   const smoothing = (settings.footpoints || undefined)?.smoothing ?? SEGMENTATION_DEFAULTS.smoothing;

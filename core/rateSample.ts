@@ -2,6 +2,7 @@
 // unsigned flux it carries. Made by measureRate (core/measureRate.ts).
 
 import type { PatchCentre } from './frameAssembly/wcs.js';
+import type { SphereFigures } from './sphere/sphereColumns.js';
 import { pixelAreaCm2 } from './units.js';
 
 export interface RateSample {
@@ -47,6 +48,12 @@ export interface RateSample {
   readonly flags: readonly string[];
   /** Where the patch sat on the Sun, when the frames' headers say (the mean of a pair's two frames). */
   readonly centre?: PatchCentre;
+  /**
+   * A sample of a map on the sphere (core/sphere/measureSphere.ts sphereRateSample): the
+   * differential-rotation share, the hemispheres and the planar departure, which core/accumulate.ts
+   * turns into the sphere's series columns. Absent for planar frames.
+   */
+  readonly sphere?: SphereFigures;
 }
 
 /**

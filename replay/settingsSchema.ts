@@ -17,6 +17,7 @@ import { InputError } from '../core/inputError.js';
 import { RULES } from '../core/alerts/ruleCatalogue.js';
 import type { VelocitySettings } from '../core/velocity/velocitySettings.js';
 import type { BraidSettings } from '../core/braid/braidTracker.js';
+import type { SphereAnalysisSettings } from '../core/sphere/sphereFrameAnalysis.js';
 
 export type Schema =
   | { readonly kind: 'number'; readonly min?: number; readonly above?: number; readonly max?: number; readonly below?: number; readonly integer?: boolean; readonly help?: string }
@@ -67,6 +68,13 @@ const footpoints: Fields<Omit<FootpointSettings, 'kernelCache'>> = {
 
 const footpointVelocity: Fields<FootpointVelocityOptions> = { keepNonRigid: bool, tailPixels: nonNegative, fieldFloorG: nonNegative };
 
+/** Frames on the sphere (docs/sphere.md): the rotation profile's coefficients are sidereal microrad/s. */
+const sphere: Fields<SphereAnalysisSettings> = {
+  rotationProfile: { kind: 'object', fields: { a: { kind: 'number' }, b: { kind: 'number' }, c: { kind: 'number' } }, required: ['a', 'b', 'c'] },
+  frameRateMicroradPerS: { kind: 'number' }, maxRowPairWork: positive, noiseG: positive,
+  wholeSunEngine: { kind: 'string', choices: ['harmonics', 'pairs'] }, harmonicDegree: count(1), patches: bool,
+};
+
 export const ANALYSIS_FIELDS: Fields<AnalysisSettings> = {
   noiseG: positive,
   velocity: { kind: 'object', fields: velocity },
@@ -74,6 +82,7 @@ export const ANALYSIS_FIELDS: Fields<AnalysisSettings> = {
   motionModel: { kind: 'string', choices: ['footpoints', 'inferred'] },
   footpointVelocity: { kind: 'object', fields: footpointVelocity },
   motionBaselineS: nonNegative,
+  sphere: { kind: 'object', fields: sphere },
 };
 
 /** The braid of the largest footpoints (docs/braids.md). */

@@ -32,6 +32,7 @@ import { nativeVelocity } from './sphericalGrid.js';
 import type { SphericalSplit } from './sphericalSplit.js';
 import { splitSphericalByLabels } from './sphericalSplit.js';
 import { sphericalTransport } from './sphericalTransport.js';
+import { sphereFigures } from './sphereColumns.js';
 
 export interface SphereSettings {
   /** Rotation profile, sidereal microrad/s (default Howard, Harvey & Forgach 1990). */
@@ -170,6 +171,7 @@ export function measureSphere(grid: SphericalGrid, maps: SphereMaps, settings: S
  * other (core/accumulate.ts): spin, orbit and background from the label split when there is one,
  * otherwise all background; the G_A total is the total (the sphere has one form); flags
  * 'whole-sun' or 'sphere-patch', with 'no-footpoints' and 'masked-pixels' as measureRate gives them.
+ * It carries the measurement's figures (`sphere`) for the sphere's series columns.
  */
 export function sphereRateSample(m: SphereMeasurement, time: number, dtS: number, velocityMethod = 'given'): RateSample {
   const flags: string[] = [m.wholeSun ? 'whole-sun' : 'sphere-patch'];
@@ -181,5 +183,6 @@ export function sphereRateSample(m: SphereMeasurement, time: number, dtS: number
     spin: split ? split.spinTotal : 0, orbit: split ? split.orbitTotal : 0, background: split ? split.background : m.total,
     sigmaTotal: m.sigmaTotal, sigmaSpin: 0, sigmaOrbit: 0, sigmaMotion: 0, noiseG: m.noiseG, unsignedFlux: m.unsignedFlux,
     velocityMethod, splitMethod: split ? 'labels' : 'none', maskedFraction: m.maskedFraction, flags,
+    sphere: sphereFigures(m),
   };
 }

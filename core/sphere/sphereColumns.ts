@@ -44,9 +44,24 @@ function oneRate(time: number, rate: number): RateSample {
 
 const finite = (v: number | null | undefined): number | null => (v !== null && v !== undefined && Number.isFinite(v) ? v : null);
 
+/**
+ * What the columns need of a measurement: carried on the rate sample (RateSample.sphere, plain
+ * numbers) from the per-frame step to the accumulation step.
+ */
+export type SphereFigures = Pick<SphereMeasurement, 'wholeSun' | 'rotation' | 'ownMotions' | 'north' | 'south' | 'rotationNorth' | 'rotationSouth' | 'planar'>;
+
+/** The figures of a measurement, without its maps and split (small enough to travel with the sample). */
+export function sphereFigures(m: SphereMeasurement): SphereFigures {
+  return {
+    wholeSun: m.wholeSun, rotation: m.rotation, ownMotions: m.ownMotions, north: m.north, south: m.south,
+    rotationNorth: m.rotationNorth, rotationSouth: m.rotationSouth,
+    ...(m.planar && { planar: { rate: m.planar.rate, departure: m.planar.departure, coarsening: m.planar.coarsening } }),
+  };
+}
+
 /** Adds one sample's measurement (samples in time order) and gives its columns. */
 export function accumulateSphere(
-  state: SphereBudgetState, time: number, m: SphereMeasurement, settings: BudgetSettings = {},
+  state: SphereBudgetState, time: number, m: SphereFigures, settings: BudgetSettings = {},
 ): { state: SphereBudgetState; columns: SphereColumns } {
   const rot = accumulateBudget(state.rotation, oneRate(time, m.rotation), settings);
   let north = state.north, south = state.south;
