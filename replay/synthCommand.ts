@@ -1,7 +1,8 @@
 // `helicord synth --out FOLDER`: writes the demo region as frame files, one per frame, and its
 // true series beside them (truth.csv, in the batch CSV's columns). FITS frames by default (the
 // README's frame convention, core/frameAssembly/frameToFits.ts), JSON frames on request; the
-// file names sort in time order.
+// file names sort in time order. `scene: 'sun'` writes the whole-Sun demo instead
+// (replay/demo/sunDemo.ts: invented bipoles on a Carrington map with their velocity, no truth file).
 
 import { mkdir, writeFile } from 'node:fs/promises';
 import { join } from 'node:path';
@@ -13,6 +14,7 @@ import { seriesCsv, seriesRow } from '../core/seriesColumns.js';
 import type { DemoOptions } from './demo/demoRegion.js';
 import { demoRegion } from './demo/demoRegion.js';
 import { truthSeries } from './demo/demoTruth.js';
+import { sunDemoFits, sunDemoSettings } from './demo/sunDemo.js';
 
 export interface SynthArgs {
   readonly out: string;
@@ -25,6 +27,11 @@ export interface SynthArgs {
   readonly demo?: DemoOptions;
   /** Where to say what was written (nothing by default). */
   readonly progress?: NodeJS.WritableStream;
+  /**
+   * 'region' (default): the invented active region; 'sun': invented whole-Sun maps (FITS, with
+   * velocity; `size` is the number of rows, `frames`, `demo.cadenceS`, `demo.noiseG`, `demo.seed` apply).
+   */
+  readonly scene?: 'region' | 'sun';
 }
 
 /** Rounds a map for a text file: 1e-3 G and 1e-6 km/s are far below the noise and the velocities. */
@@ -48,6 +55,8 @@ export function demoFrameName(i: number, count: number, format: 'fits' | 'json' 
 }
 
 export async function synth(args: SynthArgs): Promise<void> {
+  if (args.scene === 'sun') return synthSun(args);
+  if (args.scene !== undefined && args.scene !== 'region') throw new InputError('synth', 'demo', `must be region or sun, got ${String(args.scene)}`);
   const region = demoRegion({
     ...args.demo,
     ...(args.frames !== undefined && { frames: args.frames }),
@@ -75,4 +84,19 @@ export async function synth(args: SynthArgs): Promise<void> {
   const rows = truthSeries(region).map(({ sample, point }) => seriesRow(sample, point));
   await writeFile(join(args.out, 'truth.csv'), seriesCsv(rows));
   args.progress?.write(`wrote ${region.frameCount} demo frames (${region.grid.nx}x${region.grid.ny}, ${region.cadenceS} s cadence) and truth.csv as ${format.toUpperCase()} to ${args.out}\n`);
+}
+
+/** The whole-Sun demo: one FITS map per time (always FITS: the axes need the WCS keywords). */
+async function synthSun(args: SynthArgs): Promise<void> {
+  if (args.format === 'json') throw new InputError('synth', 'format', 'the whole-Sun demo is written as FITS only (its heliographic axes are FITS WCS keywords)');
+  const o = sunDemoSettings({
+    ...(args.size !== undefined && { ny: args.size }), ...(args.frames !== undefined && { frames: args.frames }),
+    ...(args.demo?.cadenceS !== undefined && { cadenceS: args.demo.cadenceS }), ...(args.demo?.noiseG !== undefined && { noiseG: args.demo.noiseG }),
+    ...(args.demo?.seed !== undefined && { seed: args.demo.seed }),
+  });
+  await mkdir(args.out, { recursive: true });
+  for (let i = 0; i < o.frames; i++) {
+    await writeFile(join(args.out, demoFrameName(i, o.frames).replace(/^demo_/, 'sun_')), sunDemoFits(i, o));
+  }
+  args.progress?.write(`wrote ${o.frames} whole-Sun demo maps (${2 * o.ny}x${o.ny}, CRLN-CAR, ${o.cadenceS} s cadence, with velocity) as FITS to ${args.out}\n`);
 }

@@ -28,12 +28,13 @@ export const PROCESS_SPEC: CommandSpec = {
 
 export const SYNTH_SPEC: CommandSpec = {
   name: 'synth',
-  usage: ['synth --out FOLDER [--frames N] [--size N] [--with-velocity] [--format fits|json] [--cadence S] [--noise G] [--seed N]'],
+  usage: ['synth --out FOLDER [--demo region|sun] [--frames N] [--size N] [--with-velocity] [--format fits|json] [--cadence S] [--noise G] [--seed N]'],
   summary: 'write the built-in demo region as frame files, with its true injection',
   description: 'Write the built-in demo region (an invented active region, 72 h story) as frame files, with its true injection in truth.csv.',
   positionals: { min: 0, max: 0, what: 'no file names' },
   options: {
     out: { kind: 'string', value: 'FOLDER', help: 'the folder written (needed)' },
+    demo: { kind: 'string', value: 'NAME', choices: ['region', 'sun'], default: 'region', help: 'region: the invented active region; sun: invented whole-Sun Carrington maps with velocity (FITS; --size is the rows, default 180; 21 maps 6 h apart, no noise by default; no truth.csv)' },
     frames: { kind: 'integer', value: 'N', min: 1, defaultText: 'the whole story', help: 'how many frames' },
     size: { kind: 'integer', value: 'N', min: 1, defaultText: String(DEMO_DEFAULTS.size), help: 'frame side, pixels' },
     'with-velocity': { kind: 'boolean', help: 'frames carry their true velocity (otherwise it is inferred)' },
@@ -71,7 +72,7 @@ export async function synthCli(args: ParsedArgs, out: NodeJS.WritableStream): Pr
   const noiseG = args.number('noise');
   const seed = args.number('seed');
   await synth({
-    out: folder, format, progress: out,
+    out: folder, format, progress: out, scene: args.string('demo') as 'region' | 'sun',
     ...(frames !== undefined && { frames }), ...(size !== undefined && { size }),
     ...(args.boolean('with-velocity') && { withVelocity: true }),
     demo: { ...(cadenceS !== undefined && { cadenceS }), ...(noiseG !== undefined && { noiseG }), ...(seed !== undefined && { seed }) },
