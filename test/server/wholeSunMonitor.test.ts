@@ -9,6 +9,7 @@ import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { SeriesRow } from '../../core/seriesColumns.js';
 import { SERIES_COLUMNS } from '../../core/seriesColumns.js';
+import { CARRINGTON_SIDEREAL_MICRORAD_S, HOWARD_1990_SIDEREAL } from '../../core/sphere/differentialRotation.js';
 import { processFolder } from '../../replay/processCommand.js';
 import { synth } from '../../replay/synthCommand.js';
 import { ensureCompiledWorker } from '../replay/compiledWorker.js';
@@ -69,5 +70,22 @@ describe('a whole-Sun region in the monitor', () => {
     expect(lines).toHaveLength(4);
     const last = Object.fromEntries(lines[3].split(',').map((v, i) => [cols[i], v]));
     for (const c of SPHERE) expect(Number(last[c]), c).toBe(live[3][c]);
+
+    // The region's analysis.sphere settings reach the engine: the share is linear in the profile
+    // seen from the map's frame, so doubling its departure from Carrington's rate doubles it.
+    const F = CARRINGTON_SIDEREAL_MICRORAD_S, p = HOWARD_1990_SIDEREAL;
+    const put = await fetch(`${m.url}/api/regions/sun2/settings`, {
+      method: 'PUT', headers: { authorization: `Bearer ${TOKEN}`, 'content-type': 'application/json' },
+      body: JSON.stringify({ watchFolder: false, analysis: { sphere: { rotationProfile: { a: F + 2 * (p.a - F), b: 2 * p.b, c: 2 * p.c } } } }),
+    });
+    expect(put.status, await put.text()).toBeLessThan(300);
+    for (const f of files.slice(0, 2)) expect((await postFrame(m.url, 'sun2', await readFile(join(frames, f)), { type: 'application/fits' })).status).toBe(201);
+    await waitIdle(m.url);
+    const doubled = (await getJson<{ samples: SeriesRow[] }>(m.url, '/api/regions/sun2/series')).samples;
+    expect(doubled).toHaveLength(2);
+    for (let k = 0; k < 2; k++) {
+      expect(doubled[k].rate_total).toBe(live[k].rate_total);
+      expect(Math.abs(doubled[k].rate_rotation! - 2 * live[k].rate_rotation!)).toBeLessThanOrEqual(1e-9 * Math.abs(live[k].rate_rotation!));
+    }
   }, 120_000);
 });
