@@ -32,17 +32,17 @@ export interface SphereAnalysisSettings extends SphereSettings {
 export function sphereToMeasure(frame: Frame, settings: SphereAnalysisSettings = {}): { grid: SphericalGrid; maps: SphereMaps } | undefined {
   if (!isSphericalFrame(frame)) return undefined;
   const patches = settings.patches === true;
-  let wholeSun: boolean;
+  let grid: SphericalGrid;
   try {
-    wholeSun = sphericalGrid(frame.provenance!.keywords!, frame.nx, frame.ny, frame.provenance?.source ?? 'frame').wholeSun;
+    grid = sphericalGrid(frame.provenance!.keywords!, frame.nx, frame.ny, frame.provenance?.source ?? 'frame');
   } catch (e) {
     // Axes the sphere engine does not read (e.g. pixel axes turned against the projection's): a
     // patch goes on as the flat patch it was taken for, unless the sphere was asked for.
     if (patches) throw e;
     return undefined;
   }
-  if (!wholeSun && !(patches && hasVelocity(frame))) return undefined;
-  return sphericalFrame(frame); // a whole Sun without velocity: InputError naming vx/vy
+  if (!grid.wholeSun && !(patches && hasVelocity(frame))) return undefined;
+  return sphericalFrame(frame, grid); // a whole Sun without velocity: InputError naming vx/vy
 }
 
 export function analyseSphericalFrame(

@@ -20,10 +20,11 @@ export function isSphericalFrame(frame: Pick<Frame, 'provenance'>): boolean {
  * The spherical grid and maps of a frame (velocity required), or undefined for a frame on a flat
  * grid. Throws InputError (naming the frame's source and the keyword) for spherical axes it cannot read.
  */
-export function sphericalFrame(frame: Frame): { grid: SphericalGrid; maps: SphereMaps } | undefined {
+export function sphericalFrame(frame: Frame, known?: SphericalGrid): { grid: SphericalGrid; maps: SphereMaps } | undefined {
   if (!isSphericalFrame(frame)) return undefined;
   const source = frame.provenance?.source ?? 'frame';
-  const grid = sphericalGrid(frame.provenance!.keywords!, frame.nx, frame.ny, source);
+  // `known`: the frame's grid when the caller has made it already.
+  const grid = known ?? sphericalGrid(frame.provenance!.keywords!, frame.nx, frame.ny, source);
   if (!frame.vx || !frame.vy) throw new InputError(source, 'vx/vy', 'a map on the sphere needs its velocity (toward increasing longitude, toward the north, km/s)');
   return { grid, maps: { bn: frame.bn, vx: frame.vx, vy: frame.vy, ...(frame.labels && { labels: frame.labels }) } };
 }
