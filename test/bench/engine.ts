@@ -102,9 +102,10 @@ async function engineTable(): Promise<void> {
     const p1 = tuned1.get(n), p2 = tuned2.get(n), pu = untuned.get(n);
     if (p1 && pu) {
       // ratio = peer time / our time: > 1 means helicord is faster.
-      const ratio = (peerMs: number) => `${(peerMs / gtheta.wall).toFixed(2)}`;
-      console.log(`    scipy ${p1.scipy} cached rfft, allocator tuned: 1 thread ${p1.rfft_cached_ms.toFixed(1)} ms (CPU ${p1.rfft_cached_cpu_ms.toFixed(1)}) ratio ${ratio(p1.rfft_cached_ms)}`
-        + (p2 ? ` | 2 threads ${p2.rfft_cached_ms.toFixed(1)} ms (CPU ${p2.rfft_cached_cpu_ms.toFixed(1)}) ratio ${ratio(p2.rfft_cached_ms)}` : '')
+      // By CPU time too: on a loaded machine the wall times carry other people's jobs.
+      const ratio = (peerMs: number, peerCpu?: number) => `${(peerMs / gtheta.wall).toFixed(2)}${peerCpu !== undefined ? ` (CPU ${(peerCpu / gtheta.cpu).toFixed(2)})` : ''}`;
+      console.log(`    scipy ${p1.scipy} cached rfft, allocator tuned: 1 thread ${p1.rfft_cached_ms.toFixed(1)} ms (CPU ${p1.rfft_cached_cpu_ms.toFixed(1)}) ratio ${ratio(p1.rfft_cached_ms, p1.rfft_cached_cpu_ms)}`
+        + (p2 ? ` | 2 threads ${p2.rfft_cached_ms.toFixed(1)} ms (CPU ${p2.rfft_cached_cpu_ms.toFixed(1)}) ratio ${ratio(p2.rfft_cached_ms, p2.rfft_cached_cpu_ms)}` : '')
         + ` | untuned 1 thread ${pu.rfft_cached_ms.toFixed(1)} ms ratio ${ratio(pu.rfft_cached_ms)}`
         + (pu.fftconvolve_ms !== null ? ` | fftconvolve (kernels transformed per call) ${pu.fftconvolve_ms.toFixed(1)} ms ratio ${ratio(pu.fftconvolve_ms)}` : ''));
     }
