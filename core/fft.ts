@@ -321,6 +321,17 @@ export function createRowBlock(plan: RealFftPlan): RowBlock {
 }
 
 /**
+ * Where frequency k of row r of a set of half spectra sits: offset + r*stride + k, or with
+ * `block` b (a power of two) offset + floor(k / b)*stride + r*b + k % b (blocks of b frequencies
+ * with the rows inside, stride being the block's size).
+ */
+function spectrumIndex(offset: number, stride: number, block: number): (r: number, k: number) => number {
+  if (block <= 0) return (r, k) => offset + r * stride + k;
+  const shift = Math.log2(block), mask = block - 1;
+  return (r, k) => offset + (k >> shift) * stride + r * block + (k & mask);
+}
+
+/**
  * realFftRow for `rows` rows at once: row r of x starts at inOffset + r*inStride (`count` values,
  * zero-extended to N), its half spectrum goes to outRe/outIm[outOffset + r*outStride ..+N/2].
  * The rows are packed side by side into `block` in bit-reversed order and transformed together
@@ -331,11 +342,7 @@ export function realFftRows(
   plan: RealFftPlan, x: ArrayLike<number>, inOffset: number, inStride: number, count: number, rows: number,
   outRe: Float64Array, outIm: Float64Array, outOffset: number, outStride: number, block: RowBlock, spectrumBlock = 0,
 ): void {
-  // With spectrumBlock b (a power of two), frequency k of row r sits at
-  // outOffset + floor(k / b) * outStride + r * b + k % b (blocks of b frequencies, rows inside).
-  const shift = spectrumBlock > 0 ? Math.log2(spectrumBlock) : 0, mask = spectrumBlock - 1;
-  const at = (r: number, k: number) => spectrumBlock > 0
-    ? outOffset + (k >> shift) * outStride + r * spectrumBlock + (k & mask) : outOffset + r * outStride + k;
+  const at = spectrumIndex(outOffset, outStride, spectrumBlock);
   const m = plan.n >> 1;
   const { cos, sin } = plan;
   const rev = plan.half.rev;
@@ -388,10 +395,7 @@ export function realInverseFftRows(
   plan: RealFftPlan, re: Float64Array, im: Float64Array, inOffset: number, inStride: number, rows: number,
   out: Float64Array, outOffset: number, outStride: number, count: number, scale: number, block: RowBlock, spectrumBlock = 0,
 ): void {
-  // spectrumBlock as in realFftRows (the spectra's layout; inStride is then the block stride).
-  const shift = spectrumBlock > 0 ? Math.log2(spectrumBlock) : 0, mask = spectrumBlock - 1;
-  const at = (r: number, k: number) => spectrumBlock > 0
-    ? inOffset + (k >> shift) * inStride + r * spectrumBlock + (k & mask) : inOffset + r * inStride + k;
+  const at = spectrumIndex(inOffset, inStride, spectrumBlock); // inStride is the block stride with spectrumBlock
   const m = plan.n >> 1;
   const { cos, sin } = plan;
   const rev = plan.half.rev;

@@ -9,31 +9,18 @@ import { createFluxKernel } from '../../core/fluxKernel.js';
 import { fluxTransport } from '../../core/fluxTransport.js';
 import { helicityFlux } from '../../core/helicityFlux.js';
 import { demoRegion } from '../../replay/demo/demoRegion.js';
+import { wallAndCpu } from './_measure.js';
 import { syntheticFrame } from './_syntheticFrame.js';
-
-function timed(fn: () => unknown, runs: number): { wall: number; cpu: number } {
-  fn();
-  const wall: number[] = [], cpu: number[] = [];
-  for (let i = 0; i < runs; i++) {
-    const c = process.cpuUsage(), t = performance.now();
-    fn();
-    wall.push(performance.now() - t);
-    const d = process.cpuUsage(c);
-    cpu.push((d.user + d.system) / 1000);
-  }
-  const mid = (v: number[]) => v.sort((p, q) => p - q)[Math.floor(v.length / 2)];
-  return { wall: mid(wall), cpu: mid(cpu) };
-}
 
 const n = Number(process.argv[2]);
 const runs = n >= 2048 ? 1 : n >= 1024 ? 3 : 5;
 const f = syntheticFrame(n, 50);
 const kernel = createFluxKernel(f);
 const t = fluxTransport(f);
-const g = timed(() => helicityFlux(kernel, t), runs);
+const g = wallAndCpu(() => helicityFlux(kernel, t), runs, 1);
 const region = demoRegion({ frames: 2, size: n, withVelocity: true, cadenceS: 720, storyH: 72, storyStartH: 16 });
 const a = region.frameAt(0), b = region.frameAt(1);
 const cache: FluxKernelCache = new Map();
 const state = analyseFrame(a, {}, {}, cache).state;
-const fr = timed(() => analyseFrame(b, state, {}, cache), runs);
+const fr = wallAndCpu(() => analyseFrame(b, state, {}, cache), runs, 1);
 console.log(JSON.stringify({ n, gWall: g.wall, gCpu: g.cpu, fWall: fr.wall, fCpu: fr.cpu, rss: process.resourceUsage().maxRSS / 1024 }));

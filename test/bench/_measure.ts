@@ -15,3 +15,21 @@ export function medianMs(fn: () => unknown, runs = 7, warmup = 2): number {
 export function rssMiB(): number {
   return process.memoryUsage().rss / 1048576;
 }
+
+/**
+ * Median wall and CPU (user + system of this process) time of `runs` runs after `warmup`, ms. On a
+ * shared machine the wall time carries the other jobs; the CPU time much less.
+ */
+export function wallAndCpu(fn: () => unknown, runs: number, warmup = 2): { wall: number; cpu: number } {
+  for (let i = 0; i < warmup; i++) fn();
+  const wall: number[] = [], cpu: number[] = [];
+  for (let i = 0; i < runs; i++) {
+    const c = process.cpuUsage(), t = performance.now();
+    fn();
+    wall.push(performance.now() - t);
+    const d = process.cpuUsage(c);
+    cpu.push((d.user + d.system) / 1000);
+  }
+  const mid = (v: number[]) => v.sort((p, q) => p - q)[Math.floor(v.length / 2)];
+  return { wall: mid(wall), cpu: mid(cpu) };
+}

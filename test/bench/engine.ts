@@ -27,7 +27,7 @@ import { splitByLabels } from '../../core/labelSplit.js';
 import { inferVelocity } from '../../core/velocity/inferVelocity.js';
 import { midFrame } from '../../core/velocity/midFrame.js';
 import { demoRegion } from '../../replay/demo/demoRegion.js';
-import { rssMiB } from './_measure.js';
+import { rssMiB, wallAndCpu } from './_measure.js';
 import { syntheticFrame } from './_syntheticFrame.js';
 
 /** glibc tunables a scipy user sets so that large arrays stop being mmap'd and unmapped per call. */
@@ -37,21 +37,6 @@ const peersDir = fileURLToPath(new URL('../../../test/bench/peers/', import.meta
 
 function load(): string {
   return `load average ${loadavg().map((v) => v.toFixed(2)).join(' ')}`;
-}
-
-/** Median wall and CPU (user + system of this process) time of `runs` runs after `warmup`, ms. */
-export function wallAndCpu(fn: () => unknown, runs: number, warmup = 2): { wall: number; cpu: number } {
-  for (let i = 0; i < warmup; i++) fn();
-  const wall: number[] = [], cpu: number[] = [];
-  for (let i = 0; i < runs; i++) {
-    const c = process.cpuUsage(), t = performance.now();
-    fn();
-    wall.push(performance.now() - t);
-    const d = process.cpuUsage(c);
-    cpu.push((d.user + d.system) / 1000);
-  }
-  const mid = (v: number[]) => v.sort((p, q) => p - q)[Math.floor(v.length / 2)];
-  return { wall: mid(wall), cpu: mid(cpu) };
 }
 
 interface PeerLine { n: number; scipy: string; workers: number; fftconvolve_ms: number | null; rfft_cached_ms: number; rfft_cached_cpu_ms: number }

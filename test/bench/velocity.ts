@@ -5,6 +5,7 @@ import type { Frame } from '../../core/frame.js';
 import { inferVelocity } from '../../core/velocity/inferVelocity.js';
 import type { VelocitySettings } from '../../core/velocity/velocitySettings.js';
 import { seededRandom } from '../support/random.js';
+import { wallAndCpu } from './_measure.js';
 
 function makeFrame(n: number, shiftX: number, shiftY: number, time: number): Frame {
   const r = seededRandom(2026);
@@ -23,21 +24,6 @@ function makeFrame(n: number, shiftX: number, shiftY: number, time: number): Fra
     }
   }
   return { nx: n, ny: n, dx: 0.36, dy: 0.36, time, bn, bx, by };
-}
-
-/** Median wall time and median CPU time (this process, user + system) of `runs` runs, ms. */
-function medianWallAndCpu(fn: () => void, runs: number): { wall: number; cpu: number } {
-  fn(); // warm-up
-  const wall: number[] = [], cpu: number[] = [];
-  for (let k = 0; k < runs; k++) {
-    const c0 = process.cpuUsage(), t0 = performance.now();
-    fn();
-    wall.push(performance.now() - t0);
-    const c = process.cpuUsage(c0);
-    cpu.push((c.user + c.system) / 1000);
-  }
-  const mid = (v: number[]) => v.sort((p, q) => p - q)[Math.floor(v.length / 2)];
-  return { wall: mid(wall), cpu: mid(cpu) };
 }
 
 function peakRssMiB(): number {
@@ -60,7 +46,7 @@ export async function bench(): Promise<void> {
   ];
   for (const c of cases) {
     let valid = 0;
-    const t = medianWallAndCpu(() => { valid = inferVelocity(c.a, c.b, c.settings).validFraction; }, c.runs);
+    const t = wallAndCpu(() => { valid = inferVelocity(c.a, c.b, c.settings).validFraction; }, c.runs, 1);
     console.log(`${c.label.padEnd(26)} median ${(t.wall / 1000).toFixed(2)} s wall, ${(t.cpu / 1000).toFixed(2)} s CPU per pair  valid ${(100 * valid).toFixed(1)}%  peak RSS ${peakRssMiB().toFixed(0)} MiB`);
   }
 }
