@@ -3,6 +3,7 @@
 
 import { Chart, type ChartDataset } from 'chart.js';
 import { registerChartParts, UTC_TIME_AXIS } from './charts.js';
+import { whiteBackground } from './compactChart.js';
 import { breaksBefore, decimateMinMax, lineFromBreaks, type XY } from './decimate.js';
 import { OKABE_ITO } from './palette.js';
 import type { SeriesView } from './charts.js';
@@ -33,15 +34,7 @@ export function createFluxChart(canvas: HTMLCanvasElement): Chart<'line', XY[]> 
       },
       plugins: { legend: { position: 'top', align: 'end', labels: { boxWidth: 24, boxHeight: 2 } }, tooltip: { enabled: false } },
     },
-    plugins: [{
-      id: 'helicordWhite',
-      beforeDraw(chart) {
-        chart.ctx.save();
-        chart.ctx.fillStyle = '#ffffff';
-        chart.ctx.fillRect(0, 0, chart.width, chart.height);
-        chart.ctx.restore();
-      },
-    }],
+    plugins: [whiteBackground],
   });
 }
 

@@ -4,7 +4,7 @@
 import type { FrameEntry } from './frameList.js';
 import type { GapSpan, SeriesPoint } from './seriesMerge.js';
 import { ALL, type TimeView } from './timeRange.js';
-import type { FeedStatus, LatestFrame, RegionInfo, WireAlert, WireFootpoint } from './wire.js';
+import type { BraidAnswer, FeedStatus, LatestFrame, RegionInfo, WireAlert, WireFootpoint } from './wire.js';
 
 /** The viewer socket's state. */
 export type LinkState = 'connecting' | 'live' | 'reconnecting' | 'closed';
@@ -53,6 +53,8 @@ export interface PageState {
   /** Whether the map asks for the G_theta overlay. */
   overlay: boolean;
   shownFrame?: ShownFrame;
+  /** The region's braid (GET .../braid, fetched on frames, throttled); null: this monitor has no braid route. */
+  braid?: BraidAnswer | null;
 }
 
 export function initialPageState(): PageState {

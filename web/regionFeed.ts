@@ -71,7 +71,7 @@ export function createRegionFeed(store: PageStore, askToken: (then: () => void) 
       store.set({
         region: name, generation, series: [], frames: [], gaps: [], alerts: [], alertArrivals: new Map(), status: undefined, gapFactor: undefined,
         latestFrame: undefined, follow: true, pickedIndex: -1, selectedFootpoint: null, framesSeen: 0, ackMessage: undefined,
-        linkState: 'connecting', linkOpens: 0, shownFrame: undefined,
+        linkState: 'connecting', linkOpens: 0, shownFrame: undefined, braid: undefined,
       });
       history.replaceState(null, '', `#region=${encodeURIComponent(name)}`);
       const current = (): boolean => store.get().generation === generation;

@@ -15,6 +15,7 @@ export const routes = {
     `/api/regions/${enc(region)}/frames/${enc(String(frameId))}/map?layer=${layer}`,
   mapsFits: (region: string, frameId: string | number): string =>
     `/api/regions/${enc(region)}/frames/${enc(String(frameId))}/maps.fits`,
+  braid: (region: string): string => `/api/regions/${enc(region)}/braid`,
   alerts: (region: string): string => `/api/regions/${enc(region)}/alerts`,
   ack: (region: string, alertId: string | number): string =>
     `/api/regions/${enc(region)}/alerts/${enc(String(alertId))}/ack`,

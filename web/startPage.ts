@@ -3,7 +3,9 @@
 
 import { createPageStore, type PageStore } from './pageStore.js';
 import { installProbe } from './pageProbe.js';
+import { startBraidFeed } from './braidFeed.js';
 import { mountAlertPanel } from './panels/alertPanel.js';
+import { mountBraidPanel } from './panels/braidPanel.js';
 import { mountExportsPanel } from './panels/exportsPanel.js';
 import { mountFeedPanel } from './panels/feedPanel.js';
 import { mountFirstScreen } from './panels/firstScreen.js';
@@ -13,6 +15,7 @@ import { mountMapPanel } from './panels/mapPanel.js';
 import { mountRangeBar } from './panels/rangeBar.js';
 import { mountRegionPicker } from './panels/regionPicker.js';
 import { mountReplayPanel } from './panels/replayPanel.js';
+import { mountSpherePanel } from './panels/spherePanel.js';
 import { mountTimeCharts } from './panels/timeCharts.js';
 import { mountTokenDialog } from './panels/tokenDialog.js';
 import { createRegionFeed, type RegionFeed } from './regionFeed.js';
@@ -36,12 +39,15 @@ export function startPage(): RunningPage {
   mountReplayPanel(store, token);
   mountRangeBar(store);
   const charts = mountTimeCharts(store);
+  const braid = mountBraidPanel(store, () => charts.rate);
+  const sphere = mountSpherePanel(store, () => charts.rate);
   const flux = mountFluxPanel(store);
   const map = mountMapPanel(store);
   mountLedgerPanel(store);
   mountAlertPanel(store, token);
   mountExportsPanel(store, { ...charts, flux: flux.chart });
-  installProbe(store, { ...charts, flux: flux.chart }, map.view);
+  installProbe(store, { ...charts, flux: flux.chart, braid: braid.chart, sphere: sphere.chart }, map.view);
+  const braidFeed = startBraidFeed(store);
   void feed.loadRegions();
   const poll = setInterval(() => void feed.loadRegions(), REGION_POLL_MS);
   return {
@@ -49,6 +55,7 @@ export function startPage(): RunningPage {
     feed,
     stop() {
       clearInterval(poll);
+      braidFeed.stop();
       feed.stop();
     },
   };

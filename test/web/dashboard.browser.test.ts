@@ -12,14 +12,16 @@ import { fileURLToPath } from 'node:url';
 import type { Page } from 'playwright-core';
 import { announceMissingChromium, chromiumPath, inCi, launchChromium, screenshotDir, type LaunchedBrowser, waitForProbe } from './support/browser.js';
 import { niceCeil, robustAbsLimit } from '../../web/colourScale.js';
-import { bnMap, CEA_WCS, FAKE_TOKEN, FakeMonitor, newRegionState, pushFrame, raiseBudgetAlert, raiseCrowdedAlerts, type FakeRegionState } from './support/fakeMonitor.js';
+import { TRIPLE_EXPLANATION } from '../../web/braidWords.js';
+import { SPHERE_CAVEAT } from '../../web/sphereWords.js';
+import { BRAID_SECOND_SEGMENT, bnMap, CEA_WCS, FAKE_TOKEN, FakeMonitor, newRegionState, pushFrame, raiseBudgetAlert, raiseCrowdedAlerts, type FakeRegionState } from './support/fakeMonitor.js';
 
 const root = fileURLToPath(new URL('../..', import.meta.url));
 
 type Box = { x: number; y: number; w: number; h: number };
 type ChartProbe = {
   markers: number; points: number; thresholdLines: number; markerBoxes: Box[]; labelBoxes: Box[]; keyedThresholds: string[]; boxesApart: boolean;
-  bandHalfPx: number; bandWidened: boolean; xRange: [number, number]; xTicks: string[]; yTicks: string[];
+  bandHalfPx: number; bandWidened: boolean; xRange: [number, number]; xTicks: string[]; yTicks: string[]; plot: Box;
 };
 type Probe = {
   region?: string; samples: number; lastSampleTime: string | null; link: string; linkOpens: number; follow: boolean;
@@ -34,7 +36,24 @@ type Probe = {
   rateChart: ChartProbe;
   budgetChart: ChartProbe & { thresholds: number[] };
   fluxChart: { flux: number; normalised: number; yTicks: string[] };
+  braidChart: CompactProbe & { window: number; run: number | null; segmentsDrawn: number; fetched: string; flaggedTriples: string[] };
+  sphereChart: CompactProbe & { rotation: number; own: number };
 };
+type CompactProbe = { points: number[]; labels: string[]; xRange: [number, number]; xTicks: string[]; yTicks: string[]; visible: boolean; plot: Box | null };
+
+/** The page boxes of elements (x, y, w, h), for checking that panels and texts do not overlap. */
+async function boxesOf(page: Page, selectors: string[]): Promise<Box[]> {
+  const out: Box[] = [];
+  for (const sel of selectors) {
+    const b = await page.locator(sel).boundingBox();
+    if (!b) throw new Error(`${sel} is not laid out`);
+    out.push({ x: b.x, y: b.y, w: b.width, h: b.height });
+  }
+  return out;
+}
+
+/** b lies inside a (1 px of slack for borders). */
+const inside = (a: Box, b: Box): boolean => b.x >= a.x - 1 && b.y >= a.y - 1 && b.x + b.w <= a.x + a.w + 1 && b.y + b.h <= a.y + a.h + 1;
 
 /** No two boxes overlap (marker triangles, marker labels, threshold labels). */
 function overlaps(boxes: Box[]): [Box, Box][] {
@@ -181,6 +200,46 @@ describe.skipIf(!chromiumPath && !inCi)('dashboard in Chromium against the test 
     await until(page, 'the range taken again from the frame shown', (s) => s.map.bnRange === niceCeil(robustAbsLimit(bnMap(32))));
   });
 
+  it('shows the braid entropy beside the rate chart on its time range, and the braided triple in the ledger', async () => {
+    // 33 frames: the window's rate is null on the first frame of each segment (0 and 12).
+    const p = await until(page, 'the braid chart', (s) => s.braidChart.fetched === 'yes' && s.braidChart.window === 31);
+    const b = p.braidChart;
+    expect(b.visible).toBe(true);
+    // The same time axis and range as the rate chart.
+    expect(b.xRange).toEqual(p.rateChart.xRange);
+    expect(b.xTicks.length).toBeGreaterThanOrEqual(2);
+    expect(b.xTicks).toEqual(p.rateChart.xTicks);
+    // ... at the same pixels: one time is one column on both plots.
+    expect(Math.abs(b.plot!.x - p.rateChart.plot.x)).toBeLessThan(1);
+    expect(Math.abs(b.plot!.w - p.rateChart.plot.w)).toBeLessThan(1);
+    expect(b.plot!.h).toBeGreaterThan(80);
+    expect(b.yTicks.length).toBeGreaterThanOrEqual(2);
+    expect(b.run).toBe(0.15); // the run's rate, a horizontal reference line
+    expect(b.segmentsDrawn).toBe(2); // frames 0 and 12
+    expect(b.labels).toEqual(['window', 'whole run', 'segment start']); // 3 strands: exact, no "lower bound"
+    const note = await page.locator('#braid-note').innerText();
+    expect(note).toBe('window 4 h: 0.16 h⁻¹ · whole run 6.4 h, 2 segments: 0.15 h⁻¹ · exact (3 strands: 1, 2, 3) · segment since 08:24 UTC: footpoint 4 outgrew footpoint 3');
+    expect(region.frames[BRAID_SECOND_SEGMENT].time.slice(11, 16)).toBe('08:24');
+    expect(note).not.toMatch(/lower bound/);
+    // The flagged triple in the ledger with its one line of explanation.
+    expect(b.flaggedTriples).toEqual(['1-2-3']);
+    const row = page.locator('#triples-body tr[data-ids="1-2-3"]');
+    expect(await row.locator('td').allInnerTexts()).toEqual(['1, 2, 3', '2.887', '1', '0, 0, 0']);
+    expect(await page.locator('#triples-explain').innerText()).toBe(TRIPLE_EXPLANATION);
+    expect(await page.locator('#triples-caption').innerText()).toBe('1 of 1 triples of the braid window (4 h)');
+    // Nothing overlaps: the panels beside each other, the braid's texts inside its panel, the triples inside the ledger.
+    const [rate, braid, budget, flux, map, ledger, alerts, braidNote, braidCanvas, triples] = await boxesOf(page,
+      ['.panel.rate', '.panel.braid', '.panel.budget', '.panel.flux', '.panel.map', '.panel.ledger', '.panel.alerts', '#braid-note', '#braid-chart', '#braid-triples']);
+    expect(overlaps([rate, braid, budget, flux, map, ledger, alerts])).toEqual([]);
+    expect(inside(braid, braidNote) && inside(braid, braidCanvas) && inside(ledger, triples)).toBe(true);
+    expect(overlaps([braidNote, braidCanvas])).toEqual([]);
+    // A flat region: no sphere panel.
+    expect(await page.locator('#sphere-panel').isHidden()).toBe(true);
+    await page.locator('.panel.braid').screenshot({ path: join(shots, 'fake-15-braid.png') });
+    await page.locator('.panel.ledger').screenshot({ path: join(shots, 'fake-16-braided-triples.png') });
+    await page.evaluate('window.scrollTo(0, 0)');
+  });
+
   it('shows values with units on hover and shows the picked frame on the map', async () => {
     const box = (await page.locator('#rate-chart').boundingBox())!;
     await page.mouse.move(box.x + box.width * 0.3, box.y + box.height * 0.55);
@@ -304,7 +363,8 @@ describe.skipIf(!chromiumPath && !inCi)('dashboard in Chromium against the test 
     p = await until(page, 'panned earlier', (s) => s.view.kind === 'fixed' && s.rateChart.xRange[0] === first);
     expect(p.rateChart.xRange).toEqual([first, first + 6 * 3_600_000]);
     expect(await page.locator('#range-earlier').isDisabled()).toBe(true);
-    // A range dragged out on the budget chart.
+    // A range dragged out on the budget chart (below the braid panel: scrolled into view first).
+    await page.locator('#budget-chart').scrollIntoViewIfNeeded();
     const chart = (await page.locator('#budget-chart').boundingBox())!;
     await page.mouse.move(chart.x + chart.width * 0.35, chart.y + chart.height * 0.5);
     await page.mouse.down();
@@ -318,6 +378,7 @@ describe.skipIf(!chromiumPath && !inCi)('dashboard in Chromium against the test 
     expect(p.shownRange![1]).toBeLessThan(first + 6 * 3_600_000);
     expect(p.rateChart.bandHalfPx).toBeGreaterThanOrEqual(3);
     expect(p.rateChart.xTicks.length).toBeGreaterThanOrEqual(2);
+    await page.evaluate('window.scrollTo(0, 0)');
     await page.screenshot({ path: join(shots, 'fake-13-zoomed.png') });
     await page.locator('#range-reset').click();
     p = await until(page, 'all again on the charts', (s) => s.view.kind === 'all' && s.follow && s.rateChart.xRange[0] === first);
@@ -508,6 +569,54 @@ describe.skipIf(!chromiumPath && !inCi)('dashboard in Chromium against the test 
     }
   });
 
+  it('on a whole-Sun region: the rotation share and the hemispheres with the caveat, the braid as a lower bound, fetched throttled', async () => {
+    const sun = newRegionState('whole-sun', { sphere: true, braidStrands: 5 });
+    for (let k = 0; k < 20; k++) pushFrame(sun, k);
+    const sunMonitor = new FakeMonitor(new Map([['whole-sun', sun]]), outDir);
+    await sunMonitor.listen();
+    const other = await browser.context.newPage();
+    try {
+      await other.goto(sunMonitor.url + '/');
+      const p = await until(other, 'the sphere panel and the braid', (s) => s.samples === 20 && s.sphereChart.visible && s.braidChart.window === 18);
+      expect(p.sphereChart.rotation).toBe(20);
+      expect(p.sphereChart.own).toBe(20);
+      expect(p.sphereChart.xRange).toEqual(p.rateChart.xRange);
+      expect(Math.abs(p.sphereChart.plot!.x - p.rateChart.plot.x)).toBeLessThan(1);
+      expect(p.sphereChart.yTicks.length).toBeGreaterThanOrEqual(2);
+      expect(p.sphereChart.labels).toEqual(['differential rotation', 'own motions']);
+      const last = sun.samples.at(-1)!;
+      const words = await other.locator('#sphere-words').innerText();
+      // The newest row: rotation -6e35 of the total, the hemisphere budgets (70 % / 30 % of the total).
+      expect(words).toContain(`rotation −6.0e35 Mx²/s of ${(last.rate_total / 1e36).toFixed(1)}e36 Mx²/s`);
+      expect(words).toMatch(/budget north [\d.]+e\d\d Mx², south [\d.]+e\d\d Mx²/);
+      expect(await other.locator('#sphere-caveat').innerText()).toBe(SPHERE_CAVEAT);
+      // Five strands: the entropies are lower bounds, and the page says so.
+      expect(p.braidChart.labels.slice(0, 2)).toEqual(['window (lower bound)', 'whole run (lower bound)']);
+      expect(await other.locator('#braid-note').innerText()).toMatch(/lower bounds \(5 strands: 1, 2, 3, 4, 5; the Burau matrix on the unit circle\)/);
+      const [rate, braid, sphere, budget, map] = await boxesOf(other, ['.panel.rate', '.panel.braid', '#sphere-panel', '.panel.budget', '.panel.map']);
+      expect(overlaps([rate, braid, sphere, budget, map])).toEqual([]);
+      // Twelve frames within a second: the braid is asked again a few times, not per frame, and the newest frame is covered.
+      const asked = sunMonitor.braidRequests;
+      for (let k = 20; k < 32; k++) pushFrame(sun, k, sunMonitor);
+      await until(other, 'the braid of the newest frame', (s) => s.samples === 32 && s.braidChart.window === 30, 15_000);
+      expect(sunMonitor.braidRequests - asked).toBeGreaterThanOrEqual(1);
+      expect(sunMonitor.braidRequests - asked).toBeLessThanOrEqual(3);
+      for (const [w, h] of [[1920, 1080], [800, 1000], [1280, 800]] as const) {
+        await other.setViewportSize({ width: w, height: h });
+        await other.waitForTimeout(400);
+        const q = await probe(other);
+        expect(q.braidChart.xTicks.length).toBeGreaterThanOrEqual(2);
+        expect(q.sphereChart.xTicks.length).toBeGreaterThanOrEqual(2);
+        const boxes = await boxesOf(other, ['.panel.rate', '.panel.braid', '#sphere-panel', '.panel.budget', '.panel.flux', '.panel.map', '.panel.ledger', '.panel.alerts']);
+        expect(overlaps(boxes)).toEqual([]);
+        await other.screenshot({ path: join(shots, `fake-sun-${w}.png`), fullPage: true });
+      }
+    } finally {
+      await other.close();
+      await sunMonitor.close();
+    }
+  });
+
   it('lays out at 1280x800, 1920x1080 and 800 px wide (screenshots)', async () => {
     for (const [w, h] of [[1920, 1080], [800, 1000], [1280, 800]] as const) {
       await page.setViewportSize({ width: w, height: h });
@@ -518,6 +627,9 @@ describe.skipIf(!chromiumPath && !inCi)('dashboard in Chromium against the test 
       expect(p.rateChart.xTicks.length).toBeGreaterThanOrEqual(2);
       expect(overlaps([...p.rateChart.markerBoxes, ...p.rateChart.labelBoxes])).toEqual([]);
       expect(overlaps([...p.budgetChart.markerBoxes, ...p.budgetChart.labelBoxes])).toEqual([]);
+      expect(p.braidChart.xTicks.length).toBeGreaterThanOrEqual(2);
+      expect(p.braidChart.yTicks.length).toBeGreaterThanOrEqual(2);
+      expect(overlaps(await boxesOf(page, ['.panel.rate', '.panel.braid', '.panel.budget', '.panel.flux', '.panel.map', '.panel.ledger', '.panel.alerts']))).toEqual([]);
       await page.screenshot({ path: join(shots, `fake-demo-${w}.png`), fullPage: w === 800 });
     }
   });

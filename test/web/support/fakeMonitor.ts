@@ -32,8 +32,12 @@ export interface FakeRegionState {
   refusals: { time_received: string; source: string; reason: string; field: string }[];
   replay: ReplayInfo | null;
   replayActions: { action: string; value?: unknown }[];
-  /** World coordinates sent with the maps (the real monitor does not send them on the map route yet). */
+  /** World coordinates sent with the maps. */
   wcs?: MapWcs;
+  /** A whole-Sun region: its rows carry the sphere's columns (rotation share, hemispheres). */
+  sphere?: boolean;
+  /** Strands of the invented braid (3: exact entropies; more: lower bounds). */
+  braidStrands?: number;
 }
 
 export const FAKE_TOKEN = 'fake-token-for-tests';
@@ -84,8 +88,60 @@ function gthetaMap(k: number): Float32Array {
   return out;
 }
 
-export function newRegionState(name = 'demo'): FakeRegionState {
-  return { name, samples: [], gaps: [], frames: [], alerts: [], refusals: [], replay: null, replayActions: [] };
+export function newRegionState(name = 'demo', options: { sphere?: boolean; braidStrands?: number } = {}): FakeRegionState {
+  return { name, samples: [], gaps: [], frames: [], alerts: [], refusals: [], replay: null, replayActions: [], ...options };
+}
+
+/** The frame from which the invented braid starts its second segment. */
+export const BRAID_SECOND_SEGMENT = 12;
+
+/**
+ * An invented braid over the region's frames (the shape of GET /braid, docs/api.md): footpoints
+ * 1, 2, 3 (and 4, 5 with more strands) stirred at about the golden-mean protocol's pace, 0.962 per
+ * 6 h period (so about 0.16 per hour); a second segment from frame 12 (a footpoint outgrew
+ * another); the window's one triple braided with every pair's net winding 0. Values invented.
+ */
+export function braidAnswer(r: FakeRegionState): unknown {
+  const strands = r.braidStrands ?? 3;
+  const ids = Array.from({ length: strands }, (_, i) => i + 1);
+  const exact = strands <= 3;
+  const frames = r.frames;
+  const segmentStart = (k: number) => (k >= BRAID_SECOND_SEGMENT ? BRAID_SECOND_SEGMENT : 0);
+  const windowRate = (k: number) => (k === segmentStart(k) ? null : 0.16 + 0.03 * Math.sin(k / 4));
+  const series = frames.map((f) => {
+    const k = f.frame_id;
+    return { frame_id: k, time: f.time, braid_entropy_rate: windowRate(k), braid_entropy_rate_run: k === 0 ? null : 0.15, braid_strands: strands, braid_flagged_triples: k === segmentStart(k) ? null : 1 };
+  });
+  const last = frames.at(-1);
+  const iso = (ms: number) => new Date(ms).toISOString();
+  const tripleIds = [1, 2, 3];
+  const span = (fromK: number, toK: number) => {
+    const hours = ((toK - fromK) * CADENCE_S) / 3600;
+    const entropy = 0.16 * hours;
+    return {
+      start: iso(T0 + fromK * CADENCE_S * 1000), end: iso(T0 + toK * CADENCE_S * 1000), hours, frames: toK - fromK + 1, axisDeg: 12,
+      entropy, ratePerHour: hours > 0 ? entropy / hours : null, method: exact ? 'burau-sl2z' : 'burau-unit-circle-bound', exact,
+      generators: 18, crossingHelicity: 0, collisions: 0,
+      triples: [
+        { ids: tripleIds, entropy: 2.887, trivial: false, pure: true, flagged: true, pairCrossings: [0, 0, 0], windingTurns: [0.004, -0.003, 0.002], milnor: 1 },
+        ...(strands > 3 ? [{ ids: [1, 2, 4], entropy: 0.48, trivial: false, pure: false, flagged: false, pairCrossings: [2, 0, -1], windingTurns: [1.02, 0.1, -0.5], milnor: null }] : []),
+      ],
+    };
+  };
+  const k = last?.frame_id ?? 0;
+  const from = Math.max(segmentStart(k), k - 30); // a 6 h window at 12-minute frames
+  return {
+    region: r.name,
+    series,
+    last: last ? {
+      time: last.time, strands: ids, segmentStarted: k === segmentStart(k) ? 'footpoint 4 outgrew footpoint 3' : null,
+      segment: span(segmentStart(k), k), window: k > from ? { ...span(from, k), word: [] } : null,
+      run: { segments: k >= BRAID_SECOND_SEGMENT ? 2 : 1, entropy: 0.15 * (k * CADENCE_S) / 3600, hours: (k * CADENCE_S) / 3600, ratePerHour: k > 0 ? 0.15 : null, exact },
+    } : null,
+    segments: frames.filter((f) => f.frame_id === 0 || f.frame_id === BRAID_SECOND_SEGMENT).map((f) => ({
+      time: f.time, reason: f.frame_id === 0 ? 'first frame' : 'footpoint 4 outgrew footpoint 3', strands: ids,
+    })),
+  };
 }
 
 export class FakeMonitor {
@@ -95,6 +151,8 @@ export class FakeMonitor {
   port = 0;
   /** Messages viewers sent (backfill requests), for the tests to inspect. */
   received: unknown[] = [];
+  /** How many times the braid route was asked (the page throttles it). */
+  braidRequests = 0;
 
   constructor(readonly regions: Map<string, FakeRegionState>, private readonly pageDir: string, private readonly options: { protectReads?: boolean } = {}) {}
 
@@ -167,6 +225,12 @@ export class FakeMonitor {
         frame_id: k, time: f.time, layer, unit: layer === 'gtheta' ? 'Mx^2 s^-1 cm^-2' : 'G', nx: GRID, ny: GRID, dx: DX, dy: DX,
         encoding: 'float32-base64', data: Buffer.from(data.buffer).toString('base64'), ...(r.wcs && { wcs: r.wcs }),
       });
+    });
+    app.get('/api/regions/:region/braid', (req, res) => {
+      const r = region(req, res);
+      if (!r) return;
+      this.braidRequests++;
+      res.json(braidAnswer(r));
     });
     app.get('/api/regions/:region/alerts', (req, res) => {
       const r = region(req, res);
@@ -305,6 +369,7 @@ export function pushFrame(r: FakeRegionState, k: number, monitor?: FakeMonitor, 
     velocity_method: 'dave', split_method: 'labels', noise_g: 6, masked_fraction: 0.01, flags: ['spin-unobservable'], frame_id: k,
     flux_unsigned: fluxAt(k), budget_normalised: budget / fluxAt(k) ** 2,
     sigma_rate_spin: 0, sigma_rate_orbit: 0, centre_lon_deg: null, centre_lat_deg: null, centre_disk_angle_deg: null,
+    ...(r.sphere && sphereColumns(rate, prev)),
   };
   r.samples.push(sample);
   r.frames.push({ frame_id: k, time: t, nx: GRID, ny: GRID, dx: DX, dy: DX });
@@ -314,6 +379,22 @@ export function pushFrame(r: FakeRegionState, k: number, monitor?: FakeMonitor, 
     monitor.broadcast({ type: 'status', status: monitor.status(r) });
   }
   return sample;
+}
+
+/**
+ * The sphere's columns of a whole-Sun row (invented): the differential rotation injects a steady
+ * -6e35 Mx^2/s, the rest is the region's own motions; 70 % of the rate sits north.
+ */
+function sphereColumns(rate: number, prev: WireSample | undefined): Partial<WireSample> {
+  const rotation = -6e35;
+  const north = 0.7 * rate, south = 0.3 * rate;
+  return {
+    rate_rotation: rotation, rate_own_motions: rate - rotation, rate_north: north, rate_south: south,
+    budget_rotation: (prev?.budget_rotation ?? 0) + rotation * CADENCE_S,
+    budget_north: (prev?.budget_north ?? 0) + north * CADENCE_S,
+    budget_south: (prev?.budget_south ?? 0) + south * CADENCE_S,
+    planar_departure: null,
+  };
 }
 
 /** Raises the accumulated-budget rule at the newest sample (evidence from that sample). */
