@@ -110,7 +110,9 @@ export function affineWindowFit(
   const sums: Float64Array[] = Array.from({ length: entries }, () => new Float64Array(count));
   const product = new Float64Array(size);
   const rowPassed = new Map<number, Float64Array>();
-  const rowBuffers = [0, 1, 2, 3, 4].map(() => new Float64Array(size));
+  // Row-pass buffers per power of x, made when a moment first needs that power.
+  const rowBuffers: Float64Array[] = [];
+  const rowBuffer = (power: number) => (rowBuffers[power] ??= new Float64Array(size));
   const column = new Float64Array(count);
   // Group the moments by channel pair so that a product and its row passes are made once.
   const byPair = new Map<string, Moment[]>();
@@ -127,7 +129,7 @@ export function affineWindowFit(
     for (const m of list) {
       let rows = rowPassed.get(m.px);
       if (!rows) {
-        rows = rowBuffers[m.px];
+        rows = rowBuffer(m.px);
         correlateFiniteRows(product, nx, ny, taps[m.px], rows, rowsNeeded);
         rowPassed.set(m.px, rows);
       }
@@ -152,8 +154,8 @@ export function affineWindowFit(
       let w = validMoment.get(key);
       if (!w) {
         w = new Float64Array(count);
-        correlateFiniteRows(valid, nx, ny, taps[m.px], rowBuffers[0], rowsNeeded);
-        correlateColumnsAt(rowBuffers[0], nx, ny, taps[m.py], centres, w);
+        correlateFiniteRows(valid, nx, ny, taps[m.px], rowBuffer(0), rowsNeeded);
+        correlateColumnsAt(rowBuffer(0), nx, ny, taps[m.py], centres, w);
         validMoment.set(key, w);
       }
       for (const u of m.uses) {
