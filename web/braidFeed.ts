@@ -6,17 +6,10 @@
 import { ApiError, getJson } from './api.js';
 import { touched, type PageStore } from './pageStore.js';
 import { routes } from './routes.js';
+import { throttleDelay } from './throttle.js';
 import type { BraidAnswer } from './wire.js';
 
 export const BRAID_REFRESH_MS = 3000;
-
-/**
- * When to fetch after a request to: now (0) when the last fetch began at least `minGapMs` ago
- * (or never), else when that gap has passed.
- */
-export function throttleDelay(lastStartMs: number | undefined, nowMs: number, minGapMs: number): number {
-  return lastStartMs === undefined ? 0 : Math.max(0, lastStartMs + minGapMs - nowMs);
-}
 
 export function startBraidFeed(store: PageStore, minGapMs = BRAID_REFRESH_MS): { stop(): void } {
   let lastStart: number | undefined;

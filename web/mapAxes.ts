@@ -18,10 +18,27 @@ export function axisTicks(min: number, max: number, maxTicks: number): number[] 
   return out;
 }
 
-/** Tick text: no trailing zeros, at most one decimal below 10, a minus sign for negatives. */
-export function tickText(v: number): string {
-  const text = Math.abs(v) >= 10 || Number.isInteger(v) ? String(Math.round(v)) : v.toFixed(1);
+/**
+ * Tick text: no trailing zeros, at most one decimal below 10, a minus sign for negatives; with the
+ * ticks' step, as many decimals as the step needs (0.5 -> 1, 0.05 -> 2), so neighbours never read alike.
+ */
+export function tickText(v: number, step?: number): string {
+  const decimals = step !== undefined && step > 0 && step < 1 ? Math.min(4, Math.ceil(-Math.log10(step) - 1e-9)) : undefined;
+  const text = decimals !== undefined
+    ? v.toFixed(decimals)
+    : Math.abs(v) >= 10 || Number.isInteger(v) ? String(Math.round(v)) : v.toFixed(1);
   return text.replace('-', '\u2212'); // a true minus sign, as everywhere on the page
+}
+
+/** The step between round tick values (the smallest gap; longitudes across 360 wrap). */
+export function tickStep(values: readonly number[]): number | undefined {
+  let step: number | undefined;
+  for (let i = 1; i < values.length; i++) {
+    let d = Math.abs(values[i] - values[i - 1]);
+    if (d > 180) d = 360 - d;
+    if (d > 0 && (step === undefined || d < step)) step = d;
+  }
+  return step;
 }
 
 /** A scale bar: the round length (1, 2, 5 x 10^k Mm) whose bar is at most maxPx long. */

@@ -5,7 +5,7 @@
 
 import { buildLut, GREYS, niceCeil, PURPLE_ORANGE, rasterize, robustAbsLimit, symmetricTicks } from './colourScale.js';
 import { pixelToWorld } from '../core/frameAssembly/wcs.js';
-import { axisTicks, edgeTicks, scaleBar, tickText } from './mapAxes.js';
+import { axisTicks, edgeTicks, scaleBar, tickStep, tickText } from './mapAxes.js';
 import type { MapWcs } from './wire.js';
 import { equalAreaRadius, fitMap, fromCanvas, glyphArc, hitFootpoint, splitTrack, toCanvas, type MapFit } from './mapGeometry.js';
 import { OKABE_ITO } from './palette.js';
@@ -63,7 +63,7 @@ export interface MapProbe {
 const MARGIN = { left: 44, right: 8, top: 6, bottom: 34 };
 const NO_AXES = { x: [] as string[], y: [] as string[], lon: [] as string[], lat: [] as string[], worldAxes: '', scaleBar: '' };
 /** Extra room for the degree axes (top and right) when the frame has world coordinates. */
-const WORLD_MARGIN = { top: 30, right: 36 };
+const WORLD_MARGIN = { top: 30, right: 58 };
 
 const PURPLE_ORANGE_LUT = buildLut(PURPLE_ORANGE, 256);
 /** A track step longer than this (or twice the footpoint's radius) is a hand-over, not motion, Mm. */
@@ -361,24 +361,31 @@ export class MapView {
     ctx.font = '11px system-ui, sans-serif';
     ctx.textAlign = 'center';
     ctx.textBaseline = 'bottom';
-    for (const t of edgeTicks(top, Math.max(2, Math.floor(wPx / 70)), true)) {
+    const lonTicks = edgeTicks(top, Math.max(2, Math.floor(wPx / 70)), true);
+    const lonStep = tickStep(lonTicks.map((t) => t.value));
+    for (const t of lonTicks) {
       const px = x0 + (t.pos + 0.5) * fit.sx;
       ctx.fillRect(Math.round(px), y0 - 4, 1, 4);
-      const text = `${tickText(t.value)}°`;
+      const text = `${tickText(t.value, lonStep)}°`;
       ctx.fillText(text, px, y0 - 5);
       lon.push(text);
     }
     ctx.fillText(`${name} longitude (°), along the top edge`, x0 + wPx / 2, y0 - 18);
     ctx.textAlign = 'left';
     ctx.textBaseline = 'middle';
-    for (const t of edgeTicks(side, Math.max(2, Math.floor(hPx / 45)))) {
+    const latTicks = edgeTicks(side, Math.max(2, Math.floor(hPx / 45)));
+    const latStep = tickStep(latTicks.map((t) => t.value));
+    let widest = 0;
+    for (const t of latTicks) {
       const py = y0 + hPx - (t.pos + 0.5) * fit.sy;
       ctx.fillRect(x0 + wPx, Math.round(py), 4, 1);
-      const text = `${tickText(t.value)}°`;
+      const text = `${tickText(t.value, latStep)}°`;
       ctx.fillText(text, x0 + wPx + 6, py);
+      widest = Math.max(widest, ctx.measureText(text).width);
       lat.push(text);
     }
-    ctx.translate(x0 + wPx + 32, y0 + hPx / 2);
+    // The axis title beyond the widest label (its centre line, 11 px text rotated).
+    ctx.translate(x0 + wPx + 6 + widest + 9, y0 + hPx / 2);
     ctx.rotate(Math.PI / 2);
     ctx.textAlign = 'center';
     ctx.fillText(`${name} latitude (°)`, 0, 0);

@@ -1,12 +1,11 @@
-// The braid's and the sphere's words and lines on the page (no DOM): which entropies are lower
-// bounds, the flagged triples, the run's reference line across the range, the fetch throttle, and a
-// region on the sphere recognised by its columns.
+// The braid's and the sphere's words on the page (no DOM): which entropies are lower bounds, the
+// flagged triples, the fetch throttle, and a region on the sphere recognised by its columns (the
+// chart lines are checked in the browser test).
 
 import { describe, expect, it } from 'vitest';
-import { braidLines, BRAID_LINE } from '../../web/braidChart.js';
-import { throttleDelay } from '../../web/braidFeed.js';
 import { braidExactness, braidNote, flaggedTriples } from '../../web/braidWords.js';
 import type { SeriesPoint } from '../../web/seriesMerge.js';
+import { throttleDelay } from '../../web/throttle.js';
 import { carriesSphere, sphereWords } from '../../web/sphereWords.js';
 import type { BraidAnswer, BraidSpanAnswer, WireSample } from '../../web/wire.js';
 
@@ -37,15 +36,6 @@ describe('the braid in words and lines', () => {
   it('lists only the flagged triples', () => {
     expect(flaggedTriples(answer(true, [4, 7, 9])).map((t) => t.ids)).toEqual([[4, 7, 9]]);
     expect(flaggedTriples({ ...answer(true, [4, 7, 9]), last: null })).toEqual([]);
-  });
-
-  it('draws the window per frame and the run as a line across the range shown', () => {
-    const view = { gaps: [], buckets: 500, range: [t0 - 3_600_000, t0 + 3 * 3_600_000] as [number, number], breakStepMs: Infinity };
-    const { lines, range, segments } = braidLines(answer(true, [4, 7, 9]), view);
-    expect(range).toEqual(view.range);
-    expect(lines[BRAID_LINE.window].map((p) => p.y)).toEqual([null, 0.2, 0.2]);
-    expect(lines[BRAID_LINE.run]).toEqual([{ x: view.range[0], y: 0.18 }, { x: view.range[1], y: 0.18 }]);
-    expect(segments).toEqual([t0]);
   });
 
   it('throttles: now when the last fetch is old enough, else when it will be', () => {

@@ -16,6 +16,36 @@ import type { Page } from 'playwright-core';
 import { announceMissingChromium, chromiumPath, inCi, launchChromium, screenshotDir, type LaunchedBrowser, waitForProbe } from './support/browser.js';
 import { freePort, RealMonitor, realMonitorAvailable, realServePath } from './support/realMonitor.js';
 import { synth } from '../../replay/synthCommand.js';
+import { writeFits } from '../../core/fits/writeImage.js';
+
+/**
+ * A FITS frame on a Carrington cylindrical-equal-area patch (CRLN-CEA / CRLT-CEA, FITS WCS paper II,
+ * Calabretta & Greisen 2002), written by our writer: 48 x 40 pixels of 0.03 degree centred at
+ * Carrington 121.25, -18.5 (rows 0.03 in CEA's y, (180/pi) sin(latitude) with PV2_1 = 1, as
+ * remapped vector magnetograms have them), an invented bipole that turns a little from frame to
+ * frame, with its velocities.
+ */
+function ceaFrame(k: number): Buffer {
+  const NX = 48, NY = 40;
+  const bn = new Float64Array(NX * NY), vx = new Float64Array(NX * NY), vy = new Float64Array(NX * NY);
+  const a = 0.05 * k;
+  for (let iy = 0; iy < NY; iy++) for (let ix = 0; ix < NX; ix++) {
+    const [px, py] = [24 + 6 * Math.cos(a), 20 + 6 * Math.sin(a)];
+    const [nx, ny] = [24 - 6 * Math.cos(a), 20 - 6 * Math.sin(a)];
+    bn[iy * NX + ix] = 1200 * Math.exp(-((ix - px) ** 2 + (iy - py) ** 2) / 18) - 1100 * Math.exp(-((ix - nx) ** 2 + (iy - ny) ** 2) / 18);
+    vx[iy * NX + ix] = -0.2 * (iy - 20) / 20;
+    vy[iy * NX + ix] = 0.2 * (ix - 24) / 24;
+  }
+  const wcs = { ctype: ['CRLN-CEA', 'CRLT-CEA'] as [string, string], cunit: ['deg', 'deg'] as [string, string], cdelt: [0.03, 0.03] as [number, number], crpix: [24.5, 20.5] as [number, number], crval: [121.25, -18.5] as [number, number], pv: { PV2_1: 1 } };
+  return Buffer.from(writeFits({
+    primary: [{ key: 'DATE-OBS', value: new Date(Date.UTC(2026, 2, 14, 6) + k * 720_000).toISOString().slice(0, 23) }, { key: 'TIMESYS', value: 'UTC' }, { key: 'RSUN_REF', value: 696e6 }],
+    images: [
+      { name: 'BN', nx: NX, ny: NY, values: bn, bunit: 'G', wcs },
+      { name: 'VX', nx: NX, ny: NY, values: vx, bunit: 'km/s', wcs },
+      { name: 'VY', nx: NX, ny: NY, values: vy, bunit: 'km/s', wcs },
+    ],
+  }));
+}
 
 const root = fileURLToPath(new URL('../..', import.meta.url));
 const haveServer = realMonitorAvailable(root);
@@ -255,6 +285,38 @@ describe.skipIf((!chromiumPath || !haveServer) && !inCi)('dashboard in Chromium 
         await other.setViewportSize({ width: w, height: h });
         await other.screenshot({ path: join(shots, `real-empty-${w}.png`) });
       }
+    } finally {
+      await other.close();
+    }
+  });
+
+  it('draws heliographic degree axes and reads degrees under the pointer from the wcs the monitor sends with a CEA frame', async () => {
+    // Three frames of a CEA patch sent to the (so far empty) monitor, as a user's script would.
+    for (let k = 0; k < 3; k++) {
+      const r = await fetch(`${empty.url}/api/regions/ar-cea/frames`, { method: 'POST', headers: { authorization: `Bearer ${empty.token()}`, 'content-type': 'application/fits' }, body: ceaFrame(k) });
+      expect(r.status, await r.clone().text()).toBe(201);
+    }
+    const other = await browser.context.newPage();
+    try {
+      await other.goto(empty.url + '/#region=ar-cea');
+      type MapProbe = { region?: string; mapFrame: unknown; map: { axes: { x: string[]; lon: string[]; lat: string[]; worldAxes: string }; rect: { x: number; y: number; w: number; h: number } } };
+      const p = await waitForProbe<MapProbe>(other, 'the CEA map with degree axes', (s) => s.region === 'ar-cea' && s.map.axes.lon.length > 0, 30_000, 100);
+      expect(p.map.axes.worldAxes).toBe('Carrington');
+      // Carrington 121.25 +- 24 pixels of 0.03 deg along the top edge; latitude -18.5 +- 20 rows of
+      // 0.03 / cos(18.5 deg) = 0.032 deg (CEA's rows are even in sin(latitude)) on the right.
+      const degrees = (labels: string[]): number[] => labels.map((l) => Number(l.replace('°', '').replace('−', '-')));
+      expect(p.map.axes.lon.length).toBeGreaterThanOrEqual(2);
+      for (const v of degrees(p.map.axes.lon)) expect(Math.abs(v - 121.25)).toBeLessThan(0.8);
+      expect(p.map.axes.lat.length).toBeGreaterThanOrEqual(2);
+      for (const v of degrees(p.map.axes.lat)) expect(Math.abs(v + 18.5)).toBeLessThan(0.7);
+      // Every label says its own value (half-degree ticks keep their decimal).
+      for (const labels of [p.map.axes.lon, p.map.axes.lat]) expect(new Set(labels).size).toBe(labels.length);
+      expect(p.map.axes.x.length).toBeGreaterThanOrEqual(3); // Mm along the bottom as before
+      // The pointer over the middle of the map (pixel 24.5, 20.5 give the reference value exactly).
+      const box = (await other.locator('#map').boundingBox())!;
+      await other.mouse.move(box.x + p.map.rect.x + p.map.rect.w / 2, box.y + p.map.rect.y + p.map.rect.h / 2);
+      await other.locator('#map-readout').filter({ hasText: /Carrington 121\.[23]\d°, −18\.[45]\d°/ }).waitFor({ timeout: 10_000 });
+      await other.locator('.panel.map').screenshot({ path: join(shots, 'real-cea-map-degrees.png') });
     } finally {
       await other.close();
     }

@@ -1,7 +1,7 @@
 // The map's axes and scale bar: round ticks (1, 2, 5 x 10^k Mm) over the map's extent and a bar
 // of a round length no longer than asked.
 import { describe, expect, it } from 'vitest';
-import { axisTicks, edgeTicks, niceStep, scaleBar, tickText } from '../../web/mapAxes.js';
+import { axisTicks, edgeTicks, niceStep, scaleBar, tickStep, tickText } from '../../web/mapAxes.js';
 import { pixelToWorld } from '../../core/frameAssembly/wcs.js';
 import { CEA_WCS } from './support/fakeMonitor.js';
 
@@ -12,8 +12,13 @@ describe('map axes', () => {
     expect(axisTicks(-0.36, 68.76, 8)).toEqual([0, 10, 20, 30, 40, 50, 60]);
     expect(niceStep(92, 4)).toBe(50);
     expect(niceStep(0.9, 5)).toBe(0.2);
-    expect(axisTicks(0, 1, 5).map(tickText)).toEqual(['0', '0.2', '0.4', '0.6', '0.8', '1']);
-    expect([-18, -0.5].map(tickText)).toEqual(['−18', '−0.5']);
+    expect(axisTicks(0, 1, 5).map((v) => tickText(v))).toEqual(['0', '0.2', '0.4', '0.6', '0.8', '1']);
+    expect([-18, -0.5].map((v) => tickText(v))).toEqual(['−18', '−0.5']);
+    // With the step: half-degree latitude ticks past 10 keep their decimal (rounded they would read alike).
+    const lat = axisTicks(-19.1, -17.9, 4);
+    expect(lat.map((v) => tickText(v, tickStep(lat)))).toEqual(['−19.0', '−18.5', '−18.0']);
+    expect(tickText(121.25, 0.05)).toBe('121.25');
+    expect(tickStep([359.5, 0, 0.5])).toBe(0.5);
   });
 
   it('draw a scale bar of a round length, at most the pixels given', () => {
