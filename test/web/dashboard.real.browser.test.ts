@@ -57,6 +57,7 @@ type Probe = {
   rateChart: { markers: number; points: number; boxesApart: boolean };
   budgetChart: { markers: number; points: number; thresholds: number[]; boxesApart: boolean };
   gapFactor: number | null;
+  braidChart: { fetched: string; window: number; xRange: [number, number]; xTicks: string[]; labels: string[] };
 };
 const probe = (page: Page): Promise<Probe> => page.evaluate('window.helicordProbe.state()') as Promise<Probe>;
 
@@ -118,6 +119,11 @@ describe.skipIf((!chromiumPath || !haveServer) && !inCi)('dashboard in Chromium 
     expect(await page.locator('#demo-note').innerText()).toMatch(/^Demo: an invented active region .* every number is invented\.$/);
     // The gap rule comes from the monitor: the region's default factor.
     expect((await probe(page)).gapFactor).toBe(3);
+    // The braid of the demo's footpoints from the monitor's braid route, beside the rate chart
+    // (five strands by default: lower bounds, and the legend says so).
+    const braid = await until(page, 'the braid chart', (s) => s.braidChart.fetched === 'yes' && s.braidChart.window > 0, 30_000);
+    expect(braid.braidChart.xTicks.length).toBeGreaterThanOrEqual(2);
+    expect(braid.braidChart.labels[0]).toMatch(/^window/);
     await page.screenshot({ path: join(shots, 'real-01-loaded.png') });
   });
 
