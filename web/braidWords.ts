@@ -30,6 +30,8 @@ export function braidNote(answer: BraidAnswer | undefined): string {
   parts.push(exact.window && exact.run ? `exact (${n} strands: ${last.strands.join(', ')})` : `lower bounds (${n} strands: ${last.strands.join(', ')}; the Burau matrix on the unit circle)`);
   const newest = answer.segments.at(-1);
   if (newest) parts.push(`segment since ${newest.time.slice(11, 16)} UTC: ${newest.reason}`);
+  // Fetched at most every few seconds: in a fast replay the braid may trail the rate chart.
+  parts.push(`to ${last.time.slice(11, 16)} UTC`);
   return parts.join(' · ');
 }
 

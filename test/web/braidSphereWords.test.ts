@@ -27,7 +27,7 @@ const answer = (exact: boolean, strands: number[]): BraidAnswer => ({
 
 describe('the braid in words and lines', () => {
   it('says exact for 3 strands and lower bounds for more', () => {
-    expect(braidNote(answer(true, [4, 7, 9]))).toBe('window 2 h: 0.2 h⁻¹ · whole run 2 h, 1 segment: 0.18 h⁻¹ · exact (3 strands: 4, 7, 9) · segment since 06:00 UTC: first frame');
+    expect(braidNote(answer(true, [4, 7, 9]))).toBe('window 2 h: 0.2 h⁻¹ · whole run 2 h, 1 segment: 0.18 h⁻¹ · exact (3 strands: 4, 7, 9) · segment since 06:00 UTC: first frame · to 08:00 UTC');
     expect(braidNote(answer(false, [4, 7, 9, 11]))).toMatch(/ · lower bounds \(4 strands: 4, 7, 9, 11; the Burau matrix on the unit circle\) · /);
     expect(braidExactness(answer(false, [4, 7, 9, 11]))).toEqual({ window: false, run: false });
     expect(braidNote(undefined)).toBe('');

@@ -218,7 +218,7 @@ describe.skipIf(!chromiumPath && !inCi)('dashboard in Chromium against the test 
     expect(b.segmentsDrawn).toBe(2); // frames 0 and 12
     expect(b.labels).toEqual(['window', 'whole run', 'segment start']); // 3 strands: exact, no "lower bound"
     const note = await page.locator('#braid-note').innerText();
-    expect(note).toBe('window 4 h: 0.16 h⁻¹ · whole run 6.4 h, 2 segments: 0.15 h⁻¹ · exact (3 strands: 1, 2, 3) · segment since 08:24 UTC: footpoint 4 outgrew footpoint 3');
+    expect(note).toBe('window 4 h: 0.16 h⁻¹ · whole run 6.4 h, 2 segments: 0.15 h⁻¹ · exact (3 strands: 1, 2, 3) · segment since 08:24 UTC: footpoint 4 outgrew footpoint 3 · to 12:24 UTC');
     expect(region.frames[BRAID_SECOND_SEGMENT].time.slice(11, 16)).toBe('08:24');
     expect(note).not.toMatch(/lower bound/);
     // The flagged triple in the ledger with its one line of explanation.
