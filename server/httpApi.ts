@@ -25,6 +25,7 @@ import type { FootpointReport } from '../core/footpoints/footpointReport.js';
 import { footpointsForWire, tracksForWire } from '../core/wire/footpointWire.js';
 import { gapsForWire } from '../core/wire/gapWire.js';
 import { braidColumns, braidReportJson } from '../core/braid/braidColumns.js';
+import type { BraidRouteAnswer } from '../core/wire/braidWire.js';
 import type { BraidViews } from './braidViews.js';
 import type { Pipeline } from './pipeline.js';
 import type { RegionAdmin } from './regionAdmin.js';
@@ -253,13 +254,14 @@ function seriesRoutes(ctx: ApiContext, h: ApiHelpers): express.Router {
     const h = ctx.braids.history(name);
     const series = h.keys.flatMap((id) => {
       const b = h.reports.get(id);
-      return b && b.time >= from && b.time <= to ? [{ frame_id: id, time: iso(b.time), ...braidColumns(b) }] : [];
+      return b && b.time >= from && b.time <= to ? [{ frame_id: id, time: new Date(b.time).toISOString(), ...braidColumns(b) }] : [];
     });
-    res.json({
+    const answer: BraidRouteAnswer = {
       region: name, series,
       last: h.last ? braidReportJson(h.last) : null,
-      segments: h.segments.map((g) => ({ time: iso(g.time), reason: g.reason, strands: g.strands })),
-    });
+      segments: h.segments.map((g) => ({ time: new Date(g.time).toISOString(), reason: g.reason, strands: g.strands })),
+    };
+    res.json(answer);
   });
 
   r.get('/alerts', (req, res) => {

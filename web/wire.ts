@@ -129,38 +129,8 @@ export function parseViewerMessage(text: string): ViewerMessage | undefined {
   }
 }
 
-/** One frame of the braid route (docs/api.md): the braid's series columns (core/braid/braidColumns.ts). */
-export type BraidRow = { readonly frame_id: number; readonly time: string } & import('../core/braid/braidColumns.js').BraidColumns;
-
-/** A triple of the braid window as the route sends it (core/braid/braidSpan.ts TripleReport). */
-export type BraidTriple = Pick<import('../core/braid/braidSpan.js').TripleReport, 'ids' | 'entropy' | 'trivial' | 'flagged' | 'pairCrossings' | 'windingTurns' | 'milnor'>;
-
-/**
- * A braid span (window, segment) as the route sends it: core/braid/braidColumns.ts writes it
- * (braidReportJson, typed there only as a record), so the page spells the fields it reads here.
- */
-export interface BraidSpanAnswer {
-  readonly start: string;
-  readonly end: string;
-  readonly hours: number;
-  readonly frames: number;
-  readonly entropy: number;
-  readonly ratePerHour: number | null;
-  readonly method: string;
-  readonly exact: boolean;
-  readonly triples: readonly BraidTriple[];
-}
-
-/** GET /api/regions/:region/braid. Entropy rates per hour. */
-export interface BraidAnswer {
-  readonly region: string;
-  readonly series: readonly BraidRow[];
-  readonly last: {
-    readonly time: string;
-    readonly strands: readonly number[];
-    readonly segment: BraidSpanAnswer | null;
-    readonly window: BraidSpanAnswer | null;
-    readonly run: { readonly segments: number; readonly entropy: number; readonly hours: number; readonly ratePerHour: number | null; readonly exact: boolean };
-  } | null;
-  readonly segments: readonly { readonly time: string; readonly reason: string; readonly strands: readonly number[] }[];
-}
+// The braid route's shapes are typed in core (core/wire/braidWire.ts), where they are built.
+export type BraidRow = import('../core/wire/braidWire.js').BraidRowWire;
+export type BraidTriple = import('../core/wire/braidWire.js').BraidTripleWire;
+export type BraidSpanAnswer = import('../core/wire/braidWire.js').BraidSpanWire;
+export type BraidAnswer = import('../core/wire/braidWire.js').BraidRouteAnswer;

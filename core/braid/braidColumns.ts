@@ -1,6 +1,7 @@
 // The braid's figures for one row of the series (core/seriesColumns.ts names the columns) and a
 // JSON-safe view of a whole report (times as ISO 8601 strings, NaN and infinities as null).
 
+import type { BraidReportWire, BraidSpanWire } from '../wire/braidWire.js';
 import type { BraidReport, BraidSpanReport } from './braidTracker.js';
 
 export interface BraidColumns {
@@ -27,7 +28,7 @@ export function braidColumns(report: BraidReport | undefined): BraidColumns {
 
 const iso = (ms: number) => new Date(ms).toISOString();
 
-function spanJson(s: BraidSpanReport) {
+function spanJson(s: BraidSpanReport): BraidSpanWire {
   return {
     start: iso(s.start), end: iso(s.end), hours: s.hours, frames: s.frames, axisDeg: s.axisDeg,
     entropy: s.entropy, ratePerHour: finite(s.ratePerHour), method: s.method, exact: s.exact,
@@ -40,7 +41,7 @@ function spanJson(s: BraidSpanReport) {
 }
 
 /** The report as plain JSON (survives JSON.stringify / parse unchanged). */
-export function braidReportJson(report: BraidReport): Record<string, unknown> {
+export function braidReportJson(report: BraidReport): BraidReportWire {
   return {
     time: iso(report.time),
     strands: report.strands,

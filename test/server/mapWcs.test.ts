@@ -10,7 +10,7 @@ import { writeFits } from '../../core/fits/writeImage.js';
 import { TOKEN, circlingFrame, frameBody, getJson, startMonitor, waitIdle } from './support.js';
 
 const NX = 48, NY = 40;
-const CDELT = [0.03, 0.03 * 180 / Math.PI] as const; // deg; CEA rows in degrees of sin(latitude) * 180/pi
+const CDELT = [0.03, 0.03] as const; // deg (CEA rows: sin of the native latitude in units of pi/180, WCS paper II)
 const CRVAL = [121.25, -18.5] as const;
 
 function ceaFrameFits(): Uint8Array {

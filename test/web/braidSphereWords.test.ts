@@ -11,17 +11,18 @@ import type { BraidAnswer, BraidSpanAnswer, WireSample } from '../../web/wire.js
 
 const t0 = Date.UTC(2026, 2, 14, 6);
 const iso = (h: number) => new Date(t0 + h * 3_600_000).toISOString();
-const span = (exact: boolean): BraidSpanAnswer => ({
-  start: iso(0), end: iso(2), hours: 2, frames: 11, entropy: 0.4, ratePerHour: 0.2, method: exact ? 'burau-sl2z' : 'burau-unit-circle-bound', exact,
+const span = (exact: boolean): BraidSpanAnswer & { word: [] } => ({
+  start: iso(0), end: iso(2), hours: 2, frames: 11, axisDeg: 0, entropy: 0.4, ratePerHour: 0.2, method: exact ? 'burau-sl2z' : 'burau-unit-circle-bound', exact,
+  generators: 6, crossingHelicity: 0, collisions: 0, word: [],
   triples: [
-    { ids: [4, 7, 9], entropy: 1.92, trivial: false, flagged: true, pairCrossings: [0, 0, 0], windingTurns: [0.01, 0, -0.01], milnor: -1 },
-    { ids: [4, 7, 11], entropy: 0.96, trivial: false, flagged: false, pairCrossings: [2, 0, 0], windingTurns: [1, 0, 0], milnor: null },
+    { ids: [4, 7, 9], entropy: 1.92, trivial: false, pure: true, flagged: true, pairCrossings: [0, 0, 0], windingTurns: [0.01, 0, -0.01], milnor: -1 },
+    { ids: [4, 7, 11], entropy: 0.96, trivial: false, pure: false, flagged: false, pairCrossings: [2, 0, 0], windingTurns: [1, 0, 0], milnor: null },
   ],
 });
 const answer = (exact: boolean, strands: number[]): BraidAnswer => ({
   region: 'r',
   series: [0, 1, 2].map((h) => ({ frame_id: h, time: iso(h), braid_entropy_rate: h === 0 ? null : 0.2, braid_entropy_rate_run: 0.18, braid_strands: strands.length, braid_flagged_triples: 1 })),
-  last: { time: iso(2), strands, segment: span(exact), window: span(exact), run: { segments: 1, entropy: 0.36, hours: 2, ratePerHour: 0.18, exact } },
+  last: { time: iso(2), strands, segmentStarted: null, segment: span(exact), window: span(exact), run: { segments: 1, entropy: 0.36, hours: 2, ratePerHour: 0.18, exact } },
   segments: [{ time: iso(0), reason: 'first frame', strands }],
 });
 
