@@ -1,11 +1,12 @@
 // The Braid panel beside the rate chart: the window's entropy rate over the same range as the
 // other charts, the run's rate as a reference line, segment starts, and a line of words under it.
 
+import { redrawOnChange } from './redrawOnChange.js';
 import { createBraidChart, setBraidData } from '../braidChart.js';
 import { braidNote } from '../braidWords.js';
 import type { Chart } from 'chart.js';
 import { byId } from '../dom.js';
-import { touched, type PageStore } from '../pageStore.js';
+import type { PageStore } from '../pageStore.js';
 import { seriesViewOf } from './chartView.js';
 
 /** `alignWith`: the rate chart, whose plot's edges this one takes (a time is one column on both). */
@@ -13,7 +14,6 @@ export function mountBraidPanel(store: PageStore, alignWith?: () => Chart | unde
   const chart = createBraidChart(byId<HTMLCanvasElement>('braid-chart'), alignWith);
   const note = byId('braid-note');
   const empty = byId('braid-empty');
-  let pending = false;
   const draw = (): void => {
     const s = store.get();
     const answer = s.braid;
@@ -26,16 +26,7 @@ export function mountBraidPanel(store: PageStore, alignWith?: () => Chart | unde
     const text = braidNote(answer ?? undefined);
     if (note.textContent !== text) note.textContent = text;
   };
-  store.subscribe((_s, changed) => {
     // 'alerts': the rate chart's thresholds change its value axis, which this plot lines up with.
-    if (!touched(changed, 'braid', 'series', 'alerts', 'gaps', 'view', 'gapFactor', 'status')) return;
-    if (pending) return;
-    pending = true;
-    requestAnimationFrame(() => {
-      pending = false;
-      draw();
-    });
-  });
-  window.addEventListener('resize', () => requestAnimationFrame(draw));
+  redrawOnChange(store, ['braid', 'series', 'alerts', 'gaps', 'view', 'gapFactor', 'status'], draw);
   return { chart };
 }

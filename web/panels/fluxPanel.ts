@@ -1,8 +1,9 @@
 // The Flux panel: unsigned flux and H/Phi^2 over the range the other charts show.
 
+import { redrawOnChange } from './redrawOnChange.js';
 import { byId } from '../dom.js';
 import { createFluxChart, setFluxData } from '../fluxChart.js';
-import { touched, type PageStore } from '../pageStore.js';
+import type { PageStore } from '../pageStore.js';
 import { formatFlux } from '../unitFormat.js';
 import { seriesViewOf } from './chartView.js';
 
@@ -11,7 +12,6 @@ export function mountFluxPanel(store: PageStore): { chart: ReturnType<typeof cre
   const note = byId('flux-note');
   const empty = byId('flux-empty');
   let carried = 0;
-  let pending = false;
   const draw = (): void => {
     const s = store.get();
     carried = setFluxData(chart, s.series, seriesViewOf(s, chart.chartArea?.width ?? chart.width));
@@ -22,15 +22,6 @@ export function mountFluxPanel(store: PageStore): { chart: ReturnType<typeof cre
       ? `newest: Φ ${formatFlux(last.flux_unsigned)} (|Bn| dA over pixels at or above 3 noise units), H/Φ² ${last.budget_normalised != null ? last.budget_normalised.toPrecision(2) : '—'} (budget over the current flux squared)`
       : '';
   };
-  store.subscribe((_s, changed) => {
-    if (!touched(changed, 'series', 'gaps', 'view', 'gapFactor', 'status')) return;
-    if (pending) return;
-    pending = true;
-    requestAnimationFrame(() => {
-      pending = false;
-      draw();
-    });
-  });
-  window.addEventListener('resize', () => requestAnimationFrame(draw));
+  redrawOnChange(store, ['series', 'gaps', 'view', 'gapFactor', 'status'], draw);
   return { chart, carried: () => carried };
 }

@@ -1,8 +1,9 @@
 // The Rotation & hemispheres panel, shown only for regions whose rows carry the sphere's columns.
 
+import { redrawOnChange } from './redrawOnChange.js';
 import type { Chart } from 'chart.js';
 import { byId } from '../dom.js';
-import { touched, type PageStore } from '../pageStore.js';
+import type { PageStore } from '../pageStore.js';
 import { createSphereChart, setSphereData } from '../sphereChart.js';
 import { carriesSphere, SPHERE_CAVEAT, sphereWords } from '../sphereWords.js';
 import { seriesViewOf } from './chartView.js';
@@ -13,7 +14,6 @@ export function mountSpherePanel(store: PageStore, alignWith?: () => Chart | und
   const chart = createSphereChart(byId<HTMLCanvasElement>('sphere-chart'), alignWith);
   const words = byId('sphere-words');
   byId('sphere-caveat').textContent = SPHERE_CAVEAT;
-  let pending = false;
   const draw = (): void => {
     const s = store.get();
     const shown = carriesSphere(s.series);
@@ -26,16 +26,7 @@ export function mountSpherePanel(store: PageStore, alignWith?: () => Chart | und
     const text = sphereWords(s.series.at(-1)?.s);
     if (words.textContent !== text) words.textContent = text;
   };
-  store.subscribe((_s, changed) => {
     // 'alerts': the rate chart's thresholds change its value axis, which this plot lines up with.
-    if (!touched(changed, 'series', 'alerts', 'gaps', 'view', 'gapFactor', 'status', 'region')) return;
-    if (pending) return;
-    pending = true;
-    requestAnimationFrame(() => {
-      pending = false;
-      draw();
-    });
-  });
-  window.addEventListener('resize', () => requestAnimationFrame(draw));
+  redrawOnChange(store, ['series', 'alerts', 'gaps', 'view', 'gapFactor', 'status', 'region'], draw);
   return { chart };
 }
