@@ -4,10 +4,10 @@
 // no cgroups, no accounting) on free ports, each daemon started here and stopped by its pid.
 // Needs root (slurmd starts jobs as their user). `slurmMissing()` says why it cannot run.
 
+import { freePort } from '../support/freePort.js';
 import { execFile, execFileSync } from 'node:child_process';
 import { existsSync, readFileSync } from 'node:fs';
 import { chmod, mkdir, mkdtemp, rm, writeFile } from 'node:fs/promises';
-import { createServer } from 'node:net';
 import { hostname, tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { randomBytes } from 'node:crypto';
@@ -35,16 +35,6 @@ export function slurmMissing(): string | undefined {
   return undefined;
 }
 
-async function freePort(): Promise<number> {
-  return new Promise((resolve, reject) => {
-    const s = createServer();
-    s.once('error', reject);
-    s.listen(0, '127.0.0.1', () => {
-      const port = (s.address() as { port: number }).port;
-      s.close(() => resolve(port));
-    });
-  });
-}
 
 export interface SlurmCluster {
   readonly dir: string;

@@ -2,10 +2,11 @@
 // built-in demo region streaming fast, so a test can stop it and start it again on the same port
 // and data folder, as an operator restarting the service would.
 
+import { freePort } from '../../support/freePort.js';
+export { freePort } from '../../support/freePort.js';
 import { spawn, type ChildProcess } from 'node:child_process';
 import { existsSync, mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
-import { createServer } from 'node:net';
 import { join } from 'node:path';
 import { pathToFileURL } from 'node:url';
 
@@ -17,17 +18,6 @@ export function realMonitorAvailable(root: string): boolean {
   return existsSync(realServePath(root));
 }
 
-/** A free TCP port on loopback (asked of the OS, then released). */
-export async function freePort(): Promise<number> {
-  return new Promise((resolve, reject) => {
-    const s = createServer();
-    s.once('error', reject);
-    s.listen(0, '127.0.0.1', () => {
-      const port = (s.address() as { port: number }).port;
-      s.close(() => resolve(port));
-    });
-  });
-}
 
 export class RealMonitor {
   private child: ChildProcess | undefined;
