@@ -67,14 +67,32 @@ export function restoreAnalysisState(frames: readonly Frame[], memory: AnalysisM
   const state: AnalysisState = { previous: last, history };
   const table = memory?.footpoints;
   if (!table || settings.footpoints === false) return state;
-  // The footpoints were found on the frame the rate was taken on: the frame itself when it carries
-  // its velocity, else the mid-time frame of its pair.
-  const before = frames.length > 1 ? frames[frames.length - 2] : undefined;
-  const rateFrame = hasVelocity(last) || !before ? last : midFrame(before, last);
-  // After a pair that gave no sample (frames too far apart) the table belongs to an older pair,
-  // whose frames are not among these: the footpoints start afresh (ids too).
-  if (rateFrame.time !== table.time) return state;
+  // The footpoints were found on the frame the rate was taken on: a frame that carries its velocity,
+  // else the mid-time frame of its pair. After a pair that gave no sample (frames too far apart)
+  // the table belongs to an older pair: its frames must be among these (the caller adds them; see
+  // memoryFrameTime), else the footpoints start afresh (ids too).
+  const rateFrame = rateFrameAt(frames, table.time);
+  if (!rateFrame) return state;
   return { ...state, footpoints: restoreFootpointState(table, rateFrame, settings.footpoints || {}) };
+}
+
+/** The frame a footpoint table made at `time` was found on: the frame at that time (its velocity given, or the first frame), or the mid-time frame of a pair. */
+function rateFrameAt(frames: readonly Frame[], time: number): Frame | undefined {
+  for (let k = frames.length - 1; k >= 0; k--) {
+    const f = frames[k];
+    if (f.time === time) return f;
+    if (!hasVelocity(f) && k > 0 && (frames[k - 1].time + f.time) / 2 === time) return midFrame(frames[k - 1], f);
+  }
+  return undefined;
+}
+
+/**
+ * When the memory's footpoint table was made, UTC ms (undefined without one): a caller restoring
+ * the state gives restoreAnalysisState the frames within the motion baseline, and also the frames
+ * around this time when it lies before them (a pair too far apart gave no table since).
+ */
+export function memoryFrameTime(memory: AnalysisMemory | undefined): number | undefined {
+  return memory?.footpoints?.time;
 }
 
 /**

@@ -9,7 +9,9 @@
 import { join } from 'node:path';
 import type { OperatorFunction } from 'rxjs';
 import { concatMap, defer, map } from 'rxjs';
-import { restoreSpanS } from '../../core/analysisMemory.js';
+import type { AnalysisMemory } from '../../core/analysisMemory.js';
+import { memoryFrameTime, restoreSpanS } from '../../core/analysisMemory.js';
+import { resolveVelocitySettings } from '../../core/velocity/velocitySettings.js';
 import type { AnalysisSettings } from '../../core/frameAnalysis.js';
 import type { ComputePool } from '../computePool.js';
 import type { WorkerReply } from '../computeMessages.js';
@@ -49,13 +51,22 @@ function jobFor(p: PairedFrame, deps: ComputeDeps) {
   const abs = (path: string) => join(store.dataDir, path);
   const previous = p.previous;
   // What rebuilds the worker's state after `previous` when it does not follow it (read only
-  // then): the frames within the motion baseline up to it and the memory stored with it.
+  // then): the frames within the motion baseline up to it, the memory stored with it, and when
+  // the memory's footpoint table is older than those frames (a pair too far apart gave no table
+  // since), the frames around the table's time, which it was made on.
   const primer = previous && {
     id: previous.id,
     frames: () => {
-      const spanMs = 1000 * restoreSpanS((settings?.analysis ?? {}) as AnalysisSettings);
-      const frames = store.goodFramesBetween(region, previous.time - spanMs, previous.time).map((f) => abs(f.file));
+      const analysis = (settings?.analysis ?? {}) as AnalysisSettings;
+      const spanMs = 1000 * restoreSpanS(analysis);
       const memory = store.frameMemory(previous.id);
+      const recent = store.goodFramesBetween(region, previous.time - spanMs, previous.time);
+      const tableTime = memoryFrameTime(memory as AnalysisMemory | undefined);
+      const pairMs = 1000 * resolveVelocitySettings(analysis.velocity).maxIntervalS;
+      const older = tableTime !== undefined && tableTime < previous.time - spanMs
+        ? store.goodFramesBetween(region, tableTime - pairMs, Math.min(tableTime + pairMs, previous.time - spanMs - 1))
+        : [];
+      const frames = [...older, ...recent].map((f) => abs(f.file));
       return { frames, ...(memory !== undefined && { memory }) };
     },
   };
