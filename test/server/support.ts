@@ -202,7 +202,8 @@ export async function launchMonitor(dataDir: string, options: Record<string, unk
   child.once('exit', () => { exited = true; });
   const url = await new Promise<string>((resolve, reject) => {
     let out = '';
-    const timer = setTimeout(() => reject(new Error(`monitor did not listen within 30 s: ${err}`)), 30_000);
+    // A monitor that does not come up is killed, not left running behind the failed test.
+    const timer = setTimeout(() => { child.kill('SIGKILL'); reject(new Error(`monitor did not listen within 60 s: ${err}`)); }, 60_000);
     child.stdout!.on('data', (d) => {
       out += d;
       const m = /LISTENING (\S+)/.exec(out);
