@@ -12,22 +12,22 @@ import { emptyBraidHistory, extendBraidHistory } from '../core/braid/braidHistor
 import type { BraidSettings } from '../core/braid/braidTracker.js';
 import type { Store } from './store.js';
 
+/** Frames folded between two turns of the event loop: the fold runs on the server's thread (about 5 ms a frame for 5 strands), so a long region is folded in slices and requests go on meanwhile. */
+const SLICE = 64;
+
 export class BraidViews {
   private readonly histories = new Map<string, { settings: string; history: BraidHistory<number> }>();
+  /** One fold at a time per region: a second request waits for the first and extends its result. */
+  private readonly folding = new Map<string, Promise<unknown>>();
 
   constructor(private readonly store: Store) {}
 
   /** The region's braid history over its stored frames, brought up to date. */
-  history(region: string, settings: BraidSettings = {}): BraidHistory<number> {
-    const frames = this.store.framesWithFootpoints(region);
-    const key = JSON.stringify(settings);
-    const held = this.histories.get(region);
-    let history = held && held.settings === key && isPrefix(held.history.keys, frames) ? held.history : emptyBraidHistory<number>();
-    const fresh = frames.slice(history.keys.length).map((f) => ({ key: f.id, footpoints: this.analysisOf(f.id) }))
-      .filter((f): f is { key: number; footpoints: Pick<FootpointAnalysis, 'time' | 'footpoints' | 'events'> } => f.footpoints !== undefined);
-    if (fresh.length > 0 || history.keys.length !== frames.length) history = extendBraidHistory(history, fresh, settings);
-    this.histories.set(region, { settings: key, history });
-    return history;
+  history(region: string, settings: BraidSettings = {}): Promise<BraidHistory<number>> {
+    const run = (this.folding.get(region) ?? Promise.resolve()).catch(() => undefined).then(() => this.bringUpToDate(region, settings));
+    this.folding.set(region, run);
+    void run.finally(() => { if (this.folding.get(region) === run) this.folding.delete(region); }).catch(() => undefined);
+    return run;
   }
 
   /** Forgets a region (removed or renamed). */
@@ -35,6 +35,23 @@ export class BraidViews {
     this.histories.delete(region);
   }
 
+  private async bringUpToDate(region: string, settings: BraidSettings): Promise<BraidHistory<number>> {
+    const frames = this.store.framesWithFootpoints(region);
+    const key = JSON.stringify(settings);
+    const held = this.histories.get(region);
+    let history = held && held.settings === key && isPrefix(held.history.keys, frames) ? held.history : emptyBraidHistory<number>();
+    const start = history.keys.length;
+    for (let k = start; k < frames.length; k += SLICE) {
+      if (k > start) await new Promise((r) => setImmediate(r));
+      const slice = frames.slice(k, k + SLICE).flatMap((f) => {
+        const footpoints = this.analysisOf(f.id);
+        return footpoints ? [{ key: f.id, footpoints }] : [];
+      });
+      history = extendBraidHistory(history, slice, settings);
+    }
+    this.histories.set(region, { settings: key, history });
+    return history;
+  }
   private analysisOf(id: number): Pick<FootpointAnalysis, 'time' | 'footpoints' | 'events'> | undefined {
     const { footpoints, events } = this.store.footpoints(id);
     const report = footpoints as FootpointReport | null;

@@ -227,31 +227,31 @@ function seriesRoutes(ctx: ApiContext, h: ApiHelpers): express.Router {
   const { regionName, existingRegion, requireToken, existing, timeParam } = h;
   const r = regionRouter();
   // The braid columns of each row, from the braid folded over the stored frames (the rows are
-  // stored as the frame is committed, before the braid view sees it): as \`process\` writes them.
-  const withBraid = (name: string, rows: SeriesRow[]): SeriesRow[] => {
-    const h = ctx.braids.history(name);
+  // stored as the frame is committed, before the braid view sees it): as `process` writes them.
+  const withBraid = async (name: string, rows: SeriesRow[]): Promise<SeriesRow[]> => {
+    const h = await ctx.braids.history(name);
     if (h.reports.size === 0) return rows;
     return rows.map((row) => {
       const b = row.frame_id === null ? undefined : h.reports.get(row.frame_id);
       return b ? { ...row, ...braidColumns(b) } : row;
     });
   };
-  r.get('/series', (req, res) => {
+  r.get('/series', async (req, res) => {
     const name = existing(req, res);
     if (name === undefined) return;
     const from = timeParam(req, 'from', 0), to = timeParam(req, 'to', Number.MAX_SAFE_INTEGER);
     const gaps = gapsForWire(pipeline.accumulation(name).budget.gaps, { from, to });
-    res.json({ region: name, samples: withBraid(name, store.samples(name, from, to)), gaps });
+    res.json({ region: name, samples: await withBraid(name, store.samples(name, from, to)), gaps });
   });
 
   // The braid of the largest footpoints (docs/braids.md): per frame, the window's and the run's
   // entropy per hour, the strands and the triples braided unseen by the pair budget; the last
   // frame's report (segment, window with its word and triples, run); where segments began.
-  r.get('/braid', (req, res) => {
+  r.get('/braid', async (req, res) => {
     const name = existing(req, res);
     if (name === undefined) return;
     const from = timeParam(req, 'from', 0), to = timeParam(req, 'to', Number.MAX_SAFE_INTEGER);
-    const h = ctx.braids.history(name);
+    const h = await ctx.braids.history(name);
     const series = h.keys.flatMap((id) => {
       const b = h.reports.get(id);
       return b && b.time >= from && b.time <= to ? [{ frame_id: id, time: new Date(b.time).toISOString(), ...braidColumns(b) }] : [];
@@ -287,17 +287,18 @@ function seriesRoutes(ctx: ApiContext, h: ApiHelpers): express.Router {
     res.json({ refusals });
   });
 
-  r.get('/export.csv', (req, res) => {
+  r.get('/export.csv', async (req, res) => {
     const name = existing(req, res);
     if (name === undefined) return;
-    res.type('text/csv').set('content-disposition', `attachment; filename="${name}-series.csv"`).send(seriesCsv(withBraid(name, store.samples(name))));
+    const rows = await withBraid(name, store.samples(name));
+    res.type('text/csv').set('content-disposition', `attachment; filename="${name}-series.csv"`).send(seriesCsv(rows));
   });
 
-  r.get('/export.json', (req, res) => {
+  r.get('/export.json', async (req, res) => {
     const name = existing(req, res);
     if (name === undefined) return;
     const gaps = gapsForWire(pipeline.accumulation(name).budget.gaps);
-    res.json({ region: name, columns: SERIES_COLUMNS, samples: withBraid(name, store.samples(name)), gaps });
+    res.json({ region: name, columns: SERIES_COLUMNS, samples: await withBraid(name, store.samples(name)), gaps });
   });
 
   return r;
