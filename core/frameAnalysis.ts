@@ -15,6 +15,10 @@
 //
 // The split flows one way: footpoints are segmented and tracked, the sample is computed with their
 // labels (one flux transport, one split), and the footpoint table takes the sample's split.
+//
+// The analysis is written as steps (core/frameSteps.ts): the velocity inference and the label split
+// are forked, so that a driver with a second thread runs them beside the tracking and the rate.
+// `analyseFrame` runs the steps in the caller's thread.
 
 import type { FluxKernelCache } from './fluxKernel.js';
 import type { Frame } from './frame.js';
@@ -29,12 +33,14 @@ import { framePatchCentre, meanCentre } from './frameAssembly/wcs.js';
 import { transportRotation } from './footpoints/transportRotation.js';
 import { SEGMENTATION_DEFAULTS } from './footpoints/segmentation.js';
 import { smoothMap } from './footpoints/smoothing.js';
+import type { FrameSteps } from './frameSteps.js';
+import { fork, join, runSteps } from './frameSteps.js';
 import type { RateSample } from './rateSample.js';
-import { measureRate } from './measureRate.js';
+import { measureRateSteps } from './measureRate.js';
 import type { SphereAnalysisSettings } from './sphere/sphereFrameAnalysis.js';
 import { analyseSphericalFrame, sphereToMeasure } from './sphere/sphereFrameAnalysis.js';
-import { inferVelocity } from './velocity/inferVelocity.js';
 import { midFrame } from './velocity/midFrame.js';
+import type { InferredVelocity } from './velocity/inferVelocity.js';
 import { pairNoise } from './velocity/pairNoise.js';
 import type { VelocitySettings } from './velocity/velocitySettings.js';
 import { resolveVelocitySettings } from './velocity/velocitySettings.js';
@@ -107,6 +113,13 @@ export const LEFT_OUT_FLAG_SHARE = 0.01;
 export function analyseFrame(
   frame: Frame, state: AnalysisState, settings: AnalysisSettings = {}, cache?: FluxKernelCache,
 ): FrameAnalysis {
+  return runSteps(analyseFrameSteps(frame, state, settings, cache), cache);
+}
+
+/** analyseFrame as steps (core/frameSteps.ts): the inference and the split are forked. */
+export function* analyseFrameSteps(
+  frame: Frame, state: AnalysisState, settings: AnalysisSettings = {}, cache?: FluxKernelCache,
+): FrameSteps<FrameAnalysis> {
   checkFrame(frame);
   // A map on the sphere has its own engine (core/sphere/sphereFrameAnalysis.ts says which maps).
   const onSphere = sphereToMeasure(frame, settings.sphere);
@@ -143,7 +156,7 @@ export function analyseFrame(
   if (hasVelocity(frame)) {
     const tracked = fpSettings && trackFrame(state.footpoints, frame, fpSettings);
     const centre = framePatchCentre(frame);
-    const r = measureRate({ frame, labels: tracked ? tracked.labels : null, velocityMethod: 'given', ...noise, ...(cache && { cache }), ...(centre && { centre }) });
+    const r = yield* measureRateSteps({ frame, labels: tracked ? tracked.labels : null, velocityMethod: 'given', ...noise, ...(cache && { cache }), ...(centre && { centre }) });
     const footpoints = tracked && describeFootpoints(state.footpoints, frame, tracked, fpSettings!, {
       transport: r.transport, ...(r.split && { split: r.split }),
     });
@@ -157,16 +170,18 @@ export function analyseFrame(
   }
 
   const previous = state.previous!;
-  const v = inferVelocity(previous, frame, settings.velocity);
+  // The inference needs only the pair: it runs beside the tracking and the motions below.
+  const inference = yield* fork('inferVelocity', [previous, frame, settings.velocity]);
   const rateFrame = midFrame(previous, frame);
-  const inferred: VelocityMaps = { vx: v.vx, vy: v.vy, ...(v.vz && { vz: v.vz }) };
   const centre = meanCentre(framePatchCentre(previous), framePatchCentre(frame));
-  const common = { frame: rateFrame, velocityMethod: v.method, time: v.time, dtS: v.dtS, ...noise, ...(cache && { cache }), ...(centre && { centre }) };
+  const commonOf = (v: InferredVelocity) => ({ frame: rateFrame, velocityMethod: v.method, time: v.time, dtS: v.dtS, ...noise, ...(cache && { cache }), ...(centre && { centre }) });
+  const inferredOf = (v: InferredVelocity): VelocityMaps => ({ vx: v.vx, vy: v.vy, ...(v.vz && { vz: v.vz }) });
   // Without footpoint motions the 1-sigma covers the field noise only, not the inference's errors.
   const incomplete = 'sigma-without-velocity-error';
   const incompleteNote = 'The 1-sigma covers the field noise only: the errors of the inferred velocity are not in it (they are when the velocity is built from footpoint motions).';
   if (!fpSettings) {
-    const r = measureRate({ ...common, velocity: inferred, labels: null, flags: [incomplete] });
+    const v = yield* join(inference);
+    const r = yield* measureRateSteps({ ...commonOf(v), velocity: inferredOf(v), labels: null, flags: [incomplete] });
     return {
       sample: r.sample, velocityNotes: [...v.notes, incompleteNote],
       maps: { gTheta: r.gTheta, vx: v.vx, vy: v.vy, ...(v.vz && { vz: v.vz }) },
@@ -174,14 +189,16 @@ export function analyseFrame(
     };
   }
   const tracked = trackFrame(state.footpoints, rateFrame, fpSettings);
-  let velocity: VelocityMaps = inferred;
   let labels = tracked.labels;
   let motions: ReturnType<typeof pairMotions> | undefined;
   let motionFrom = previous.time;
-  const notes = [...v.notes];
+  const baselineNotes: string[] = [];
   const flags: string[] = [];
   const field1 = smoothed();
-  if ((settings.motionModel ?? 'footpoints') === 'footpoints') {
+  const footpointModel = (settings.motionModel ?? 'footpoints') === 'footpoints';
+  // The motions over the baseline need no velocity: they are measured before the inference is joined.
+  let baseline: { options: Parameters<typeof pairMotions>[5]; previousField: Float64Array } | undefined;
+  if (footpointModel) {
     // The footpoints' own motions from their patterns on the smoothed frames: over the pair, and
     // over the longest interval within the baseline where earlier frames are kept (preferred).
     const history = state.history ?? [];
@@ -200,8 +217,16 @@ export function analyseFrame(
     if (oldest && oldest.time < previous.time) {
       motions = pairMotions(oldest.field, field1, tracked.labels, tracked.grid, (frame.time - oldest.time) / 1000, options);
       motionFrom = oldest.time;
-      notes.push(`Footpoint motions over ${((frame.time - oldest.time) / 1000).toFixed(0)} s (the motion baseline), centred ${((previous.time - oldest.time) / 2000).toFixed(0)} s before the sample.`);
+      baselineNotes.push(`Footpoint motions over ${((frame.time - oldest.time) / 1000).toFixed(0)} s (the motion baseline), centred ${((previous.time - oldest.time) / 2000).toFixed(0)} s before the sample.`);
     }
+    baseline = { options, previousField };
+  }
+  const v = yield* join(inference);
+  const inferred = inferredOf(v);
+  let velocity: VelocityMaps = inferred;
+  const notes = [...v.notes, ...baselineNotes];
+  if (baseline && motions) {
+    const { options, previousField } = baseline;
     const missing = new Set(tracked.track.assignments.map((a) => a.id).filter((id) => !motions!.has(id)));
     if (missing.size > 0) {
       for (const [id, m] of pairMotions(previousField, field1, tracked.labels, tracked.grid, v.dtS, options, missing)) motions.set(id, m);
@@ -242,8 +267,8 @@ export function analyseFrame(
     flags.push(incomplete);
     notes.push(incompleteNote);
   }
-  const r = measureRate({
-    ...common, velocity, labels, flags,
+  const r = yield* measureRateSteps({
+    ...commonOf(v), velocity, labels, flags,
     ...(motions && { motions, motionFrom, motionTo: frame.time }),
     ...(motions && v.vz && { normalVelocity: v.vz }),
   });

@@ -1,6 +1,8 @@
 // One rate measurement from one frame with its velocity: the composition of the engine's steps
 // (flux transport, G_theta and G_A, the label split, emergence and shear with vector data, the
 // noise uncertainty). Pure: everything it needs comes in, the kernel cache is the caller's.
+// The label split is forked (core/frameSteps.ts): it may run in another thread while the rate,
+// A_p and the noise uncertainty are computed here.
 //
 //   const { sample, split, gTheta } = measureRate({ frame, labels, noiseG: 8 });
 
@@ -13,7 +15,8 @@ import type { PatchCentre } from './frameAssembly/wcs.js';
 import { fluxTransport } from './fluxTransport.js';
 import { convolveTransport, helicityFluxFromConvolutions } from './helicityFlux.js';
 import type { LabelSplit } from './labelSplit.js';
-import { splitByLabels } from './labelSplit.js';
+import type { FrameSteps } from './frameSteps.js';
+import { fork, join, runSteps } from './frameSteps.js';
 import { emergenceShear, emergenceTerm } from './emergenceShear.js';
 import { estimateNoiseLevel } from './noiseLevel.js';
 import { rateSigmaFromNoise } from './rateUncertainty.js';
@@ -61,21 +64,22 @@ export interface RateMeasurement {
 }
 
 export function measureRate(input: RateInput): RateMeasurement {
+  return runSteps(measureRateSteps(input), input.cache);
+}
+
+/** measureRate as steps: the label split is forked before the rate and joined after it. */
+export function* measureRateSteps(input: RateInput): FrameSteps<RateMeasurement> {
   const { frame } = input;
-  const kernel = fluxKernelFor(frame, input.cache);
   const t = fluxTransport(frame, input.velocity);
+  const labels = input.labels === undefined ? frame.labels : input.labels ?? undefined;
+  // The split is started before the total is known (total 0): its background is set below.
+  const grid = { nx: frame.nx, ny: frame.ny, dx: frame.dx, dy: frame.dy };
+  const splitTask = labels ? yield* fork('splitByLabels', [grid, t, labels, { total: 0 }]) : undefined;
+  const kernel = fluxKernelFor(frame, input.cache);
   const conv = convolveTransport(kernel, t);
   const flux = helicityFluxFromConvolutions(kernel, t, conv);
   const flags: string[] = [...(input.flags ?? [])];
   if (flux.maskedFraction > 0) flags.push('masked-pixels');
-  const labels = input.labels === undefined ? frame.labels : input.labels ?? undefined;
-  let split: LabelSplit | undefined;
-  if (labels) {
-    split = splitByLabels(kernel, t, labels, { total: flux.total, ...(input.cache && { cache: input.cache }) });
-    if (split.ids.length === 0) { flags.push('no-footpoints'); split = undefined; }
-  } else {
-    flags.push('no-footpoints');
-  }
   const vector = input.velocity ? (input.velocity.vz !== undefined && frame.bx !== undefined) : hasVectorData(frame);
   let es: { emergence: number; shear: number } | undefined;
   if (vector) {
@@ -89,6 +93,13 @@ export function measureRate(input: RateInput): RateMeasurement {
   const ux = input.velocity?.vx ?? frame.vx!;
   const uy = input.velocity?.vy ?? frame.vy!;
   const sigmaNoise = rateSigmaFromNoise(conv, ux, uy, t.valid, Number.isFinite(noiseG) ? noiseG : 0, frame.dx, frame.dy);
+  let split: LabelSplit | undefined;
+  if (splitTask) {
+    const s = yield* join(splitTask);
+    // The same as splitByLabels given the total: background = total - spin - orbit.
+    split = s.ids.length === 0 ? undefined : { ...s, total: flux.total, background: flux.total - s.spinTotal - s.orbitTotal };
+  }
+  if (!split) flags.push('no-footpoints');
   const motion = input.motions && labels
     ? rateSigmaFromMotions(t, conv, labels, input.motions, frame, kernel, split?.labelledField)
     : { total: 0, spin: 0, orbit: 0 };

@@ -15,6 +15,8 @@ export interface WorkerRequest {
   readonly settings: Record<string, unknown>;
   /** Where to write the result maps. */
   readonly mapsPath: string;
+  /** Run the frame's independent parts on a second thread (server/frameAssistant.ts). */
+  readonly assist?: boolean;
 }
 
 export type WorkerReply =

@@ -39,7 +39,8 @@ export class ComputePool {
   private readonly url: URL;
   busy = 0;
 
-  constructor(size: number, private readonly log: (line: string) => void = () => undefined) {
+  /** `assist`: each worker runs a frame's independent parts on a second thread (server/frameAssistant.ts). */
+  constructor(size: number, private readonly log: (line: string) => void = () => undefined, private readonly assist = false) {
     this.url = computeWorkerUrl();
     for (let i = 0; i < Math.max(1, size); i++) this.slots.push(this.spawn(i));
   }
@@ -78,6 +79,7 @@ export class ComputePool {
     const prime = at === expected ? undefined : (job.previous ? job.previous.frames() : 'reset');
     const req: WorkerRequest = {
       id: this.nextId++, region: job.region, framePath: job.framePath, settings: job.settings, mapsPath: job.mapsPath,
+      ...(this.assist && { assist: true }),
       ...(prime !== undefined && { prime }),
     };
     this.position.delete(job.region);

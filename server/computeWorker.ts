@@ -1,10 +1,13 @@
 // A compute worker: runs the core's per-frame analysis for the regions the pool gives it, keeps
 // each region's analysis state (opaque here) between frames, reads the stored frame from its map
 // file and writes the result maps atomically beside it. Nothing heavy runs on the server's loop.
+// With `assist`, the parts of a frame that can run at once go to a second thread (server/
+// frameAssistant.ts), so that one region's frame uses two cores.
 import { readFile } from 'node:fs/promises';
 import { parentPort } from 'node:worker_threads';
 import type { FluxKernelCache } from '../core/fluxKernel.js';
-import { analyseFrame } from '../core/frameAnalysis.js';
+import { analyseFrameSteps } from '../core/frameAnalysis.js';
+import { runSteps } from '../core/frameSteps.js';
 import type { AnalysisMemory } from '../core/analysisMemory.js';
 import { analysisMemory, restoreAnalysisState } from '../core/analysisMemory.js';
 import type { AnalysisSettings, AnalysisState } from '../core/frameAnalysis.js';
@@ -13,10 +16,12 @@ import { InputError } from '../core/inputError.js';
 import { writeFileAtomic } from './atomicFile.js';
 import { isDiskFull } from './diskFull.js';
 import { decodeFrame, encodeFrameBlob } from './frameBlob.js';
+import { FrameAssistant, runStepsAssisted } from './frameAssistant.js';
 import type { WorkerReply, WorkerRequest } from './computeMessages.js';
 
 const states = new Map<string, AnalysisState>();
 const cache: FluxKernelCache = new Map();
+let assistant: FrameAssistant | undefined;
 
 async function load(path: string) {
   return decodeFrame(await readFile(path), path);
@@ -33,7 +38,9 @@ async function handle(req: WorkerRequest): Promise<WorkerReply> {
     states.set(req.region, restoreAnalysisState(frames, req.prime.memory as AnalysisMemory | undefined, settings));
   }
   const frame = await load(req.framePath);
-  const result = analyseFrame(frame, states.get(req.region) ?? {}, settings, cache);
+  const steps = analyseFrameSteps(frame, states.get(req.region) ?? {}, settings, cache);
+  if (req.assist) assistant ??= new FrameAssistant((line) => process.stderr.write(line + '\n'));
+  const result = req.assist ? await runStepsAssisted(steps, assistant!, cache) : runSteps(steps, cache);
   states.set(req.region, result.state);
   const maps = result.maps;
   let mapsWritten = false;

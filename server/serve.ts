@@ -47,6 +47,11 @@ export interface ServeOptions {
   readonly bodyLimit?: number;
   /** Compute workers. Default: one fewer than the cores, at least 1, at most 4. */
   readonly workers?: number;
+  /**
+   * Each compute worker hands the independent parts of a frame to a second thread (server/
+   * frameAssistant.ts). Default: on with two cores or more.
+   */
+  readonly assistFrames?: boolean;
   /** Demo frame interval at speed 1, ms. Default 2000. */
   readonly demoIntervalMs?: number;
   /** Replays to start once listening (`helicord replay`; server/replayRegistry.ts). */
@@ -109,7 +114,7 @@ export async function serve(options: ServeOptions): Promise<RunningMonitor> {
   const store = new Store(dataDir);
   const writer = new StoreWriter(dataDir, log);
   const workers = options.workers ?? Math.min(4, Math.max(1, availableParallelism() - 1));
-  const pool = new ComputePool(workers, log);
+  const pool = new ComputePool(workers, log, options.assistFrames ?? availableParallelism() >= 2);
   const maxFramePixels = options.maxFramePixels ?? DEFAULT_MAX_FRAME_PIXELS;
   const bodyLimit = options.bodyLimit ?? DEFAULT_BODY_LIMIT;
   // A watched file is held to the body limit too (it is not read when larger).

@@ -1,0 +1,49 @@
+// The parts of one frame's analysis that may run in another thread while the rest goes on: each
+// is a pure function of plain, cloneable values (frames, typed arrays, settings) and of a kernel
+// cache that belongs to whoever runs it. core/frameSteps.ts forks and joins them by name, so a
+// driver can send the name and the arguments elsewhere (the monitor's second thread) and get the
+// same result as from running it here.
+//
+//   runFrameTask('inferVelocity', [previous, frame, settings.velocity], cache)
+
+import type { FluxKernelCache } from './fluxKernel.js';
+import { fluxKernelFor } from './fluxKernel.js';
+import type { Frame } from './frame.js';
+import type { FluxTransport } from './fluxTransport.js';
+import type { Grid } from './grid.js';
+import type { LabelSplit, LabelSplitOptions } from './labelSplit.js';
+import { splitByLabels } from './labelSplit.js';
+import type { InferredVelocity } from './velocity/inferVelocity.js';
+import { inferVelocity } from './velocity/inferVelocity.js';
+import type { VelocitySettings } from './velocity/velocitySettings.js';
+
+/** Options of the split that can travel (the kernel cache stays with the thread that runs it). */
+export type SplitTaskOptions = Omit<LabelSplitOptions, 'cache'>;
+
+export interface FrameTasks {
+  /** The velocity between two frames (core/velocity/inferVelocity.ts). */
+  inferVelocity(args: readonly [previous: Frame, frame: Frame, settings: Partial<VelocitySettings> | undefined], cache?: FluxKernelCache): InferredVelocity;
+  /** The label split of a flux transport on a grid (core/labelSplit.ts). */
+  splitByLabels(args: readonly [grid: Grid, t: FluxTransport, labels: Int32Array, options: SplitTaskOptions], cache?: FluxKernelCache): LabelSplit;
+}
+
+export type FrameTaskName = keyof FrameTasks;
+export type FrameTaskArgs<K extends FrameTaskName> = Parameters<FrameTasks[K]>[0];
+export type FrameTaskResult<K extends FrameTaskName> = ReturnType<FrameTasks[K]>;
+
+export const FRAME_TASKS: FrameTasks = {
+  inferVelocity: ([previous, frame, settings]) => inferVelocity(previous, frame, settings),
+  splitByLabels: ([grid, t, labels, options], cache) => {
+    const { nx, ny, dx, dy } = grid;
+    return splitByLabels(fluxKernelFor({ nx, ny, dx, dy }, cache), t, labels, { ...options, ...(cache && { cache }) });
+  },
+};
+
+export function isFrameTaskName(name: unknown): name is FrameTaskName {
+  return typeof name === 'string' && Object.prototype.hasOwnProperty.call(FRAME_TASKS, name);
+}
+
+/** Runs one task here. */
+export function runFrameTask<K extends FrameTaskName>(task: K, args: FrameTaskArgs<K>, cache?: FluxKernelCache): FrameTaskResult<K> {
+  return (FRAME_TASKS[task] as (a: FrameTaskArgs<K>, c?: FluxKernelCache) => FrameTaskResult<K>)(args, cache);
+}

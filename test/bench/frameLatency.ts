@@ -1,0 +1,126 @@
+// One region's frame latency in the monitor, with each frame's independent parts on a second
+// thread (the default with two cores or more: server/frameAssistant.ts) and without
+// (`--one-thread-per-frame`), in the same run: 512^2 demo frames posted one at a time into an idle
+// monitor (the next after the previous sample reached the viewer), frames with their velocity and
+// frames without (inferred between pairs). Prints POST-to-broadcast median and 95th percentile and
+// the monitor's CPU per frame (user + system of its process, /proc), with the load average.
+// Rounds alternate the two modes, each round in a fresh monitor process (test/server/launch.mjs).
+// Parameters (environment): HELICORD_LATENCY_FRAMES (per round, default 8), HELICORD_LATENCY_ROUNDS (default 2).
+import { spawn } from 'node:child_process';
+import { mkdtempSync, readFileSync, rmSync } from 'node:fs';
+import { loadavg, tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { fileURLToPath } from 'node:url';
+import WebSocket from 'ws';
+import type { Frame } from '../../core/frame.js';
+import { frameToJson } from '../../core/frameJson.js';
+import { demoRegion } from '../../replay/demo/demoRegion.js';
+
+const TOKEN = 'bench-token';
+
+function env(name: string, fallback: number): number {
+  const v = Number(process.env[name]);
+  return Number.isFinite(v) && v > 0 ? v : fallback;
+}
+
+function quantile(values: number[], q: number): number {
+  const a = [...values].sort((x, y) => x - y);
+  return a.length === 0 ? NaN : a[Math.min(a.length - 1, Math.floor(q * (a.length - 1) + 0.5))];
+}
+
+/** CPU seconds (user + system) of a process so far, from /proc/PID/stat. */
+function cpuSecondsOf(pid: number): number {
+  const fields = readFileSync(`/proc/${pid}/stat`, 'utf8').split(') ')[1].split(' ');
+  return (Number(fields[11]) + Number(fields[12])) / 100; // utime, stime in clock ticks (100/s)
+}
+
+async function launch(dataDir: string, options: Record<string, unknown>): Promise<{ url: string; pid: number; stop: () => Promise<void> }> {
+  const launcher = fileURLToPath(new URL('../../../test/server/launch.mjs', import.meta.url));
+  const child = spawn(process.execPath, [launcher, dataDir], {
+    env: { ...process.env, HELICORD_TOKEN: TOKEN, HELICORD_TEST_OPTIONS: JSON.stringify(options) }, stdio: ['ignore', 'pipe', 'inherit'],
+  });
+  const url = await new Promise<string>((resolve, reject) => {
+    let out = '';
+    child.stdout!.on('data', (d) => { out += d; const m = /LISTENING (\S+)/.exec(out); if (m) resolve(m[1]); });
+    child.once('exit', (code) => reject(new Error(`monitor exited (${code})`)));
+  });
+  return {
+    url, pid: child.pid!,
+    stop: () => new Promise((r) => { child.once('exit', () => r()); child.kill('SIGTERM'); setTimeout(() => child.kill('SIGKILL'), 5000).unref(); }),
+  };
+}
+
+interface Round { latencies: number[]; cpuPerFrame: number }
+
+async function round(frames: readonly string[], assist: boolean): Promise<Round> {
+  const dataDir = mkdtempSync(join(tmpdir(), 'helicord-latency-'));
+  const mon = await launch(dataDir, { assistFrames: assist });
+  try {
+    const region = 'latency';
+    const put = await fetch(`${mon.url}/api/regions/${region}/settings`, { method: 'PUT', headers: { authorization: `Bearer ${TOKEN}`, 'content-type': 'application/json' }, body: '{"watchFolder": false}' });
+    if (put.status !== 200) throw new Error(`creating the region: ${put.status}`);
+    const ws = new WebSocket(`${mon.url.replace('http', 'ws')}/ws/view?region=${region}`);
+    const arrived = new Map<number, number>();
+    const waiters = new Map<number, () => void>();
+    ws.on('message', (d) => {
+      const msg = JSON.parse(d.toString()) as { type: string; sample?: { frame_id: number } };
+      if (msg.type !== 'sample' || !msg.sample) return;
+      arrived.set(msg.sample.frame_id, performance.now());
+      waiters.get(msg.sample.frame_id)?.();
+    });
+    await new Promise((r) => ws.once('open', r));
+    const send = async (body: string) => {
+      const t = performance.now();
+      const r = await fetch(`${mon.url}/api/regions/${region}/frames`, { method: 'POST', headers: { authorization: `Bearer ${TOKEN}`, 'content-type': 'application/json' }, body });
+      const answer = (await r.json()) as { frame_id?: number };
+      if (r.status !== 201 || answer.frame_id === undefined) throw new Error(`ingest answered ${r.status}`);
+      return { id: answer.frame_id, t };
+    };
+    const settle = async () => {
+      for (;;) {
+        const h = (await (await fetch(`${mon.url}/api/health`)).json()) as { queue: number };
+        if (h.queue === 0) return;
+        await new Promise((r) => setTimeout(r, 20));
+      }
+    };
+    // Warm-up: the first two frames (kernel spectra, JIT; without velocities the first only waits).
+    await send(frames[0]); await send(frames[1]); await settle();
+    const latencies: number[] = [];
+    const cpu0 = cpuSecondsOf(mon.pid);
+    for (const body of frames.slice(2)) {
+      const { id, t } = await send(body);
+      if (!arrived.has(id)) await new Promise<void>((r) => waiters.set(id, r));
+      latencies.push(arrived.get(id)! - t);
+      await settle();
+    }
+    const cpuPerFrame = (cpuSecondsOf(mon.pid) - cpu0) / (frames.length - 2);
+    ws.close();
+    return { latencies, cpuPerFrame };
+  } finally {
+    await mon.stop();
+    rmSync(dataDir, { recursive: true, force: true });
+  }
+}
+
+export async function bench(): Promise<void> {
+  const count = env('HELICORD_LATENCY_FRAMES', 8) + 2;
+  const rounds = env('HELICORD_LATENCY_ROUNDS', 2);
+  const load = () => loadavg().map((v) => v.toFixed(2)).join(' ');
+  console.log(`frame latency, one region, 512^2 demo frames at 720 s, ${count - 2} timed per round, ${rounds} rounds per mode; load average ${load()}`);
+  for (const withVelocity of [true, false]) {
+    const region = demoRegion({ frames: count, size: 512, withVelocity, cadenceS: 720, storyH: 72, storyStartH: 16 });
+    const bodies = Array.from({ length: count }, (_, i) => {
+      const f: Frame = region.frameAt(i);
+      return JSON.stringify(frameToJson(withVelocity ? f : { ...f, labels: undefined }));
+    });
+    const results: Record<string, Round[]> = { 'one thread': [], 'two threads': [] };
+    for (let r = 0; r < rounds; r++) {
+      for (const assist of r % 2 ? [true, false] : [false, true]) results[assist ? 'two threads' : 'one thread'].push(await round(bodies, assist));
+    }
+    for (const [mode, rs] of Object.entries(results)) {
+      const all = rs.flatMap((x) => x.latencies);
+      console.log(`${withVelocity ? 'velocity given   ' : 'velocity inferred'} ${mode.padEnd(11)}: POST to broadcast median ${quantile(all, 0.5).toFixed(0)} ms, p95 ${quantile(all, 0.95).toFixed(0)} ms; `
+        + `monitor CPU per frame ${rs.map((x) => x.cpuPerFrame.toFixed(2)).join(' / ')} s (${all.length} frames) | load average ${load()}`);
+    }
+  }
+}
