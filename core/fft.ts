@@ -4,6 +4,8 @@
 // the inner loop is contiguous), and a real-input transform of length 2m through one complex
 // transform of length m. Forward uses exp(-2 pi i k n / N); inverse is unscaled (callers scale).
 
+import type { SimdArena } from './simdColumns.js';
+
 export interface FftPlan {
   /** Transform length (a power of two). */
   readonly n: number;
@@ -309,15 +311,38 @@ export function realInverseFftRow(
 /** Rows the batched real transforms take together: a block of N/2 x ROW_BLOCK stays in cache. */
 export const ROW_BLOCK = 16;
 
-/** Scratch for the batched real transforms of one plan: N/2 rows of ROW_BLOCK columns. */
+/**
+ * Scratch for the batched real transforms of one plan: N/2 rows of ROW_BLOCK columns. With `simd`
+ * the arrays lie in that arena and its WebAssembly kernel runs the column butterflies.
+ */
 export interface RowBlock {
   readonly re: Float64Array;
   readonly im: Float64Array;
+  readonly simd?: SimdArena;
 }
 
-export function createRowBlock(plan: RealFftPlan): RowBlock {
-  const size = Math.max(1, plan.n >> 1) * ROW_BLOCK;
+/** Doubles a row block of `plan` takes (for sizing a SIMD arena). */
+export function rowBlockLength(plan: RealFftPlan): number {
+  return Math.max(1, plan.n >> 1) * ROW_BLOCK;
+}
+
+/** A row block; inside `simd` when given (whose plans must include plan.half). */
+export function createRowBlock(plan: RealFftPlan, simd?: SimdArena): RowBlock {
+  const size = rowBlockLength(plan);
+  if (simd) return { re: simd.alloc(size), im: simd.alloc(size), simd };
   return { re: new Float64Array(size), im: new Float64Array(size) };
+}
+
+/**
+ * fftColumnBlock(plan, re, im, width, 0, columns, sign, upperHalfZero, true): by the SIMD kernel
+ * of `simd` when the arrays lie in its memory, otherwise by the TypeScript loops (bit-identical).
+ */
+export function columnBlockBitReversed(
+  simd: SimdArena | undefined, plan: FftPlan, re: Float64Array, im: Float64Array, width: number, columns: number,
+  sign: -1 | 1, upperHalfZero: boolean,
+): void {
+  if (simd?.columns(plan, re, im, width, columns, sign, upperHalfZero)) return;
+  fftColumnBlock(plan, re, im, width, 0, columns, sign, upperHalfZero, true);
 }
 
 /**
@@ -365,7 +390,7 @@ export function realFftRows(
       if (odd) { const t = rev[pairs] * B + c; zr[t] = x[o + len - 1]; zi[t] = 0; }
       for (let i = filled; i < zeroEnd; i++) { const t = rev[i] * B + c; zr[t] = 0; zi[t] = 0; }
     }
-    fftColumnBlock(plan.half, zr, zi, B, 0, bw, -1, upperZero, true);
+    columnBlockBitReversed(block.simd, plan.half, zr, zi, B, bw, -1, upperZero);
     for (let c = 0; c < bw; c++) {
       const r = r0 + c;
       const o0 = at(r, 0), om = at(r, m);
@@ -428,7 +453,7 @@ export function realInverseFftRows(
         zr[tb] = er + oi; zi[tb] = or - ei;
       }
     }
-    fftColumnBlock(plan.half, zr, zi, B, 0, bw, 1, false, true);
+    columnBlockBitReversed(block.simd, plan.half, zr, zi, B, bw, 1, false);
     for (let c = 0; c < bw; c++) {
       const o = outOffset + (r0 + c) * outStride;
       for (let i = 0; i < pairs; i++) { out[o + 2 * i] = zr[i * B + c] * s; out[o + 2 * i + 1] = zi[i * B + c] * s; }

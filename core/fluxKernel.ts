@@ -5,7 +5,7 @@
 // (the kernel is 0 at r = 0).
 
 import type { Grid } from './grid.js';
-import type { PaddedPlan, PaddedWorkspace } from './paddedTransform.js';
+import type { PaddedPlan, PaddedWorkspace, PaddedWorkspaceOptions } from './paddedTransform.js';
 import { createPaddedPlan, createPaddedWorkspace, createSpectrum, forwardPadded } from './paddedTransform.js';
 import { CM_PER_MM } from './units.js';
 
@@ -20,17 +20,19 @@ export interface FluxKernel extends Grid {
    * call. Calls are synchronous, so one kernel serves one caller at a time by construction.
    */
   readonly scratch: { workspace?: PaddedWorkspace };
+  /** How the workspace is made (simd: false keeps the TypeScript butterflies; default SIMD where available). */
+  readonly workspaceOptions?: PaddedWorkspaceOptions;
 }
 
 /** The kernel's transform buffers (three maps: the most any convolution here needs at once). */
 export function kernelWorkspace(kernel: FluxKernel): PaddedWorkspace {
-  return kernel.scratch.workspace ??= createPaddedWorkspace(kernel.plan, 3);
+  return kernel.scratch.workspace ??= createPaddedWorkspace(kernel.plan, 3, kernel.workspaceOptions);
 }
 
 /** An explicit, caller-owned cache of kernels by grid (shape and pixel size). */
 export type FluxKernelCache = Map<string, FluxKernel>;
 
-export function createFluxKernel(grid: Grid): FluxKernel {
+export function createFluxKernel(grid: Grid, options: PaddedWorkspaceOptions = {}): FluxKernel {
   const { nx, ny, dx, dy } = grid;
   const plan = createPaddedPlan(nx, ny);
   const { px, py } = plan;
@@ -53,16 +55,19 @@ export function createFluxKernel(grid: Grid): FluxKernel {
   const sy = createSpectrum(plan);
   forwardPadded(plan, kx, px, py, sx);
   forwardPadded(plan, ky, px, py, sy);
-  return { nx, ny, dx, dy, plan, kxIm: sx.im, kyIm: sy.im, scratch: {} };
+  return { nx, ny, dx, dy, plan, kxIm: sx.im, kyIm: sy.im, scratch: {}, workspaceOptions: options };
 }
 
-/** The kernel for `grid`, from `cache` when it holds one, otherwise made (and stored there). */
-export function fluxKernelFor(grid: Grid, cache?: FluxKernelCache): FluxKernel {
-  if (!cache) return createFluxKernel(grid);
+/**
+ * The kernel for `grid`, from `cache` when it holds one, otherwise made (with `options`) and stored
+ * there.
+ */
+export function fluxKernelFor(grid: Grid, cache?: FluxKernelCache, options?: PaddedWorkspaceOptions): FluxKernel {
+  if (!cache) return createFluxKernel(grid, options);
   const key = `${grid.nx}x${grid.ny}@${grid.dx},${grid.dy}`;
   let k = cache.get(key);
   if (!k) {
-    k = createFluxKernel(grid);
+    k = createFluxKernel(grid, options);
     cache.set(key, k);
   }
   return k;

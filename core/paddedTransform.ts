@@ -5,9 +5,11 @@
 
 import type { FftPlan, RealFftPlan, RowBlock } from './fft.js';
 import {
-  createFftPlan, createRealFftPlan, createRowBlock, fftColumnBlock, fftColumns, nextPowerOfTwo, realFftRow,
-  realFftRows, realInverseFftRow, realInverseFftRows,
+  columnBlockBitReversed, createFftPlan, createRealFftPlan, createRowBlock, fftColumns, nextPowerOfTwo, realFftRow,
+  realFftRows, realInverseFftRow, realInverseFftRows, rowBlockLength,
 } from './fft.js';
+import type { SimdArena } from './simdColumns.js';
+import { arenaBytes, createSimdArena } from './simdColumns.js';
 
 export interface PaddedPlan {
   readonly nx: number;
@@ -81,15 +83,31 @@ export interface PaddedWorkspace {
   readonly outRe: Float64Array[];
   readonly outIm: Float64Array[];
   readonly rowBlock: RowBlock;
+  /** The WebAssembly memory all the buffers above lie in, whose SIMD kernel runs the butterflies. */
+  readonly simd?: SimdArena;
 }
 
-export function createPaddedWorkspace(plan: PaddedPlan, channels: number): PaddedWorkspace {
+export interface PaddedWorkspaceOptions {
+  /**
+   * Run the column butterflies by the WebAssembly SIMD kernel (core/simdColumns.ts; the same
+   * numbers, bit for bit). Default true; where WebAssembly SIMD is unavailable, or the memory
+   * cannot be had, the buffers are plain arrays and the TypeScript loops run.
+   */
+  readonly simd?: boolean;
+}
+
+export function createPaddedWorkspace(plan: PaddedPlan, channels: number, options: PaddedWorkspaceOptions = {}): PaddedWorkspace {
   const rowSize = Math.ceil(plan.w / SPECTRUM_BLOCK) * SPECTRUM_BLOCK * plan.ny, blockSize = plan.py * SPECTRUM_BLOCK;
-  const maps = (size: number) => Array.from({ length: channels }, () => new Float64Array(size));
+  const rowBlockSize = rowBlockLength(plan.rows);
+  const simd = options.simd === false ? undefined : createSimdArena(
+    channels * (2 * arenaBytes(rowSize) + 4 * arenaBytes(blockSize)) + 2 * arenaBytes(rowBlockSize),
+    [plan.cols, plan.rows.half],
+  );
+  const maps = (size: number) => Array.from({ length: channels }, () => simd ? simd.alloc(size) : new Float64Array(size));
   return {
     channels, rowRe: maps(rowSize), rowIm: maps(rowSize),
     inRe: maps(blockSize), inIm: maps(blockSize), outRe: maps(blockSize), outIm: maps(blockSize),
-    rowBlock: createRowBlock(plan.rows),
+    rowBlock: createRowBlock(plan.rows, simd), simd,
   };
 }
 
@@ -153,12 +171,12 @@ export function convolvePadded(
         const t = rev[y] * B;
         br.fill(0, t, t + bw); bi.fill(0, t, t + bw);
       }
-      fftColumnBlock(cols, br, bi, B, 0, bw, -1, upperZero, true);
+      columnBlockBitReversed(work.simd, cols, br, bi, B, bw, -1, upperZero);
     }
     step(inRe, inIm, outRe, outIm, c0, bw, rev);
     for (let j = 0; j < outputs.length; j++) {
       const br = outRe[j], bi = outIm[j], sr = rowRe[j], si = rowIm[j];
-      fftColumnBlock(cols, br, bi, B, 0, bw, 1, false, true);
+      columnBlockBitReversed(work.simd, cols, br, bi, B, bw, 1, false);
       // Rows 0..ny-1 of the block, in natural order after the pass: one contiguous copy.
       sr.set(br.subarray(0, stride), (c0 / B) * stride);
       si.set(bi.subarray(0, stride), (c0 / B) * stride);

@@ -1,0 +1,175 @@
+// A small writer of WebAssembly binary modules: the few instructions the SIMD butterflies use
+// (core/simdColumns.ts), encoded as the WebAssembly core specification 2.0 and its fixed-width SIMD
+// proposal lay them out. Written here so that the module is built from TypeScript source with no
+// assembler or compiler as a build dependency; WebAssembly.validate checks what it produces.
+
+export const I32 = 0x7f;
+export const F64 = 0x7c;
+export const V128 = 0x7b;
+export type ValueType = typeof I32 | typeof F64 | typeof V128;
+
+function unsignedLeb(n: number, out: number[]): void {
+  do {
+    let byte = n & 0x7f;
+    n >>>= 7;
+    if (n !== 0) byte |= 0x80;
+    out.push(byte);
+  } while (n !== 0);
+}
+
+function signedLeb(n: number, out: number[]): void {
+  for (;;) {
+    const byte = n & 0x7f;
+    n >>= 7;
+    const done = (n === 0 && (byte & 0x40) === 0) || (n === -1 && (byte & 0x40) !== 0);
+    out.push(done ? byte : byte | 0x80);
+    if (done) return;
+  }
+}
+
+/** The body of one function: its parameters, locals and instructions, written by the methods. */
+export class FunctionCode {
+  readonly code: number[] = [];
+  private readonly localTypes: ValueType[] = [];
+  private count: number;
+
+  constructor(readonly params: readonly ValueType[], readonly results: readonly ValueType[] = []) {
+    this.count = params.length;
+  }
+
+  /** A new local of `type`; returns its index. */
+  local(type: ValueType): number {
+    this.localTypes.push(type);
+    return this.count++;
+  }
+
+  private op(...bytes: number[]): this { this.code.push(...bytes); return this; }
+  private simd(opcode: number): this { this.code.push(0xfd); unsignedLeb(opcode, this.code); return this; }
+
+  get(l: number): this { this.op(0x20); unsignedLeb(l, this.code); return this; }
+  set(l: number): this { this.op(0x21); unsignedLeb(l, this.code); return this; }
+  tee(l: number): this { this.op(0x22); unsignedLeb(l, this.code); return this; }
+  i32(value: number): this { this.op(0x41); signedLeb(value | 0, this.code); return this; }
+
+  i32Add(): this { return this.op(0x6a); }
+  i32Sub(): this { return this.op(0x6b); }
+  i32Mul(): this { return this.op(0x6c); }
+  i32DivU(): this { return this.op(0x6e); }
+  i32And(): this { return this.op(0x71); }
+  i32Shl(): this { return this.op(0x74); }
+  i32ShrU(): this { return this.op(0x76); }
+  i32Ctz(): this { return this.op(0x68); }
+  i32Eqz(): this { return this.op(0x45); }
+  i32LtU(): this { return this.op(0x49); }
+  i32GtU(): this { return this.op(0x4b); }
+  i32LeU(): this { return this.op(0x4d); }
+  i32GeU(): this { return this.op(0x4f); }
+  select(): this { return this.op(0x1b); }
+
+  /** f64.load / f64.store with 8-byte alignment and a constant byte offset. */
+  f64Load(offset = 0): this { this.op(0x2b, 3); unsignedLeb(offset, this.code); return this; }
+  f64Store(offset = 0): this { this.op(0x39, 3); unsignedLeb(offset, this.code); return this; }
+  f64Mul(): this { return this.op(0xa2); }
+  f64Neg(): this { return this.op(0x9a); }
+
+  /** v128.load / v128.store; alignment hint 8 bytes (the arrays are Float64Arrays). */
+  v128Load(offset = 0): this { this.simd(0x00); this.code.push(3); unsignedLeb(offset, this.code); return this; }
+  v128Store(offset = 0): this { this.simd(0x0b); this.code.push(3); unsignedLeb(offset, this.code); return this; }
+  f64x2Splat(): this { return this.simd(0x14); }
+  f64x2Add(): this { return this.simd(0xf0); }
+  f64x2Sub(): this { return this.simd(0xf1); }
+  f64x2Mul(): this { return this.simd(0xf2); }
+
+  /** block ... end; `br`/`brIf` depth 0 inside leaves it. */
+  block(body: () => void): this { this.op(0x02, 0x40); body(); return this.op(0x0b); }
+  /** loop ... end; `br`/`brIf` depth 0 inside goes back to its start. */
+  loop(body: () => void): this { this.op(0x03, 0x40); body(); return this.op(0x0b); }
+  /** if (popped i32) then ... else ... end. */
+  ifElse(then: () => void, otherwise?: () => void): this {
+    this.op(0x04, 0x40);
+    then();
+    if (otherwise) { this.op(0x05); otherwise(); }
+    return this.op(0x0b);
+  }
+  br(depth: number): this { this.op(0x0c); unsignedLeb(depth, this.code); return this; }
+  brIf(depth: number): this { this.op(0x0d); unsignedLeb(depth, this.code); return this; }
+  ret(): this { return this.op(0x0f); }
+
+  /**
+   * for (i = start; i < end; i += step) body, unsigned, with the values pushed by the callbacks
+   * (end and step evaluated at every test and step).
+   */
+  forRange(i: number, start: () => void, end: () => void, step: () => void, body: () => void): this {
+    start(); this.set(i);
+    return this.block(() => {
+      this.get(i); end(); this.i32GeU(); this.brIf(0);
+      this.loop(() => {
+        body();
+        this.get(i); step(); this.i32Add(); this.tee(i); end(); this.i32LtU(); this.brIf(0);
+      });
+    });
+  }
+
+  /** The function body as the code section holds it: local declarations, instructions, end. */
+  encode(): number[] {
+    const body: number[] = [];
+    const groups: [number, ValueType][] = [];
+    for (const t of this.localTypes) {
+      const last = groups[groups.length - 1];
+      if (last && last[1] === t) last[0]++;
+      else groups.push([1, t]);
+    }
+    unsignedLeb(groups.length, body);
+    for (const [n, t] of groups) { unsignedLeb(n, body); body.push(t); }
+    body.push(...this.code, 0x0b);
+    const out: number[] = [];
+    unsignedLeb(body.length, out);
+    out.push(...body);
+    return out;
+  }
+}
+
+function section(id: number, content: number[], out: number[]): void {
+  out.push(id);
+  unsignedLeb(content.length, out);
+  out.push(...content);
+}
+
+function name(s: string, out: number[]): void {
+  unsignedLeb(s.length, out);
+  for (let i = 0; i < s.length; i++) out.push(s.charCodeAt(i));
+}
+
+/**
+ * A module importing one memory as `env.memory` (at least `minPages` of 64 KiB) and exporting
+ * `functions` by name, in the binary format.
+ */
+export function moduleBytes(functions: readonly { name: string; code: FunctionCode }[], minPages = 0): Uint8Array {
+  const out = [0x00, 0x61, 0x73, 0x6d, 0x01, 0x00, 0x00, 0x00];
+  const types: number[] = [];
+  unsignedLeb(functions.length, types);
+  for (const { code } of functions) {
+    types.push(0x60);
+    unsignedLeb(code.params.length, types); types.push(...code.params);
+    unsignedLeb(code.results.length, types); types.push(...code.results);
+  }
+  section(1, types, out);
+  const imports: number[] = [1];
+  name('env', imports); name('memory', imports);
+  imports.push(0x02, 0x00);
+  unsignedLeb(minPages, imports);
+  section(2, imports, out);
+  const funcs: number[] = [];
+  unsignedLeb(functions.length, funcs);
+  functions.forEach((_, i) => unsignedLeb(i, funcs));
+  section(3, funcs, out);
+  const exports: number[] = [];
+  unsignedLeb(functions.length, exports);
+  functions.forEach((f, i) => { name(f.name, exports); exports.push(0x00); unsignedLeb(i, exports); });
+  section(7, exports, out);
+  const codes: number[] = [];
+  unsignedLeb(functions.length, codes);
+  for (const { code } of functions) codes.push(...code.encode());
+  section(10, codes, out);
+  return Uint8Array.from(out);
+}

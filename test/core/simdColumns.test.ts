@@ -1,0 +1,165 @@
+// The WebAssembly SIMD column kernel against the TypeScript loops it replaces: the same IEEE
+// operations in the same order, so the numbers must agree bit for bit (Object.is), on every path
+// that uses it (column blocks, batched real rows, the fused padded convolution, the helicity flux,
+// a whole frame), and the TypeScript fallback must be taken when the kernel cannot run.
+import { describe, expect, it } from 'vitest';
+import { analyseFrame } from '../../core/frameAnalysis.js';
+import { createFftPlan, createRealFftPlan, createRowBlock, fftColumnBlock, realFftRows, realInverseFftRows, rowBlockLength } from '../../core/fft.js';
+import { createFluxKernel, fluxKernelFor, kernelWorkspace } from '../../core/fluxKernel.js';
+import type { FluxKernelCache } from '../../core/fluxKernel.js';
+import { fluxTransport } from '../../core/fluxTransport.js';
+import { helicityFlux } from '../../core/helicityFlux.js';
+import { SPECTRUM_BLOCK, convolvePadded, createPaddedPlan, createPaddedWorkspace } from '../../core/paddedTransform.js';
+import type { SpectralStep } from '../../core/paddedTransform.js';
+import { arenaBytes, createSimdArena, simdColumnsModule } from '../../core/simdColumns.js';
+import { demoRegion } from '../../replay/demo/demoRegion.js';
+
+function rand(n: number, seed: number): Float64Array {
+  let s = seed;
+  return Float64Array.from({ length: n }, () => ((s = (s * 1103515245 + 12345) % 2147483648) / 2147483648) - 0.5);
+}
+
+/** Indices where a and b differ in any bit (NaN equal to NaN, -0 not equal to 0). */
+function differing(a: ArrayLike<number>, b: ArrayLike<number>, count = a.length): number[] {
+  const out: number[] = [];
+  for (let i = 0; i < count; i++) if (!Object.is(a[i], b[i])) out.push(i);
+  return out;
+}
+
+describe('SIMD column kernel', () => {
+  it('the module validates and an arena is made on Node 20 (WebAssembly SIMD is part of its V8)', () => {
+    const wasm = (globalThis as unknown as { WebAssembly: { validate(b: Uint8Array): boolean } }).WebAssembly;
+    expect(wasm.validate(simdColumnsModule())).toBe(true);
+    expect(createSimdArena(1024, [createFftPlan(8)])).toBeDefined();
+  });
+
+  for (const n of [1, 2, 4, 8, 16, 32, 256, 1024]) {
+    it(`column block of ${n} rows: bit-identical to fftColumnBlock (odd and even column counts, both signs, zero upper half)`, () => {
+      const W = 16, plan = createFftPlan(n);
+      const arena = createSimdArena(2 * arenaBytes(n * W), [plan])!;
+      const re = arena.alloc(n * W), im = arena.alloc(n * W);
+      for (const columns of [1, 2, 7, 16]) for (const sign of [-1, 1] as const) for (const upperHalfZero of [false, true]) {
+        re.set(rand(n * W, n + columns)); im.set(rand(n * W, 3 * n + columns));
+        // Bit-reversed input with the upper half zero: input rows >= n/2 sit at the odd rows.
+        if (upperHalfZero && n >= 2) for (let r = 1; r < n; r += 2) { re.fill(0, r * W, r * W + W); im.fill(0, r * W, r * W + W); }
+        const tr = Float64Array.from(re), ti = Float64Array.from(im);
+        expect(arena.columns(plan, re, im, W, columns, sign, upperHalfZero)).toBe(true);
+        fftColumnBlock(plan, tr, ti, W, 0, columns, sign, upperHalfZero, true);
+        for (let r = 0; r < n; r++) {
+          expect(differing(re.subarray(r * W), tr.subarray(r * W), columns)).toEqual([]);
+          expect(differing(im.subarray(r * W), ti.subarray(r * W), columns)).toEqual([]);
+        }
+        // Not a no-op: a transform of random rows changes them (n >= 2).
+        if (n >= 2) expect(differing(re, rand(n * W, n + columns)).length).toBeGreaterThan(0);
+      }
+    });
+  }
+
+  it('declines arrays outside its memory, odd widths and unknown plans, and the caller falls back', () => {
+    const plan = createFftPlan(16), other = createFftPlan(32);
+    const arena = createSimdArena(4 * arenaBytes(16 * 16), [plan])!;
+    const inRe = arena.alloc(16 * 16), inIm = arena.alloc(16 * 16);
+    expect(arena.columns(plan, new Float64Array(256), new Float64Array(256), 16, 16, -1, false)).toBe(false);
+    expect(arena.columns(plan, inRe, new Float64Array(256), 16, 16, -1, false)).toBe(false);
+    expect(arena.columns(plan, inRe, inIm, 15, 15, -1, false)).toBe(false);
+    expect(arena.columns(other, inRe, inIm, 8, 8, -1, false)).toBe(false);
+    expect(() => arena.alloc(65536 / 8 * 2)).toThrow(/arena full/);
+    // A workspace asked not to use SIMD holds plain arrays.
+    const padded = createPaddedPlan(20, 10);
+    const plain = createPaddedWorkspace(padded, 2, { simd: false });
+    expect(plain.simd).toBeUndefined();
+    expect(plain.inRe[0].buffer).not.toBe(createPaddedWorkspace(padded, 2).inRe[0].buffer);
+    expect(createPaddedWorkspace(padded, 2).simd).toBeDefined();
+  });
+});
+
+describe('batched real rows with the SIMD kernel equal the TypeScript loops bit for bit', () => {
+  for (const [n, count, rows] of [[2, 1, 3], [8, 5, 17], [64, 64, 16], [64, 20, 33], [512, 256, 40]] as const) {
+    it(`length ${n}, ${count} samples, ${rows} rows, forward and inverse`, () => {
+      const plan = createRealFftPlan(n), w = n / 2 + 1;
+      const arena = createSimdArena(2 * arenaBytes(rowBlockLength(plan)), [plan.half])!;
+      const simd = createRowBlock(plan, arena), plain = createRowBlock(plan);
+      expect(simd.simd).toBe(arena);
+      const x = rand(count * rows, n + rows);
+      const sr = new Float64Array(w * rows), si = new Float64Array(w * rows), tr = new Float64Array(w * rows), ti = new Float64Array(w * rows);
+      realFftRows(plan, x, 0, count, count, rows, sr, si, 0, w, simd);
+      realFftRows(plan, x, 0, count, count, rows, tr, ti, 0, w, plain);
+      expect(differing(sr, tr)).toEqual([]);
+      expect(differing(si, ti)).toEqual([]);
+      const a = new Float64Array(count * rows), b = new Float64Array(count * rows);
+      realInverseFftRows(plan, sr, si, 0, w, rows, a, 0, count, count, 1, simd);
+      realInverseFftRows(plan, tr, ti, 0, w, rows, b, 0, count, count, 1, plain);
+      expect(differing(a, b)).toEqual([]);
+      for (let i = 0; i < x.length; i++) expect(a[i]).toBeCloseTo(x[i], 12); // the round trip returns the input
+    });
+  }
+});
+
+describe('convolvePadded and the helicity flux: SIMD workspace against the forced TypeScript fallback', () => {
+  // i k A^ and A^ B^, the two kinds of products the helicity flux forms.
+  const stepFor = (k: Float64Array, w: number): SpectralStep => (inRe, inIm, outRe, outIm, c0, width, rev) => {
+    for (let ky = 0; ky < rev.length; ky++) for (let c = 0; c < width; c++) {
+      const s = ky * SPECTRUM_BLOCK + c, o = rev[ky] * SPECTRUM_BLOCK + c, kk = k[ky * w + c0 + c];
+      outRe[0][o] = -kk * inIm[0][s]; outIm[0][o] = kk * inRe[0][s];
+      outRe[1][o] = inRe[0][s] * inRe[1][s] - inIm[0][s] * inIm[1][s];
+      outIm[1][o] = inRe[0][s] * inIm[1][s] + inIm[0][s] * inRe[1][s];
+    }
+  };
+  for (const [nx, ny] of [[1, 1], [1, 6], [5, 1], [13, 9], [40, 33], [64, 64], [100, 37]] as const) {
+    it(`${nx}x${ny}, with zero input rows and an output row mask`, () => {
+      const plan = createPaddedPlan(nx, ny);
+      const simd = createPaddedWorkspace(plan, 2), plain = createPaddedWorkspace(plan, 2, { simd: false });
+      expect(simd.simd).toBeDefined();
+      const a = rand(nx * ny, nx + 11), b = rand(nx * ny, ny + 12);
+      for (let y = 1; y < ny; y += 3) a.fill(0, y * nx, y * nx + nx); // zero rows are skipped, never NaN
+      const k = rand(plan.w * plan.py, 13), step = stepFor(k, plan.w);
+      const rows = new Uint8Array(ny).map((_, y) => (y % 4 === 1 ? 0 : 1));
+      for (const mask of [undefined, rows]) {
+        const s1 = new Float64Array(nx * ny), s2 = new Float64Array(nx * ny), t1 = new Float64Array(nx * ny), t2 = new Float64Array(nx * ny);
+        convolvePadded(plan, simd, [a, b], [s1, s2], step, mask);
+        convolvePadded(plan, plain, [a, b], [t1, t2], step, mask);
+        expect(differing(s1, t1)).toEqual([]);
+        expect(differing(s2, t2)).toEqual([]);
+        expect(s1.some((v) => v !== 0)).toBe(true);
+        expect(s1.every(Number.isFinite)).toBe(true);
+      }
+    });
+  }
+
+  it('helicityFlux on a 96x70 map with NaN pixels: G_theta, G_A, A_p and the totals bit-identical', () => {
+    const nx = 96, ny = 70, n = nx * ny;
+    const bn = rand(n, 5).map((v) => 300 * v), vx = rand(n, 6), vy = rand(n, 7);
+    for (const i of [0, 17, 2000, n - 1]) bn[i] = NaN;
+    const frame = { time: 0, nx, ny, dx: 0.36, dy: 0.36, bn, vx, vy };
+    const t = fluxTransport(frame);
+    const kSimd = createFluxKernel(frame), kPlain = createFluxKernel(frame, { simd: false });
+    const s = helicityFlux(kSimd, t), p = helicityFlux(kPlain, t);
+    expect(kernelWorkspace(kSimd).simd).toBeDefined();
+    expect(kernelWorkspace(kPlain).simd).toBeUndefined();
+    expect(Object.is(s.total, p.total)).toBe(true);
+    expect(Object.is(s.totalGa, p.totalGa)).toBe(true);
+    for (const key of ['gTheta', 'gA', 'apx', 'apy'] as const) expect(differing(s[key], p[key])).toEqual([]);
+    expect(Number.isNaN(s.gTheta[17])).toBe(true);
+  });
+
+  it('analyseFrame on the 512^2 demo pair: the same totals with and without SIMD (to 1e-12 relative; bit-identical expected)', () => {
+    const region = demoRegion({ frames: 2, size: 512, withVelocity: false, cadenceS: 720, storyH: 72, storyStartH: 16 });
+    const f0 = region.frameAt(0), f1 = region.frameAt(1);
+    const run = (cache: FluxKernelCache) => {
+      const state = analyseFrame(f0, {}, {}, cache).state;
+      return analyseFrame(f1, state, {}, cache).sample!;
+    };
+    const simdCache: FluxKernelCache = new Map();
+    const s = run(simdCache);
+    // The fallback run: every grid the frame met (its own and the label split's boxes) gets a kernel without SIMD first.
+    const plainCache: FluxKernelCache = new Map();
+    for (const k of simdCache.values()) fluxKernelFor(k, plainCache, { simd: false });
+    const p = run(plainCache);
+    expect(plainCache.size).toBe(simdCache.size);
+    for (const k of simdCache.values()) if (k.scratch.workspace) expect(k.scratch.workspace.simd).toBeDefined();
+    for (const k of plainCache.values()) if (k.scratch.workspace) expect(k.scratch.workspace.simd).toBeUndefined();
+    expect(Number.isFinite(s.total)).toBe(true);
+    expect(Math.abs(s.total - p.total)).toBeLessThanOrEqual(1e-12 * Math.abs(p.total));
+    expect(s.total).toBe(p.total);
+  }, 120_000);
+});
