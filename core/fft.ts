@@ -348,12 +348,12 @@ export function columnBlockBitReversed(
 /**
  * Where frequency k of row r of a set of half spectra sits: offset + r*stride + k, or with
  * `block` b (a power of two) offset + floor(k / b)*stride + r*b + k % b (blocks of b frequencies
- * with the rows inside, stride being the block's size).
+ * with the rows inside, stride being the block's size). As frequency(k) + r * rowStep.
  */
-function spectrumIndex(offset: number, stride: number, block: number): (r: number, k: number) => number {
-  if (block <= 0) return (r, k) => offset + r * stride + k;
+function spectrumIndex(offset: number, stride: number, block: number): { frequency: (k: number) => number; rowStep: number } {
+  if (block <= 0) return { frequency: (k) => offset + k, rowStep: stride };
   const shift = Math.log2(block), mask = block - 1;
-  return (r, k) => offset + (k >> shift) * stride + r * block + (k & mask);
+  return { frequency: (k) => offset + (k >> shift) * stride + (k & mask), rowStep: block };
 }
 
 /**
@@ -362,12 +362,14 @@ function spectrumIndex(offset: number, stride: number, block: number): (r: numbe
  * The rows are packed side by side into `block` in bit-reversed order and transformed together
  * (fftColumnBlock: the twiddles stay out of the inner loop); when count <= N/2 the zero upper half
  * of each packed row is never written nor added. The same sums as realFftRow, in the same order.
+ * The packing and unpacking loops run frequency by frequency across the rows of the block, so the
+ * block is read and written a row (contiguous) at a time.
  */
 export function realFftRows(
   plan: RealFftPlan, x: ArrayLike<number>, inOffset: number, inStride: number, count: number, rows: number,
   outRe: Float64Array, outIm: Float64Array, outOffset: number, outStride: number, block: RowBlock, spectrumBlock = 0,
 ): void {
-  const at = spectrumIndex(outOffset, outStride, spectrumBlock);
+  const { frequency, rowStep } = spectrumIndex(outOffset, outStride, spectrumBlock);
   const m = plan.n >> 1;
   const { cos, sin } = plan;
   const rev = plan.half.rev;
@@ -381,29 +383,34 @@ export function realFftRows(
   const zeroEnd = upperZero ? m >> 1 : m;
   for (let r0 = 0; r0 < rows; r0 += B) {
     const bw = Math.min(B, rows - r0);
-    for (let c = 0; c < bw; c++) {
-      const o = inOffset + (r0 + c) * inStride;
-      for (let i = 0; i < pairs; i++) {
-        const t = rev[i] * B + c;
-        zr[t] = x[o + 2 * i]; zi[t] = x[o + 2 * i + 1];
-      }
-      if (odd) { const t = rev[pairs] * B + c; zr[t] = x[o + len - 1]; zi[t] = 0; }
-      for (let i = filled; i < zeroEnd; i++) { const t = rev[i] * B + c; zr[t] = 0; zi[t] = 0; }
+    const o0 = inOffset + r0 * inStride;
+    for (let i = 0; i < pairs; i++) {
+      const t = rev[i] * B;
+      for (let c = 0, o = o0 + 2 * i; c < bw; c++, o += inStride) { zr[t + c] = x[o]; zi[t + c] = x[o + 1]; }
     }
+    if (odd) {
+      const t = rev[pairs] * B;
+      for (let c = 0, o = o0 + len - 1; c < bw; c++, o += inStride) { zr[t + c] = x[o]; zi[t + c] = 0; }
+    }
+    for (let i = filled; i < zeroEnd; i++) { const t = rev[i] * B; zr.fill(0, t, t + bw); zi.fill(0, t, t + bw); }
     columnBlockBitReversed(block.simd, plan.half, zr, zi, B, bw, -1, upperZero);
-    for (let c = 0; c < bw; c++) {
-      const r = r0 + c;
-      const o0 = at(r, 0), om = at(r, m);
-      outRe[o0] = zr[c] + zi[c]; outIm[o0] = 0;
-      outRe[om] = zr[c] - zi[c]; outIm[om] = 0;
-      for (let k = 1, h = m >> 1; k <= h; k++) {
-        const b = m - k;
-        const zkr = zr[k * B + c], zki = zi[k * B + c], zbr = zr[b * B + c], zbi = zi[b * B + c];
+    {
+      const f0 = frequency(0) + r0 * rowStep, fm = frequency(m) + r0 * rowStep;
+      for (let c = 0; c < bw; c++) {
+        outRe[f0 + c * rowStep] = zr[c] + zi[c]; outIm[f0 + c * rowStep] = 0;
+        outRe[fm + c * rowStep] = zr[c] - zi[c]; outIm[fm + c * rowStep] = 0;
+      }
+    }
+    for (let k = 1, h = m >> 1; k <= h; k++) {
+      const b = m - k;
+      const cs = cos[k], sn = sin[k];
+      const zk = k * B, zb = b * B;
+      let ok = frequency(k) + r0 * rowStep, ob = frequency(b) + r0 * rowStep;
+      for (let c = 0; c < bw; c++, ok += rowStep, ob += rowStep) {
+        const zkr = zr[zk + c], zki = zi[zk + c], zbr = zr[zb + c], zbi = zi[zb + c];
         const er = 0.5 * (zkr + zbr), ei = 0.5 * (zki - zbi);
         const or = 0.5 * (zki + zbi), oi = -0.5 * (zkr - zbr);
-        const cs = cos[k], sn = sin[k];
         const tr = cs * or + sn * oi, ti = cs * oi - sn * or;
-        const ok = at(r, k), ob = at(r, b);
         outRe[ok] = er + tr; outIm[ok] = ei + ti;
         outRe[ob] = er - tr; outIm[ob] = ti - ei;
       }
@@ -420,7 +427,8 @@ export function realInverseFftRows(
   plan: RealFftPlan, re: Float64Array, im: Float64Array, inOffset: number, inStride: number, rows: number,
   out: Float64Array, outOffset: number, outStride: number, count: number, scale: number, block: RowBlock, spectrumBlock = 0,
 ): void {
-  const at = spectrumIndex(inOffset, inStride, spectrumBlock); // inStride is the block stride with spectrumBlock
+  // inStride is the block stride with spectrumBlock
+  const { frequency, rowStep } = spectrumIndex(inOffset, inStride, spectrumBlock);
   const m = plan.n >> 1;
   const { cos, sin } = plan;
   const rev = plan.half.rev;
@@ -431,33 +439,38 @@ export function realInverseFftRows(
   const pairs = len >> 1;
   for (let r0 = 0; r0 < rows; r0 += B) {
     const bw = Math.min(B, rows - r0);
-    for (let c = 0; c < bw; c++) {
-      const r = r0 + c;
-      {
-        const o0 = at(r, 0), om = at(r, m);
+    {
+      let o0 = frequency(0) + r0 * rowStep, om = frequency(m) + r0 * rowStep;
+      for (let c = 0; c < bw; c++, o0 += rowStep, om += rowStep) {
         const xr = re[o0], xi = im[o0], yr = re[om], yi = -im[om];
         const er = 0.5 * (xr + yr), ei = 0.5 * (xi + yi), or = 0.5 * (xr - yr), oi = 0.5 * (xi - yi);
         zr[c] = er - oi; zi[c] = ei + or; // rev[0] = 0
       }
-      for (let k = 1, h = m >> 1; k <= h; k++) {
-        const b = m - k;
-        const ok = at(r, k), ob = at(r, b);
+    }
+    for (let k = 1, h = m >> 1; k <= h; k++) {
+      const b = m - k;
+      const cs = cos[k], sn = sin[k];
+      const tk = rev[k] * B, tb = rev[b] * B;
+      let ok = frequency(k) + r0 * rowStep, ob = frequency(b) + r0 * rowStep;
+      for (let c = 0; c < bw; c++, ok += rowStep, ob += rowStep) {
         const xr = re[ok], xi = im[ok];
         const yr = re[ob], yi = -im[ob];
         const er = 0.5 * (xr + yr), ei = 0.5 * (xi + yi);
         const dr = 0.5 * (xr - yr), di = 0.5 * (xi - yi);
-        const cs = cos[k], sn = sin[k];
         const or = dr * cs - di * sn, oi = dr * sn + di * cs;
-        const tk = rev[k] * B + c, tb = rev[b] * B + c;
-        zr[tk] = er - oi; zi[tk] = ei + or;
-        zr[tb] = er + oi; zi[tb] = or - ei;
+        zr[tk + c] = er - oi; zi[tk + c] = ei + or;
+        zr[tb + c] = er + oi; zi[tb + c] = or - ei;
       }
     }
     columnBlockBitReversed(block.simd, plan.half, zr, zi, B, bw, 1, false);
-    for (let c = 0; c < bw; c++) {
-      const o = outOffset + (r0 + c) * outStride;
-      for (let i = 0; i < pairs; i++) { out[o + 2 * i] = zr[i * B + c] * s; out[o + 2 * i + 1] = zi[i * B + c] * s; }
-      if (len & 1) out[o + len - 1] = zr[pairs * B + c] * s;
+    const o0 = outOffset + r0 * outStride;
+    for (let i = 0; i < pairs; i++) {
+      const t = i * B;
+      for (let c = 0, o = o0 + 2 * i; c < bw; c++, o += outStride) { out[o] = zr[t + c] * s; out[o + 1] = zi[t + c] * s; }
+    }
+    if (len & 1) {
+      const t = pairs * B;
+      for (let c = 0, o = o0 + len - 1; c < bw; c++, o += outStride) out[o] = zr[t + c] * s;
     }
   }
 }
