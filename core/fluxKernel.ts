@@ -6,12 +6,17 @@
 
 import type { Grid } from './grid.js';
 import type { PaddedPlan, PaddedWorkspace, PaddedWorkspaceOptions } from './paddedTransform.js';
-import { createPaddedPlan, createPaddedWorkspace, createSpectrum, forwardPadded } from './paddedTransform.js';
+import { SPECTRUM_BLOCK, createPaddedPlan, createPaddedWorkspace, createSpectrum, forwardPadded } from './paddedTransform.js';
 import { CM_PER_MM } from './units.js';
 
 export interface FluxKernel extends Grid {
   readonly plan: PaddedPlan;
-  /** Imaginary parts of the spectra of x/r^2 and y/r^2, times dx dy (Mm^2) times 1e8 cm/Mm. */
+  /**
+   * Imaginary parts of the spectra of x/r^2 and y/r^2, times dx dy (Mm^2) times 1e8 cm/Mm, stored
+   * as the convolutions read them: by blocks of SPECTRUM_BLOCK frequencies kx, the py rows ky
+   * inside a block (frequency (kx, ky) at floor(kx / B) * py * B + ky * B + kx % B), so that a
+   * column block's products read one contiguous run.
+   */
   readonly kxIm: Float64Array;
   readonly kyIm: Float64Array;
   /**
@@ -55,7 +60,15 @@ export function createFluxKernel(grid: Grid, options: PaddedWorkspaceOptions = {
   const sy = createSpectrum(plan);
   forwardPadded(plan, kx, px, py, sx);
   forwardPadded(plan, ky, px, py, sy);
-  return { nx, ny, dx, dy, plan, kxIm: sx.im, kyIm: sy.im, scratch: {}, workspaceOptions: options };
+  return { nx, ny, dx, dy, plan, kxIm: byColumnBlocks(sx.im, plan), kyIm: byColumnBlocks(sy.im, plan), scratch: {}, workspaceOptions: options };
+}
+
+/** A row-major half spectrum (py rows of w) laid out by blocks of SPECTRUM_BLOCK columns. */
+function byColumnBlocks(spectrum: Float64Array, plan: PaddedPlan): Float64Array {
+  const { w, py } = plan, B = SPECTRUM_BLOCK;
+  const out = new Float64Array(Math.ceil(w / B) * B * py);
+  for (let ky = 0; ky < py; ky++) for (let kx = 0; kx < w; kx++) out[Math.floor(kx / B) * py * B + ky * B + (kx % B)] = spectrum[ky * w + kx];
+  return out;
 }
 
 /**

@@ -32,12 +32,12 @@ export function convolveField(kernel: FluxKernel, bn: ArrayLike<number>, rows?: 
   const { plan, kxIm, kyIm, nx, ny } = kernel;
   const p = new Float64Array(nx * ny);
   const q = new Float64Array(nx * ny);
-  const B = SPECTRUM_BLOCK, w = plan.w;
+  const B = SPECTRUM_BLOCK;
   // P^ = i kx Bn^, Q^ = i ky Bn^.
   convolvePadded(plan, kernelWorkspace(kernel), [bn], [p, q], (inRe, inIm, outRe, outIm, c0, width, rev) => {
     const br = inRe[0], bi = inIm[0], pr = outRe[0], pi = outIm[0], qr = outRe[1], qi = outIm[1];
     for (let ky = 0; ky < plan.py; ky++) {
-      const s = ky * B, t = rev[ky] * B, k = ky * w + c0;
+      const s = ky * B, t = rev[ky] * B, k = c0 * plan.py + s; // the kernel by column blocks (fluxKernel.ts)
       for (let c = 0; c < width; c++) {
         const a = kxIm[k + c], b = kyIm[k + c], re = br[s + c], im = bi[s + c];
         pr[t + c] = -a * im; pi[t + c] = a * re;
@@ -61,13 +61,13 @@ export function convolveTransport(
   const p = into?.p ?? new Float64Array(nx * ny);
   const q = into?.q ?? new Float64Array(nx * ny);
   const r = into?.r ?? new Float64Array(nx * ny);
-  const B = SPECTRUM_BLOCK, w = plan.w;
+  const B = SPECTRUM_BLOCK;
   // P^ = i kx Bn^, Q^ = i ky Bn^, R^ = i kx Fy^ - i ky Fx^.
   convolvePadded(plan, kernelWorkspace(kernel), [t.bn, t.fx, t.fy], [p, q, r], (inRe, inIm, outRe, outIm, c0, width, rev) => {
     const br = inRe[0], bi = inIm[0], xr = inRe[1], xi = inIm[1], yr = inRe[2], yi = inIm[2];
     const pr = outRe[0], pi = outIm[0], qr = outRe[1], qi = outIm[1], rr = outRe[2], ri = outIm[2];
     for (let ky = 0; ky < plan.py; ky++) {
-      const s = ky * B, o = rev[ky] * B, k = ky * w + c0;
+      const s = ky * B, o = rev[ky] * B, k = c0 * plan.py + s; // the kernel by column blocks (fluxKernel.ts)
       for (let c = 0; c < width; c++) {
         const a = kxIm[k + c], b = kyIm[k + c], re = br[s + c], im = bi[s + c];
         pr[o + c] = -a * im; pi[o + c] = a * re;
