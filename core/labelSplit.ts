@@ -76,15 +76,43 @@ export function splitByLabels(
   if (labels.length !== n) throw new RangeError(`labels has ${labels.length} values, expected ${n}`);
   const { bn, fx, fy, valid } = t;
 
-  // Compact label index and pixel counts over valid labelled pixels.
-  const idSet = new Set<number>();
-  for (let i = 0; i < n; i++) if (valid[i] && labels[i] > 0) idSet.add(labels[i]);
-  const ids = [...idSet].sort((a, b) => a - b);
+  // Compact label index (slot[i] = index of pixel i's footpoint, -1 for none), pixel counts,
+  // bounding boxes and the labelled pixels in ascending order, each footpoint's contiguous (a
+  // counting sort): the loops below visit labelled pixels only, in the order of a full pass, so
+  // every sum adds the same terms in the same order.
+  const { ids, slot } = labelSlots(labels, valid);
   const k = ids.length;
-  const index = new Map<number, number>();
-  ids.forEach((id, j) => index.set(id, j));
   const counts = new Float64Array(k);
-  for (let i = 0; i < n; i++) if (valid[i] && labels[i] > 0) counts[index.get(labels[i])!]++;
+  const x0s = new Int32Array(k).fill(nx), x1s = new Int32Array(k).fill(-1);
+  const y0s = new Int32Array(k).fill(ny), y1s = new Int32Array(k).fill(-1);
+  const labelledRows = new Uint8Array(ny);
+  let labelledCount = 0;
+  for (let y = 0, i = 0; y < ny; y++) {
+    for (let x = 0; x < nx; x++, i++) {
+      const j = slot[i];
+      if (j < 0) continue;
+      counts[j]++;
+      labelledCount++;
+      labelledRows[y] = 1;
+      if (x < x0s[j]) x0s[j] = x;
+      if (x > x1s[j]) x1s[j] = x;
+      if (y < y0s[j]) y0s[j] = y;
+      y1s[j] = y;
+    }
+  }
+  const labelled = new Int32Array(labelledCount);
+  const start = new Int32Array(k + 1);
+  for (let j = 0; j < k; j++) start[j + 1] = start[j] + counts[j];
+  const byFootpoint = new Int32Array(labelledCount);
+  {
+    const next = start.slice(0, k);
+    for (let i = 0, p = 0; i < n; i++) {
+      const j = slot[i];
+      if (j < 0) continue;
+      labelled[p++] = i;
+      byFootpoint[next[j]++] = i;
+    }
+  }
 
   // Which footpoints get their own convolution: largest first, while direct sums would cost more.
   const perPixel = options.directPairsPerPaddedPixel ?? 12;
@@ -128,18 +156,13 @@ export function splitByLabels(
   const groupStart: number[] = [];
   const groupLabel: number[] = [];
   {
-    const byLabel: number[][] = ids.map(() => []);
-    for (let i = 0; i < n; i++) {
-      if (!valid[i] || labels[i] <= 0) continue;
-      const j = index.get(labels[i])!;
-      if (!big[j]) byLabel[j].push(i);
-    }
     let p = 0;
     for (let j = 0; j < k; j++) {
-      if (big[j] || byLabel[j].length === 0) continue;
+      if (big[j] || counts[j] === 0) continue;
       groupStart.push(p);
       groupLabel.push(j);
-      for (const i of byLabel[j]) {
+      for (let e = start[j]; e < start[j + 1]; e++) {
+        const i = byFootpoint[e];
         xs[p] = (i % nx) * dx; ys[p] = Math.floor(i / nx) * dy;
         bs[p] = bn[i]; fxs[p] = fx[i]; fys[p] = fy[i];
         p++;
@@ -181,23 +204,31 @@ export function splitByLabels(
     for (const j of order) if (big[j] && rows < maxFullRows) { hasRow[j] = 1; rows++; }
   }
   const fftSums = new Float64Array(k * k);
-  const mb = new Float64Array(n), mfx = new Float64Array(n), mfy = new Float64Array(n);
-  // One set of convolution maps for every full-grid convolution below (each overwrites it).
-  const convMaps = { p: new Float64Array(n), q: new Float64Array(n), r: new Float64Array(n) };
-  // The convolutions are read at labelled pixels only: rows without one are not transformed back.
-  const labelledRows = new Uint8Array(ny);
-  for (let i = 0; i < n; i++) if (valid[i] && labels[i] > 0) labelledRows[(i - (i % nx)) / nx] = 1;
+  // The full-grid inputs (zero but for one footpoint's pixels, which are cleared after its
+  // convolution) and one set of convolution maps for every full-grid convolution below (each
+  // overwrites it), made only when a convolution needs them.
+  let inputs: { bn: Float64Array; fx: Float64Array; fy: Float64Array } | undefined;
+  let convMaps: { p: Float64Array; q: Float64Array; r: Float64Array } | undefined;
+  const fullGrid = () => {
+    inputs ??= { bn: new Float64Array(n), fx: new Float64Array(n), fy: new Float64Array(n) };
+    convMaps ??= { p: new Float64Array(n), q: new Float64Array(n), r: new Float64Array(n) };
+    return { inputs, convMaps };
+  };
+  /** Convolution of the pixels byFootpoint[from..to) (labelled[from..to) when `pixels` is `labelled`). */
+  const convolvePixels = (pixels: Int32Array, from: number, to: number) => {
+    const { inputs: m, convMaps: out } = fullGrid();
+    for (let e = from; e < to; e++) { const i = pixels[e]; m.bn[i] = bn[i]; m.fx[i] = fx[i]; m.fy[i] = fy[i]; }
+    const conv = convolveTransport(kernel, m, labelledRows, out);
+    for (let e = from; e < to; e++) { const i = pixels[e]; m.bn[i] = 0; m.fx[i] = 0; m.fy[i] = 0; }
+    return conv;
+  };
   for (let a = 0; a < k; a++) {
     if (!big[a]) continue;
     if (!hasRow[a]) { fftSums[a * k + a] = boxSpinSum(a); continue; }
-    mb.fill(0); mfx.fill(0); mfy.fill(0);
-    for (let i = 0; i < n; i++) {
-      if (valid[i] && labels[i] === ids[a]) { mb[i] = bn[i]; mfx[i] = fx[i]; mfy[i] = fy[i]; }
-    }
-    const { p, q, r } = convolveTransport(kernel, { bn: mb, fx: mfx, fy: mfy }, labelledRows, convMaps);
-    for (let i = 0; i < n; i++) {
-      if (!valid[i] || labels[i] <= 0) continue;
-      const b = index.get(labels[i])!;
+    const { p, q, r } = convolvePixels(byFootpoint, start[a], start[a + 1]);
+    for (let e = 0; e < labelledCount; e++) {
+      const i = labelled[e];
+      const b = slot[i];
       if (hasRow[b] && b < a) continue; // that pair was taken from b's convolution
       fftSums[b * k + a] += fy[i] * p[i] - fx[i] * q[i] - bn[i] * r[i];
     }
@@ -205,19 +236,15 @@ export function splitByLabels(
 
   /** The within-footpoint sum of footpoint `a` from a convolution over its bounding box. */
   function boxSpinSum(a: number): number {
-    let x0 = nx, x1 = -1, y0 = ny, y1 = -1;
-    for (let i = 0; i < n; i++) {
-      if (!valid[i] || labels[i] !== ids[a]) continue;
-      const x = i % nx, y = (i - x) / nx;
-      if (x < x0) x0 = x; if (x > x1) x1 = x; if (y < y0) y0 = y; if (y > y1) y1 = y;
-    }
+    const x0 = x0s[a], x1 = x1s[a], y0 = y0s[a], y1 = y1s[a];
     // Box sides rounded up to powers of two: the padded transform has the same size either way
     // (2^ceil(log2(2w - 1)) = 2 nextPow2(w)), and the cache then holds few kernels.
     const w = nextPowerOfTwo(x1 - x0 + 1), h = nextPowerOfTwo(y1 - y0 + 1);
     const sb = new Float64Array(w * h), sfx = new Float64Array(w * h), sfy = new Float64Array(w * h);
-    for (let y = y0; y <= y1; y++) for (let x = x0; x <= x1; x++) {
-      const i = y * nx + x;
-      if (valid[i] && labels[i] === ids[a]) { const j = (y - y0) * w + (x - x0); sb[j] = bn[i]; sfx[j] = fx[i]; sfy[j] = fy[i]; }
+    for (let e = start[a]; e < start[a + 1]; e++) {
+      const i = byFootpoint[e], x = i % nx, y = (i - x) / nx;
+      const j = (y - y0) * w + (x - x0);
+      sb[j] = bn[i]; sfx[j] = fx[i]; sfy[j] = fy[i];
     }
     const { p, q, r } = convolveTransport(fluxKernelFor({ nx: w, ny: h, dx, dy }, options.cache), { bn: sb, fx: sfx, fy: sfy });
     let sum = 0;
@@ -245,12 +272,10 @@ export function splitByLabels(
   let labelledField: { p: Float64Array; q: Float64Array } | undefined;
   if (!pairsComplete) {
     // Orbit total = (labelled-labelled double sum) - spins, by one convolution of all labelled pixels.
-    mb.fill(0); mfx.fill(0); mfy.fill(0);
-    for (let i = 0; i < n; i++) if (valid[i] && labels[i] > 0) { mb[i] = bn[i]; mfx[i] = fx[i]; mfy[i] = fy[i]; }
-    const { p, q, r } = convolveTransport(kernel, { bn: mb, fx: mfx, fy: mfy }, labelledRows, convMaps);
-    let labelled = 0;
-    for (let i = 0; i < n; i++) if (valid[i] && labels[i] > 0) labelled += fy[i] * p[i] - fx[i] * q[i] - bn[i] * r[i];
-    orbitTotal = fftFactor * labelled - spinTotal;
+    const { p, q, r } = convolvePixels(labelled, 0, labelledCount);
+    let labelledSum = 0;
+    for (let e = 0; e < labelledCount; e++) { const i = labelled[e]; labelledSum += fy[i] * p[i] - fx[i] * q[i] - bn[i] * r[i]; }
+    orbitTotal = fftFactor * labelledSum - spinTotal;
     labelledField = { p, q };
   }
   const total = options.total ?? helicityFluxTotal(kernel, t);
@@ -258,4 +283,31 @@ export function splitByLabels(
     ids, spin, orbit, spinTotal, orbitTotal, background: total - spinTotal - orbitTotal, total,
     convolvedFootpoints: big.reduce((s, v) => s + v, 0), pairsComplete, ...(labelledField && { labelledField }),
   };
+}
+
+/**
+ * The label values present among valid pixels (ascending, 0 and negatives excluded) and each
+ * pixel's index among them (-1 for none). Labels are looked up in a table as long as the largest
+ * label is not far above the pixel count (footpoint ids are), otherwise in a map.
+ */
+function labelSlots(labels: Int32Array, valid: Uint8Array): { ids: number[]; slot: Int32Array } {
+  const n = labels.length;
+  let max = 0;
+  for (let i = 0; i < n; i++) if (labels[i] > max && valid[i]) max = labels[i];
+  const slot = new Int32Array(n).fill(-1);
+  if (max <= 4 * n + 1024) {
+    const table = new Int32Array(max + 1);
+    for (let i = 0; i < n; i++) if (labels[i] > 0 && valid[i]) table[labels[i]] = 1;
+    const ids: number[] = [];
+    for (let l = 1; l <= max; l++) if (table[l]) { table[l] = ids.length; ids.push(l); }
+    for (let i = 0; i < n; i++) if (labels[i] > 0 && valid[i]) slot[i] = table[labels[i]];
+    return { ids, slot };
+  }
+  const idSet = new Set<number>();
+  for (let i = 0; i < n; i++) if (labels[i] > 0 && valid[i]) idSet.add(labels[i]);
+  const ids = [...idSet].sort((a, b) => a - b);
+  const index = new Map<number, number>();
+  ids.forEach((id, j) => index.set(id, j));
+  for (let i = 0; i < n; i++) if (labels[i] > 0 && valid[i]) slot[i] = index.get(labels[i])!;
+  return { ids, slot };
 }
