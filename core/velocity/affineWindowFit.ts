@@ -16,7 +16,7 @@
 // Error Models). A window where the correction leaves the matrix not positive definite has too
 // little signal above the noise and is counted as ill-conditioned.
 
-import { correlateColumnsAt, correlateFiniteRows, gaussianTaps, windowRadius } from './windowedSum.js';
+import { correlateColumnsAt, correlateColumnsAtFused, correlateFiniteRows, correlateFiniteRowsFused, gaussianTaps, windowRadius } from './windowedSum.js';
 
 export interface ModelTerm {
   readonly coef: number;
@@ -84,12 +84,8 @@ export function affineWindowFit(
     }
   }
 
-  const valid = new Uint8Array(size);
-  for (let i = 0; i < size; i++) {
-    let ok = 1;
-    for (const c of channels) if (!Number.isFinite(c[i])) { ok = 0; break; }
-    valid[i] = ok;
-  }
+  const valid = new Uint8Array(size).fill(1);
+  for (const c of channels) for (let i = 0; i < size; i++) if (!Number.isFinite(c[i])) valid[i] = 0;
 
   // The fit is needed at the centres to solve only: the windowed sums are evaluated there (the
   // column pass at those pixels, the row pass at the pixels their column windows read), in the same order
@@ -104,17 +100,28 @@ export function affineWindowFit(
     const x = centres[k] % nx, y = (centres[k] - x) / nx;
     for (let e = Math.max(0, y - r); e <= Math.min(ny - 1, y + r); e++) rowsNeeded[e * nx + x] = 1;
   }
+  // The row passes read the products on [spanFrom, spanTo) of each row only (the needed pixels
+  // and r beyond them): the products are formed there alone.
+  const spanFrom = new Int32Array(ny), spanTo = new Int32Array(ny);
+  for (let y = 0; y < ny; y++) {
+    let first = -1, last = -1;
+    for (let x = 0, i = y * nx; x < nx; x++, i++) if (rowsNeeded[i]) { if (first < 0) first = x; last = x; }
+    if (first >= 0) { spanFrom[y] = y * nx + Math.max(0, first - r); spanTo[y] = y * nx + Math.min(nx, last + r + 1); }
+  }
   const taps: Float64Array[] = [0, 1, 2, 3, 4].map((power) => gaussianTaps(sigma, r, power));
   // One compact array per matrix entry (entry-major, one value per centre), so that adding a moment
   // into an entry is one contiguous loop.
   const sums: Float64Array[] = Array.from({ length: entries }, () => new Float64Array(count));
   const product = new Float64Array(size);
-  const rowPassed = new Map<number, Float64Array>();
-  // Row-pass buffers per power of x, made when a moment first needs that power.
+  // Row-pass buffers per power of x, made when a moment first needs that power; one column-pass
+  // output per moment of a channel pair.
   const rowBuffers: Float64Array[] = [];
   const rowBuffer = (power: number) => (rowBuffers[power] ??= new Float64Array(size));
-  const column = new Float64Array(count);
-  // Group the moments by channel pair so that a product and its row passes are made once.
+  const columnOut: Float64Array[] = [];
+  // Group the moments by channel pair: a product is made once, its row passes for every power of
+  // x in one sweep, and the column passes of each row-passed map in one sweep; the moments are
+  // then added into the entries in their own order (the order of the sums is that of one moment
+  // at a time).
   const byPair = new Map<string, Moment[]>();
   for (const m of moments.values()) {
     const key = `${m.j},${m.k}`;
@@ -124,21 +131,23 @@ export function affineWindowFit(
   }
   for (const list of byPair.values()) {
     const a = channels[list[0].j], b = channels[list[0].k];
-    for (let i = 0; i < size; i++) product[i] = valid[i] ? a[i] * b[i] : 0;
-    rowPassed.clear();
-    for (const m of list) {
-      let rows = rowPassed.get(m.px);
-      if (!rows) {
-        rows = rowBuffer(m.px);
-        correlateFiniteRows(product, nx, ny, taps[m.px], rows, rowsNeeded);
-        rowPassed.set(m.px, rows);
-      }
-      correlateColumnsAt(rows, nx, ny, taps[m.py], centres, column);
+    for (let y = 0; y < ny; y++) {
+      for (let i = spanFrom[y]; i < spanTo[y]; i++) product[i] = valid[i] ? a[i] * b[i] : 0;
+    }
+    const powers = [...new Set(list.map((m) => m.px))];
+    correlateFiniteRowsFused(product, nx, ny, powers.map((px) => taps[px]), powers.map(rowBuffer), rowsNeeded);
+    list.forEach((_m, e) => { columnOut[e] ??= new Float64Array(count); });
+    for (const px of powers) {
+      const at = list.map((m, e) => (m.px === px ? e : -1)).filter((e) => e >= 0);
+      correlateColumnsAtFused(rowBuffer(px), nx, ny, at.map((e) => taps[list[e].py]), centres, at.map((e) => columnOut[e]));
+    }
+    list.forEach((m, e) => {
+      const column = columnOut[e];
       for (const u of m.uses) {
         const target = sums[u.entry], coef = u.coef;
         for (let k = 0; k < count; k++) target[k] += coef * column[k];
       }
-    }
+    });
   }
 
   // Before the noise correction, the diagonal (to judge how much of it was noise).

@@ -162,3 +162,105 @@ export function correlateColumnsAt(input: Float64Array, nx: number, ny: number, 
     out[k] = s;
   }
 }
+
+/**
+ * correlateFiniteRows with two or three tap sets of one length at once (outs[k] from taps[k]),
+ * for moments of one product that differ in their power of x: each input value is read once for
+ * all of them, and each output is the same sum in the same order as correlateFiniteRows gives.
+ */
+export function correlateFiniteRowsFused(
+  input: ArrayLike<number>, nx: number, ny: number, taps: readonly Float64Array[], outs: readonly Float64Array[], at: Uint8Array,
+): void {
+  const count = taps.length;
+  if (count === 1) { correlateFiniteRows(input, nx, ny, taps[0], outs[0], at); return; }
+  const r = (taps[0].length - 1) >> 1;
+  const syms = taps.map(tapSymmetry);
+  if (count > 3 || taps.some((t) => t.length !== taps[0].length) || syms.includes(0)) {
+    for (let k = 0; k < count; k++) correlateFiniteRows(input, nx, ny, taps[k], outs[k], at);
+    return;
+  }
+  const three = count === 3;
+  const ta = taps[0], tb = taps[1], tc = three ? taps[2] : taps[1];
+  const oa = outs[0], ob = outs[1], oc = three ? outs[2] : outs[1];
+  const evenA = syms[0] === 1, evenB = syms[1] === 1, evenC = three ? syms[2] === 1 : evenB;
+  const lo = Math.min(r, nx), hi = Math.max(lo, nx - r);
+  for (let y = 0; y < ny; y++) {
+    const row = y * nx;
+    for (let x = 0; x < nx; x++) {
+      const i = row + x;
+      if (at[i] === 0) continue;
+      if (x >= lo && x < hi) {
+        const c = input[i];
+        let sa = ta[r] * c, sb = tb[r] * c, sc = three ? tc[r] * c : 0;
+        for (let d = 1; d <= r; d++) {
+          const p = input[i + d], m = input[i - d];
+          const even = p + m, odd = p - m;
+          sa += ta[r + d] * (evenA ? even : odd);
+          sb += tb[r + d] * (evenB ? even : odd);
+          if (three) sc += tc[r + d] * (evenC ? even : odd);
+        }
+        oa[i] = sa; ob[i] = sb; if (three) oc[i] = sc;
+        continue;
+      }
+      const dlo = Math.max(-r, -x), dhi = Math.min(r, nx - 1 - x);
+      let sa = 0, sb = 0, sc = 0;
+      for (let d = dlo; d <= dhi; d++) {
+        const v = input[i + d];
+        sa += ta[d + r] * v;
+        sb += tb[d + r] * v;
+        if (three) sc += tc[d + r] * v;
+      }
+      oa[i] = sa; ob[i] = sb; if (three) oc[i] = sc;
+    }
+  }
+}
+
+/**
+ * correlateColumnsAt with two or three tap sets of one length at once (outs[k] from taps[k]), for
+ * moments of one row-passed map that differ in their power of y: each value read once for all,
+ * each output the same sum in the same order as correlateColumnsAt gives.
+ */
+export function correlateColumnsAtFused(
+  input: Float64Array, nx: number, ny: number, taps: readonly Float64Array[], at: Int32Array, outs: readonly Float64Array[],
+): void {
+  const count = taps.length;
+  if (count === 1) { correlateColumnsAt(input, nx, ny, taps[0], at, outs[0]); return; }
+  const r = (taps[0].length - 1) >> 1;
+  const syms = taps.map(tapSymmetry);
+  if (count > 3 || taps.some((t) => t.length !== taps[0].length) || syms.includes(0)) {
+    for (let k = 0; k < count; k++) correlateColumnsAt(input, nx, ny, taps[k], at, outs[k]);
+    return;
+  }
+  const three = count === 3;
+  const ta = taps[0], tb = taps[1], tc = three ? taps[2] : taps[1];
+  const oa = outs[0], ob = outs[1], oc = three ? outs[2] : outs[1];
+  const evenA = syms[0] === 1, evenB = syms[1] === 1, evenC = three ? syms[2] === 1 : evenB;
+  for (let k = 0; k < at.length; k++) {
+    const i = at[k];
+    const x = i % nx, y = (i - x) / nx;
+    if (y >= r && y < ny - r) {
+      const c = input[i];
+      let sa = ta[r] * c, sb = tb[r] * c, sc = three ? tc[r] * c : 0;
+      for (let e = 1; e <= r; e++) {
+        const p = input[i + e * nx], m = input[i - e * nx];
+        const even = p + m, odd = p - m;
+        sa += ta[r + e] * (evenA ? even : odd);
+        sb += tb[r + e] * (evenB ? even : odd);
+        if (three) sc += tc[r + e] * (evenC ? even : odd);
+      }
+      oa[k] = sa; ob[k] = sb; if (three) oc[k] = sc;
+      continue;
+    }
+    // At the edges, zero taps are skipped as correlateColumnsAt skips them.
+    const lo = Math.max(-r, -y), hi = Math.min(r, ny - 1 - y);
+    let sa = 0, sb = 0, sc = 0;
+    for (let e = lo; e <= hi; e++) {
+      const v = input[(y + e) * nx + x];
+      const a = ta[e + r], b = tb[e + r];
+      if (a !== 0) sa += a * v;
+      if (b !== 0) sb += b * v;
+      if (three) { const c = tc[e + r]; if (c !== 0) sc += c * v; }
+    }
+    oa[k] = sa; ob[k] = sb; if (three) oc[k] = sc;
+  }
+}
