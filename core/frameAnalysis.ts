@@ -165,7 +165,8 @@ export function* analyseFrameSteps(
       maps: { gTheta: r.gTheta, ...(footpoints && { labels: footpoints.labels }), vx: frame.vx, vy: frame.vy, ...(frame.vz && { vz: frame.vz }) },
       // The history goes on through frames that carry their velocity, so that a later pair
       // without one measures over the same frames whatever came before (and a restore agrees).
-      state: { previous: frame, history: nextHistory(smoothed()), ...(footpoints ? { footpoints: footpoints.state } : keepFootpoints) },
+      // The segmentation smoothed this frame with the same width: its field is the history's.
+      state: { previous: frame, history: nextHistory(tracked ? tracked.seg.field : smoothed()), ...(footpoints ? { footpoints: footpoints.state } : keepFootpoints) },
     };
   }
 
