@@ -4,7 +4,7 @@
 // the inner loop is contiguous), and a real-input transform of length 2m through one complex
 // transform of length m. Forward uses exp(-2 pi i k n / N); inverse is unscaled (callers scale).
 
-import type { SimdArena } from './simdColumns.js';
+import type { SimdArena, SpectrumLayout } from './simdColumns.js';
 
 export interface FftPlan {
   /** Transform length (a power of two). */
@@ -350,10 +350,10 @@ export function columnBlockBitReversed(
  * `block` b (a power of two) offset + floor(k / b)*stride + r*b + k % b (blocks of b frequencies
  * with the rows inside, stride being the block's size). As frequency(k) + r * rowStep.
  */
-function spectrumIndex(offset: number, stride: number, block: number): { frequency: (k: number) => number; rowStep: number } {
-  if (block <= 0) return { frequency: (k) => offset + k, rowStep: stride };
+function spectrumIndex(offset: number, stride: number, block: number): SpectrumLayout & { frequency: (k: number) => number } {
+  if (block <= 0) return { frequency: (k) => offset + k, rowStep: stride, offset, shift: 31, mask: -1, stride: 0 };
   const shift = Math.log2(block), mask = block - 1;
-  return { frequency: (k) => offset + (k >> shift) * stride + (k & mask), rowStep: block };
+  return { frequency: (k) => offset + (k >> shift) * stride + (k & mask), rowStep: block, offset, shift, mask, stride };
 }
 
 /**
@@ -369,7 +369,8 @@ export function realFftRows(
   plan: RealFftPlan, x: ArrayLike<number>, inOffset: number, inStride: number, count: number, rows: number,
   outRe: Float64Array, outIm: Float64Array, outOffset: number, outStride: number, block: RowBlock, spectrumBlock = 0,
 ): void {
-  const { frequency, rowStep } = spectrumIndex(outOffset, outStride, spectrumBlock);
+  const layout = spectrumIndex(outOffset, outStride, spectrumBlock);
+  const { frequency, rowStep } = layout;
   const m = plan.n >> 1;
   const { cos, sin } = plan;
   const rev = plan.half.rev;
@@ -401,6 +402,7 @@ export function realFftRows(
         outRe[fm + c * rowStep] = zr[c] - zi[c]; outIm[fm + c * rowStep] = 0;
       }
     }
+    if (block.simd?.realSplitOut(plan, zr, zi, B, bw, outRe, outIm, { ...layout, offset: layout.offset + r0 * rowStep })) continue;
     for (let k = 1, h = m >> 1; k <= h; k++) {
       const b = m - k;
       const cs = cos[k], sn = sin[k];
@@ -428,7 +430,8 @@ export function realInverseFftRows(
   out: Float64Array, outOffset: number, outStride: number, count: number, scale: number, block: RowBlock, spectrumBlock = 0,
 ): void {
   // inStride is the block stride with spectrumBlock
-  const { frequency, rowStep } = spectrumIndex(inOffset, inStride, spectrumBlock);
+  const layout = spectrumIndex(inOffset, inStride, spectrumBlock);
+  const { frequency, rowStep } = layout;
   const m = plan.n >> 1;
   const { cos, sin } = plan;
   const rev = plan.half.rev;
@@ -447,7 +450,8 @@ export function realInverseFftRows(
         zr[c] = er - oi; zi[c] = ei + or; // rev[0] = 0
       }
     }
-    for (let k = 1, h = m >> 1; k <= h; k++) {
+    const split = block.simd?.realSplitIn(plan, re, im, { ...layout, offset: layout.offset + r0 * rowStep }, zr, zi, B, bw) ?? false;
+    for (let k = 1, h = split ? 0 : m >> 1; k <= h; k++) {
       const b = m - k;
       const cs = cos[k], sn = sin[k];
       const tk = rev[k] * B, tb = rev[b] * B;

@@ -6,7 +6,9 @@
 
 import type { Grid } from './grid.js';
 import type { PaddedPlan, PaddedWorkspace, PaddedWorkspaceOptions } from './paddedTransform.js';
-import { SPECTRUM_BLOCK, createPaddedPlan, createPaddedWorkspace, createSpectrum, forwardPadded } from './paddedTransform.js';
+import { SPECTRUM_BLOCK, createPaddedPlan, createPaddedWorkspace, createSpectrum, forwardPadded, paddedWorkspaceBytes } from './paddedTransform.js';
+import type { SimdArena } from './simdColumns.js';
+import { arenaBytes, createSimdArena } from './simdColumns.js';
 import { CM_PER_MM } from './units.js';
 
 export interface FluxKernel extends Grid {
@@ -27,11 +29,19 @@ export interface FluxKernel extends Grid {
   readonly scratch: { workspace?: PaddedWorkspace };
   /** How the workspace is made (simd: false keeps the TypeScript butterflies; default SIMD where available). */
   readonly workspaceOptions?: PaddedWorkspaceOptions;
+  /**
+   * The WebAssembly memory (core/simdColumns.ts) holding kxIm, kyIm and, once made, the workspace,
+   * so that the SIMD kernels form the spectral products in place; absent without SIMD.
+   */
+  readonly arena?: SimdArena;
 }
 
-/** The kernel's transform buffers (three maps: the most any convolution here needs at once). */
+/** Channels of the kernel's workspace: the most any convolution here needs at once. */
+const KERNEL_CHANNELS = 3;
+
+/** The kernel's transform buffers (in its arena when it has one). */
 export function kernelWorkspace(kernel: FluxKernel): PaddedWorkspace {
-  return kernel.scratch.workspace ??= createPaddedWorkspace(kernel.plan, 3, kernel.workspaceOptions);
+  return kernel.scratch.workspace ??= createPaddedWorkspace(kernel.plan, KERNEL_CHANNELS, { ...kernel.workspaceOptions, arena: kernel.arena });
 }
 
 /** An explicit, caller-owned cache of kernels by grid (shape and pixel size). */
@@ -60,13 +70,17 @@ export function createFluxKernel(grid: Grid, options: PaddedWorkspaceOptions = {
   const sy = createSpectrum(plan);
   forwardPadded(plan, kx, px, py, sx);
   forwardPadded(plan, ky, px, py, sy);
-  return { nx, ny, dx, dy, plan, kxIm: byColumnBlocks(sx.im, plan), kyIm: byColumnBlocks(sy.im, plan), scratch: {}, workspaceOptions: options };
+  const length = Math.ceil(plan.w / SPECTRUM_BLOCK) * SPECTRUM_BLOCK * py;
+  const arena = options.simd === false ? undefined
+    : createSimdArena(2 * arenaBytes(length) + paddedWorkspaceBytes(plan, KERNEL_CHANNELS), [plan.cols], [plan.rows]);
+  const spectrum = () => arena ? arena.alloc(length) : new Float64Array(length);
+  const kxIm = byColumnBlocks(sx.im, plan, spectrum()), kyIm = byColumnBlocks(sy.im, plan, spectrum());
+  return { nx, ny, dx, dy, plan, kxIm, kyIm, scratch: {}, workspaceOptions: options, ...(arena && { arena }) };
 }
 
-/** A row-major half spectrum (py rows of w) laid out by blocks of SPECTRUM_BLOCK columns. */
-function byColumnBlocks(spectrum: Float64Array, plan: PaddedPlan): Float64Array {
+/** A row-major half spectrum (py rows of w) laid out by blocks of SPECTRUM_BLOCK columns into `out` (zeros beyond w). */
+function byColumnBlocks(spectrum: Float64Array, plan: PaddedPlan, out: Float64Array): Float64Array {
   const { w, py } = plan, B = SPECTRUM_BLOCK;
-  const out = new Float64Array(Math.ceil(w / B) * B * py);
   for (let ky = 0; ky < py; ky++) for (let kx = 0; kx < w; kx++) out[Math.floor(kx / B) * py * B + ky * B + (kx % B)] = spectrum[ky * w + kx];
   return out;
 }

@@ -34,7 +34,11 @@ export function convolveField(kernel: FluxKernel, bn: ArrayLike<number>, rows?: 
   const q = new Float64Array(nx * ny);
   const B = SPECTRUM_BLOCK;
   // P^ = i kx Bn^, Q^ = i ky Bn^.
-  convolvePadded(plan, kernelWorkspace(kernel), [bn], [p, q], (inRe, inIm, outRe, outIm, c0, width, rev) => {
+  const work = kernelWorkspace(kernel), blockSize = plan.py * B;
+  convolvePadded(plan, work, [bn], [p, q], (inRe, inIm, outRe, outIm, c0, width, rev) => {
+    // By the SIMD kernel when the kernel and its workspace lie in its arena (the same products).
+    const kb = c0 * plan.py;
+    if (work.simd?.products('field', plan.cols, inRe, inIm, outRe, outIm, kxIm.subarray(kb, kb + blockSize), kyIm.subarray(kb, kb + blockSize), B, width)) return;
     const br = inRe[0], bi = inIm[0], pr = outRe[0], pi = outIm[0], qr = outRe[1], qi = outIm[1];
     for (let ky = 0; ky < plan.py; ky++) {
       const s = ky * B, t = rev[ky] * B, k = c0 * plan.py + s; // the kernel by column blocks (fluxKernel.ts)
@@ -63,7 +67,11 @@ export function convolveTransport(
   const r = into?.r ?? new Float64Array(nx * ny);
   const B = SPECTRUM_BLOCK;
   // P^ = i kx Bn^, Q^ = i ky Bn^, R^ = i kx Fy^ - i ky Fx^.
-  convolvePadded(plan, kernelWorkspace(kernel), [t.bn, t.fx, t.fy], [p, q, r], (inRe, inIm, outRe, outIm, c0, width, rev) => {
+  const work = kernelWorkspace(kernel), blockSize = plan.py * B;
+  convolvePadded(plan, work, [t.bn, t.fx, t.fy], [p, q, r], (inRe, inIm, outRe, outIm, c0, width, rev) => {
+    // By the SIMD kernel when the kernel and its workspace lie in its arena (the same products).
+    const kb = c0 * plan.py;
+    if (work.simd?.products('transport', plan.cols, inRe, inIm, outRe, outIm, kxIm.subarray(kb, kb + blockSize), kyIm.subarray(kb, kb + blockSize), B, width)) return;
     const br = inRe[0], bi = inIm[0], xr = inRe[1], xi = inIm[1], yr = inRe[2], yi = inIm[2];
     const pr = outRe[0], pi = outIm[0], qr = outRe[1], qi = outIm[1], rr = outRe[2], ri = outIm[2];
     for (let ky = 0; ky < plan.py; ky++) {

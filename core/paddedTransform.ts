@@ -94,15 +94,23 @@ export interface PaddedWorkspaceOptions {
    * cannot be had, the buffers are plain arrays and the TypeScript loops run.
    */
   readonly simd?: boolean;
+  /**
+   * The arena to allocate the buffers in (made with room for paddedWorkspaceBytes and the tables of
+   * plan.cols and plan.rows); otherwise the workspace makes its own.
+   */
+  readonly arena?: SimdArena;
+}
+
+/** Bytes the buffers of a workspace take in a SIMD arena. */
+export function paddedWorkspaceBytes(plan: PaddedPlan, channels: number): number {
+  const rowSize = Math.ceil(plan.w / SPECTRUM_BLOCK) * SPECTRUM_BLOCK * plan.ny, blockSize = plan.py * SPECTRUM_BLOCK;
+  return channels * (2 * arenaBytes(rowSize) + 4 * arenaBytes(blockSize)) + 2 * arenaBytes(rowBlockLength(plan.rows));
 }
 
 export function createPaddedWorkspace(plan: PaddedPlan, channels: number, options: PaddedWorkspaceOptions = {}): PaddedWorkspace {
   const rowSize = Math.ceil(plan.w / SPECTRUM_BLOCK) * SPECTRUM_BLOCK * plan.ny, blockSize = plan.py * SPECTRUM_BLOCK;
-  const rowBlockSize = rowBlockLength(plan.rows);
-  const simd = options.simd === false ? undefined : createSimdArena(
-    channels * (2 * arenaBytes(rowSize) + 4 * arenaBytes(blockSize)) + 2 * arenaBytes(rowBlockSize),
-    [plan.cols, plan.rows.half],
-  );
+  const simd = options.simd === false ? undefined
+    : options.arena ?? createSimdArena(paddedWorkspaceBytes(plan, channels), [plan.cols], [plan.rows]);
   const maps = (size: number) => Array.from({ length: channels }, () => simd ? simd.alloc(size) : new Float64Array(size));
   return {
     channels, rowRe: maps(rowSize), rowIm: maps(rowSize),

@@ -6,7 +6,7 @@
 // undefined where WebAssembly or its SIMD instructions are missing; callers then keep plain arrays
 // and the TypeScript loops.
 
-import type { FftPlan } from './fft.js';
+import type { FftPlan, RealFftPlan } from './fft.js';
 import { F64, FunctionCode, I32, V128, moduleBytes } from './wasmBinary.js';
 
 /**
@@ -154,9 +154,153 @@ function columnsFunction(): FunctionCode {
   return f;
 }
 
+/**
+ * The real-transform split passes of realFftRows (out: frequencies 1..m/2 of the bw rows of a
+ * block, from the transformed block to the spectra) and realInverseFftRows (in: from the spectra
+ * to the block, in bit-reversed rows). Lanes are two adjacent rows (block columns); the spectra side
+ * is read and written lane by lane (its rows are rowBytes apart). Frequency k of row c sits at
+ * base + (k >>> shift) * strideBytes + (k & mask) * 8 + c * rowBytes, from the spectra's addresses.
+ * With an odd row count the last row goes alone (lane 1 neither read from nor stored to the spectra).
+ */
+function realSplitFunction(direction: 'out' | 'in'): FunctionCode {
+  // out: (zr, zi, rows, specRe, specIm, base, rowBytes, shift, mask, strideBytes, m, cos, sin, rev, blockRowBytes)
+  // in: the same parameters; the spectra are read and the block written.
+  const f = new FunctionCode([I32, I32, I32, I32, I32, I32, I32, I32, I32, I32, I32, I32, I32, I32, I32]);
+  const ZR = 0, ZI = 1, BW = 2, SRE = 3, SIM = 4, BASE = 5, RB = 6, SHIFT = 7, MASK = 8, STRIDE = 9, M = 10, COS = 11, SIN = 12, REV = 13, WB = 14;
+  const i32 = () => f.local(I32), v = () => f.local(V128);
+  const k = i32(), h = i32(), zk = i32(), zb = i32(), fk = i32(), fb = i32(), x = i32(), o = i32(), pairEnd = i32(), dzi = i32();
+  const cs = v(), sn = v(), half = v(), nhalf = v();
+  const ar = v(), ai = v(), br = v(), bi = v(), er = v(), ei = v(), dr = v(), di = v(), or = v(), oi = v(), tr = v(), ti = v();
+  const let_ = (into: number, value: () => void) => { value(); f.set(into); };
+  const op2 = (a: number, b: number, op: 'add' | 'sub' | 'mul') => () => {
+    f.get(a).get(b);
+    if (op === 'add') f.f64x2Add(); else if (op === 'sub') f.f64x2Sub(); else f.f64x2Mul();
+  };
+  /** Address of frequency `kk` (pushed by the callback) relative to the spectra's start. */
+  const frequency = (kk: () => void) => {
+    kk(); f.get(SHIFT).i32ShrU().get(STRIDE).i32Mul();
+    kk(); f.get(MASK).i32And().i32(3).i32Shl().i32Add().get(BASE).i32Add();
+  };
+  const lanes = (base: number, delta: number, tail: boolean) => {
+    // two rows rowBytes apart into lanes 0 and 1 (lane 1 zero for a lone last row)
+    if (!tail) { f.get(base).get(delta).i32Add().get(o).i32Add().get(RB).i32Add(); }
+    f.get(base).get(delta).i32Add().get(o).i32Add().v128Load64Zero();
+    if (!tail) f.v128Load64Lane(1);
+  };
+  const storeLanes = (base: number, delta: number, tail: boolean, value: () => void) => {
+    f.get(base).get(delta).i32Add().get(o).i32Add(); value(); f.v128Store64Lane(0);
+    if (!tail) { f.get(base).get(delta).i32Add().get(o).i32Add().get(RB).i32Add(); value(); f.v128Store64Lane(1); }
+  };
+  const blockLoad = (into: number, row: number, im: boolean) => {
+    f.get(row).get(x).i32Add(); if (im) f.get(dzi).i32Add(); f.v128Load().set(into);
+  };
+  const blockStore = (row: number, im: boolean, value: () => void) => {
+    f.get(row).get(x).i32Add(); if (im) f.get(dzi).i32Add(); value(); f.v128Store();
+  };
+  const body = (tail: boolean) => {
+    if (direction === 'out') {
+      blockLoad(ar, zk, false); blockLoad(ai, zk, true); blockLoad(br, zb, false); blockLoad(bi, zb, true);
+      // er = .5 (zk_r + zb_r), ei = .5 (zk_i - zb_i), or = .5 (zk_i + zb_i), oi = -.5 (zk_r - zb_r)
+      let_(er, () => { f.get(half); op2(ar, br, 'add')(); f.f64x2Mul(); });
+      let_(ei, () => { f.get(half); op2(ai, bi, 'sub')(); f.f64x2Mul(); });
+      let_(or, () => { f.get(half); op2(ai, bi, 'add')(); f.f64x2Mul(); });
+      let_(oi, () => { f.get(nhalf); op2(ar, br, 'sub')(); f.f64x2Mul(); });
+      // tr = cs or + sn oi, ti = cs oi - sn or
+      let_(tr, () => { op2(cs, or, 'mul')(); op2(sn, oi, 'mul')(); f.f64x2Add(); });
+      let_(ti, () => { op2(cs, oi, 'mul')(); op2(sn, or, 'mul')(); f.f64x2Sub(); });
+      storeLanes(fk, SRE, tail, op2(er, tr, 'add'));
+      storeLanes(fk, SIM, tail, op2(ei, ti, 'add'));
+      storeLanes(fb, SRE, tail, op2(er, tr, 'sub'));
+      storeLanes(fb, SIM, tail, op2(ti, ei, 'sub'));
+    } else {
+      let_(ar, () => lanes(fk, SRE, tail)); let_(ai, () => lanes(fk, SIM, tail));
+      let_(br, () => lanes(fb, SRE, tail)); let_(bi, () => { lanes(fb, SIM, tail); f.f64x2Neg(); });
+      let_(er, () => { f.get(half); op2(ar, br, 'add')(); f.f64x2Mul(); });
+      let_(ei, () => { f.get(half); op2(ai, bi, 'add')(); f.f64x2Mul(); });
+      let_(dr, () => { f.get(half); op2(ar, br, 'sub')(); f.f64x2Mul(); });
+      let_(di, () => { f.get(half); op2(ai, bi, 'sub')(); f.f64x2Mul(); });
+      // or = dr cs - di sn, oi = dr sn + di cs
+      let_(or, () => { op2(dr, cs, 'mul')(); op2(di, sn, 'mul')(); f.f64x2Sub(); });
+      let_(oi, () => { op2(dr, sn, 'mul')(); op2(di, cs, 'mul')(); f.f64x2Add(); });
+      blockStore(zk, false, op2(er, oi, 'sub')); blockStore(zk, true, op2(ei, or, 'add'));
+      blockStore(zb, false, op2(er, oi, 'add')); blockStore(zb, true, op2(or, ei, 'sub'));
+    }
+  };
+  f.get(ZI).get(ZR).i32Sub().set(dzi);
+  f.f64Const(0.5).f64x2Splat().set(half);
+  f.f64Const(-0.5).f64x2Splat().set(nhalf);
+  f.get(M).i32(1).i32ShrU().set(h);
+  // x runs over the block's columns in bytes (two per pair), o over the spectra's rows.
+  f.get(BW).i32(1).i32ShrU().i32(4).i32Shl().set(pairEnd);
+  f.forRange(k, () => f.i32(1), () => f.get(h).i32(1).i32Add(), () => f.i32(1), () => {
+    f.get(COS).get(k).i32(3).i32Shl().i32Add().f64Load().f64x2Splat().set(cs);
+    f.get(SIN).get(k).i32(3).i32Shl().i32Add().f64Load().f64x2Splat().set(sn);
+    const row = (kk: () => void) => {
+      f.get(ZR);
+      if (direction === 'in') { f.get(REV); kk(); f.i32(2).i32Shl().i32Add().i32Load(); } else kk();
+      f.get(WB).i32Mul().i32Add();
+    };
+    row(() => f.get(k)); f.set(zk);
+    row(() => f.get(M).get(k).i32Sub()); f.set(zb);
+    frequency(() => f.get(k)); f.set(fk);
+    frequency(() => f.get(M).get(k).i32Sub()); f.set(fb);
+    f.i32(0).set(o);
+    f.forRange(x, () => f.i32(0), () => f.get(pairEnd), () => f.i32(16), () => {
+      body(false);
+      f.get(o).get(RB).i32(1).i32Shl().i32Add().set(o);
+    });
+    f.get(BW).i32(1).i32And().ifElse(() => { f.get(pairEnd).set(x); body(true); });
+  });
+  return f;
+}
+
+/**
+ * The spectral step of the helicity flux's convolutions for one column block (core/helicityFlux.ts):
+ * 'transport' P^ = i kx Bn^, Q^ = i ky Bn^, R^ = i kx Fy^ - i ky Fx^ from (Bn, Fx, Fy); 'field' P^, Q^
+ * from Bn alone. Inputs at natural rows, outputs at bit-reversed rows (rev), rows blockRowBytes apart;
+ * kx, ky: the kernel's imaginary parts for this block, the same layout at natural rows.
+ * Parameters: the inputs' (re, im) addresses, the outputs' (re, im) addresses, kx, ky, rows, rev,
+ * columnBytes, blockRowBytes.
+ */
+function productsFunction(kind: 'transport' | 'field'): FunctionCode {
+  const channels = kind === 'transport' ? 3 : 1, outputs = kind === 'transport' ? 3 : 2;
+  const f = new FunctionCode(Array.from({ length: 2 * channels + 2 * outputs + 6 }, () => I32));
+  const IN = 0, OUT = 2 * channels, KX = OUT + 2 * outputs, KY = KX + 1, ROWS = KY + 1, REV = ROWS + 1, CB = REV + 1, WB = CB + 1;
+  const i32 = () => f.local(I32), v = () => f.local(V128);
+  const y = i32(), s = i32(), o = i32(), x = i32();
+  const a = v(), na = v(), b = v(), nb = v(), br = v(), bi = v(), xr = v(), xi = v(), yr = v(), yi = v();
+  const load = (into: number, base: number) => { f.get(base).get(s).i32Add().get(x).i32Add().v128Load().set(into); };
+  const store = (base: number, value: () => void) => { f.get(base).get(o).i32Add().get(x).i32Add(); value(); f.v128Store(); };
+  const mul = (p: number, q: number) => () => { f.get(p).get(q).f64x2Mul(); };
+  f.forRange(y, () => f.i32(0), () => f.get(ROWS), () => f.i32(1), () => {
+    f.get(y).get(WB).i32Mul().set(s);
+    f.get(REV).get(y).i32(2).i32Shl().i32Add().i32Load().get(WB).i32Mul().set(o);
+    f.forRange(x, () => f.i32(0), () => f.get(CB), () => f.i32(16), () => {
+      load(a, KX); load(b, KY); load(br, IN); load(bi, IN + 1);
+      f.get(a).f64x2Neg().set(na); f.get(b).f64x2Neg().set(nb);
+      // pr = -a im, pi = a re, qr = -b im, qi = b re
+      store(OUT, mul(na, bi)); store(OUT + 1, mul(a, br));
+      store(OUT + 2, mul(nb, bi)); store(OUT + 3, mul(b, br));
+      if (kind === 'transport') {
+        load(xr, IN + 2); load(xi, IN + 3); load(yr, IN + 4); load(yi, IN + 5);
+        // rr = -a yi + b xi, ri = a yr - b xr
+        store(OUT + 4, () => { mul(na, yi)(); mul(b, xi)(); f.f64x2Add(); });
+        store(OUT + 5, () => { mul(a, yr)(); mul(b, xr)(); f.f64x2Sub(); });
+      }
+    });
+  });
+  return f;
+}
+
 /** The kernel module's bytes (built from the code above; validated before use). */
 export function simdColumnsModule(): Uint8Array {
-  return moduleBytes([{ name: 'columns', code: columnsFunction() }]);
+  return moduleBytes([
+    { name: 'columns', code: columnsFunction() },
+    { name: 'realSplitOut', code: realSplitFunction('out') },
+    { name: 'realSplitIn', code: realSplitFunction('in') },
+    { name: 'transportProducts', code: productsFunction('transport') },
+    { name: 'fieldProducts', code: productsFunction('field') },
+  ]);
 }
 
 /** The parts of the WebAssembly API used here (core is typed without DOM or Node declarations). */
@@ -170,6 +314,22 @@ interface WasmApi {
 type ColumnsKernel = (
   re: number, im: number, n: number, rowBytes: number, columnBytes: number, sign: number, upperHalfZero: number, cos: number, sin: number,
 ) => void;
+type SplitKernel = (
+  zr: number, zi: number, rows: number, specRe: number, specIm: number, base: number, rowBytes: number,
+  shift: number, mask: number, strideBytes: number, m: number, cos: number, sin: number, rev: number, blockRowBytes: number,
+) => void;
+
+/**
+ * Where frequency k of row r of a set of half spectra sits in its arrays:
+ * offset + (k >>> shift) * stride + (k & mask) + r * rowStep (fft.ts builds it).
+ */
+export interface SpectrumLayout {
+  readonly offset: number;
+  readonly shift: number;
+  readonly mask: number;
+  readonly stride: number;
+  readonly rowStep: number;
+}
 
 /** A WebAssembly memory holding transform buffers, with the SIMD column kernel bound to it. */
 export interface SimdArena {
@@ -182,6 +342,31 @@ export interface SimdArena {
    * whose twiddles were not given at creation), and the caller runs the TypeScript loops.
    */
   columns(plan: FftPlan, re: Float64Array, im: Float64Array, width: number, columns: number, sign: -1 | 1, upperHalfZero: boolean): boolean;
+  /**
+   * realFftRows' split pass for frequencies 1..m/2 of `rows` rows: from the transformed block
+   * (rows in natural order, `width` columns) to the spectra outRe/outIm laid out as `layout`.
+   * False, doing nothing, when it cannot (as columns).
+   */
+  realSplitOut(plan: RealFftPlan, zr: Float64Array, zi: Float64Array, width: number, rows: number,
+    outRe: Float64Array, outIm: Float64Array, layout: SpectrumLayout): boolean;
+  /**
+   * The helicity flux's spectral step for one column block by the kernel ('transport': inputs
+   * Bn, Fx, Fy to P, Q, R; 'field': Bn to P, Q), with kx, ky the kernel's values for the block
+   * (plan.n rows `width` apart, natural order), outputs at rows rev[y] of `plan` (whose tables the
+   * arena holds). False, doing nothing, when it cannot.
+   */
+  products(kind: 'transport' | 'field', plan: FftPlan, inRe: readonly Float64Array[], inIm: readonly Float64Array[],
+    outRe: readonly Float64Array[], outIm: readonly Float64Array[], kx: Float64Array, ky: Float64Array, width: number, columns: number): boolean;
+  /** realInverseFftRows' split pass for frequencies 1..m/2: from the spectra to the block (bit-reversed rows). */
+  realSplitIn(plan: RealFftPlan, re: Float64Array, im: Float64Array, layout: SpectrumLayout,
+    zr: Float64Array, zi: Float64Array, width: number, rows: number): boolean;
+}
+
+/** The largest index of a half spectrum of m + 1 frequencies and `rows` rows laid out as `layout`. */
+function lastIndex(layout: SpectrumLayout, m: number, rows: number): number {
+  const at = (k: number) => layout.offset + (k >>> layout.shift) * layout.stride + (k & layout.mask);
+  const blockEnd = ((m >>> layout.shift) << layout.shift) - 1; // the last frequency of the last full block
+  return Math.max(at(m), blockEnd >= 0 ? at(blockEnd) : 0) + (rows - 1) * layout.rowStep;
 }
 
 const PAGE = 65536;
@@ -194,7 +379,7 @@ export function arenaBytes(length: number): number {
  * An arena of `bytes` (the sum of arenaBytes of the arrays to be allocated) plus the twiddle tables
  * of `plans`; undefined when WebAssembly SIMD is unavailable or the memory cannot be had.
  */
-export function createSimdArena(bytes: number, plans: readonly FftPlan[]): SimdArena | undefined {
+export function createSimdArena(bytes: number, plans: readonly FftPlan[], realPlans: readonly RealFftPlan[] = []): SimdArena | undefined {
   const wasm = (globalThis as { WebAssembly?: WasmApi }).WebAssembly;
   if (!wasm) return undefined;
   const code = simdColumnsModule();
@@ -202,15 +387,21 @@ export function createSimdArena(bytes: number, plans: readonly FftPlan[]): SimdA
     if (!wasm.validate(code)) return undefined;
   } catch { return undefined; }
   let tableBytes = 0;
-  for (const plan of plans) tableBytes += 2 * arenaBytes(plan.cos.length);
+  for (const plan of [...plans, ...realPlans.map((p) => p.half)]) tableBytes += 2 * arenaBytes(plan.cos.length) + arenaBytes(Math.ceil(plan.n / 2));
+  for (const plan of realPlans) tableBytes += 2 * arenaBytes(plan.cos.length);
   const pages = Math.ceil((bytes + tableBytes + 16) / PAGE);
   if (pages > 65536) return undefined;
   let memory: { buffer: ArrayBuffer };
-  let kernel: ColumnsKernel;
+  let kernel: ColumnsKernel, splitOut: SplitKernel, splitIn: SplitKernel;
+  let transportProducts: (...addresses: number[]) => void, fieldProducts: (...addresses: number[]) => void;
   try {
     memory = new wasm.Memory({ initial: pages, maximum: pages });
     const instance = new wasm.Instance(new wasm.Module(code), { env: { memory } });
     kernel = instance.exports.columns as ColumnsKernel;
+    splitOut = instance.exports.realSplitOut as SplitKernel;
+    splitIn = instance.exports.realSplitIn as SplitKernel;
+    transportProducts = instance.exports.transportProducts as typeof transportProducts;
+    fieldProducts = instance.exports.fieldProducts as typeof fieldProducts;
   } catch { return undefined; }
   const buffer = memory.buffer;
   let next = 16; // address 0 left unused
@@ -222,16 +413,54 @@ export function createSimdArena(bytes: number, plans: readonly FftPlan[]): SimdA
     next += size;
     return a;
   };
-  const tables = new Map<FftPlan, { cos: number; sin: number }>();
-  for (const plan of plans) {
+  const tables = new Map<FftPlan, { cos: number; sin: number; rev: number }>();
+  for (const plan of [...plans, ...realPlans.map((p) => p.half)]) {
     if (tables.has(plan)) continue;
     const cos = alloc(plan.cos.length), sin = alloc(plan.sin.length);
-    cos.set(plan.cos); sin.set(plan.sin);
-    tables.set(plan, { cos: cos.byteOffset, sin: sin.byteOffset });
+    const rev = new Uint32Array(buffer, alloc(Math.ceil(plan.n / 2)).byteOffset, plan.n);
+    cos.set(plan.cos); sin.set(plan.sin); rev.set(plan.rev);
+    tables.set(plan, { cos: cos.byteOffset, sin: sin.byteOffset, rev: rev.byteOffset });
   }
+  const realTables = new Map<RealFftPlan, { cos: number; sin: number; rev: number }>();
+  for (const plan of realPlans) {
+    if (realTables.has(plan)) continue;
+    const cos = alloc(plan.cos.length), sin = alloc(plan.sin.length);
+    cos.set(plan.cos); sin.set(plan.sin);
+    realTables.set(plan, { cos: cos.byteOffset, sin: sin.byteOffset, rev: tables.get(plan.half)!.rev });
+  }
+  const inside = (...arrays: Float64Array[]) => arrays.every((a) => a.buffer === buffer);
+  const split = (
+    run: SplitKernel, plan: RealFftPlan, zr: Float64Array, zi: Float64Array, width: number, rows: number,
+    re: Float64Array, im: Float64Array, layout: SpectrumLayout,
+  ) => {
+    const t = realTables.get(plan), m = plan.n >> 1;
+    if (!t || !inside(zr, zi, re, im) || width % 2 !== 0 || rows > width || rows < 1 || m < 2
+      || zr.length < m * width || zi.length < m * width) return false;
+    const last = lastIndex(layout, m, rows);
+    if (layout.offset < 0 || last >= re.length || last >= im.length) return false;
+    run(zr.byteOffset, zi.byteOffset, rows, re.byteOffset, im.byteOffset, layout.offset * 8, layout.rowStep * 8,
+      layout.shift, layout.mask, layout.stride * 8, m, t.cos, t.sin, t.rev, width * 8);
+    return true;
+  };
   return {
     buffer,
     alloc,
+    products(kind, plan, inRe, inIm, outRe, outIm, kx, ky, width, columns) {
+      const t = tables.get(plan), channels = kind === 'transport' ? 3 : 1, outputs = kind === 'transport' ? 3 : 2;
+      const size = plan.n * width;
+      if (!t || width % 2 !== 0 || columns > width || inRe.length < channels || inIm.length < channels
+        || outRe.length < outputs || outIm.length < outputs) return false;
+      const maps = [...inRe.slice(0, channels), ...inIm.slice(0, channels), ...outRe.slice(0, outputs), ...outIm.slice(0, outputs), kx, ky];
+      if (!inside(...maps) || maps.some((a) => a.length < size)) return false;
+      const addresses: number[] = [];
+      for (let j = 0; j < channels; j++) addresses.push(inRe[j].byteOffset, inIm[j].byteOffset);
+      for (let j = 0; j < outputs; j++) addresses.push(outRe[j].byteOffset, outIm[j].byteOffset);
+      addresses.push(kx.byteOffset, ky.byteOffset, plan.n, t.rev, Math.ceil(columns / 2) * 16, width * 8);
+      (kind === 'transport' ? transportProducts : fieldProducts)(...addresses);
+      return true;
+    },
+    realSplitOut: (plan, zr, zi, width, rows, outRe, outIm, layout) => split(splitOut, plan, zr, zi, width, rows, outRe, outIm, layout),
+    realSplitIn: (plan, re, im, layout, zr, zi, width, rows) => split(splitIn, plan, zr, zi, width, rows, re, im, layout),
     columns(plan, re, im, width, columns, sign, upperHalfZero) {
       const t = tables.get(plan);
       if (!t || re.buffer !== buffer || im.buffer !== buffer || width % 2 !== 0 || columns > width

@@ -51,6 +51,14 @@ export class FunctionCode {
   tee(l: number): this { this.op(0x22); unsignedLeb(l, this.code); return this; }
   i32(value: number): this { this.op(0x41); signedLeb(value | 0, this.code); return this; }
 
+  f64Const(value: number): this {
+    this.op(0x44);
+    const b = new DataView(new ArrayBuffer(8));
+    b.setFloat64(0, value, true); // little-endian, as the format stores it
+    for (let i = 0; i < 8; i++) this.code.push(b.getUint8(i));
+    return this;
+  }
+
   i32Add(): this { return this.op(0x6a); }
   i32Sub(): this { return this.op(0x6b); }
   i32Mul(): this { return this.op(0x6c); }
@@ -59,6 +67,7 @@ export class FunctionCode {
   i32Shl(): this { return this.op(0x74); }
   i32ShrU(): this { return this.op(0x76); }
   i32Ctz(): this { return this.op(0x68); }
+  i32ShrS(): this { return this.op(0x75); }
   i32Eqz(): this { return this.op(0x45); }
   i32LtU(): this { return this.op(0x49); }
   i32GtU(): this { return this.op(0x4b); }
@@ -68,6 +77,8 @@ export class FunctionCode {
 
   /** f64.load / f64.store with 8-byte alignment and a constant byte offset. */
   f64Load(offset = 0): this { this.op(0x2b, 3); unsignedLeb(offset, this.code); return this; }
+  /** i32.load with 4-byte alignment. */
+  i32Load(offset = 0): this { this.op(0x28, 2); unsignedLeb(offset, this.code); return this; }
   f64Store(offset = 0): this { this.op(0x39, 3); unsignedLeb(offset, this.code); return this; }
   f64Mul(): this { return this.op(0xa2); }
   f64Neg(): this { return this.op(0x9a); }
@@ -75,7 +86,14 @@ export class FunctionCode {
   /** v128.load / v128.store; alignment hint 8 bytes (the arrays are Float64Arrays). */
   v128Load(offset = 0): this { this.simd(0x00); this.code.push(3); unsignedLeb(offset, this.code); return this; }
   v128Store(offset = 0): this { this.simd(0x0b); this.code.push(3); unsignedLeb(offset, this.code); return this; }
+  /** v128.load64_zero: lane 0 from memory, lane 1 zero. */
+  v128Load64Zero(offset = 0): this { this.simd(0x5d); this.code.push(3); unsignedLeb(offset, this.code); return this; }
+  /** v128.load64_lane (address, vector -> vector with `lane` replaced from memory). */
+  v128Load64Lane(lane: number, offset = 0): this { this.simd(0x57); this.code.push(3); unsignedLeb(offset, this.code); this.code.push(lane); return this; }
+  /** v128.store64_lane (address, vector): stores lane `lane`. */
+  v128Store64Lane(lane: number, offset = 0): this { this.simd(0x5b); this.code.push(3); unsignedLeb(offset, this.code); this.code.push(lane); return this; }
   f64x2Splat(): this { return this.simd(0x14); }
+  f64x2Neg(): this { return this.simd(0xed); }
   f64x2Add(): this { return this.simd(0xf0); }
   f64x2Sub(): this { return this.simd(0xf1); }
   f64x2Mul(): this { return this.simd(0xf2); }

@@ -8,7 +8,7 @@ import { createFftPlan, createRealFftPlan, createRowBlock, fftColumnBlock, realF
 import { createFluxKernel, fluxKernelFor, kernelWorkspace } from '../../core/fluxKernel.js';
 import type { FluxKernelCache } from '../../core/fluxKernel.js';
 import { fluxTransport } from '../../core/fluxTransport.js';
-import { helicityFlux } from '../../core/helicityFlux.js';
+import { convolveField, convolveTransport, helicityFlux } from '../../core/helicityFlux.js';
 import { SPECTRUM_BLOCK, convolvePadded, createPaddedPlan, createPaddedWorkspace } from '../../core/paddedTransform.js';
 import type { SpectralStep } from '../../core/paddedTransform.js';
 import { arenaBytes, createSimdArena, simdColumnsModule } from '../../core/simdColumns.js';
@@ -73,26 +73,57 @@ describe('SIMD column kernel', () => {
   });
 });
 
-describe('batched real rows with the SIMD kernel equal the TypeScript loops bit for bit', () => {
-  for (const [n, count, rows] of [[2, 1, 3], [8, 5, 17], [64, 64, 16], [64, 20, 33], [512, 256, 40]] as const) {
-    it(`length ${n}, ${count} samples, ${rows} rows, forward and inverse`, () => {
-      const plan = createRealFftPlan(n), w = n / 2 + 1;
-      const arena = createSimdArena(2 * arenaBytes(rowBlockLength(plan)), [plan.half])!;
-      const simd = createRowBlock(plan, arena), plain = createRowBlock(plan);
-      expect(simd.simd).toBe(arena);
-      const x = rand(count * rows, n + rows);
-      const sr = new Float64Array(w * rows), si = new Float64Array(w * rows), tr = new Float64Array(w * rows), ti = new Float64Array(w * rows);
-      realFftRows(plan, x, 0, count, count, rows, sr, si, 0, w, simd);
-      realFftRows(plan, x, 0, count, count, rows, tr, ti, 0, w, plain);
-      expect(differing(sr, tr)).toEqual([]);
-      expect(differing(si, ti)).toEqual([]);
-      const a = new Float64Array(count * rows), b = new Float64Array(count * rows);
-      realInverseFftRows(plan, sr, si, 0, w, rows, a, 0, count, count, 1, simd);
-      realInverseFftRows(plan, tr, ti, 0, w, rows, b, 0, count, count, 1, plain);
-      expect(differing(a, b)).toEqual([]);
-      for (let i = 0; i < x.length; i++) expect(a[i]).toBeCloseTo(x[i], 12); // the round trip returns the input
-    });
+describe('batched real rows with the SIMD kernels equal the TypeScript loops bit for bit', () => {
+  for (const [n, count, rows] of [[2, 1, 3], [4, 3, 2], [8, 5, 17], [64, 64, 16], [64, 20, 33], [512, 256, 40], [512, 511, 1]] as const) {
+    for (const spectrumBlock of [0, 16]) {
+      it(`length ${n}, ${count} samples, ${rows} rows, spectra ${spectrumBlock ? 'by blocks of 16 frequencies' : 'row by row'}, forward and inverse`, () => {
+        const plan = createRealFftPlan(n), w = n / 2 + 1;
+        // Spectra in the arena too, so that the split passes run in WebAssembly; the reference on plain arrays.
+        const specLength = spectrumBlock ? Math.ceil(w / 16) * 16 * rows : w * rows;
+        const stride = spectrumBlock ? 16 * rows : w;
+        const arena = createSimdArena(2 * arenaBytes(rowBlockLength(plan)) + 2 * arenaBytes(specLength), [], [plan])!;
+        // Count the split passes the kernels took (they decline only below m = 2).
+        const taken = { out: 0, in: 0 }, { realSplitOut, realSplitIn } = arena;
+        arena.realSplitOut = (...a) => { const r = realSplitOut(...a); taken.out += r ? 1 : 0; return r; };
+        arena.realSplitIn = (...a) => { const r = realSplitIn(...a); taken.in += r ? 1 : 0; return r; };
+        const simd = createRowBlock(plan, arena), plain = createRowBlock(plan);
+        expect(simd.simd).toBe(arena);
+        const x = rand(count * rows, n + rows);
+        const sr = arena.alloc(specLength), si = arena.alloc(specLength);
+        const tr = new Float64Array(specLength), ti = new Float64Array(specLength);
+        realFftRows(plan, x, 0, count, count, rows, sr, si, 0, stride, simd, spectrumBlock);
+        realFftRows(plan, x, 0, count, count, rows, tr, ti, 0, stride, plain, spectrumBlock);
+        expect(differing(sr, tr)).toEqual([]);
+        expect(differing(si, ti)).toEqual([]);
+        expect(tr.some((v) => v !== 0)).toBe(true);
+        const a = new Float64Array(count * rows), b = new Float64Array(count * rows);
+        realInverseFftRows(plan, sr, si, 0, stride, rows, a, 0, count, count, 1, simd, spectrumBlock);
+        realInverseFftRows(plan, tr, ti, 0, stride, rows, b, 0, count, count, 1, plain, spectrumBlock);
+        expect(differing(a, b)).toEqual([]);
+        for (let i = 0; i < x.length; i++) expect(a[i]).toBeCloseTo(x[i], 12); // the round trip returns the input
+        const blocks = n >= 4 ? Math.ceil(rows / 16) : 0;
+        expect(taken).toEqual({ out: blocks, in: blocks });
+      });
+    }
   }
+
+  it('the split passes decline spectra outside the arena or too short for the rows asked, and the TypeScript loops run', () => {
+    const plan = createRealFftPlan(16), w = 9, rows = 3;
+    const arena = createSimdArena(2 * arenaBytes(rowBlockLength(plan)) + 2 * arenaBytes(w * rows), [], [plan])!;
+    const block = createRowBlock(plan, arena);
+    const layout = { offset: 0, shift: 31, mask: -1, stride: 0, rowStep: w };
+    const inRe = arena.alloc(w * rows), inIm = arena.alloc(w * rows);
+    expect(arena.realSplitOut(plan, block.re, block.im, 16, rows, new Float64Array(w * rows), inIm, layout)).toBe(false);
+    expect(arena.realSplitOut(plan, block.re, block.im, 16, rows + 1, inRe, inIm, layout)).toBe(false);
+    expect(arena.realSplitIn(plan, inRe, inIm, { ...layout, offset: 1 }, block.re, block.im, 16, rows)).toBe(false);
+    expect(arena.realSplitIn(plan, inRe, inIm, layout, block.re, block.im, 16, rows)).toBe(true);
+    // Plain spectra through a block in the arena: the split runs in TypeScript, the same numbers as a plain block.
+    const x = rand(16 * rows, 3), sr = new Float64Array(w * rows), si = new Float64Array(w * rows), tr = new Float64Array(w * rows), ti = new Float64Array(w * rows);
+    realFftRows(plan, x, 0, 16, 16, rows, sr, si, 0, w, block);
+    realFftRows(plan, x, 0, 16, 16, rows, tr, ti, 0, w, createRowBlock(plan));
+    expect(differing(sr, tr)).toEqual([]);
+    expect(differing(si, ti)).toEqual([]);
+  });
 });
 
 describe('convolvePadded and the helicity flux: SIMD workspace against the forced TypeScript fallback', () => {
@@ -140,6 +171,15 @@ describe('convolvePadded and the helicity flux: SIMD workspace against the force
     expect(Object.is(s.totalGa, p.totalGa)).toBe(true);
     for (const key of ['gTheta', 'gA', 'apx', 'apy'] as const) expect(differing(s[key], p[key])).toEqual([]);
     expect(Number.isNaN(s.gTheta[17])).toBe(true);
+    expect(kSimd.arena).toBeDefined();
+    expect(kSimd.kxIm.buffer).toBe(kSimd.arena!.buffer); // the products run in the arena
+    expect(kPlain.arena).toBeUndefined();
+    const fs = convolveField(kSimd, t.bn), fp = convolveField(kPlain, t.bn);
+    expect(differing(fs.p, fp.p)).toEqual([]);
+    expect(differing(fs.q, fp.q)).toEqual([]);
+    const rows = new Uint8Array(ny).map((_, y) => (y % 5 === 2 ? 1 : 0));
+    const rs = convolveTransport(kSimd, t, rows), rp = convolveTransport(kPlain, t, rows);
+    for (const key of ['p', 'q', 'r'] as const) expect(differing(rs[key], rp[key])).toEqual([]);
   });
 
   it('analyseFrame on the 512^2 demo pair: the same totals with and without SIMD (to 1e-12 relative; bit-identical expected)', () => {
