@@ -179,12 +179,7 @@ export function splitByLabels(
         if (gb !== ga && !(inPairs[la] && inPairs[groupLabel[gb]])) continue;
         const from = gb === ga ? i + 1 : groupStart[gb];
         const to = groupStart[gb + 1];
-        let s = 0;
-        for (let j = from; j < to; j++) {
-          const X = xi - xs[j], Y = yi - ys[j];
-          const bj = bs[j];
-          s += (X * (bj * fyi - bi * fys[j]) - Y * (bj * fxi - bi * fxs[j])) / (X * X + Y * Y);
-        }
+        const s = pairBracketSum(xs, ys, bs, fxs, fys, xi, yi, bi, fxi, fyi, from, to);
         // Each unordered pair stands for two ordered ones.
         const lb = groupLabel[gb];
         sums[la * k + lb] += 2 * s;
@@ -210,8 +205,10 @@ export function splitByLabels(
   let inputs: { bn: Float64Array; fx: Float64Array; fy: Float64Array } | undefined;
   let convMaps: { p: Float64Array; q: Float64Array; r: Float64Array } | undefined;
   const fullGrid = () => {
-    inputs ??= { bn: new Float64Array(n), fx: new Float64Array(n), fy: new Float64Array(n) };
-    convMaps ??= { p: new Float64Array(n), q: new Float64Array(n), r: new Float64Array(n) };
+    // Two allocations instead of six (each large allocation may cost a young-generation GC).
+    const thirds = (block: Float64Array) => [0, 1, 2].map((e) => block.subarray(e * n, (e + 1) * n));
+    if (!inputs) { const [bn, fx, fy] = thirds(new Float64Array(3 * n)); inputs = { bn, fx, fy }; }
+    if (!convMaps) { const [p, q, r] = thirds(new Float64Array(3 * n)); convMaps = { p, q, r }; }
     return { inputs, convMaps };
   };
   /** Convolution of the pixels byFootpoint[from..to) (labelled[from..to) when `pixels` is `labelled`). */
@@ -226,12 +223,7 @@ export function splitByLabels(
     if (!big[a]) continue;
     if (!hasRow[a]) { fftSums[a * k + a] = boxSpinSum(a); continue; }
     const { p, q, r } = convolvePixels(byFootpoint, start[a], start[a + 1]);
-    for (let e = 0; e < labelledCount; e++) {
-      const i = labelled[e];
-      const b = slot[i];
-      if (hasRow[b] && b < a) continue; // that pair was taken from b's convolution
-      fftSums[b * k + a] += fy[i] * p[i] - fx[i] * q[i] - bn[i] * r[i];
-    }
+    addFieldSums(t, labelled, slot, hasRow, a, k, p, q, r, fftSums);
   }
 
   /** The within-footpoint sum of footpoint `a` from a convolution over its bounding box. */
@@ -283,6 +275,39 @@ export function splitByLabels(
     ids, spin, orbit, spinTotal, orbitTotal, background: total - spinTotal - orbitTotal, total,
     convolvedFootpoints: big.reduce((s, v) => s + v, 0), pairsComplete, ...(labelledField && { labelledField }),
   };
+}
+
+// The hot loops live in small functions of their own: a function called once per frame with
+// many loops is optimised loop by loop and falls back to unoptimised code (a boxed number per
+// arithmetic step) whenever a later part lacks type feedback, which measured as most of a frame's
+// garbage.
+
+/** Sum over j in [from, to) of the pair bracket of pixel i (xi, yi, bi, fxi, fyi) with pixel j, over r^2. */
+function pairBracketSum(
+  xs: Float64Array, ys: Float64Array, bs: Float64Array, fxs: Float64Array, fys: Float64Array,
+  xi: number, yi: number, bi: number, fxi: number, fyi: number, from: number, to: number,
+): number {
+  let s = 0;
+  for (let j = from; j < to; j++) {
+    const X = xi - xs[j], Y = yi - ys[j];
+    const bj = bs[j];
+    s += (X * (bj * fyi - bi * fys[j]) - Y * (bj * fxi - bi * fxs[j])) / (X * X + Y * Y);
+  }
+  return s;
+}
+
+/** The field (p, q, r) of footpoint a summed over every labelled pixel into fftSums[b][a] (b the pixel's footpoint). */
+function addFieldSums(
+  t: FluxTransport, labelled: Int32Array, slot: Int32Array, hasRow: Uint8Array, a: number, k: number,
+  p: Float64Array, q: Float64Array, r: Float64Array, fftSums: Float64Array,
+): void {
+  const { bn, fx, fy } = t;
+  for (let e = 0; e < labelled.length; e++) {
+    const i = labelled[e];
+    const b = slot[i];
+    if (hasRow[b] && b < a) continue; // that pair was taken from b's convolution
+    fftSums[b * k + a] += fy[i] * p[i] - fx[i] * q[i] - bn[i] * r[i];
+  }
 }
 
 /**
