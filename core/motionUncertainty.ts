@@ -44,10 +44,7 @@ export function rateSigmaFromMotions(
   const k = (2 * CM_PER_KM * area) / (2 * Math.PI);
   const { bn, valid } = t;
   const { p, q } = conv;
-  const labelled = new Float64Array(bn.length);
-  const rows = new Uint8Array(grid.ny); // own.p, own.q are read on labelled pixels only
-  for (let i = 0; i < bn.length; i++) if (labels[i] > 0 && valid[i]) { labelled[i] = bn[i]; rows[(i - (i % nx)) / nx] = 1; }
-  const own = labelledField ?? convolveField(kernel, labelled, rows);
+  const own = labelledField ?? labelledConvolution(t, labels, grid, kernel);
   type Acc = { sx: number; sy: number; r: number; lx: number; ly: number; lr: number; flux: number; self: number };
   const acc = new Map<number, Acc>();
   for (let i = 0; i < labels.length; i++) {
@@ -81,4 +78,13 @@ export function rateSigmaFromMotions(
     orbit += shift(a.lx, a.ly) + ((a.lr - dSpin) * so) ** 2;
   }
   return { total: Math.sqrt(total), spin: Math.sqrt(spin), orbit: Math.sqrt(orbit) };
+}
+
+/** Kx * Bn and Ky * Bn of the labelled pixels alone, on the rows that hold one (read there only). */
+function labelledConvolution(t: FluxTransport, labels: Int32Array, grid: Grid, kernel: FluxKernel): { p: Float64Array; q: Float64Array } {
+  const { bn, valid } = t;
+  const labelled = new Float64Array(bn.length);
+  const rows = new Uint8Array(grid.ny);
+  for (let i = 0; i < bn.length; i++) if (labels[i] > 0 && valid[i]) { labelled[i] = bn[i]; rows[(i - (i % grid.nx)) / grid.nx] = 1; }
+  return convolveField(kernel, labelled, rows);
 }

@@ -14,13 +14,15 @@ export function smoothMap(map: ArrayLike<number>, nx: number, ny: number, sigma:
   const radius = Math.max(1, Math.floor(3 * sigma + 0.5));
   const kernel = new Float64Array(2 * radius + 1);
   for (let k = -radius; k <= radius; k++) kernel[k + radius] = Math.exp(-(k * k) / (2 * sigma * sigma));
-  const val = new Float64Array(n), ok = new Float64Array(n);
   let missing = 0;
+  for (let i = 0; i < n; i++) if (!Number.isFinite(map[i])) missing++;
+  // Without missing pixels the map is read as it is (no copies: fewer large allocations per frame).
+  if (missing === 0) return smoothComplete(map, nx, ny, kernel, radius, out);
+  const val = new Float64Array(n), ok = new Float64Array(n);
   for (let i = 0; i < n; i++) {
     const v = map[i];
-    if (Number.isFinite(v)) { val[i] = v; ok[i] = 1; } else missing++;
+    if (Number.isFinite(v)) { val[i] = v; ok[i] = 1; }
   }
-  if (missing === 0) return smoothComplete(val, nx, ny, kernel, radius);
   // Pass 1 along x: value sums and weight sums.
   const sv = new Float64Array(n), sw = new Float64Array(n);
   for (let y = 0; y < ny; y++) {
@@ -59,7 +61,7 @@ export function smoothMap(map: ArrayLike<number>, nx: number, ny: number, sigma:
  * The same without missing pixels: the weight sums are then a product of one sum per column and
  * one per row (the kernel cut by the grid edge), so only the values need two passes.
  */
-function smoothComplete(val: Float64Array, nx: number, ny: number, kernel: Float64Array, radius: number): Float64Array {
+function smoothComplete(val: ArrayLike<number>, nx: number, ny: number, kernel: Float64Array, radius: number, out: Float64Array): Float64Array {
   const n = nx * ny;
   const edgeSum = (len: number) => {
     const w = new Float64Array(len);
@@ -80,7 +82,6 @@ function smoothComplete(val: Float64Array, nx: number, ny: number, kernel: Float
       tmp[row + x] = a / wx[x];
     }
   }
-  const out = new Float64Array(n);
   for (let y = 0; y < ny; y++) {
     const k0 = Math.max(-radius, -y), k1 = Math.min(radius, ny - 1 - y);
     const inv = 1 / wy[y];

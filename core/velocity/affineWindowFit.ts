@@ -111,13 +111,17 @@ export function affineWindowFit(
   const taps: Float64Array[] = [0, 1, 2, 3, 4].map((power) => gaussianTaps(sigma, r, power));
   // One compact array per matrix entry (entry-major, one value per centre), so that adding a moment
   // into an entry is one contiguous loop.
-  const sums: Float64Array[] = Array.from({ length: entries }, () => new Float64Array(count));
+  // (One allocation for all of them: every large allocation may cost a young-generation GC.)
+  const sumBlock = new Float64Array(entries * count);
+  const sums: Float64Array[] = Array.from({ length: entries }, (_, e) => sumBlock.subarray(e * count, (e + 1) * count));
   const product = new Float64Array(size);
-  // Row-pass buffers per power of x, made when a moment first needs that power; one column-pass
+  // Row-pass buffers, one per power of x the moments use (made in one block), and one column-pass
   // output per moment of a channel pair.
+  const xPowers = [...new Set([...moments.values()].map((m) => m.px))].sort((a, b) => a - b);
+  const rowBlock = new Float64Array(xPowers.length * size);
   const rowBuffers: Float64Array[] = [];
+  xPowers.forEach((px, e) => { rowBuffers[px] = rowBlock.subarray(e * size, (e + 1) * size); });
   const rowBuffer = (power: number) => (rowBuffers[power] ??= new Float64Array(size));
-  const columnOut: Float64Array[] = [];
   // Group the moments by channel pair: a product is made once, its row passes for every power of
   // x in one sweep, and the column passes of each row-passed map in one sweep; the moments are
   // then added into the entries in their own order (the order of the sums is that of one moment
@@ -129,6 +133,9 @@ export function affineWindowFit(
     list.push(m);
     byPair.set(key, list);
   }
+  const mostPerPair = Math.max(0, ...[...byPair.values()].map((list) => list.length));
+  const columnBlock = new Float64Array(mostPerPair * count);
+  const columnOut = Array.from({ length: mostPerPair }, (_, e) => columnBlock.subarray(e * count, (e + 1) * count));
   for (const list of byPair.values()) {
     const a = channels[list[0].j], b = channels[list[0].k];
     for (let y = 0; y < ny; y++) {
@@ -136,7 +143,6 @@ export function affineWindowFit(
     }
     const powers = [...new Set(list.map((m) => m.px))];
     correlateFiniteRowsFused(product, nx, ny, powers.map((px) => taps[px]), powers.map(rowBuffer), rowsNeeded);
-    list.forEach((_m, e) => { columnOut[e] ??= new Float64Array(count); });
     for (const px of powers) {
       const at = list.map((m, e) => (m.px === px ? e : -1)).filter((e) => e >= 0);
       correlateColumnsAtFused(rowBuffer(px), nx, ny, at.map((e) => taps[list[e].py]), centres, at.map((e) => columnOut[e]));

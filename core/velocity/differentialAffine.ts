@@ -21,6 +21,8 @@ export interface AffineOptions {
    * the noise in its regressors (core/velocity/affineWindowFit.ts). Absent: no correction.
    */
   readonly noise?: { readonly bn: number; readonly bt?: number };
+  /** The pair's midAndRate when the caller has made it already (saves two maps). */
+  readonly midAndRate?: { readonly mid: Float64Array; readonly rate: Float64Array };
 }
 
 /** Sum of the squared taps of the fourth-order central difference (core/velocity/gradient.ts): 130/144. */
@@ -79,7 +81,7 @@ export function differentialAffineVelocity(
   a: ArrayLike<number>, b: ArrayLike<number>, nx: number, ny: number, dx: number, dy: number, dtS: number,
   options: AffineOptions,
 ): AffineVelocity {
-  const { mid, rate } = midAndRate(a, b, dtS);
+  const { mid, rate } = options.midAndRate ?? midAndRate(a, b, dtS);
   const gx = derivativeX(mid, nx, ny), gy = derivativeY(mid, nx, ny);
   const noise = options.noise ? daveNoiseVariance(options.noise.bn, dtS) : undefined;
   const fit = affineWindowFit([gx, gy, mid, rate], nx, ny, DAVE_COLUMNS, DAVE_TARGET, options.sigma, options.minPivot, [4, 5], DAVE_RIDGE, options.solveAt, noise);

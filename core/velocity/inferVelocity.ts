@@ -97,7 +97,8 @@ export function inferVelocity(a: Frame, b: Frame, settings: Partial<VelocitySett
     notes.push(`The affine fit is corrected for the noise in its regressors (${noise!.toPrecision(3)} G${bt !== undefined ? `; horizontal field ${bt.toPrecision(3)} G` : ''}).`);
   }
 
-  const { mid } = midAndRate(a.bn, b.bn, dtS);
+  const pairMaps = midAndRate(a.bn, b.bn, dtS);
+  const { mid } = pairMaps;
   // Field strength at each pixel: |Bn| at mid-time, |B| for dave4vm. Weak pixels get no velocity.
   const strength = new Float64Array(n);
   for (let i = 0; i < n; i++) {
@@ -117,12 +118,12 @@ export function inferVelocity(a: Frame, b: Frame, settings: Partial<VelocitySett
     vy = r.sy.map((v) => v * ky);
     notes.push(`Local correlation tracking: ${r.windowsValid} of ${r.windows} windows (every ${s.stride} pixels, sigma ${s.sigma} px) gave a shift; shifts above ${r.searchRadius} px are not found.`);
   } else if (method === 'dave') {
-    const r = differentialAffineVelocity(a.bn, b.bn, nx, ny, dx, dy, dtS, { sigma: s.sigma, minPivot: s.minPivot, solveAt: strong, ...(fitNoise && { noise: fitNoise }) });
+    const r = differentialAffineVelocity(a.bn, b.bn, nx, ny, dx, dy, dtS, { sigma: s.sigma, minPivot: s.minPivot, solveAt: strong, midAndRate: pairMaps, ...(fitNoise && { noise: fitNoise }) });
     vx = r.vx; vy = r.vy;
     notes.push(`Differential affine velocity estimator, sigma ${s.sigma} px: ${r.illConditioned} windows ill-conditioned.`);
   } else {
     const r = vectorAffineVelocity({ bn: [a.bn, b.bn], bx: [a.bx!, b.bx!], by: [a.by!, b.by!] }, nx, ny, dx, dy, dtS,
-      { sigma: s.sigma, minPivot: s.minPivot, solveAt: strong, ...(fitNoise && { noise: fitNoise }) });
+      { sigma: s.sigma, minPivot: s.minPivot, solveAt: strong, midAndRate: pairMaps, ...(fitNoise && { noise: fitNoise }) });
     vx = r.vx; vy = r.vy; vz = r.vz;
     notes.push(`Vector-magnetogram affine estimator, sigma ${s.sigma} px: ${r.illConditioned} windows ill-conditioned; vx, vy are the plasma velocity and vz the normal velocity.`);
   }

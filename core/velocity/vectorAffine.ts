@@ -42,7 +42,7 @@ export interface VectorPair {
 export function vectorAffineVelocity(
   pair: VectorPair, nx: number, ny: number, dx: number, dy: number, dtS: number, options: AffineOptions,
 ): VectorAffineVelocity {
-  const { mid, rate } = midAndRate(pair.bn[0], pair.bn[1], dtS);
+  const { mid, rate } = options.midAndRate ?? midAndRate(pair.bn[0], pair.bn[1], dtS);
   const gx = derivativeX(mid, nx, ny), gy = derivativeY(mid, nx, ny);
   const n = nx * ny;
   const hx = new Float64Array(n), hy = new Float64Array(n);
