@@ -171,6 +171,7 @@ export function convolvePadded(
     const bw = Math.min(B, w - c0);
     for (let j = 0; j < inputs.length; j++) {
       const sr = rowRe[j], si = rowIm[j], br = inRe[j], bi = inIm[j];
+      if (work.simd?.packAndTransform(cols, sr, si, (c0 / B) * stride, ny, br, bi, B, bw, -1)) continue;
       for (let y = 0, s = (c0 / B) * stride; y < ny; y++, s += B) {
         const t = rev[y] * B;
         for (let c = 0; c < bw; c++) { br[t + c] = sr[s + c]; bi[t + c] = si[s + c]; }

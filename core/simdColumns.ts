@@ -59,8 +59,9 @@ function columnsFunction(): FunctionCode {
   splat(psign, () => f.get(SIGN));
   splat(nsign, () => f.get(SIGN).f64Neg());
 
-  // Size 2: unit twiddles; with the upper half zero the partner row is a copy.
-  f.get(UHZ).ifElse(() => {
+  // Size 2: unit twiddles; with the upper half zero the partner row is a copy (upperHalfZero 2: the
+  // caller made the copies already, packRows with duplicate).
+  f.get(UHZ).i32(2).i32Eq().ifElse(() => {}, () => f.get(UHZ).ifElse(() => {
     rowsFrom(() => f.get(RE), () => f.get(RB).i32(1).i32Shl(), () => columnsOf(() => f.get(p), () => {
       store(x, RB, () => { addr(x); f.v128Load(); });
       store(x, rbIm, () => { addr(x, dIm); f.v128Load(); });
@@ -71,7 +72,7 @@ function columnsFunction(): FunctionCode {
       store(x, undefined, add(ar, xr)); store(x, dIm, add(ai, xi));
       store(x, RB, sub(ar, xr)); store(x, rbIm, sub(ai, xi));
     }));
-  });
+  }));
 
   // An odd count of stages after the first: one radix-2 stage of size 4.
   f.i32(4).set(size);
@@ -292,6 +293,41 @@ function productsFunction(kind: 'transport' | 'field'): FunctionCode {
   return f;
 }
 
+/**
+ * packRows(srcRe, srcIm, dstRe, dstIm, rows, zeroEnd, rev, rowBytes, duplicate): row y < rows of the
+ * source (rows rowBytes apart) to row rev[y] of the destination, rows rows..zeroEnd-1 of it zeroed;
+ * with duplicate also to row rev[y] + 1 (the size-2 stage of a transform whose upper half is zero).
+ */
+function packRowsFunction(): FunctionCode {
+  const f = new FunctionCode([I32, I32, I32, I32, I32, I32, I32, I32, I32]);
+  const SRE = 0, SIM = 1, DRE = 2, DIM = 3, ROWS = 4, ZEND = 5, REV = 6, RB = 7, DUP = 8;
+  const y = f.local(I32), s = f.local(I32), d = f.local(I32), x = f.local(I32), vr = f.local(V128), vi = f.local(V128);
+  const target = () => { f.get(REV).get(y).i32(2).i32Shl().i32Add().i32Load().get(RB).i32Mul().set(d); };
+  const put = (offset: () => void) => {
+    f.get(DRE).get(d).i32Add(); offset(); f.get(x).i32Add().get(vr).v128Store();
+    f.get(DIM).get(d).i32Add(); offset(); f.get(x).i32Add().get(vi).v128Store();
+  };
+  const row = () => {
+    put(() => f.i32(0).i32Add());
+    f.get(DUP).ifElse(() => put(() => f.get(RB).i32Add()));
+  };
+  f.forRange(y, () => f.i32(0), () => f.get(ROWS), () => f.i32(1), () => {
+    f.get(y).get(RB).i32Mul().set(s);
+    target();
+    f.forRange(x, () => f.i32(0), () => f.get(RB), () => f.i32(16), () => {
+      f.get(SRE).get(s).i32Add().get(x).i32Add().v128Load().set(vr);
+      f.get(SIM).get(s).i32Add().get(x).i32Add().v128Load().set(vi);
+      row();
+    });
+  });
+  f.forRange(y, () => f.get(ROWS), () => f.get(ZEND), () => f.i32(1), () => {
+    target();
+    f.f64Const(0).f64x2Splat().tee(vr).set(vi);
+    f.forRange(x, () => f.i32(0), () => f.get(RB), () => f.i32(16), row);
+  });
+  return f;
+}
+
 /** The kernel module's bytes (built from the code above; validated before use). */
 export function simdColumnsModule(): Uint8Array {
   return moduleBytes([
@@ -300,6 +336,7 @@ export function simdColumnsModule(): Uint8Array {
     { name: 'realSplitIn', code: realSplitFunction('in') },
     { name: 'transportProducts', code: productsFunction('transport') },
     { name: 'fieldProducts', code: productsFunction('field') },
+    { name: 'packRows', code: packRowsFunction() },
   ]);
 }
 
@@ -342,6 +379,14 @@ export interface SimdArena {
    * whose twiddles were not given at creation), and the caller runs the TypeScript loops.
    */
   columns(plan: FftPlan, re: Float64Array, im: Float64Array, width: number, columns: number, sign: -1 | 1, upperHalfZero: boolean): boolean;
+  /**
+   * convolvePadded's gather of one column block and the first stage of its forward transform: source
+   * row y < rows (at src[offset + y*width ..], width doubles) to row rev[y] of the block (plan.n rows of
+   * width), rows rows..upper-half start (or n) zeroed, then the transform as columns() with
+   * upperHalfZero when 2*rows <= n. False, doing nothing, when it cannot.
+   */
+  packAndTransform(plan: FftPlan, srcRe: Float64Array, srcIm: Float64Array, offset: number, rows: number,
+    re: Float64Array, im: Float64Array, width: number, columns: number, sign: -1 | 1): boolean;
   /**
    * realFftRows' split pass for frequencies 1..m/2 of `rows` rows: from the transformed block
    * (rows in natural order, `width` columns) to the spectra outRe/outIm laid out as `layout`.
@@ -394,6 +439,7 @@ export function createSimdArena(bytes: number, plans: readonly FftPlan[], realPl
   let memory: { buffer: ArrayBuffer };
   let kernel: ColumnsKernel, splitOut: SplitKernel, splitIn: SplitKernel;
   let transportProducts: (...addresses: number[]) => void, fieldProducts: (...addresses: number[]) => void;
+  let packRows: (...args: number[]) => void;
   try {
     memory = new wasm.Memory({ initial: pages, maximum: pages });
     const instance = new wasm.Instance(new wasm.Module(code), { env: { memory } });
@@ -402,6 +448,7 @@ export function createSimdArena(bytes: number, plans: readonly FftPlan[], realPl
     splitIn = instance.exports.realSplitIn as SplitKernel;
     transportProducts = instance.exports.transportProducts as typeof transportProducts;
     fieldProducts = instance.exports.fieldProducts as typeof fieldProducts;
+    packRows = instance.exports.packRows as typeof packRows;
   } catch { return undefined; }
   const buffer = memory.buffer;
   let next = 16; // address 0 left unused
@@ -445,6 +492,16 @@ export function createSimdArena(bytes: number, plans: readonly FftPlan[], realPl
   return {
     buffer,
     alloc,
+    packAndTransform(plan, srcRe, srcIm, offset, rows, re, im, width, columns, sign) {
+      const t = tables.get(plan), n = plan.n;
+      if (!t || !inside(srcRe, srcIm, re, im) || width % 2 !== 0 || columns > width || rows > n || offset < 0
+        || offset + rows * width > srcRe.length || offset + rows * width > srcIm.length || re.length < n * width || im.length < n * width) return false;
+      const upperZero = n >= 2 && 2 * rows <= n;
+      packRows(srcRe.byteOffset + offset * 8, srcIm.byteOffset + offset * 8, re.byteOffset, im.byteOffset, rows,
+        upperZero ? n >> 1 : n, t.rev, width * 8, upperZero ? 1 : 0);
+      kernel(re.byteOffset, im.byteOffset, n, width * 8, Math.ceil(columns / 2) * 16, sign, upperZero ? 2 : 0, t.cos, t.sin);
+      return true;
+    },
     products(kind, plan, inRe, inIm, outRe, outIm, kx, ky, width, columns) {
       const t = tables.get(plan), channels = kind === 'transport' ? 3 : 1, outputs = kind === 'transport' ? 3 : 2;
       const size = plan.n * width;

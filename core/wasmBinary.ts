@@ -69,6 +69,7 @@ export class FunctionCode {
   i32Ctz(): this { return this.op(0x68); }
   i32ShrS(): this { return this.op(0x75); }
   i32Eqz(): this { return this.op(0x45); }
+  i32Eq(): this { return this.op(0x46); }
   i32LtU(): this { return this.op(0x49); }
   i32GtU(): this { return this.op(0x4b); }
   i32LeU(): this { return this.op(0x4d); }

@@ -141,6 +141,9 @@ describe('convolvePadded and the helicity flux: SIMD workspace against the force
       const plan = createPaddedPlan(nx, ny);
       const simd = createPaddedWorkspace(plan, 2), plain = createPaddedWorkspace(plan, 2, { simd: false });
       expect(simd.simd).toBeDefined();
+      let packed = 0;
+      const arena = simd.simd!, { packAndTransform } = arena;
+      arena.packAndTransform = (...a) => { const r = packAndTransform(...a); packed += r ? 1 : 0; return r; };
       const a = rand(nx * ny, nx + 11), b = rand(nx * ny, ny + 12);
       for (let y = 1; y < ny; y += 3) a.fill(0, y * nx, y * nx + nx); // zero rows are skipped, never NaN
       const k = rand(plan.w * plan.py, 13), step = stepFor(k, plan.w);
@@ -154,6 +157,7 @@ describe('convolvePadded and the helicity flux: SIMD workspace against the force
         expect(s1.some((v) => v !== 0)).toBe(true);
         expect(s1.every(Number.isFinite)).toBe(true);
       }
+      expect(packed).toBe(2 * 2 * Math.ceil(plan.w / SPECTRUM_BLOCK)); // two calls, two inputs, every column block
     });
   }
 
