@@ -39,37 +39,21 @@ export function rateSigmaFromMotions(
   t: FluxTransport, conv: KernelConvolutions, labels: Int32Array, motions: ReadonlyMap<number, MotionCovariance>, grid: Grid,
   kernel: FluxKernel, labelledField?: { readonly p: Float64Array; readonly q: Float64Array },
 ): { total: number; spin: number; orbit: number } {
-  const { nx, dx, dy } = grid;
-  const area = pixelAreaCm2(dx, dy);
+  const area = pixelAreaCm2(grid.dx, grid.dy);
   const k = (2 * CM_PER_KM * area) / (2 * Math.PI);
-  const { bn, valid } = t;
-  const { p, q } = conv;
   const own = labelledField ?? labelledConvolution(t, labels, grid, kernel);
-  type Acc = { sx: number; sy: number; r: number; lx: number; ly: number; lr: number; flux: number; self: number };
-  const acc = new Map<number, Acc>();
-  for (let i = 0; i < labels.length; i++) {
-    const l = labels[i];
-    if (l <= 0 || !valid[i]) continue;
-    const m = motions.get(l);
-    if (!m) continue;
-    let a = acc.get(l);
-    if (!a) { a = { sx: 0, sy: 0, r: 0, lx: 0, ly: 0, lr: 0, flux: 0, self: 0 }; acc.set(l, a); }
-    // d(dH/dt)/du_x and /du_y of this pixel, Mx^2/s per km/s; the same for the labelled pairs only.
-    const gx = k * bn[i] * q[i], gy = -k * bn[i] * p[i];
-    const hx = k * bn[i] * own.q[i], hy = -k * bn[i] * own.p[i];
-    const rx = ((i % nx) * dx - m.cx) * KM_PER_MM, ry = (Math.floor(i / nx) * dy - m.cy) * KM_PER_MM;
-    a.sx += gx;
-    a.sy += gy;
-    a.r += -gx * ry + gy * rx;
-    a.lx += hx;
-    a.ly += hy;
-    a.lr += -hx * ry + hy * rx;
-    a.flux += bn[i] * area;
-    a.self += (bn[i] * area) ** 2;
-  }
+  // Per-footpoint sums in typed arrays (the pixel loop in a function of its own: a map of
+  // objects with number fields made a boxed number per update wherever the loop ran unoptimised).
+  const ids = [...motions.keys()].filter((l) => l > 0).sort((x, y) => x - y);
+  const acc = sensitivitySums(t, conv, own, labels, motions, ids, grid, k, area);
   let total = 0, spin = 0, orbit = 0;
-  for (const [l, a] of acc) {
-    const m = motions.get(l)!;
+  // Footpoints in the order their first pixel comes in the raster (the order of the sums before).
+  for (const e of acc.order) {
+    const m = motions.get(ids[e])!;
+    const a = {
+      sx: acc.sums[e * 8], sy: acc.sums[e * 8 + 1], r: acc.sums[e * 8 + 2], lx: acc.sums[e * 8 + 3],
+      ly: acc.sums[e * 8 + 4], lr: acc.sums[e * 8 + 5], flux: acc.sums[e * 8 + 6], self: acc.sums[e * 8 + 7],
+    };
     const shift = (gx: number, gy: number) => (gx * m.uxError) ** 2 + (gy * m.uyError) ** 2 + 2 * gx * gy * m.uCorrelation * m.uxError * m.uyError;
     const so = m.omegaError ?? 0;
     const dSpin = -(a.flux * a.flux - a.self) / (2 * Math.PI);
@@ -87,4 +71,47 @@ function labelledConvolution(t: FluxTransport, labels: Int32Array, grid: Grid, k
   const rows = new Uint8Array(grid.ny);
   for (let i = 0; i < bn.length; i++) if (labels[i] > 0 && valid[i]) { labelled[i] = bn[i]; rows[(i - (i % grid.nx)) / grid.nx] = 1; }
   return convolveField(kernel, labelled, rows);
+}
+
+/**
+ * Per footpoint with a motion (ids[e], ascending), over its valid labelled pixels in raster order:
+ * sums[8e ..] = d(dH/dt)/dU (x, y), d/domega, the same for the labelled pairs only, flux, sum of
+ * squared pixel fluxes; `order`: the footpoints with a pixel, in the order of their first pixel.
+ */
+function sensitivitySums(
+  t: FluxTransport, conv: KernelConvolutions, own: { readonly p: Float64Array; readonly q: Float64Array },
+  labels: Int32Array, motions: ReadonlyMap<number, MotionCovariance>, ids: readonly number[], grid: Grid, k: number, area: number,
+): { sums: Float64Array; order: number[] } {
+  const { nx, dx, dy } = grid;
+  const { bn, valid } = t;
+  const { p, q } = conv;
+  const slotOf = new Map<number, number>();
+  ids.forEach((l, e) => slotOf.set(l, e));
+  const cx = new Float64Array(ids.length), cy = new Float64Array(ids.length);
+  ids.forEach((l, e) => { const m = motions.get(l)!; cx[e] = m.cx; cy[e] = m.cy; });
+  const sums = new Float64Array(8 * ids.length);
+  const seen = new Uint8Array(ids.length);
+  const order: number[] = [];
+  let last = 0, slot = -1;
+  for (let i = 0; i < labels.length; i++) {
+    const l = labels[i];
+    if (l <= 0 || !valid[i]) continue;
+    if (l !== last) { last = l; slot = slotOf.get(l) ?? -1; }
+    if (slot < 0) continue;
+    if (!seen[slot]) { seen[slot] = 1; order.push(slot); }
+    // d(dH/dt)/du_x and /du_y of this pixel, Mx^2/s per km/s; the same for the labelled pairs only.
+    const gx = k * bn[i] * q[i], gy = -k * bn[i] * p[i];
+    const hx = k * bn[i] * own.q[i], hy = -k * bn[i] * own.p[i];
+    const rx = ((i % nx) * dx - cx[slot]) * KM_PER_MM, ry = (Math.floor(i / nx) * dy - cy[slot]) * KM_PER_MM;
+    const o = 8 * slot;
+    sums[o] += gx;
+    sums[o + 1] += gy;
+    sums[o + 2] += -gx * ry + gy * rx;
+    sums[o + 3] += hx;
+    sums[o + 4] += hy;
+    sums[o + 5] += -hx * ry + hy * rx;
+    sums[o + 6] += bn[i] * area;
+    sums[o + 7] += (bn[i] * area) ** 2;
+  }
+  return { sums, order };
 }

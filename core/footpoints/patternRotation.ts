@@ -227,11 +227,12 @@ export function patternRotation(a: PatternFootprint, b: PatternFootprint, grid: 
         const j0 = g * (gX * dXp + gY * dYp), j1 = g * gX, j2 = g * gY, j3 = f2;
         const r = g * f2 - f1[k];
         rss += r * r;
-        const J = [j0, j1, j2, j3];
-        for (let p = 0; p < 4; p++) {
-          Jtr[p] += J[p] * r;
-          for (let q = p; q < 4; q++) JtJ[p * 4 + q] += J[p] * J[q];
-        }
+        // The upper triangle of J^T J and J^T r, written out (an array per pixel was most of
+        // the fit's garbage).
+        Jtr[0] += j0 * r; JtJ[0] += j0 * j0; JtJ[1] += j0 * j1; JtJ[2] += j0 * j2; JtJ[3] += j0 * j3;
+        Jtr[1] += j1 * r; JtJ[5] += j1 * j1; JtJ[6] += j1 * j2; JtJ[7] += j1 * j3;
+        Jtr[2] += j2 * r; JtJ[10] += j2 * j2; JtJ[11] += j2 * j3;
+        Jtr[3] += j3 * r; JtJ[15] += j3 * j3;
       }
     }
     if (normal) for (let p = 0; p < 4; p++) for (let q = 0; q < p; q++) JtJ[p * 4 + q] = JtJ[q * 4 + p];
