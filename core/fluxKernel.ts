@@ -81,7 +81,10 @@ export function createFluxKernel(grid: Grid, options: PaddedWorkspaceOptions = {
 /** A row-major half spectrum (py rows of w) laid out by blocks of SPECTRUM_BLOCK columns into `out` (zeros beyond w). */
 function byColumnBlocks(spectrum: Float64Array, plan: PaddedPlan, out: Float64Array): Float64Array {
   const { w, py } = plan, B = SPECTRUM_BLOCK;
-  for (let ky = 0; ky < py; ky++) for (let kx = 0; kx < w; kx++) out[Math.floor(kx / B) * py * B + ky * B + (kx % B)] = spectrum[ky * w + kx];
+  for (let k0 = 0; k0 < w; k0 += B) {
+    const width = Math.min(B, w - k0), base = k0 * py;
+    for (let ky = 0; ky < py; ky++) for (let c = 0; c < width; c++) out[base + ky * B + c] = spectrum[ky * w + k0 + c];
+  }
   return out;
 }
 

@@ -78,12 +78,15 @@ async function engineTable(): Promise<void> {
     const runs = n >= 1024 ? 5 : 9;
     const gtheta = wallAndCpu(() => helicityFlux(kernel, t), runs);
     peak = Math.max(peak, rssMiB());
+    // The same call on the TypeScript fallback (no WebAssembly SIMD; the same numbers bit for bit).
+    const plainKernel = createFluxKernel(f, { simd: false });
+    const plain = wallAndCpu(() => helicityFlux(plainKernel, t), runs);
     const ap = wallAndCpu(() => convolveField(kernel, t.bn), runs);
     const total = helicityFlux(kernel, t).total;
     let convolved = 0;
     const split = wallAndCpu(() => { convolved = splitByLabels(kernel, t, f.labels, { total }).convolvedFootpoints; }, n >= 1024 ? 3 : 5, 1);
     peak = Math.max(peak, rssMiB());
-    console.log(`${n}x${n}: G_theta map+total ${gtheta.wall.toFixed(1)} ms (CPU ${gtheta.cpu.toFixed(1)}) | A_p ${ap.wall.toFixed(1)} ms | label split (50 footpoints, ${convolved} by FFT) ${split.wall.toFixed(1)} ms (CPU ${split.cpu.toFixed(1)}) | kernel spectra (once per grid) ${kernelMs.toFixed(0)} ms`);
+    console.log(`${n}x${n}: G_theta map+total ${gtheta.wall.toFixed(1)} ms (CPU ${gtheta.cpu.toFixed(1)}; ${kernel.arena ? 'WebAssembly SIMD' : 'no SIMD here'}; TypeScript fallback ${plain.wall.toFixed(1)} ms, CPU ${plain.cpu.toFixed(1)}) | A_p ${ap.wall.toFixed(1)} ms | label split (50 footpoints, ${convolved} by FFT) ${split.wall.toFixed(1)} ms (CPU ${split.cpu.toFixed(1)}) | kernel spectra (once per grid) ${kernelMs.toFixed(0)} ms`);
     const p1 = tuned1.get(n), p2 = tuned2.get(n), pu = untuned.get(n);
     if (p1 && pu) {
       // ratio = peer time / our time: > 1 means helicord is faster.
