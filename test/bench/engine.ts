@@ -76,11 +76,14 @@ async function engineTable(): Promise<void> {
     const kernelMs = performance.now() - t0;
     const t = fluxTransport(f);
     const runs = n >= 1024 ? 5 : 9;
-    const gtheta = wallAndCpu(() => helicityFlux(kernel, t), runs);
+    // Warm-up long enough for the JIT: the first size is measured first, and the JavaScript around
+    // the WebAssembly kernels takes 7-15 calls to reach its steady speed (docs/speed.md).
+    const warmup = n >= 1024 ? 3 : 10;
+    const gtheta = wallAndCpu(() => helicityFlux(kernel, t), runs, warmup);
     peak = Math.max(peak, rssMiB());
     // The same call on the TypeScript fallback (no WebAssembly SIMD; the same numbers bit for bit).
     const plainKernel = createFluxKernel(f, { simd: false });
-    const plain = wallAndCpu(() => helicityFlux(plainKernel, t), runs);
+    const plain = wallAndCpu(() => helicityFlux(plainKernel, t), runs, warmup);
     const ap = wallAndCpu(() => convolveField(kernel, t.bn), runs);
     const total = helicityFlux(kernel, t).total;
     let convolved = 0;
