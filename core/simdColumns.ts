@@ -1,10 +1,12 @@
-// The column butterflies of fftColumnBlock (bit-reversed input rows) as a WebAssembly SIMD kernel:
-// two adjacent columns per f64x2 lane pair, the same IEEE operations in the same order as the
-// TypeScript loops, so the results are bit-identical. The kernel works on arrays inside its own
-// WebAssembly.Memory: a SimdArena is that memory with the kernel instance and a bump allocator,
-// an explicit object owned by whoever made it (a convolution workspace). createSimdArena returns
-// undefined where WebAssembly or its SIMD instructions are missing; callers then keep plain arrays
-// and the TypeScript loops.
+// The inner loops of the batched transforms as WebAssembly SIMD kernels: the column butterflies of
+// fftColumnBlock (bit-reversed input rows), the split passes of the batched real row transforms, the
+// gather of a column block in convolvePadded and the helicity flux's spectral products. f64x2 lanes
+// hold two adjacent columns (or two rows), and every kernel does the same IEEE operations in the same
+// order as the TypeScript loops, so the results are bit-identical. The kernels work on arrays inside
+// their own WebAssembly.Memory: a SimdArena is that memory with the instance and a bump allocator,
+// an explicit object owned by whoever made it (a flux kernel or a convolution workspace).
+// createSimdArena returns undefined where WebAssembly or its SIMD instructions are missing; callers
+// then keep plain arrays and the TypeScript loops, which also run whenever a kernel declines.
 
 import type { FftPlan, RealFftPlan } from './fft.js';
 import { F64, FunctionCode, I32, V128, moduleBytes } from './wasmBinary.js';
@@ -13,6 +15,7 @@ import { F64, FunctionCode, I32, V128, moduleBytes } from './wasmBinary.js';
  * columns(re, im, n, rowBytes, columnBytes, sign, upperHalfZero, cos, sin): fftColumnBlock with
  * inputBitReversed on the first columnBytes / 8 columns (an even count) of the row-major blocks at
  * byte addresses re and im, rows rowBytes apart; cos, sin: addresses of the plan's tables.
+ * upperHalfZero 2: the size-2 stage's copies are made already (packRows with duplicate).
  */
 function columnsFunction(): FunctionCode {
   const f = new FunctionCode([I32, I32, I32, I32, I32, F64, I32, I32, I32]);
