@@ -130,21 +130,22 @@ export function growIntoTails(grid: Grid, bn: ArrayLike<number>, labels: Int32Ar
   }
   for (let step = 0; step < steps && front.length > 0; step++) {
     const next: number[] = [];
+    // One closure per step, not per front pixel (those were most of this function's garbage).
+    const visit = (j: number, l: number, s: number) => {
+      if (out[j] !== 0) return;
+      const b = bn[j];
+      if (!(Number.isFinite(b) && Math.sign(b) === s)) return;
+      out[j] = l;
+      next.push(j);
+    };
     for (const i of front) {
       const l = out[i], s = sign.get(l);
       if (s === undefined) continue;
       const x = i % nx, y = (i - x) / nx;
-      const visit = (j: number) => {
-        if (out[j] !== 0) return;
-        const b = bn[j];
-        if (!(Number.isFinite(b) && Math.sign(b) === s)) return;
-        out[j] = l;
-        next.push(j);
-      };
-      if (x > 0) visit(i - 1);
-      if (x < nx - 1) visit(i + 1);
-      if (y > 0) visit(i - nx);
-      if (y < ny - 1) visit(i + nx);
+      if (x > 0) visit(i - 1, l, s);
+      if (x < nx - 1) visit(i + 1, l, s);
+      if (y > 0) visit(i - nx, l, s);
+      if (y < ny - 1) visit(i + nx, l, s);
     }
     front = next;
   }

@@ -32,6 +32,11 @@ export function roundFeatures(
     if (label[start] !== 0 || !(Math.abs(s0) >= threshold)) continue;
     const sign = Math.sign(s0);
     next++;
+    const visit = (m: number) => {
+      if (label[m] !== 0) return;
+      const v = bn[m];
+      if (Math.abs(v) >= threshold && Math.sign(v) === sign) { label[m] = next; stack.push(m); }
+    };
     const members: number[] = [];
     stack.push(start);
     label[start] = next;
@@ -39,12 +44,11 @@ export function roundFeatures(
       const k = stack.pop()!;
       members.push(k);
       const x = k % nx, y = (k - x) / nx;
-      const nb = [x > 0 ? k - 1 : -1, x < nx - 1 ? k + 1 : -1, y > 0 ? k - nx : -1, y < ny - 1 ? k + nx : -1];
-      for (const m of nb) {
-        if (m < 0 || label[m] !== 0) continue;
-        const v = bn[m];
-        if (Math.abs(v) >= threshold && Math.sign(v) === sign) { label[m] = next; stack.push(m); }
-      }
+      // Neighbours left, right, below, above (no array per pixel: this runs for every strong pixel).
+      if (x > 0) visit(k - 1);
+      if (x < nx - 1) visit(k + 1);
+      if (y > 0) visit(k - nx);
+      if (y < ny - 1) visit(k + nx);
     }
     if (members.length < minPixels) continue;
     let sw = 0, sx = 0, sy = 0;

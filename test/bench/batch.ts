@@ -6,7 +6,7 @@
 // HELICORD_BENCH_FRAMES overrides the frame counts (default 120 at 256^2, 60 at 512^2).
 
 import { mkdtemp, rm, writeFile } from 'node:fs/promises';
-import { availableParallelism, tmpdir } from 'node:os';
+import { availableParallelism, loadavg, tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { Writable } from 'node:stream';
 import { processFolder } from '../../replay/processCommand.js';
@@ -15,15 +15,18 @@ import { rssMiB } from './_measure.js';
 
 const quiet = new Writable({ write(_c, _e, done) { done(); } });
 
-async function timed(folder: string, out: string, workers: number, config?: string): Promise<{ s: number; peak: number; samples: number }> {
+async function timed(folder: string, out: string, workers: number, config?: string): Promise<{ s: number; cpu: number; peak: number; samples: number }> {
   let peak = rssMiB();
   const timer = setInterval(() => { peak = Math.max(peak, rssMiB()); }, 50);
   const t = performance.now();
+  // CPU time of the whole process: the workers are its threads.
+  const c = process.cpuUsage();
   const r = await processFolder({ folder, out, workers, progress: quiet, ...(config !== undefined && { config }) });
+  const d = process.cpuUsage(c);
   const s = (performance.now() - t) / 1000;
   clearInterval(timer);
   peak = Math.max(peak, rssMiB());
-  return { s, peak, samples: r.samples };
+  return { s, cpu: (d.user + d.system) / 1e6, peak, samples: r.samples };
 }
 
 export async function bench(): Promise<void> {
@@ -49,7 +52,8 @@ export async function bench(): Promise<void> {
               break;
             }
             console.log(`${size}^2 x ${frames} frames, ${withVelocity ? 'given velocities' : 'inferred velocities'}, noise ${config ? 'given' : 'estimated per frame'}, ${workers} worker${workers > 1 ? 's' : ''}: `
-              + `${(frames / r.s).toFixed(2)} frames/s (${r.s.toFixed(1)} s, reading included), peak RSS ${r.peak.toFixed(0)} MiB`);
+              + `${(frames / r.s).toFixed(2)} frames/s (${r.s.toFixed(1)} s, reading included), ${(r.cpu / frames).toFixed(2)} s CPU per frame, `
+              + `peak RSS ${r.peak.toFixed(0)} MiB (load average ${loadavg().map((v) => v.toFixed(1)).join(' ')})`);
           }
           if (!withVelocity) break;
         }
