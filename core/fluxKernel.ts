@@ -47,6 +47,17 @@ export function kernelWorkspace(kernel: FluxKernel): PaddedWorkspace {
 /** An explicit, caller-owned cache of kernels by grid (shape and pixel size). */
 export type FluxKernelCache = Map<string, FluxKernel>;
 
+/**
+ * Padded grids below this many pixels keep the TypeScript transforms unless { simd: true } is asked:
+ * making the WebAssembly arena costs 3-12 ms, and a G_theta call on a 64^2 grid (padded 128^2) gains
+ * about 0.35 ms from SIMD, on 128^2 (padded 256^2) about 1.7 ms (docs/speed.md).
+ */
+export const SIMD_MIN_PADDED_PIXELS = 256 * 256;
+
+/**
+ * The kernel of `grid`; options.simd: true or false to choose the WebAssembly SIMD kernels or the
+ * TypeScript loops (the same numbers), by default SIMD from SIMD_MIN_PADDED_PIXELS on.
+ */
 export function createFluxKernel(grid: Grid, options: PaddedWorkspaceOptions = {}): FluxKernel {
   const { nx, ny, dx, dy } = grid;
   const plan = createPaddedPlan(nx, ny);
@@ -71,11 +82,13 @@ export function createFluxKernel(grid: Grid, options: PaddedWorkspaceOptions = {
   forwardPadded(plan, kx, px, py, sx);
   forwardPadded(plan, ky, px, py, sy);
   const length = Math.ceil(plan.w / SPECTRUM_BLOCK) * SPECTRUM_BLOCK * py;
-  const arena = options.simd === false ? undefined
-    : createSimdArena(2 * arenaBytes(length) + paddedWorkspaceBytes(plan, KERNEL_CHANNELS), [plan.cols], [plan.rows]);
+  const simd = options.simd ?? px * py >= SIMD_MIN_PADDED_PIXELS;
+  const arena = simd
+    ? createSimdArena(2 * arenaBytes(length) + paddedWorkspaceBytes(plan, KERNEL_CHANNELS), [plan.cols], [plan.rows])
+    : undefined;
   const spectrum = () => arena ? arena.alloc(length) : new Float64Array(length);
   const kxIm = byColumnBlocks(sx.im, plan, spectrum()), kyIm = byColumnBlocks(sy.im, plan, spectrum());
-  return { nx, ny, dx, dy, plan, kxIm, kyIm, scratch: {}, workspaceOptions: options, ...(arena && { arena }) };
+  return { nx, ny, dx, dy, plan, kxIm, kyIm, scratch: {}, workspaceOptions: { ...options, simd }, ...(arena && { arena }) };
 }
 
 /** A row-major half spectrum (py rows of w) laid out by blocks of SPECTRUM_BLOCK columns into `out` (zeros beyond w). */

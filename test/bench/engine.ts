@@ -76,9 +76,10 @@ async function engineTable(): Promise<void> {
     const kernelMs = performance.now() - t0;
     const t = fluxTransport(f);
     const runs = n >= 1024 ? 5 : 9;
-    // Warm-up long enough for the JIT: the first size is measured first, and the JavaScript around
-    // the WebAssembly kernels takes 7-15 calls to reach its steady speed (docs/speed.md).
-    const warmup = n >= 1024 ? 3 : 10;
+    // Warm-up long enough for the JIT (about half a second of calls): the first size is measured
+    // first, and the JavaScript around the WebAssembly kernels takes 7-20 calls to reach its steady
+    // speed on a loaded machine (docs/speed.md).
+    const warmup = n >= 1024 ? 3 : n >= 512 ? 10 : 30;
     const gtheta = wallAndCpu(() => helicityFlux(kernel, t), runs, warmup);
     peak = Math.max(peak, rssMiB());
     // The same call on the TypeScript fallback (no WebAssembly SIMD; the same numbers bit for bit).

@@ -5,7 +5,7 @@
 import { describe, expect, it } from 'vitest';
 import { analyseFrame } from '../../core/frameAnalysis.js';
 import { createFftPlan, createRealFftPlan, createRowBlock, fftColumnBlock, realFftRows, realInverseFftRows, rowBlockLength } from '../../core/fft.js';
-import { createFluxKernel, fluxKernelFor, kernelWorkspace } from '../../core/fluxKernel.js';
+import { SIMD_MIN_PADDED_PIXELS, createFluxKernel, fluxKernelFor, kernelWorkspace } from '../../core/fluxKernel.js';
 import type { FluxKernelCache } from '../../core/fluxKernel.js';
 import { fluxTransport } from '../../core/fluxTransport.js';
 import { convolveField, convolveTransport, helicityFlux } from '../../core/helicityFlux.js';
@@ -168,6 +168,10 @@ describe('convolvePadded and the helicity flux: SIMD workspace against the force
     const frame = { time: 0, nx, ny, dx: 0.36, dy: 0.36, bn, vx, vy };
     const t = fluxTransport(frame);
     const kSimd = createFluxKernel(frame), kPlain = createFluxKernel(frame, { simd: false });
+    // Below the size threshold the TypeScript loops are the default; { simd: true } asks for the kernels.
+    expect(createFluxKernel({ nx: 40, ny: 30, dx: 1, dy: 1 }).arena).toBeUndefined();
+    expect(kernelWorkspace(createFluxKernel({ nx: 40, ny: 30, dx: 1, dy: 1 })).simd).toBeUndefined();
+    expect(createFluxKernel({ nx: 40, ny: 30, dx: 1, dy: 1 }, { simd: true }).arena).toBeDefined();
     const s = helicityFlux(kSimd, t), p = helicityFlux(kPlain, t);
     expect(kernelWorkspace(kSimd).simd).toBeDefined();
     expect(kernelWorkspace(kPlain).simd).toBeUndefined();
@@ -200,7 +204,8 @@ describe('convolvePadded and the helicity flux: SIMD workspace against the force
     for (const k of simdCache.values()) fluxKernelFor(k, plainCache, { simd: false });
     const p = run(plainCache);
     expect(plainCache.size).toBe(simdCache.size);
-    for (const k of simdCache.values()) if (k.scratch.workspace) expect(k.scratch.workspace.simd).toBeDefined();
+    for (const k of simdCache.values()) if (k.scratch.workspace) expect(k.scratch.workspace.simd !== undefined).toBe(k.plan.px * k.plan.py >= SIMD_MIN_PADDED_PIXELS);
+    expect([...simdCache.values()].some((k) => k.arena)).toBe(true);
     for (const k of plainCache.values()) if (k.scratch.workspace) expect(k.scratch.workspace.simd).toBeUndefined();
     expect(Number.isFinite(s.total)).toBe(true);
     expect(Math.abs(s.total - p.total)).toBeLessThanOrEqual(1e-12 * Math.abs(p.total));
