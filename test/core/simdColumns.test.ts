@@ -55,6 +55,34 @@ describe('SIMD column kernel', () => {
     });
   }
 
+  it('without WebAssembly, or where it rejects the SIMD module, no arena is made and the kernel runs the TypeScript loops', () => {
+    const frame = { nx: 130, ny: 120, dx: 0.36, dy: 0.36 };
+    const bn = rand(130 * 120, 9).map((v) => 100 * v), fx = rand(130 * 120, 10), fy = rand(130 * 120, 11);
+    const reference = convolveTransport(createFluxKernel(frame), { bn, fx, fy });
+    const g = globalThis as unknown as { WebAssembly?: { validate(b: Uint8Array): boolean } };
+    const saved = g.WebAssembly!, validate = saved.validate;
+    try {
+      saved.validate = () => false; // a runtime without the SIMD instructions
+      expect(createSimdArena(1024, [createFftPlan(8)])).toBeUndefined();
+      const rejected = createFluxKernel(frame);
+      expect(rejected.arena).toBeUndefined();
+      saved.validate = validate;
+      delete g.WebAssembly; // no WebAssembly at all
+      expect(createSimdArena(1024, [createFftPlan(8)])).toBeUndefined();
+      const none = createFluxKernel(frame);
+      expect(none.arena).toBeUndefined();
+      for (const k of [rejected, none]) {
+        const out = convolveTransport(k, { bn, fx, fy });
+        expect(kernelWorkspace(k).simd).toBeUndefined();
+        for (const key of ['p', 'q', 'r'] as const) expect(differing(out[key], reference[key])).toEqual([]);
+      }
+    } finally {
+      saved.validate = validate;
+      g.WebAssembly = saved;
+    }
+    expect(createFluxKernel(frame).arena).toBeDefined();
+  });
+
   it('declines arrays outside its memory, odd widths and unknown plans, and the caller falls back', () => {
     const plan = createFftPlan(16), other = createFftPlan(32);
     const arena = createSimdArena(4 * arenaBytes(16 * 16), [plan])!;
