@@ -26,9 +26,17 @@ export interface WorkerPool {
   close(): Promise<void>;
 }
 
-export function startWorkerPool(size: number): WorkerPool {
+/**
+ * Young-generation limit of a batch worker, MiB. A frame makes many large typed arrays that die
+ * young; with V8's default young generation (tens of MiB) a worker holds 50-100 MiB of them
+ * awaiting collection, which put `process` at 512^2 on 2 workers near 500 MiB peak RSS. A small
+ * young generation collects them sooner (docs/speed.md, figures there).
+ */
+export const WORKER_YOUNG_GENERATION_MB = 8;
+
+export function startWorkerPool(size: number, youngGenerationMb = WORKER_YOUNG_GENERATION_MB): WorkerPool {
   const url = batchWorkerUrl();
-  const workers = Array.from({ length: size }, () => new Worker(url));
+  const workers = Array.from({ length: size }, () => new Worker(url, { resourceLimits: { maxYoungGenerationSizeMb: youngGenerationMb } }));
   const busy: (((e: Error) => void) | undefined)[] = new Array(size);
   workers.forEach((worker, w) => {
     worker.on('error', (e) => busy[w]?.(e));
