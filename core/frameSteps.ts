@@ -3,7 +3,8 @@
 // (a named task of core/frameTasks.ts with its arguments), goes on with work that does not need it,
 // and joins it where its result is needed. A driver decides where forks run:
 //
-// - `runSteps` runs each fork at once, in the caller's thread: the plain serial analysis;
+// - `runSteps` runs each fork at once, in the caller's thread: the plain serial analysis (and says
+//   there is one thread, so work that can be cut into parts is not);
 // - the monitor's compute worker hands forks to a second thread and joins them when they come back
 //   (server/assistedSteps.ts), so one frame uses both cores.
 //
@@ -24,7 +25,8 @@ export interface TaskHandle<K extends FrameTaskName = FrameTaskName> {
 
 export type FrameStep =
   | { readonly kind: 'fork'; readonly task: FrameTaskName; readonly args: FrameTaskArgs<FrameTaskName> }
-  | { readonly kind: 'join'; readonly handle: TaskHandle };
+  | { readonly kind: 'join'; readonly handle: TaskHandle }
+  | { readonly kind: 'threads' };
 
 /** An analysis written as steps, returning R. The driver answers a fork with a handle, a join with the result. */
 export type FrameSteps<R> = Generator<FrameStep, R, unknown>;
@@ -39,6 +41,14 @@ export function* join<K extends FrameTaskName>(handle: TaskHandle<K>): Generator
   return (yield { kind: 'join', handle }) as FrameTaskResult<K>;
 }
 
+/**
+ * How many threads the driver runs forks on (1 for runSteps): work that can be cut into parts is
+ * cut into this many (the parts join to the same result however many there are).
+ */
+export function* threads(): Generator<FrameStep, number, unknown> {
+  return (yield { kind: 'threads' }) as number;
+}
+
 /** Runs the steps in this thread, each fork at once: the serial analysis. */
 export function runSteps<R>(steps: FrameSteps<R>, cache?: FluxKernelCache): R {
   const done = new Map<number, { ok: true; value: unknown } | { ok: false; error: unknown }>();
@@ -46,7 +56,9 @@ export function runSteps<R>(steps: FrameSteps<R>, cache?: FluxKernelCache): R {
   let next = steps.next();
   while (!next.done) {
     const step = next.value;
-    if (step.kind === 'fork') {
+    if (step.kind === 'threads') {
+      next = steps.next(1);
+    } else if (step.kind === 'fork') {
       const handle: TaskHandle = { task: step.task, id: id++ };
       try {
         done.set(handle.id, { ok: true, value: runFrameTask(step.task, step.args, cache) });

@@ -5,14 +5,15 @@
 // same result as from running it here.
 //
 //   runFrameTask('inferVelocity', [previous, frame, settings.velocity], cache)
+//   runFrameTask('splitPart', [grid, t, labels, {}, { part: 0, of: 2 }], cache)
 
 import type { FluxKernelCache } from './fluxKernel.js';
 import { fluxKernelFor } from './fluxKernel.js';
 import type { Frame } from './frame.js';
 import type { FluxTransport } from './fluxTransport.js';
 import type { Grid } from './grid.js';
-import type { LabelSplit, LabelSplitOptions } from './labelSplit.js';
-import { splitByLabels } from './labelSplit.js';
+import type { LabelSplitOptions, SplitPart, SplitShare } from './labelSplit.js';
+import { splitPart } from './labelSplit.js';
 import type { InferredVelocity } from './velocity/inferVelocity.js';
 import { inferVelocity } from './velocity/inferVelocity.js';
 import type { VelocitySettings } from './velocity/velocitySettings.js';
@@ -23,8 +24,8 @@ export type SplitTaskOptions = Omit<LabelSplitOptions, 'cache'>;
 export interface FrameTasks {
   /** The velocity between two frames (core/velocity/inferVelocity.ts). */
   inferVelocity(args: readonly [previous: Frame, frame: Frame, settings: Partial<VelocitySettings> | undefined], cache?: FluxKernelCache): InferredVelocity;
-  /** The label split of a flux transport on a grid (core/labelSplit.ts). */
-  splitByLabels(args: readonly [grid: Grid, t: FluxTransport, labels: Int32Array, options: SplitTaskOptions], cache?: FluxKernelCache): LabelSplit;
+  /** One part of the label split of a flux transport on a grid (core/labelSplit.ts splitPart). */
+  splitPart(args: readonly [grid: Grid, t: FluxTransport, labels: Int32Array, options: SplitTaskOptions, share: SplitShare], cache?: FluxKernelCache): SplitPart;
 }
 
 export type FrameTaskName = keyof FrameTasks;
@@ -33,9 +34,9 @@ export type FrameTaskResult<K extends FrameTaskName> = ReturnType<FrameTasks[K]>
 
 export const FRAME_TASKS: FrameTasks = {
   inferVelocity: ([previous, frame, settings]) => inferVelocity(previous, frame, settings),
-  splitByLabels: ([grid, t, labels, options], cache) => {
+  splitPart: ([grid, t, labels, options, share], cache) => {
     const { nx, ny, dx, dy } = grid;
-    return splitByLabels(fluxKernelFor({ nx, ny, dx, dy }, cache), t, labels, { ...options, ...(cache && { cache }) });
+    return splitPart(fluxKernelFor({ nx, ny, dx, dy }, cache), t, labels, { ...options, ...(cache && { cache }) }, share);
   },
 };
 

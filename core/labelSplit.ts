@@ -16,6 +16,14 @@
 // entries are NaN and `pairsComplete` is false); every spin is still exact, and the orbit total
 // stays exact because it is taken as the labelled-labelled double sum (one more convolution, of
 // all labelled pixels together) minus the spins.
+//
+// The work (the direct sums, each large footpoint's convolution, the labelled convolution) can be
+// dealt to parts that run in different threads: `splitPart(..., { part, of })` does its share and
+// `joinSplitParts` puts the shares together. Each sum is made whole in one part, so the joined
+// split is the one-part split bit for bit.
+//
+//   splitByLabels(kernel, t, labels, { total })
+//   joinSplitParts([splitPart(kernel, t, labels, {}, { part: 0, of: 2 }), splitPart(kernel, t, labels, {}, { part: 1, of: 2 })], total)
 
 import type { FluxKernel, FluxKernelCache } from './fluxKernel.js';
 import { fluxKernelFor } from './fluxKernel.js';
@@ -71,6 +79,49 @@ export interface LabelSplitOptions {
 export function splitByLabels(
   kernel: FluxKernel, t: FluxTransport, labels: Int32Array, options: LabelSplitOptions = {},
 ): LabelSplit {
+  return joinSplitParts([splitPart(kernel, t, labels, options, WHOLE)], options.total ?? helicityFluxTotal(kernel, t));
+}
+
+/** Which share of the split's work a call does: part `part` of `of` (0 <= part < of). */
+export interface SplitShare {
+  readonly part: number;
+  readonly of: number;
+}
+
+const WHOLE: SplitShare = { part: 0, of: 1 };
+
+/** One part's share of a split: raw sums before the physical factors, and what it did. */
+export interface SplitPart {
+  readonly ids: readonly number[];
+  /** Per footpoint: summed directly (0), own full-grid convolution (1: `hasRow`) or box spin (big, no row). */
+  readonly big: Uint8Array;
+  readonly hasRow: Uint8Array;
+  readonly inPairs: Uint8Array;
+  readonly pairsComplete: boolean;
+  /** Ordered-pair direct sums (filled when this part did them). */
+  readonly sums: Float64Array;
+  readonly didDirect: boolean;
+  /** FFT sums at [target][source]; column `a` filled when this part convolved footpoint a (didSource[a]). */
+  readonly fftSums: Float64Array;
+  readonly didSource: Uint8Array;
+  /** The labelled-labelled double sum and the labelled field, when this part made them. */
+  readonly labelledSum?: number;
+  readonly labelledField?: { readonly p: Float64Array; readonly q: Float64Array };
+  readonly directFactor: number;
+  readonly fftFactor: number;
+}
+
+/**
+ * Part `share.part` of `share.of` of the split: every part finds the same footpoints and plan, and
+ * the work items (the direct sums, each large footpoint's convolution, the labelled convolution)
+ * are dealt by their estimated cost, largest first, each to the part with the least so far.
+ */
+export function splitPart(
+  kernel: FluxKernel, t: FluxTransport, labels: Int32Array, options: LabelSplitOptions, share: SplitShare,
+): SplitPart {
+  if (!(Number.isInteger(share.of) && share.of >= 1 && Number.isInteger(share.part) && share.part >= 0 && share.part < share.of)) {
+    throw new RangeError(`split part ${share.part} of ${share.of}: need integers 0 <= part < of`);
+  }
   const { nx, ny, dx, dy, plan } = kernel;
   const n = nx * ny;
   if (labels.length !== n) throw new RangeError(`labels has ${labels.length} values, expected ${n}`);
@@ -146,16 +197,48 @@ export function splitByLabels(
   // Large footpoints without a full row leave their pairs unknown.
   if (big.reduce((c, v) => c + v, 0) > (options.maxFullRows ?? 4)) pairsComplete = false;
 
+  const maxFullRows = options.maxFullRows ?? 4;
+  const hasRow = new Uint8Array(k);
+  {
+    let rows = 0;
+    for (const j of order) if (big[j] && rows < maxFullRows) { hasRow[j] = 1; rows++; }
+  }
+
+  // The work items and who does them. Costs in full-grid convolutions: a direct pair visit costs
+  // 1/(perPixel padded pixels) of one, a box spin the share of the padded grid its box pads to.
+  let directVisits = 0;
+  {
+    let pixelsIn = 0;
+    for (const j of order) {
+      if (big[j]) continue;
+      directVisits += (counts[j] * (counts[j] - 1)) / 2;
+      if (inPairs[j]) { directVisits += counts[j] * pixelsIn; pixelsIn += counts[j]; }
+    }
+  }
+  const items: { cost: number; kind: 'direct' | 'source' | 'labelled'; a: number }[] = [];
+  if (directVisits > 0) items.push({ cost: directVisits / budget, kind: 'direct', a: -1 });
+  for (let a = 0; a < k; a++) {
+    if (!big[a]) continue;
+    const box = 4 * nextPowerOfTwo(x1s[a] - x0s[a] + 1) * nextPowerOfTwo(y1s[a] - y0s[a] + 1);
+    items.push({ cost: hasRow[a] ? 1 : box / (plan.px * plan.py), kind: 'source', a });
+  }
+  if (!pairsComplete) items.push({ cost: 1, kind: 'labelled', a: -1 });
+  const mine = dealWork(items.map((i) => i.cost), share.of).map((p) => p === share.part);
+  const didDirect = items.some((i, e) => i.kind === 'direct' && mine[e]);
+  const didLabelled = items.some((i, e) => i.kind === 'labelled' && mine[e]);
+  const didSource = new Uint8Array(k);
+  items.forEach((i, e) => { if (i.kind === 'source' && mine[e]) didSource[i.a] = 1; });
+
   // Ordered-pair sums S[a][b] = Sum_{x in a, x' in b} (pair bracket), before physical factors.
   const sums = new Float64Array(k * k);
 
   // Direct sums over pixels of small footpoints, grouped by footpoint.
-  const m = smallPixels;
+  const m = didDirect ? smallPixels : 0;
   const xs = new Float64Array(m), ys = new Float64Array(m);
   const bs = new Float64Array(m), fxs = new Float64Array(m), fys = new Float64Array(m);
   const groupStart: number[] = [];
   const groupLabel: number[] = [];
-  {
+  if (didDirect) {
     let p = 0;
     for (let j = 0; j < k; j++) {
       if (big[j] || counts[j] === 0) continue;
@@ -170,7 +253,7 @@ export function splitByLabels(
     }
     groupStart.push(p);
   }
-  const groups = groupLabel.length;
+  const groups = groupLabel.length; // 0 when another part does the direct sums
   for (let ga = 0; ga < groups; ga++) {
     const la = groupLabel[ga];
     for (let i = groupStart[ga]; i < groupStart[ga + 1]; i++) {
@@ -192,12 +275,6 @@ export function splitByLabels(
 
   // FFT path: the field of each big footpoint, summed over every labelled pixel (full rows for
   // the largest `maxFullRows`), or over its own pixels only, from a convolution of its bounding box.
-  const maxFullRows = options.maxFullRows ?? 4;
-  const hasRow = new Uint8Array(k);
-  {
-    let rows = 0;
-    for (const j of order) if (big[j] && rows < maxFullRows) { hasRow[j] = 1; rows++; }
-  }
   const fftSums = new Float64Array(k * k);
   // The full-grid inputs (zero but for one footpoint's pixels, which are cleared after its
   // convolution) and one set of convolution maps for every full-grid convolution below (each
@@ -220,7 +297,7 @@ export function splitByLabels(
     return conv;
   };
   for (let a = 0; a < k; a++) {
-    if (!big[a]) continue;
+    if (!big[a] || !didSource[a]) continue;
     if (!hasRow[a]) { fftSums[a * k + a] = boxSpinSum(a); continue; }
     const { p, q, r } = convolvePixels(byFootpoint, start[a], start[a + 1]);
     addFieldSums(t, labelled, slot, hasRow, a, k, p, q, r, fftSums);
@@ -245,7 +322,52 @@ export function splitByLabels(
   }
   // The convolution includes dS' and the Mm -> cm step; apply -(1/2pi), km -> cm and dS.
   const fftFactor = (-1 / (2 * Math.PI)) * CM_PER_KM * area;
+  let labelled_: { sum: number; field: { p: Float64Array; q: Float64Array } } | undefined;
+  if (didLabelled) {
+    // The labelled-labelled double sum, by one convolution of all labelled pixels (the orbit total
+    // when the pairs are incomplete: joinSplitParts).
+    const { p, q, r } = convolvePixels(labelled, 0, labelledCount);
+    let labelledSum = 0;
+    for (let e = 0; e < labelledCount; e++) { const i = labelled[e]; labelledSum += fy[i] * p[i] - fx[i] * q[i] - bn[i] * r[i]; }
+    labelled_ = { sum: labelledSum, field: { p, q } };
+  }
+  return {
+    ids, big, hasRow, inPairs, pairsComplete, sums, didDirect, fftSums, didSource,
+    ...(labelled_ && { labelledSum: labelled_.sum, labelledField: labelled_.field }), directFactor, fftFactor,
+  };
+}
 
+/** Deals work items (their costs) to `of` parts: largest first, each to the least loaded (ties: lowest part, first item). */
+export function dealWork(costs: readonly number[], of: number): number[] {
+  const load = new Float64Array(of);
+  const part = new Array<number>(costs.length).fill(0);
+  const order = [...costs.keys()].sort((a, b) => costs[b] - costs[a] || a - b);
+  for (const e of order) {
+    let p = 0;
+    for (let c = 1; c < of; c++) if (load[c] < load[p]) p = c;
+    part[e] = p;
+    load[p] += costs[e];
+  }
+  return part;
+}
+
+/**
+ * The split from all its parts (splitPart with the same inputs, part 0 .. of-1, in any order) and
+ * the total: each sum taken from the part that made it, then the physical factors as one part would.
+ */
+export function joinSplitParts(parts: readonly SplitPart[], total: number): LabelSplit {
+  if (parts.length === 0) throw new RangeError('joinSplitParts needs at least one part');
+  const { ids, big, hasRow, inPairs, pairsComplete, directFactor, fftFactor } = parts[0];
+  const k = ids.length;
+  const sums = parts.find((p) => p.didDirect)?.sums ?? new Float64Array(k * k);
+  const fftSums = new Float64Array(k * k);
+  for (const part of parts) {
+    for (let a = 0; a < k; a++) {
+      if (!part.didSource[a]) continue;
+      if (!hasRow[a]) { fftSums[a * k + a] = part.fftSums[a * k + a]; continue; }
+      for (let b = 0; b < k; b++) fftSums[b * k + a] = part.fftSums[b * k + a];
+    }
+  }
   const spin = new Float64Array(k);
   const orbit = new Float64Array(k * k);
   let spinTotal = 0, orbitTotal = 0;
@@ -261,16 +383,14 @@ export function splitByLabels(
       else { orbit[a * k + b] = v; orbit[b * k + a] = v; orbitTotal += v; }
     }
   }
-  let labelledField: { p: Float64Array; q: Float64Array } | undefined;
+  let labelledField: { readonly p: Float64Array; readonly q: Float64Array } | undefined;
   if (!pairsComplete) {
-    // Orbit total = (labelled-labelled double sum) - spins, by one convolution of all labelled pixels.
-    const { p, q, r } = convolvePixels(labelled, 0, labelledCount);
-    let labelledSum = 0;
-    for (let e = 0; e < labelledCount; e++) { const i = labelled[e]; labelledSum += fy[i] * p[i] - fx[i] * q[i] - bn[i] * r[i]; }
-    orbitTotal = fftFactor * labelledSum - spinTotal;
-    labelledField = { p, q };
+    // Orbit total = (labelled-labelled double sum) - spins.
+    const withLabelled = parts.find((p) => p.labelledSum !== undefined);
+    if (!withLabelled) throw new RangeError('joinSplitParts: no part made the labelled sum (parts of different splits?)');
+    orbitTotal = fftFactor * withLabelled.labelledSum! - spinTotal;
+    labelledField = withLabelled.labelledField;
   }
-  const total = options.total ?? helicityFluxTotal(kernel, t);
   return {
     ids, spin, orbit, spinTotal, orbitTotal, background: total - spinTotal - orbitTotal, total,
     convolvedFootpoints: big.reduce((s, v) => s + v, 0), pairsComplete, ...(labelledField && { labelledField }),

@@ -14,9 +14,10 @@ import type { VelocityMaps } from './fluxTransport.js';
 import type { PatchCentre } from './frameAssembly/wcs.js';
 import { fluxTransport } from './fluxTransport.js';
 import { convolveTransport, helicityFluxFromConvolutions } from './helicityFlux.js';
-import type { LabelSplit } from './labelSplit.js';
+import type { LabelSplit, SplitPart } from './labelSplit.js';
+import { joinSplitParts } from './labelSplit.js';
 import type { FrameSteps } from './frameSteps.js';
-import { fork, join, runSteps } from './frameSteps.js';
+import { fork, join, runSteps, threads } from './frameSteps.js';
 import { emergenceShear, emergenceTerm } from './emergenceShear.js';
 import { estimateNoiseLevel } from './noiseLevel.js';
 import { rateSigmaFromNoise } from './rateUncertainty.js';
@@ -72,9 +73,12 @@ export function* measureRateSteps(input: RateInput): FrameSteps<RateMeasurement>
   const { frame } = input;
   const t = fluxTransport(frame, input.velocity);
   const labels = input.labels === undefined ? frame.labels : input.labels ?? undefined;
-  // The split is started before the total is known (total 0): its background is set below.
+  // The split is started before the total is known, in as many parts as the driver has threads
+  // (core/labelSplit.ts joinSplitParts: the same split however many).
   const grid = { nx: frame.nx, ny: frame.ny, dx: frame.dx, dy: frame.dy };
-  const splitTask = labels ? yield* fork('splitByLabels', [grid, t, labels, { total: 0 }]) : undefined;
+  const of = labels ? yield* threads() : 0;
+  const splitTasks = [];
+  for (let part = 0; part < of; part++) splitTasks.push(yield* fork('splitPart', [grid, t, labels!, {}, { part, of }]));
   const kernel = fluxKernelFor(frame, input.cache);
   const conv = convolveTransport(kernel, t);
   const flux = helicityFluxFromConvolutions(kernel, t, conv);
@@ -94,10 +98,12 @@ export function* measureRateSteps(input: RateInput): FrameSteps<RateMeasurement>
   const uy = input.velocity?.vy ?? frame.vy!;
   const sigmaNoise = rateSigmaFromNoise(conv, ux, uy, t.valid, Number.isFinite(noiseG) ? noiseG : 0, frame.dx, frame.dy);
   let split: LabelSplit | undefined;
-  if (splitTask) {
-    const s = yield* join(splitTask);
-    // The same as splitByLabels given the total: background = total - spin - orbit.
-    split = s.ids.length === 0 ? undefined : { ...s, total: flux.total, background: flux.total - s.spinTotal - s.orbitTotal };
+  if (of > 0) {
+    // The last parts first: one the second thread has not started is done here meanwhile.
+    const parts = new Array<SplitPart>(of);
+    for (let part = of - 1; part >= 0; part--) parts[part] = yield* join(splitTasks[part]);
+    const s = joinSplitParts(parts, flux.total);
+    split = s.ids.length === 0 ? undefined : s;
   }
   if (!split) flags.push('no-footpoints');
   const motion = input.motions && labels

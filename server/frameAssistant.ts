@@ -74,6 +74,10 @@ export async function runStepsAssisted<R>(steps: FrameSteps<R>, assistant: Frame
   let next = steps.next();
   while (!next.done) {
     const step = next.value;
+    if (step.kind === 'threads') {
+      next = steps.next(2); // this thread and the assistant
+      continue;
+    }
     if (step.kind === 'fork') {
       const handle: TaskHandle = { task: step.task, id: id++ };
       open.set(handle.id, { task: step.task, args: step.args, offer: assistant.offer(step.task, step.args) });

@@ -1,6 +1,7 @@
 // The analysis as steps (core/frameSteps.ts): forks may run whenever a driver likes between the
-// fork and the join, so a driver that runs each fork only at its join (the latest moment) must give
-// the same frame results as runSteps (each fork at once). If a forked task read anything the
+// fork and the join, so a driver that runs each fork only at its join (the latest moment), and
+// says it has two threads (the split cut in two parts), must give the same frame results as
+// runSteps (each fork at once, the split whole). If a forked task read anything the
 // analysis changes between its fork and its join, the two would differ.
 import { describe, expect, it } from 'vitest';
 import type { FluxKernelCache } from '../../core/fluxKernel.js';
@@ -19,7 +20,9 @@ function runAtJoin<R>(steps: FrameSteps<R>, cache: FluxKernelCache, order: strin
   let next = steps.next();
   while (!next.done) {
     const step = next.value;
-    if (step.kind === 'fork') {
+    if (step.kind === 'threads') {
+      next = steps.next(2); // the split in two parts: joined, the same as one
+    } else if (step.kind === 'fork') {
       const handle: TaskHandle = { task: step.task, id: id++ };
       forks.set(handle.id, { task: step.task, args: step.args });
       order.push(`fork ${step.task}`);
@@ -50,9 +53,10 @@ describe('frame steps', () => {
         expect(summary(rb)).toBe(summary(ra));
         if (i > 0) expect(Number.isFinite(ra.sample!.total) && ra.sample!.total !== 0).toBe(true);
       }
-      // Without velocities each frame after the first forks the inference, then the split, each
-      // joined after work that does not need it; with velocities only the split.
-      const perFrame = withVelocity ? ['fork splitByLabels', 'join splitByLabels'] : ['fork inferVelocity', 'join inferVelocity', 'fork splitByLabels', 'join splitByLabels'];
+      // Without velocities each frame after the first forks the inference, then the split's two
+      // parts, each joined after work that does not need it; with velocities only the split.
+      const split = ['fork splitPart', 'fork splitPart', 'join splitPart', 'join splitPart'];
+      const perFrame = withVelocity ? split : ['fork inferVelocity', 'join inferVelocity', ...split];
       expect(order).toEqual((withVelocity ? [0, 1, 2, 3] : [1, 2, 3]).flatMap(() => perFrame));
     }
   });

@@ -32,9 +32,9 @@ describe('frame assistant', () => {
       expect(rb.maps.vx).toEqual(ra.maps.vx);
       expect(rb.maps.gTheta).toEqual(ra.maps.gTheta);
     }
-    // Two forks per frame after the first (the inference and the split), each run once somewhere.
+    // Three forks per frame after the first (the inference and the two parts of the split), each run once somewhere.
     const c = assistant.counts;
-    expect(c.assisted + c.takenBack + c.failed - before.assisted - before.takenBack - before.failed).toBe(8);
+    expect(c.assisted + c.takenBack + c.failed - before.assisted - before.takenBack - before.failed).toBe(12);
     expect(c.failed).toBe(before.failed);
   });
 
