@@ -86,6 +86,11 @@ export function splitByLabels(
 export interface SplitShare {
   readonly part: number;
   readonly of: number;
+  /**
+   * Work each part's thread has besides its share, in full-grid convolutions (default none): the
+   * deal gives those parts less. Every part of one split must be given the same.
+   */
+  readonly otherWork?: readonly number[];
 }
 
 const WHOLE: SplitShare = { part: 0, of: 1 };
@@ -223,7 +228,7 @@ export function splitPart(
     items.push({ cost: hasRow[a] ? 1 : box / (plan.px * plan.py), kind: 'source', a });
   }
   if (!pairsComplete) items.push({ cost: 1, kind: 'labelled', a: -1 });
-  const mine = dealWork(items.map((i) => i.cost), share.of).map((p) => p === share.part);
+  const mine = dealWork(items.map((i) => i.cost), share.of, share.otherWork).map((p) => p === share.part);
   const didDirect = items.some((i, e) => i.kind === 'direct' && mine[e]);
   const didLabelled = items.some((i, e) => i.kind === 'labelled' && mine[e]);
   const didSource = new Uint8Array(k);
@@ -337,9 +342,12 @@ export function splitPart(
   };
 }
 
-/** Deals work items (their costs) to `of` parts: largest first, each to the least loaded (ties: lowest part, first item). */
-export function dealWork(costs: readonly number[], of: number): number[] {
-  const load = new Float64Array(of);
+/**
+ * Deals work items (their costs) to `of` parts: largest first, each to the least loaded (ties:
+ * lowest part, first item), the parts starting from `start` (their other work; default 0).
+ */
+export function dealWork(costs: readonly number[], of: number, start: readonly number[] = []): number[] {
+  const load = Float64Array.from({ length: of }, (_, p) => start[p] ?? 0);
   const part = new Array<number>(costs.length).fill(0);
   const order = [...costs.keys()].sort((a, b) => costs[b] - costs[a] || a - b);
   for (const e of order) {

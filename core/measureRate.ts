@@ -78,7 +78,10 @@ export function* measureRateSteps(input: RateInput): FrameSteps<RateMeasurement>
   const grid = { nx: frame.nx, ny: frame.ny, dx: frame.dx, dy: frame.dy };
   const of = labels ? yield* threads() : 0;
   const splitTasks = [];
-  for (let part = 0; part < of; part++) splitTasks.push(yield* fork('splitPart', [grid, t, labels!, {}, { part, of }]));
+  // The last part is joined first, so the thread that joins does it after the rate's own
+  // convolution (one full-grid convolution more than the others: otherWork).
+  const otherWork = Array.from({ length: of }, (_, p) => (p === of - 1 && of > 1 ? 1 : 0));
+  for (let part = 0; part < of; part++) splitTasks.push(yield* fork('splitPart', [grid, t, labels!, {}, { part, of, otherWork }]));
   const kernel = fluxKernelFor(frame, input.cache);
   const conv = convolveTransport(kernel, t);
   const flux = helicityFluxFromConvolutions(kernel, t, conv);

@@ -1,7 +1,8 @@
 // A compute worker's second thread for one frame (server/assistWorker.ts), and the driver that
-// runs a frame's steps (core/frameSteps.ts) with it: each fork is offered to the assistant and the
-// analysis goes on; at the join, a task the assistant has not started is taken back and run here,
-// so a busy or lost assistant costs the copy of the arguments, never a wait. A task the assistant
+// runs a frame's steps (core/frameSteps.ts) with it: a fork is offered to the assistant when it
+// holds no other task of this frame (else it is kept here) and the analysis goes on; at the join, a
+// task kept here or not yet started by the assistant is run here, so a busy or lost assistant
+// costs the copy of the arguments, never a wait. A task the assistant
 // failed is run again here (tasks are pure), so its error is the one the serial analysis gives.
 import type { FluxKernelCache } from '../core/fluxKernel.js';
 import type { FrameSteps, TaskHandle } from '../core/frameSteps.js';
@@ -20,8 +21,8 @@ interface Offer {
 export class FrameAssistant {
   private readonly worker: RestartingWorker<AssistRequest, AssistReply>;
   private nextId = 1;
-  /** Tasks run by the assistant and taken back, for the tests and the log. */
-  readonly counts = { assisted: 0, takenBack: 0, failed: 0 };
+  /** Tasks run by the assistant, taken back, failed there, and kept here (never offered): for the tests. */
+  readonly counts = { assisted: 0, takenBack: 0, failed: 0, keptHere: 0 };
 
   constructor(log: (line: string) => void = () => undefined) {
     this.worker = new RestartingWorker<AssistRequest, AssistReply>(compiledWorkerUrl('assistWorker.js'), 'frame assistant', log);
@@ -69,7 +70,10 @@ export class FrameAssistant {
  * the same results, in the same order).
  */
 export async function runStepsAssisted<R>(steps: FrameSteps<R>, assistant: FrameAssistant, cache?: FluxKernelCache): Promise<R> {
-  const open = new Map<number, { task: FrameTaskName; args: FrameTaskArgs<FrameTaskName>; offer: Offer }>();
+  const open = new Map<number, { task: FrameTaskName; args: FrameTaskArgs<FrameTaskName>; offer?: Offer }>();
+  // The task the assistant holds: one at a time, so arguments are not copied for a task that
+  // would wait behind it and be taken back anyway.
+  let held: Offer | undefined;
   let id = 0;
   let next = steps.next();
   while (!next.done) {
@@ -80,7 +84,9 @@ export async function runStepsAssisted<R>(steps: FrameSteps<R>, assistant: Frame
     }
     if (step.kind === 'fork') {
       const handle: TaskHandle = { task: step.task, id: id++ };
-      open.set(handle.id, { task: step.task, args: step.args, offer: assistant.offer(step.task, step.args) });
+      let offer: Offer | undefined;
+      if (!held) held = offer = assistant.offer(step.task, step.args);
+      open.set(handle.id, { task: step.task, args: step.args, ...(offer && { offer }) });
       next = steps.next(handle);
       continue;
     }
@@ -89,7 +95,13 @@ export async function runStepsAssisted<R>(steps: FrameSteps<R>, assistant: Frame
     open.delete(step.handle.id);
     let outcome: { ok: true; value: unknown } | { ok: false; error: unknown };
     try {
-      outcome = { ok: true, value: await assistant.result(o.offer, o.task, o.args, cache) };
+      if (o.offer) {
+        outcome = { ok: true, value: await assistant.result(o.offer, o.task, o.args, cache) };
+        if (held === o.offer) held = undefined;
+      } else {
+        assistant.counts.keptHere++;
+        outcome = { ok: true, value: runFrameTask(o.task, o.args, cache) };
+      }
     } catch (error) {
       outcome = { ok: false, error };
     }

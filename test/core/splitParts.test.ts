@@ -67,13 +67,15 @@ describe('label split in parts', () => {
       const whole = splitByLabels(kernel, t, labels, { ...options, total });
       expect(whole.ids.length).toBe(9);
       for (const of of [2, 3]) {
-        const parts = Array.from({ length: of }, (_, part) => splitPart(kernel, t, labels, options!, { part, of }));
+        const otherWork = [0, 0, 1].slice(3 - of);
+        const parts = Array.from({ length: of }, (_, part) => splitPart(kernel, t, labels, options!, { part, of, ...(of === 3 && { otherWork }) }));
         expectSameSplit(joinSplitParts([...parts].reverse(), total), whole);
         // Each part did some of the work, unless there was less work than parts.
         const did = parts.map((p) => (p.didDirect ? 1 : 0) + p.didSource.reduce((s, v) => s + v, 0) + (p.labelledSum !== undefined ? 1 : 0));
         const items = (whole.convolvedFootpoints > 0 ? whole.convolvedFootpoints : 0) + (parts.some((p) => p.didDirect) ? 1 : 0) + (whole.pairsComplete ? 0 : 1);
         expect(did.reduce((s, v) => s + v, 0)).toBe(items);
-        if (items >= of) expect(did.every((v) => v > 0)).toBe(true);
+        // Without other work, every part gets some when there are enough items.
+        if (of === 2 && items >= of) expect(did.every((v) => v > 0)).toBe(true);
       }
     });
   }
@@ -90,5 +92,7 @@ describe('label split in parts', () => {
     expect(dealWork([1, 1, 0.3, 0.2], 2)).toEqual([0, 1, 0, 1]);
     expect(dealWork([0.2, 3, 1, 1, 1], 2)).toEqual([0, 0, 1, 1, 1]); // 3 | 1 1 1, then 0.2 to the first of two equal loads
     expect(dealWork([5, 4, 3], 1)).toEqual([0, 0, 0]);
+    // A part that starts with other work gets less: 1 0.3 | 1 0.2 becomes 1 1 | 0.3 0.2 (from 1).
+    expect(dealWork([1, 1, 0.3, 0.2], 2, [0, 1])).toEqual([0, 0, 1, 1]);
   });
 });

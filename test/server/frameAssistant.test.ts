@@ -34,7 +34,9 @@ describe('frame assistant', () => {
     }
     // Three forks per frame after the first (the inference and the two parts of the split), each run once somewhere.
     const c = assistant.counts;
-    expect(c.assisted + c.takenBack + c.failed - before.assisted - before.takenBack - before.failed).toBe(12);
+    expect(c.assisted + c.takenBack + c.failed + c.keptHere - before.assisted - before.takenBack - before.failed - before.keptHere).toBe(12);
+    // The assistant holds one task of a frame at a time: the split's second part is kept here.
+    expect(c.keptHere - before.keptHere).toBeGreaterThanOrEqual(4);
     expect(c.failed).toBe(before.failed);
   });
 
