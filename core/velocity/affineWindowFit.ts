@@ -149,10 +149,7 @@ export function affineWindowFit(
     }
     list.forEach((m, e) => {
       const column = columnOut[e];
-      for (const u of m.uses) {
-        const target = sums[u.entry], coef = u.coef;
-        for (let k = 0; k < count; k++) target[k] += coef * column[k];
-      }
+      for (const u of m.uses) addScaled(sums[u.entry], u.coef, column, count);
     });
   }
 
@@ -189,45 +186,75 @@ export function affineWindowFit(
   const diag = Array.from({ length: n }, (_, p) => sums[entryIndex(p, p)]);
   const upperMaps: Float64Array[] = [], upperP: number[] = [], upperQ: number[] = [];
   for (let q = 0; q < n; q++) for (let p = 0; p <= q; p++) { upperMaps.push(sums[entryIndex(p, q)]); upperP.push(p); upperQ.push(q); }
-  const nUpper = upperMaps.length;
   const rhsMaps = Array.from({ length: n }, (_, q) => sums[entryIndex(q, n)]);
+  const context: SolveContext = { n, diag, rawDiag, upperMaps, upperP, upperQ, rhsMaps, ridge, wanted, minPivot, mat, rhs, scale, unit };
   for (let at = 0; at < count; at++) {
     const i = centres[at];
-    let ok = true;
-    for (let p = 0; p < n; p++) {
-      const d = diag[p][at];
-      // A column more than half noise cannot be corrected reliably (the corrected estimator's
-      // variance grows without bound as its signal goes to zero): no fit there.
-      if (!(d > 0) || (rawDiag !== undefined && !(d >= MIN_SIGNAL_SHARE * rawDiag[p][at]))) { ok = false; break; }
-      scale[p] = 1 / Math.sqrt(d);
-    }
-    if (ok) {
-      for (let k = 0; k < nUpper; k++) {
-        const p = upperP[k], q = upperQ[k];
-        const v = upperMaps[k][at] * scale[p] * scale[q] + (p === q ? RIDGE + ridge[p] : 0);
-        mat[p * n + q] = v;
-        mat[q * n + p] = v;
-      }
-      for (let q = 0; q < n; q++) rhs[q] = -rhsMaps[q][at] * scale[q];
-      ok = cholesky(mat, n);
-      // Each wanted parameter must be determined: the part of its (unit) column that the other
-      // columns do not explain, 1 / [M^-1]_pp (with the penalties), is at least minPivot.
-      for (let w = 0; ok && w < wanted.length; w++) {
-        const start = wanted[w];
-        unit.fill(0);
-        unit[start] = 1;
-        forwardSubstitute(mat, unit, n, start);
-        let inv = 0;
-        for (let k = start; k < n; k++) inv += unit[k] * unit[k];
-        if (!(1 / inv >= minPivot)) ok = false;
-      }
-    }
-    if (!ok) { illConditioned++; continue; }
-    forwardSubstitute(mat, rhs, n);
-    backSubstitute(mat, rhs, n);
+    if (!solveCentre(context, at)) { illConditioned++; continue; }
     for (let w = 0; w < wanted.length; w++) params[w][i] = rhs[wanted[w]] * scale[wanted[w]];
   }
   return { params, illConditioned };
+}
+
+/** What solveCentre reads (the entry sums by centre) and works in. */
+interface SolveContext {
+  readonly n: number;
+  readonly diag: readonly Float64Array[];
+  readonly rawDiag: readonly Float64Array[] | undefined;
+  readonly upperMaps: readonly Float64Array[];
+  readonly upperP: readonly number[];
+  readonly upperQ: readonly number[];
+  readonly rhsMaps: readonly Float64Array[];
+  readonly ridge: readonly number[];
+  readonly wanted: readonly number[];
+  readonly minPivot: number;
+  readonly mat: Float64Array;
+  readonly rhs: Float64Array;
+  readonly scale: Float64Array;
+  readonly unit: Float64Array;
+}
+
+/**
+ * The scaled normal equations of centre `at` factored and solved: the solution (scaled) in
+ * c.rhs and the scales in c.scale; false when the window is ill-conditioned. A function of its own
+ * so that it is optimised once (inside the long fit it ran partly unoptimised each frame).
+ */
+function solveCentre(c: SolveContext, at: number): boolean {
+  const { n, diag, rawDiag, upperMaps, upperP, upperQ, rhsMaps, ridge, wanted, minPivot, mat, rhs, scale, unit } = c;
+  for (let p = 0; p < n; p++) {
+    const d = diag[p][at];
+    // A column more than half noise cannot be corrected reliably (the corrected estimator's
+    // variance grows without bound as its signal goes to zero): no fit there.
+    if (!(d > 0) || (rawDiag !== undefined && !(d >= MIN_SIGNAL_SHARE * rawDiag[p][at]))) return false;
+    scale[p] = 1 / Math.sqrt(d);
+  }
+  for (let k = 0; k < upperMaps.length; k++) {
+    const p = upperP[k], q = upperQ[k];
+    const v = upperMaps[k][at] * scale[p] * scale[q] + (p === q ? RIDGE + ridge[p] : 0);
+    mat[p * n + q] = v;
+    mat[q * n + p] = v;
+  }
+  for (let q = 0; q < n; q++) rhs[q] = -rhsMaps[q][at] * scale[q];
+  if (!cholesky(mat, n)) return false;
+  // Each wanted parameter must be determined: the part of its (unit) column that the other
+  // columns do not explain, 1 / [M^-1]_pp (with the penalties), is at least minPivot.
+  for (let w = 0; w < wanted.length; w++) {
+    const start = wanted[w];
+    unit.fill(0);
+    unit[start] = 1;
+    forwardSubstitute(mat, unit, n, start);
+    let inv = 0;
+    for (let k = start; k < n; k++) inv += unit[k] * unit[k];
+    if (!(1 / inv >= minPivot)) return false;
+  }
+  forwardSubstitute(mat, rhs, n);
+  backSubstitute(mat, rhs, n);
+  return true;
+}
+
+/** target[k] += coef * column[k] for k < count. */
+function addScaled(target: Float64Array, coef: number, column: Float64Array, count: number): void {
+  for (let k = 0; k < count; k++) target[k] += coef * column[k];
 }
 
 /**
