@@ -8,15 +8,14 @@
 // On a shared machine run it with a higher priority than the other jobs (e.g. `nice -n -15`, as
 // root): the wall times are then this run's own.
 // Parameters (environment): HELICORD_LATENCY_FRAMES (per round, default 8), HELICORD_LATENCY_ROUNDS (default 2).
-import { spawn } from 'node:child_process';
 import { mkdtempSync, readFileSync, rmSync } from 'node:fs';
 import { loadavg, tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { fileURLToPath } from 'node:url';
 import WebSocket from 'ws';
 import type { Frame } from '../../core/frame.js';
 import { frameToJson } from '../../core/frameJson.js';
 import { demoRegion } from '../../replay/demo/demoRegion.js';
+import { launchMonitorChild } from './_monitorChild.js';
 
 const TOKEN = 'bench-token';
 const WARM_UP = 4;
@@ -37,27 +36,11 @@ function cpuSecondsOf(pid: number): number {
   return (Number(fields[11]) + Number(fields[12])) / 100; // utime, stime in clock ticks (100/s)
 }
 
-async function launch(dataDir: string, options: Record<string, unknown>): Promise<{ url: string; pid: number; stop: () => Promise<void> }> {
-  const launcher = fileURLToPath(new URL('../../../test/server/launch.mjs', import.meta.url));
-  const child = spawn(process.execPath, [launcher, dataDir], {
-    env: { ...process.env, HELICORD_TOKEN: TOKEN, HELICORD_TEST_OPTIONS: JSON.stringify(options) }, stdio: ['ignore', 'pipe', 'inherit'],
-  });
-  const url = await new Promise<string>((resolve, reject) => {
-    let out = '';
-    child.stdout!.on('data', (d) => { out += d; const m = /LISTENING (\S+)/.exec(out); if (m) resolve(m[1]); });
-    child.once('exit', (code) => reject(new Error(`monitor exited (${code})`)));
-  });
-  return {
-    url, pid: child.pid!,
-    stop: () => new Promise((r) => { child.once('exit', () => r()); child.kill('SIGTERM'); setTimeout(() => child.kill('SIGKILL'), 5000).unref(); }),
-  };
-}
-
 interface Round { latencies: number[]; cpuPerFrame: number }
 
 async function round(frames: readonly string[], assist: boolean): Promise<Round> {
   const dataDir = mkdtempSync(join(tmpdir(), 'helicord-latency-'));
-  const mon = await launch(dataDir, { assistFrames: assist });
+  const mon = await launchMonitorChild(dataDir, TOKEN, { assistFrames: assist });
   try {
     const region = 'latency';
     const put = await fetch(`${mon.url}/api/regions/${region}/settings`, { method: 'PUT', headers: { authorization: `Bearer ${TOKEN}`, 'content-type': 'application/json' }, body: '{"watchFolder": false}' });

@@ -12,14 +12,13 @@
 //     POST-to-broadcast delay of the stored ones (bounded by the queue bound).
 // Parameters (environment): HELICORD_BENCH_FRAMES (default 12), HELICORD_SOAK_S (default 30),
 // HELICORD_OVERLOAD_S (default 30), HELICORD_BENCH_LIMIT_S (hard stop, default 300).
-import { spawn } from 'node:child_process';
 import { mkdtempSync, readFileSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { fileURLToPath } from 'node:url';
 import WebSocket from 'ws';
 import { frameToJson } from '../../core/frameJson.js';
 import { spotFrame } from '../support/scenes.js';
+import { launchMonitorChild } from './_monitorChild.js';
 
 const TOKEN = 'bench-token';
 const T0 = Date.UTC(2026, 2, 14, 0, 0, 0);
@@ -58,20 +57,6 @@ function frameTemplate(n: number): { head: string; tail: string } {
 
 const withTime = (t: { head: string; tail: string }, ms: number) => `${t.head}"${new Date(ms).toISOString()}"${t.tail}`;
 
-async function launch(dataDir: string): Promise<{ url: string; pid: number; stop: () => Promise<void> }> {
-  const launcher = fileURLToPath(new URL('../../../test/server/launch.mjs', import.meta.url));
-  const child = spawn(process.execPath, [launcher, dataDir], { env: { ...process.env, HELICORD_TOKEN: TOKEN }, stdio: ['ignore', 'pipe', 'inherit'] });
-  const url = await new Promise<string>((resolve, reject) => {
-    let out = '';
-    child.stdout!.on('data', (d) => { out += d; const m = /LISTENING (\S+)/.exec(out); if (m) resolve(m[1]); });
-    child.once('exit', (code) => reject(new Error(`monitor exited (${code})`)));
-  });
-  return {
-    url, pid: child.pid!,
-    stop: () => new Promise((r) => { child.once('exit', () => r()); child.kill('SIGTERM'); setTimeout(() => child.kill('SIGKILL'), 5000).unref(); }),
-  };
-}
-
 async function post(url: string, region: string, body: string): Promise<{ status: number; frame_id?: number }> {
   const r = await fetch(`${url}/api/regions/${region}/frames`, { method: 'POST', headers: { authorization: `Bearer ${TOKEN}`, 'content-type': 'application/json' }, body });
   const answer = (await r.json()) as { frame_id?: number };
@@ -96,7 +81,7 @@ export async function bench(): Promise<void> {
   const limitS = env('HELICORD_BENCH_LIMIT_S', 300);
   const deadline = Date.now() + limitS * 1000;
   const dataDir = mkdtempSync(join(tmpdir(), 'helicord-bench-'));
-  const mon = await launch(dataDir);
+  const mon = await launchMonitorChild(dataDir, TOKEN);
   try {
     const region = 'load';
     const template = frameTemplate(512);
