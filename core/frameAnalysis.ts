@@ -197,8 +197,7 @@ export function* analyseFrameSteps(
   const flags: string[] = [];
   const field1 = smoothed();
   const footpointModel = (settings.motionModel ?? 'footpoints') === 'footpoints';
-  // The motions over the baseline need no velocity: they are measured before the inference is joined.
-  let baseline: { options: Parameters<typeof pairMotions>[5]; previousField: Float64Array } | undefined;
+  // The footpoint motions need no velocity: they are measured before the inference is joined.
   if (footpointModel) {
     // The footpoints' own motions from their patterns on the smoothed frames: over the pair, and
     // over the longest interval within the baseline where earlier frames are kept (preferred).
@@ -220,18 +219,19 @@ export function* analyseFrameSteps(
       motionFrom = oldest.time;
       baselineNotes.push(`Footpoint motions over ${((frame.time - oldest.time) / 1000).toFixed(0)} s (the motion baseline), centred ${((previous.time - oldest.time) / 2000).toFixed(0)} s before the sample.`);
     }
-    baseline = { options, previousField };
+    // Over the pair for the footpoints the baseline did not give: the pair's interval as the
+    // inference takes it (core/velocity/inferVelocity.ts checkFramePair), so no need to wait for it.
+    const pairDtS = (frame.time - previous.time) / 1000;
+    const missing = new Set(tracked.track.assignments.map((a) => a.id).filter((id) => !motions!.has(id)));
+    if (missing.size > 0) {
+      for (const [id, m] of pairMotions(previousField, field1, tracked.labels, tracked.grid, pairDtS, options, missing)) motions.set(id, m);
+    }
   }
   const v = yield* join(inference);
   const inferred = inferredOf(v);
   let velocity: VelocityMaps = inferred;
   const notes = [...v.notes, ...baselineNotes];
-  if (baseline && motions) {
-    const { options, previousField } = baseline;
-    const missing = new Set(tracked.track.assignments.map((a) => a.id).filter((id) => !motions!.has(id)));
-    if (missing.size > 0) {
-      for (const [id, m] of pairMotions(previousField, field1, tracked.labels, tracked.grid, v.dtS, options, missing)) motions.set(id, m);
-    }
+  if (footpointModel && motions) {
     if (v.vz) {
       // With vector data, a footpoint whose pattern shows no rotation may still turn in the flux
       // transport: twist carried up by emerging flux moves its field lines around it (-v_n B_t),
