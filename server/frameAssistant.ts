@@ -2,8 +2,8 @@
 // runs a frame's steps (core/frameSteps.ts) with it: a fork is offered to the assistant when it
 // holds no other task of this frame (else it is kept here) and the analysis goes on; at the join, a
 // task kept here or not yet started by the assistant is run here, so a busy or lost assistant
-// costs the copy of the arguments, never a wait. A task the assistant
-// failed is run again here (tasks are pure), so its error is the one the serial analysis gives.
+// costs the copy of the arguments, never a wait. A task the assistant failed is run again here
+// (tasks are pure), so its error is the one the serial analysis gives.
 import type { FluxKernelCache } from '../core/fluxKernel.js';
 import type { FrameSteps, TaskHandle } from '../core/frameSteps.js';
 import type { FrameTaskArgs, FrameTaskName } from '../core/frameTasks.js';
