@@ -170,7 +170,15 @@ describe.skipIf((!chromiumPath || !haveServer) && !inCi)('dashboard in Chromium 
       expect(await page.locator('#ledger tbody td.empty').count()).toBe(1);
       return;
     }
-    expect(await page.locator('#ledger tbody tr').count()).toBe(p.map.footpoints);
+    // The ledger and the map's footpoints arrive by separate requests after the pick: wait until
+    // the ledger lists as many footpoints as the map draws (they must agree within the deadline).
+    let rows = -1, drawn = p.map.footpoints;
+    for (const deadline = Date.now() + 10_000; Date.now() < deadline; await page.waitForTimeout(100)) {
+      rows = await page.locator('#ledger tbody tr').count();
+      drawn = (await probe(page)).map.footpoints;
+      if (rows === drawn) break;
+    }
+    expect(rows).toBe(drawn);
     const id = (await page.locator('#ledger tbody tr').first().getAttribute('data-id'))!;
     await page.locator(`#ledger tbody tr[data-id="${id}"]`).click();
     await until(page, 'the footpoint highlighted', (s) => s.selectedFootpoint === id && s.map.highlighted === id);
