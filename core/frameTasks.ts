@@ -34,10 +34,8 @@ export type FrameTaskResult<K extends FrameTaskName> = ReturnType<FrameTasks[K]>
 
 export const FRAME_TASKS: FrameTasks = {
   inferVelocity: ([previous, frame, settings]) => inferVelocity(previous, frame, settings),
-  splitPart: ([grid, t, labels, options, share], cache) => {
-    const { nx, ny, dx, dy } = grid;
-    return splitPart(fluxKernelFor({ nx, ny, dx, dy }, cache), t, labels, { ...options, ...(cache && { cache }) }, share);
-  },
+  splitPart: ([grid, t, labels, options, share], cache) =>
+    splitPart(fluxKernelFor(grid, cache), t, labels, { ...options, ...(cache && { cache }) }, share),
 };
 
 export function isFrameTaskName(name: unknown): name is FrameTaskName {

@@ -327,18 +327,18 @@ export function splitPart(
   }
   // The convolution includes dS' and the Mm -> cm step; apply -(1/2pi), km -> cm and dS.
   const fftFactor = (-1 / (2 * Math.PI)) * CM_PER_KM * area;
-  let labelled_: { sum: number; field: { p: Float64Array; q: Float64Array } } | undefined;
+  let labelledPart: { sum: number; field: { p: Float64Array; q: Float64Array } } | undefined;
   if (didLabelled) {
     // The labelled-labelled double sum, by one convolution of all labelled pixels (the orbit total
     // when the pairs are incomplete: joinSplitParts).
     const { p, q, r } = convolvePixels(labelled, 0, labelledCount);
     let labelledSum = 0;
     for (let e = 0; e < labelledCount; e++) { const i = labelled[e]; labelledSum += fy[i] * p[i] - fx[i] * q[i] - bn[i] * r[i]; }
-    labelled_ = { sum: labelledSum, field: { p, q } };
+    labelledPart = { sum: labelledSum, field: { p, q } };
   }
   return {
     ids, big, hasRow, inPairs, pairsComplete, sums, didDirect, fftSums, didSource,
-    ...(labelled_ && { labelledSum: labelled_.sum, labelledField: labelled_.field }), directFactor, fftFactor,
+    ...(labelledPart && { labelledSum: labelledPart.sum, labelledField: labelledPart.field }), directFactor, fftFactor,
   };
 }
 
