@@ -2,17 +2,21 @@
 // thread (the default with two cores or more: server/frameAssistant.ts) and without
 // (`--one-thread-per-frame`), in the same run: 512^2 demo frames posted one at a time into an idle
 // monitor (the next after the previous sample reached the viewer), frames with their velocity and
-// frames without (inferred between pairs). Prints POST-to-broadcast median and 95th percentile and
+// frames without (inferred between pairs), each sent as FITS (the frame file convention of
+// docs/fits.md, as an observatory pipeline would send it: about 3 MB with velocities) and as JSON
+// (about 11 MB, numbers as text). Prints POST-to-broadcast median and 95th percentile and
 // the monitor's CPU per frame (user + system of its process, /proc), with the load average.
 // Rounds alternate the two modes, each round in a fresh monitor process (test/server/launch.mjs).
 // On a shared machine run it with a higher priority than the other jobs (e.g. `nice -n -15`, as
 // root): the wall times are then this run's own.
-// Parameters (environment): HELICORD_LATENCY_FRAMES (per round, default 8), HELICORD_LATENCY_ROUNDS (default 2).
+// Parameters (environment): HELICORD_LATENCY_FRAMES (per round, default 8), HELICORD_LATENCY_ROUNDS
+// (default 2), HELICORD_LATENCY_FORMATS (default "fits,json").
 import { mkdtempSync, readFileSync, rmSync } from 'node:fs';
 import { loadavg, tmpdir } from 'node:os';
 import { join } from 'node:path';
 import WebSocket from 'ws';
 import type { Frame } from '../../core/frame.js';
+import { frameToFits } from '../../core/frameAssembly/frameToFits.js';
 import { frameToJson } from '../../core/frameJson.js';
 import { demoRegion } from '../../replay/demo/demoRegion.js';
 import { launchMonitorChild } from './_monitorChild.js';
@@ -38,7 +42,10 @@ function cpuSecondsOf(pid: number): number {
 
 interface Round { latencies: number[]; cpuPerFrame: number }
 
-async function round(frames: readonly string[], assist: boolean): Promise<Round> {
+/** One frame as sent: its bytes and content type. */
+interface Body { readonly bytes: string | Uint8Array; readonly type: string }
+
+async function round(frames: readonly Body[], assist: boolean): Promise<Round> {
   const dataDir = mkdtempSync(join(tmpdir(), 'helicord-latency-'));
   const mon = await launchMonitorChild(dataDir, TOKEN, { assistFrames: assist });
   try {
@@ -55,9 +62,9 @@ async function round(frames: readonly string[], assist: boolean): Promise<Round>
       waiters.get(msg.sample.frame_id)?.();
     });
     await new Promise((r) => ws.once('open', r));
-    const send = async (body: string) => {
+    const send = async (body: Body) => {
       const t = performance.now();
-      const r = await fetch(`${mon.url}/api/regions/${region}/frames`, { method: 'POST', headers: { authorization: `Bearer ${TOKEN}`, 'content-type': 'application/json' }, body });
+      const r = await fetch(`${mon.url}/api/regions/${region}/frames`, { method: 'POST', headers: { authorization: `Bearer ${TOKEN}`, 'content-type': body.type }, body: body.bytes });
       const answer = (await r.json()) as { frame_id?: number };
       if (r.status !== 201 || answer.frame_id === undefined) throw new Error(`ingest answered ${r.status}`);
       return { id: answer.frame_id, t };
@@ -94,19 +101,25 @@ export async function bench(): Promise<void> {
   const rounds = env('HELICORD_LATENCY_ROUNDS', 2);
   const load = () => loadavg().map((v) => v.toFixed(2)).join(' ');
   console.log(`frame latency, one region, 512^2 demo frames at 720 s, ${WARM_UP} to warm up and ${count - WARM_UP} timed per round, ${rounds} rounds per mode; load average ${load()}`);
-  for (const withVelocity of [true, false]) {
+  const formats = (process.env.HELICORD_LATENCY_FORMATS ?? 'fits,json').split(',').map((f) => f.trim());
+  for (const withVelocity of [true, false]) for (const format of formats) {
+    if (format !== 'fits' && format !== 'json') throw new Error(`HELICORD_LATENCY_FORMATS: "${format}" is not fits or json`);
     const region = demoRegion({ frames: count, size: 512, withVelocity, cadenceS: 720, storyH: 72, storyStartH: 16 });
-    const bodies = Array.from({ length: count }, (_, i) => {
+    const bodies = Array.from({ length: count }, (_, i): Body => {
       const f: Frame = region.frameAt(i);
-      return JSON.stringify(frameToJson(withVelocity ? f : { ...f, labels: undefined }));
+      const sent = withVelocity ? f : { ...f, labels: undefined };
+      return format === 'fits'
+        ? { bytes: frameToFits(sent, { creator: 'helicord bench' }), type: 'application/fits' }
+        : { bytes: JSON.stringify(frameToJson(sent)), type: 'application/json' };
     });
+    const size = (bodies[0].bytes.length / 1e6).toFixed(1);
     const results: Record<string, Round[]> = { 'one thread': [], 'two threads': [] };
     for (let r = 0; r < rounds; r++) {
       for (const assist of r % 2 ? [true, false] : [false, true]) results[assist ? 'two threads' : 'one thread'].push(await round(bodies, assist));
     }
     for (const [mode, rs] of Object.entries(results)) {
       const all = rs.flatMap((x) => x.latencies);
-      console.log(`${withVelocity ? 'velocity given   ' : 'velocity inferred'} ${mode.padEnd(11)}: POST to broadcast median ${quantile(all, 0.5).toFixed(0)} ms, p95 ${quantile(all, 0.95).toFixed(0)} ms; `
+      console.log(`${withVelocity ? 'velocity given   ' : 'velocity inferred'} ${format.padEnd(4)} (${size} MB) ${mode.padEnd(11)}: POST to broadcast median ${quantile(all, 0.5).toFixed(0)} ms, p95 ${quantile(all, 0.95).toFixed(0)} ms; `
         + `monitor CPU per frame ${rs.map((x) => x.cpuPerFrame.toFixed(2)).join(' / ')} s (${all.length} frames) | load average ${load()}`);
     }
   }
