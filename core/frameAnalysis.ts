@@ -24,7 +24,7 @@ import type { FluxKernelCache } from './fluxKernel.js';
 import type { Frame } from './frame.js';
 import { checkFrame, hasVelocity } from './frame.js';
 import type { VelocityMaps } from './fluxTransport.js';
-import type { FootpointAnalysis, FootpointSettings, FootpointState } from './footpoints/analyseFootpoints.js';
+import type { FootpointAnalysis, FootpointSettings, FootpointState, TrackedFrame } from './footpoints/analyseFootpoints.js';
 import { describeFootpoints, trackFrame } from './footpoints/analyseFootpoints.js';
 import type { FootpointVelocityOptions } from './footpoints/footpointVelocity.js';
 import { footpointVelocityField } from './footpoints/footpointVelocity.js';
@@ -152,11 +152,14 @@ export function* analyseFrameSteps(
   }
   const fpSettings = settings.footpoints === false ? undefined : { ...settings.footpoints, ...(cache && { kernelCache: cache }) };
   const noise = settings.noiseG !== undefined ? { noiseG: settings.noiseG } : {};
+  // The rate's noise level is the segmentation's estimate when it made one of the same map.
+  const noiseOf = (tracked: TrackedFrame | undefined) => settings.noiseG === undefined && tracked?.seg.estimatedNoise !== undefined
+    ? { noiseG: tracked.seg.estimatedNoise } : noise;
 
   if (hasVelocity(frame)) {
     const tracked = fpSettings && trackFrame(state.footpoints, frame, fpSettings);
     const centre = framePatchCentre(frame);
-    const r = yield* measureRateSteps({ frame, labels: tracked ? tracked.labels : null, velocityMethod: 'given', ...noise, ...(cache && { cache }), ...(centre && { centre }) });
+    const r = yield* measureRateSteps({ frame, labels: tracked ? tracked.labels : null, velocityMethod: 'given', ...noiseOf(tracked), ...(cache && { cache }), ...(centre && { centre }) });
     const footpoints = tracked && describeFootpoints(state.footpoints, frame, tracked, fpSettings!, {
       transport: r.transport, ...(r.split && { split: r.split }),
     });
@@ -175,7 +178,9 @@ export function* analyseFrameSteps(
   const inference = yield* fork('inferVelocity', [previous, frame, settings.velocity]);
   const rateFrame = midFrame(previous, frame);
   const centre = meanCentre(framePatchCentre(previous), framePatchCentre(frame));
-  const commonOf = (v: InferredVelocity) => ({ frame: rateFrame, velocityMethod: v.method, time: v.time, dtS: v.dtS, ...noise, ...(cache && { cache }), ...(centre && { centre }) });
+  const commonOf = (v: InferredVelocity, tracked?: TrackedFrame) => ({
+    frame: rateFrame, velocityMethod: v.method, time: v.time, dtS: v.dtS, ...noiseOf(tracked), ...(cache && { cache }), ...(centre && { centre }),
+  });
   const inferredOf = (v: InferredVelocity): VelocityMaps => ({ vx: v.vx, vy: v.vy, ...(v.vz && { vz: v.vz }) });
   // Without footpoint motions the 1-sigma covers the field noise only, not the inference's errors.
   const incomplete = 'sigma-without-velocity-error';
@@ -269,7 +274,7 @@ export function* analyseFrameSteps(
     notes.push(incompleteNote);
   }
   const r = yield* measureRateSteps({
-    ...commonOf(v), velocity, labels, flags,
+    ...commonOf(v, tracked), velocity, labels, flags,
     ...(motions && { motions, motionFrom, motionTo: frame.time }),
     ...(motions && v.vz && { normalVelocity: v.vz }),
   });

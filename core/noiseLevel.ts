@@ -84,6 +84,53 @@ export function medianInPlace(a: Float64Array, n: number): number {
   return (lo + hi) / 2;
 }
 
+/** Index of the first of sorted[from..to) that is >= x (to when none). */
+function firstAtLeast(sorted: Float64Array, from: number, to: number, x: number): number {
+  while (from < to) {
+    const mid = (from + to) >> 1;
+    if (sorted[mid] < x) from = mid + 1; else to = mid;
+  }
+  return from;
+}
+
+/** Index of the first of sorted[from..to) that is > x (to when none). */
+function firstAbove(sorted: Float64Array, from: number, to: number, x: number): number {
+  while (from < to) {
+    const mid = (from + to) >> 1;
+    if (sorted[mid] <= x) from = mid + 1; else to = mid;
+  }
+  return from;
+}
+
+/** Median of sorted[from..to), as medianInPlace gives it (the mean of the two middles for an even count). */
+function sortedMedian(sorted: Float64Array, from: number, to: number): number {
+  const n = to - from;
+  return n % 2 === 1 ? sorted[from + ((n - 1) >> 1)] : (sorted[from + (n >> 1) - 1] + sorted[from + (n >> 1)]) / 2;
+}
+
+/**
+ * Median of |v - m| over sorted[from..to), with m inside their range: the deviations come in
+ * ascending order by walking outward from m, taking the nearer side each step (|v - m| is
+ * monotone on each side of m in floating point too), so the median is the same value selection
+ * finds, in O(n) without reordering anything.
+ */
+function sortedMedianDeviation(sorted: Float64Array, from: number, to: number, m: number): number {
+  const n = to - from;
+  let down = firstAtLeast(sorted, from, to, m) - 1, up = down + 1;
+  const next = () => {
+    const a = down >= from ? Math.abs(sorted[down] - m) : Infinity;
+    const b = up < to ? Math.abs(sorted[up] - m) : Infinity;
+    if (a <= b) { down--; return a; }
+    up++;
+    return b;
+  };
+  // The k-th smallest deviation (0-based) for an odd count, the mean of the (n/2-1)-th and the n/2-th otherwise.
+  const k = n % 2 === 1 ? (n - 1) >> 1 : (n >> 1) - 1;
+  for (let i = 0; i < k; i++) next();
+  const d = next();
+  return n % 2 === 1 ? d : (d + next()) / 2;
+}
+
 /** Robust noise level of the finite values of `map`; throws RangeError when none is finite. */
 export function estimateNoiseLevel(map: ArrayLike<number>, options: NoiseOptions = {}): NoiseLevel {
   const clip = options.clip ?? 2;
@@ -92,32 +139,25 @@ export function estimateNoiseLevel(map: ArrayLike<number>, options: NoiseOptions
   for (let i = 0; i < map.length; i++) if (Number.isFinite(map[i])) finite++;
   if (finite === 0) throw new RangeError('no finite value to estimate the noise from');
   const stride = Math.max(1, Math.floor(finite / maxSamples));
-  const values = new Float64Array(Math.ceil(finite / stride));
+  const sorted = new Float64Array(Math.ceil(finite / stride));
   let count = 0;
   for (let i = 0, seen = 0; i < map.length; i++) {
     const v = map[i];
     if (!Number.isFinite(v)) continue;
-    if (seen++ % stride === 0) values[count++] = v;
+    if (seen++ % stride === 0) sorted[count++] = v;
   }
-  const work = new Float64Array(count);
+  // Sorted once: every clipped set below is then a contiguous run of it, whose median and median
+  // deviation are read off in linear time (the same order statistics as selecting them anew).
+  sorted.subarray(0, count).sort();
   let lo = -Infinity, hi = Infinity;
   let med = 0, sigma = 0, used = 0;
   for (let iter = 0; iter < 12; iter++) {
-    let n = 0;
-    for (let i = 0; i < count; i++) {
-      const v = values[i];
-      if (v >= lo && v <= hi) work[n++] = v;
-    }
+    const from = firstAtLeast(sorted, 0, count, lo), to = firstAbove(sorted, from, count, hi);
+    const n = to - from;
     if (n === 0) break;
-    med = medianInPlace(work, n);
-    // Deviations refilled in the original order: the order selection leaves behind is slow to select in again.
-    n = 0;
-    for (let i = 0; i < count; i++) {
-      const v = values[i];
-      if (v >= lo && v <= hi) work[n++] = Math.abs(v - med);
-    }
+    med = sortedMedian(sorted, from, to);
     // The first pass is unclipped; later ones are clipped at +-clip sigma.
-    const next = medianInPlace(work, n) / (iter === 0 ? 1 / MAD_TO_SIGMA : clippedMadOfUnitNormal(clip));
+    const next = sortedMedianDeviation(sorted, from, to, med) / (iter === 0 ? 1 / MAD_TO_SIGMA : clippedMadOfUnitNormal(clip));
     used = n;
     // Settled to 0.1 %: far below the sampling scatter of a MAD.
     const settled = iter > 0 && Math.abs(next - sigma) <= 1e-3 * next;

@@ -56,6 +56,12 @@ export interface Segmentation {
   /** Noise level used, G, and where it came from. */
   readonly noise: number;
   readonly noiseSource: 'given' | 'estimated' | 'floor';
+  /**
+   * The noise level estimated from bn (core/noiseLevel.ts estimateNoiseLevel), G, when no noise was
+   * given: before the floor replaces a zero, so that others needing the same estimate of the same
+   * map can take it from here.
+   */
+  readonly estimatedNoise?: number;
   /** Threshold applied to |field|, G. */
   readonly thresholdG: number;
   /** The map that was thresholded (bn smoothed, NaN kept), G. */
@@ -70,12 +76,14 @@ export function segmentFootpoints(bn: ArrayLike<number>, grid: Grid, settings: S
   const s = { ...SEGMENTATION_DEFAULTS, ...stripUndefined(settings) };
   let noise: number;
   let noiseSource: Segmentation['noiseSource'];
+  let estimatedNoise: number | undefined;
   if (settings.noise !== undefined) {
     if (!(settings.noise >= 0)) throw new RangeError(`noise must be >= 0 G, got ${settings.noise}`);
     noise = settings.noise;
     noiseSource = 'given';
   } else {
     noise = estimateNoiseLevel(bn).sigma;
+    estimatedNoise = noise;
     noiseSource = 'estimated';
   }
   if (noise === 0) {
@@ -100,7 +108,7 @@ export function segmentFootpoints(bn: ArrayLike<number>, grid: Grid, settings: S
   const fluxPerUnit = pixelFluxMx(1, dx, dy);
   if (!s.split) {
     const { labels, count } = patchesAboveThreshold(classes, bn, nx, ny, s.minPixels, s.minFlux / fluxPerUnit);
-    return { labels, count, noise, noiseSource, thresholdG, field, maskedFraction: missing / n };
+    return { labels, count, noise, noiseSource, ...(estimatedNoise !== undefined && { estimatedNoise }), thresholdG, field, maskedFraction: missing / n };
   }
   const { labels, count } = downhillTessellation(strength, classes, nx, ny, {
     dx, dy,
@@ -110,7 +118,7 @@ export function segmentFootpoints(bn: ArrayLike<number>, grid: Grid, settings: S
     minFieldSum: s.minFlux / fluxPerUnit,
     fluxMap: bn,
   });
-  return { labels, count, noise, noiseSource, thresholdG, field, maskedFraction: missing / n };
+  return { labels, count, noise, noiseSource, ...(estimatedNoise !== undefined && { estimatedNoise }), thresholdG, field, maskedFraction: missing / n };
 }
 
 /** Connected patches of one polarity, small ones dropped, renumbered 1..count in raster order. */
