@@ -16,7 +16,9 @@
 // Error Models). A window where the correction leaves the matrix not positive definite has too
 // little signal above the noise and is counted as ill-conditioned.
 
-import { correlateColumnsAt, correlateColumnsAtFused, correlateFiniteRows, correlateFiniteRowsFused, gaussianTaps, windowRadius } from './windowedSum.js';
+import type { AffineFitWorkspace } from './fitWindowPasses.js';
+import { createAffineFitWorkspace, fitWindowPasses } from './fitWindowPasses.js';
+import { correlateColumnsAt, correlateFiniteRows, gaussianTaps, windowRadius } from './windowedSum.js';
 
 export interface ModelTerm {
   readonly coef: number;
@@ -44,6 +46,22 @@ export interface AffineFitResult {
   readonly params: Float64Array[];
   /** Pixels that had valid channels at the centre but an ill-conditioned window. */
   readonly illConditioned: number;
+  /** The centres solved (pixel indices, ascending): params are NaN everywhere else. */
+  readonly centres: Int32Array;
+}
+
+export interface AffineFitOptions {
+  /**
+   * The caller's workspace (core/velocity/fitWindowPasses.ts): with one that asks for SIMD, the
+   * windowed sums run in WebAssembly SIMD kernels in its memory, kept for the next fit. The same
+   * numbers bit for bit either way.
+   */
+  readonly workspace?: AffineFitWorkspace;
+  /**
+   * Without a workspace: true makes one for this fit alone (SIMD kernels in fresh memory, which on
+   * a large grid costs more than they save), false or absent keeps the TypeScript loops.
+   */
+  readonly simd?: boolean;
 }
 
 /**
@@ -59,7 +77,7 @@ export function affineWindowFit(
   channels: readonly ArrayLike<number>[], nx: number, ny: number,
   columns: readonly ModelColumn[], target: ModelColumn,
   sigma: number, minPivot: number, wanted: readonly number[], ridge: readonly number[] = columns.map(() => 0),
-  solveAt?: Uint8Array, noiseVariance?: readonly number[],
+  solveAt?: Uint8Array, noiseVariance?: readonly number[], options: AffineFitOptions = {},
 ): AffineFitResult {
   const n = columns.length;
   const size = nx * ny;
@@ -85,7 +103,7 @@ export function affineWindowFit(
   }
 
   const valid = new Uint8Array(size).fill(1);
-  for (const c of channels) for (let i = 0; i < size; i++) if (!Number.isFinite(c[i])) valid[i] = 0;
+  for (const c of channels) markInvalid(c, valid);
 
   // The fit is needed at the centres to solve only: the windowed sums are evaluated there (the
   // column pass at those pixels, the row pass at the pixels their column windows read), in the same order
@@ -95,11 +113,7 @@ export function affineWindowFit(
   const centres = new Int32Array(count);
   for (let i = 0, k = 0; i < size; i++) if (valid[i] && (solveAt === undefined || solveAt[i] !== 0)) centres[k++] = i;
   const r = windowRadius(sigma);
-  const rowsNeeded = new Uint8Array(size);
-  for (let k = 0; k < count; k++) {
-    const x = centres[k] % nx, y = (centres[k] - x) / nx;
-    for (let e = Math.max(0, y - r); e <= Math.min(ny - 1, y + r); e++) rowsNeeded[e * nx + x] = 1;
-  }
+  const rowsNeeded = columnWindowsReach(centres, nx, ny, r);
   // The row passes read the products on [spanFrom, spanTo) of each row only (the needed pixels
   // and r beyond them): the products are formed there alone.
   const spanFrom = new Int32Array(ny), spanTo = new Int32Array(ny);
@@ -109,19 +123,7 @@ export function affineWindowFit(
     if (first >= 0) { spanFrom[y] = y * nx + Math.max(0, first - r); spanTo[y] = y * nx + Math.min(nx, last + r + 1); }
   }
   const taps: Float64Array[] = [0, 1, 2, 3, 4].map((power) => gaussianTaps(sigma, r, power));
-  // One compact array per matrix entry (entry-major, one value per centre), so that adding a moment
-  // into an entry is one contiguous loop.
-  // (One allocation for all of them: every large allocation may cost a young-generation GC.)
-  const sumBlock = new Float64Array(entries * count);
-  const sums: Float64Array[] = Array.from({ length: entries }, (_, e) => sumBlock.subarray(e * count, (e + 1) * count));
-  const product = new Float64Array(size);
-  // Row-pass buffers, one per power of x the moments use (made in one block), and one column-pass
-  // output per moment of a channel pair.
   const xPowers = [...new Set([...moments.values()].map((m) => m.px))].sort((a, b) => a - b);
-  const rowBlock = new Float64Array(xPowers.length * size);
-  const rowBuffers: Float64Array[] = [];
-  xPowers.forEach((px, e) => { rowBuffers[px] = rowBlock.subarray(e * size, (e + 1) * size); });
-  const rowBuffer = (power: number) => (rowBuffers[power] ??= new Float64Array(size));
   // Group the moments by channel pair: a product is made once, its row passes for every power of
   // x in one sweep, and the column passes of each row-passed map in one sweep; the moments are
   // then added into the entries in their own order (the order of the sums is that of one moment
@@ -134,22 +136,52 @@ export function affineWindowFit(
     byPair.set(key, list);
   }
   const mostPerPair = Math.max(0, ...[...byPair.values()].map((list) => list.length));
-  const columnBlock = new Float64Array(mostPerPair * count);
-  const columnOut = Array.from({ length: mostPerPair }, (_, e) => columnBlock.subarray(e * count, (e + 1) * count));
+  const usedChannels = [...new Set([...moments.values()].flatMap((m) => [m.j, m.k]))];
+
+  // Buffers: inside a WebAssembly memory when the SIMD kernels run (the arena dies with the call),
+  // else plain arrays. Each large block is one allocation (every large allocation may cost a
+  // young-generation GC).
+  const workspace = options.workspace ?? (options.simd ? createAffineFitWorkspace({ simd: true }) : undefined);
+  const passes = fitWindowPasses(workspace, nx, ny, r, rowsNeeded, centres, [
+    size * usedChannels.length, size, size * xPowers.length, entries * count, mostPerPair * count]);
+  const block = (length: number, parts: number, zeroed = false) => {
+    const all = passes.alloc(length * parts, zeroed);
+    return Array.from({ length: parts }, (_, e) => all.subarray(e * length, (e + 1) * length));
+  };
+  // For the kernels, the channels in their memory with invalid pixels zeroed, on the spans: a
+  // product of two of them is the masked product (0 * 0 = +0 where either is invalid, as the zero
+  // the TypeScript loop writes there).
+  const inputs: (ArrayLike<number> | Float64Array)[] = [...channels];
+  if (passes.simd) {
+    const maskedBlock = block(size, usedChannels.length);
+    usedChannels.forEach((j, e) => {
+      const c = channels[j], m = maskedBlock[e];
+      inputs[j] = m;
+      for (let y = 0; y < ny; y++) for (let i = spanFrom[y]; i < spanTo[y]; i++) m[i] = valid[i] ? c[i] : 0;
+    });
+  }
+  const [product] = block(size, 1);
+  // Row-pass buffers, one per power of x the moments use, and one column-pass output per moment of
+  // a channel pair; one compact array per matrix entry (entry-major, one value per centre), so that
+  // adding a moment into an entry is one contiguous loop.
+  const rowBlock = block(size, xPowers.length);
+  const rowBuffers: Float64Array[] = [];
+  xPowers.forEach((px, e) => { rowBuffers[px] = rowBlock[e]; });
+  const rowBuffer = (power: number) => (rowBuffers[power] ??= new Float64Array(size));
+  const sums = block(count, entries, true);
+  const columnOut = block(count, mostPerPair);
   for (const list of byPair.values()) {
-    const a = channels[list[0].j], b = channels[list[0].k];
-    for (let y = 0; y < ny; y++) {
-      for (let i = spanFrom[y]; i < spanTo[y]; i++) product[i] = valid[i] ? a[i] * b[i] : 0;
-    }
+    const a = inputs[list[0].j], b = inputs[list[0].k];
+    for (let y = 0; y < ny; y++) passes.product(product, a, b, valid, spanFrom[y], spanTo[y]);
     const powers = [...new Set(list.map((m) => m.px))];
-    correlateFiniteRowsFused(product, nx, ny, powers.map((px) => taps[px]), powers.map(rowBuffer), rowsNeeded);
+    passes.rows(product, powers.map((px) => taps[px]), powers.map(rowBuffer));
     for (const px of powers) {
       const at = list.map((m, e) => (m.px === px ? e : -1)).filter((e) => e >= 0);
-      correlateColumnsAtFused(rowBuffer(px), nx, ny, at.map((e) => taps[list[e].py]), centres, at.map((e) => columnOut[e]));
+      passes.columns(rowBuffer(px), at.map((e) => taps[list[e].py]), at.map((e) => columnOut[e]));
     }
     list.forEach((m, e) => {
       const column = columnOut[e];
-      for (const u of m.uses) addScaled(sums[u.entry], u.coef, column, count);
+      for (const u of m.uses) passes.axpy(sums[u.entry], u.coef, column, count);
     });
   }
 
@@ -193,7 +225,42 @@ export function affineWindowFit(
     if (!solveCentre(context, at)) { illConditioned++; continue; }
     for (let w = 0; w < wanted.length; w++) params[w][i] = rhs[wanted[w]] * scale[wanted[w]];
   }
-  return { params, illConditioned };
+  return { params, illConditioned, centres };
+}
+
+/**
+ * 1 at every pixel that the column window (rows y - r .. y + r of its column) of some centre reads:
+ * a count of centres per column slid down the rows (centres ascending, so a row's are consecutive).
+ */
+function columnWindowsReach(centres: Int32Array, nx: number, ny: number, r: number): Uint8Array {
+  const rowStart = new Int32Array(ny + 1);
+  for (let k = 0; k < centres.length; k++) rowStart[((centres[k] / nx) | 0) + 1]++;
+  for (let y = 0; y < ny; y++) rowStart[y + 1] += rowStart[y];
+  const reach = new Uint8Array(nx * ny);
+  const inWindow = new Int32Array(nx);
+  let total = 0;
+  const slide = (y: number, step: 1 | -1) => {
+    for (let k = rowStart[y]; k < rowStart[y + 1]; k++) inWindow[centres[k] - y * nx] += step;
+    total += step * (rowStart[y + 1] - rowStart[y]);
+  };
+  for (let y = 0; y < Math.min(r, ny); y++) slide(y, 1);
+  for (let y = 0; y < ny; y++) {
+    if (y + r < ny) slide(y + r, 1);
+    if (y - r - 1 >= 0) slide(y - r - 1, -1);
+    if (total === 0) continue;
+    for (let x = 0, i = y * nx; x < nx; x++, i++) if (inWindow[x] > 0) reach[i] = 1;
+  }
+  return reach;
+}
+
+/** valid[i] = 0 where c[i] is NaN or infinite (v - v is 0 for finite v only). */
+function markInvalid(c: ArrayLike<number>, valid: Uint8Array): void {
+  if (c instanceof Float64Array) { markInvalidF64(c, valid); return; }
+  for (let i = 0; i < valid.length; i++) if (!Number.isFinite(c[i])) valid[i] = 0;
+}
+
+function markInvalidF64(c: Float64Array, valid: Uint8Array): void {
+  for (let i = 0; i < valid.length; i++) { const v = c[i]; if (v - v !== 0) valid[i] = 0; }
 }
 
 /** What solveCentre reads (the entry sums by centre) and works in. */
@@ -250,11 +317,6 @@ function solveCentre(c: SolveContext, at: number): boolean {
   forwardSubstitute(mat, rhs, n);
   backSubstitute(mat, rhs, n);
   return true;
-}
-
-/** target[k] += coef * column[k] for k < count. */
-function addScaled(target: Float64Array, coef: number, column: Float64Array, count: number): void {
-  for (let k = 0; k < count; k++) target[k] += coef * column[k];
 }
 
 /**

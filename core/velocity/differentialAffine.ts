@@ -7,7 +7,8 @@
 // per pixel and converted to km/s at the end, so unequal pixel sides are handled.
 
 import { affineWindowFit } from './affineWindowFit.js';
-import type { ModelColumn } from './affineWindowFit.js';
+import type { AffineFitOptions, ModelColumn } from './affineWindowFit.js';
+import type { AffineFitWorkspace } from './fitWindowPasses.js';
 import { derivativeX, derivativeY } from './gradient.js';
 import { KM_PER_MM } from '../units.js';
 
@@ -23,6 +24,18 @@ export interface AffineOptions {
   readonly noise?: { readonly bn: number; readonly bt?: number };
   /** The pair's midAndRate when the caller has made it already (saves two maps). */
   readonly midAndRate?: { readonly mid: Float64Array; readonly rate: Float64Array };
+  /**
+   * The caller's workspace for the fit's windowed sums (core/velocity/fitWindowPasses.ts: SIMD
+   * kernels in memory kept from one pair to the next); without one, `simd` as affineWindowFit takes it.
+   * The same velocities bit for bit either way.
+   */
+  readonly workspace?: AffineFitWorkspace;
+  readonly simd?: boolean;
+}
+
+/** The fit options of `options` (workspace, simd). */
+export function fitOptionsOf(options: AffineOptions): AffineFitOptions {
+  return { ...(options.workspace && { workspace: options.workspace }), ...(options.simd !== undefined && { simd: options.simd }) };
 }
 
 /** Sum of the squared taps of the fourth-order central difference (core/velocity/gradient.ts): 130/144. */
@@ -84,10 +97,11 @@ export function differentialAffineVelocity(
   const { mid, rate } = options.midAndRate ?? midAndRate(a, b, dtS);
   const gx = derivativeX(mid, nx, ny), gy = derivativeY(mid, nx, ny);
   const noise = options.noise ? daveNoiseVariance(options.noise.bn, dtS) : undefined;
-  const fit = affineWindowFit([gx, gy, mid, rate], nx, ny, DAVE_COLUMNS, DAVE_TARGET, options.sigma, options.minPivot, [4, 5], DAVE_RIDGE, options.solveAt, noise);
+  const fit = affineWindowFit([gx, gy, mid, rate], nx, ny, DAVE_COLUMNS, DAVE_TARGET, options.sigma, options.minPivot, [4, 5], DAVE_RIDGE, options.solveAt, noise, fitOptionsOf(options));
   const [u, v] = fit.params;
-  for (let i = 0; i < u.length; i++) {
-    u[i] *= dx * KM_PER_MM; // pixels/s -> km/s
+  // pixels/s -> km/s, at the solved centres (NaN elsewhere).
+  for (const i of fit.centres) {
+    u[i] *= dx * KM_PER_MM;
     v[i] *= dy * KM_PER_MM;
   }
   return { vx: u, vy: v, illConditioned: fit.illConditioned };

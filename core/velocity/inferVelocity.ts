@@ -11,6 +11,7 @@ import { checkFrame } from '../frame.js';
 import { InputError } from '../inputError.js';
 import { KM_PER_MM } from '../units.js';
 import { differentialAffineVelocity, midAndRate } from './differentialAffine.js';
+import type { AffineFitWorkspace } from './fitWindowPasses.js';
 import { localCorrelationTracking } from './lct.js';
 import { pairNoise } from './pairNoise.js';
 import { roundFeatures } from './roundFeatures.js';
@@ -68,8 +69,11 @@ export function checkFramePair(a: Frame, b: Frame, maxIntervalS: number): number
   return dtS;
 }
 
-/** Infers the velocity between frames `a` and `b` (b later). Throws InputError on bad input. */
-export function inferVelocity(a: Frame, b: Frame, settings: Partial<VelocitySettings> = {}): InferredVelocity {
+/**
+ * Infers the velocity between frames `a` and `b` (b later). Throws InputError on bad input.
+ * `workspace`: the caller's, kept from pair to pair, for the affine fits' SIMD kernels (same numbers).
+ */
+export function inferVelocity(a: Frame, b: Frame, settings: Partial<VelocitySettings> = {}, workspace?: AffineFitWorkspace): InferredVelocity {
   const s = resolveVelocitySettings(settings);
   const dtS = checkFramePair(a, b, s.maxIntervalS);
   const { nx, ny, dx, dy } = a;
@@ -118,12 +122,12 @@ export function inferVelocity(a: Frame, b: Frame, settings: Partial<VelocitySett
     vy = r.sy.map((v) => v * ky);
     notes.push(`Local correlation tracking: ${r.windowsValid} of ${r.windows} windows (every ${s.stride} pixels, sigma ${s.sigma} px) gave a shift; shifts above ${r.searchRadius} px are not found.`);
   } else if (method === 'dave') {
-    const r = differentialAffineVelocity(a.bn, b.bn, nx, ny, dx, dy, dtS, { sigma: s.sigma, minPivot: s.minPivot, solveAt: strong, midAndRate: pairMaps, ...(fitNoise && { noise: fitNoise }) });
+    const r = differentialAffineVelocity(a.bn, b.bn, nx, ny, dx, dy, dtS, { sigma: s.sigma, minPivot: s.minPivot, solveAt: strong, midAndRate: pairMaps, workspace, ...(fitNoise && { noise: fitNoise }) });
     vx = r.vx; vy = r.vy;
     notes.push(`Differential affine velocity estimator, sigma ${s.sigma} px: ${r.illConditioned} windows ill-conditioned.`);
   } else {
     const r = vectorAffineVelocity({ bn: [a.bn, b.bn], bx: [a.bx!, b.bx!], by: [a.by!, b.by!] }, nx, ny, dx, dy, dtS,
-      { sigma: s.sigma, minPivot: s.minPivot, solveAt: strong, midAndRate: pairMaps, ...(fitNoise && { noise: fitNoise }) });
+      { sigma: s.sigma, minPivot: s.minPivot, solveAt: strong, midAndRate: pairMaps, workspace, ...(fitNoise && { noise: fitNoise }) });
     vx = r.vx; vy = r.vy; vz = r.vz;
     notes.push(`Vector-magnetogram affine estimator, sigma ${s.sigma} px: ${r.illConditioned} windows ill-conditioned; vx, vy are the plasma velocity and vz the normal velocity.`);
   }

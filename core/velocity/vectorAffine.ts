@@ -9,7 +9,7 @@
 
 import { affineWindowFit } from './affineWindowFit.js';
 import type { ModelColumn } from './affineWindowFit.js';
-import { DAVE_COLUMNS, DAVE_RIDGE, DAVE_TARGET, DERIVATIVE_NOISE_GAIN, GRADIENT_RIDGE, daveNoiseVariance, midAndRate } from './differentialAffine.js';
+import { DAVE_COLUMNS, DAVE_RIDGE, DAVE_TARGET, DERIVATIVE_NOISE_GAIN, GRADIENT_RIDGE, daveNoiseVariance, fitOptionsOf, midAndRate } from './differentialAffine.js';
 import type { AffineOptions } from './differentialAffine.js';
 import { derivativeX, derivativeY } from './gradient.js';
 import { KM_PER_MM } from '../units.js';
@@ -61,9 +61,9 @@ export function vectorAffineVelocity(
     noise = [...daveNoiseVariance(options.noise.bn, dtS), hx2, hy2, (hx2 + hy2) * DERIVATIVE_NOISE_GAIN];
   }
   const fit = affineWindowFit([gx, gy, mid, rate, hx, hy, div], nx, ny, VECTOR_COLUMNS, DAVE_TARGET,
-    options.sigma, options.minPivot, [6, 7, 8], [GRADIENT_RIDGE, GRADIENT_RIDGE, ...DAVE_RIDGE, 0], options.solveAt, noise);
+    options.sigma, options.minPivot, [6, 7, 8], [GRADIENT_RIDGE, GRADIENT_RIDGE, ...DAVE_RIDGE, 0], options.solveAt, noise, fitOptionsOf(options));
   const [u, v, w] = fit.params;
-  for (let i = 0; i < n; i++) {
+  for (const i of fit.centres) { // NaN elsewhere
     u[i] *= dx * KM_PER_MM;
     v[i] *= dy * KM_PER_MM;
     w[i] *= KM_PER_MM; // Mm/s -> km/s

@@ -22,7 +22,7 @@ export function windowRadius(sigma: number): number {
 }
 
 /** +1 when taps[r + d] = taps[r - d] for all d, -1 when taps[r + d] = -taps[r - d], else 0. */
-function tapSymmetry(taps: Float64Array): 1 | -1 | 0 {
+export function tapSymmetry(taps: Float64Array): 1 | -1 | 0 {
   const r = (taps.length - 1) >> 1;
   let even = true, odd = taps[r] === 0;
   for (let d = 1; d <= r; d++) {
@@ -262,5 +262,59 @@ export function correlateColumnsAtFused(
       if (three) { const c = tc[e + r]; if (c !== 0) sc += c * v; }
     }
     oa[k] = sa; ob[k] = sb; if (three) oc[k] = sc;
+  }
+}
+
+/**
+ * The part of correlateFiniteRowsFused that a kernel over interior pixels leaves: the pixels of
+ * `at` within r of a row end (x < r or x >= nx - r), each sum as correlateFiniteRows forms it there.
+ * Taps must be symmetric or antisymmetric (the interior is theirs).
+ */
+export function correlateFiniteRowsEdges(
+  input: ArrayLike<number>, nx: number, ny: number, taps: readonly Float64Array[], outs: readonly Float64Array[], at: Uint8Array,
+): void {
+  const r = (taps[0].length - 1) >> 1;
+  const lo = Math.min(r, nx), hi = Math.max(lo, nx - r);
+  for (let y = 0; y < ny; y++) {
+    const row = y * nx;
+    for (let x = 0; x < nx; x++) {
+      if (x === lo && hi > lo) x = hi;
+      if (x >= nx) break;
+      const i = row + x;
+      if (at[i] === 0) continue;
+      const dlo = Math.max(-r, -x), dhi = Math.min(r, nx - 1 - x);
+      for (let s = 0; s < taps.length; s++) {
+        const t = taps[s];
+        let sum = 0;
+        for (let d = dlo; d <= dhi; d++) sum += t[d + r] * input[i + d];
+        outs[s][i] = sum;
+      }
+    }
+  }
+}
+
+/**
+ * The part of correlateColumnsAtFused that a kernel over interior centres leaves: the centres
+ * within r of the top or bottom row, each sum as correlateColumnsAt forms it there (zero taps skipped).
+ */
+export function correlateColumnsAtEdges(
+  input: Float64Array, nx: number, ny: number, taps: readonly Float64Array[], at: Int32Array, outs: readonly Float64Array[],
+): void {
+  const r = (taps[0].length - 1) >> 1;
+  for (let k = 0; k < at.length; k++) {
+    const i = at[k];
+    const x = i % nx, y = (i - x) / nx;
+    if (y >= r && y < ny - r) continue;
+    const lo = Math.max(-r, -y), hi = Math.min(r, ny - 1 - y);
+    for (let s = 0; s < taps.length; s++) {
+      const t = taps[s];
+      let sum = 0;
+      for (let e = lo; e <= hi; e++) {
+        const w = t[e + r];
+        if (w === 0) continue;
+        sum += w * input[(y + e) * nx + x];
+      }
+      outs[s][k] = sum;
+    }
   }
 }

@@ -10,6 +10,7 @@
 import { existsSync, readFileSync, writeFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
 import { analyseFrame } from '../../core/frameAnalysis.js';
+import { createAffineFitWorkspace } from '../../core/velocity/fitWindowPasses.js';
 import { inferVelocity } from '../../core/velocity/inferVelocity.js';
 import { demoRegion } from '../../replay/demo/demoRegion.js';
 
@@ -81,5 +82,18 @@ describe('analyseFrame on the 512^2 demo pair keeps its numbers', () => {
       } else if (have !== want) off.push(`${key}: ${String(have)} against ${String(want)}`);
     }
     expect(off).toEqual([]);
+  });
+
+  it('the inferred velocity through the affine fit\'s SIMD kernels (a kept workspace, used twice) prints the same bit for bit', () => {
+    const region = demoRegion({ frames: 2, size: 512, withVelocity: false, cadenceS: 720, storyH: 72, storyStartH: 16 });
+    const stored = JSON.parse(readFileSync(FIXTURE, 'utf8')) as { inferred: Record<string, unknown> };
+    const workspace = createAffineFitWorkspace();
+    for (let call = 0; call < 2; call++) {
+      const v = inferVelocity(region.frameAt(0), region.frameAt(1), {}, workspace);
+      expect(workspace.arena).toBeDefined();
+      const now = roundTrip({ vx: mapPrint(v.vx), vy: mapPrint(v.vy), validFraction: v.validFraction });
+      const off = [...leaves(stored.inferred)].filter(([k, want]) => !Object.is(leaves(now).get(k), want));
+      expect(off).toEqual([]);
+    }
   });
 });
