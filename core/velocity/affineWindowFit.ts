@@ -143,11 +143,10 @@ export function affineWindowFit(
   // young-generation GC).
   const workspace = options.workspace ?? (options.simd ? createAffineFitWorkspace({ simd: true }) : undefined);
   const passes = fitWindowPasses(workspace, nx, ny, r, rowsNeeded, centres, [
-    size * usedChannels.length, size, size * xPowers.length, entries * count, mostPerPair * count]);
-  const block = (length: number, parts: number, zeroed = false) => {
-    const all = passes.alloc(length * parts, zeroed);
-    return Array.from({ length: parts }, (_, e) => all.subarray(e * length, (e + 1) * length));
-  };
+    size * usedChannels.length, size, size * xPowers.length, entries * count, mostPerPair * count,
+    n * count, wanted.length * count, count]);
+  const parts = (all: Float64Array, length: number, count: number) => Array.from({ length: count }, (_, e) => all.subarray(e * length, (e + 1) * length));
+  const block = (length: number, count: number, zeroed = false) => parts(passes.alloc(length * count, zeroed), length, count);
   // For the kernels, the channels in their memory with invalid pixels zeroed, on the spans: a
   // product of two of them is the masked product (0 * 0 = +0 where either is invalid, as the zero
   // the TypeScript loop writes there).
@@ -168,7 +167,8 @@ export function affineWindowFit(
   const rowBuffers: Float64Array[] = [];
   xPowers.forEach((px, e) => { rowBuffers[px] = rowBlock[e]; });
   const rowBuffer = (power: number) => (rowBuffers[power] ??= new Float64Array(size));
-  const sums = block(count, entries, true);
+  const sumBlock = passes.alloc(count * entries, true);
+  const sums = parts(sumBlock, count, entries);
   const columnOut = block(count, mostPerPair);
   for (const list of byPair.values()) {
     const a = inputs[list[0].j], b = inputs[list[0].k];
@@ -186,7 +186,9 @@ export function affineWindowFit(
   }
 
   // Before the noise correction, the diagonal (to judge how much of it was noise).
-  const rawDiag = noiseVariance ? Array.from({ length: n }, (_, p) => Float64Array.from(sums[entryIndex(p, p)])) : undefined;
+  const rawBlock = noiseVariance ? passes.alloc(n * count) : undefined;
+  const rawDiag = rawBlock ? parts(rawBlock, count, n) : undefined;
+  rawDiag?.forEach((raw, p) => raw.set(sums[entryIndex(p, p)]));
   if (noiseVariance) {
     // Expected noise in the moments Sum w x^px y^py q_j q_j: variance_j times the window's own
     // moment over the valid pixels.
@@ -210,11 +212,25 @@ export function affineWindowFit(
   }
 
   const params = wanted.map(() => new Float64Array(size).fill(NaN));
+  let illConditioned = 0;
+  // The SIMD kernel, two centres at a time, when the passes have one; else one centre at a time here.
+  const solver = passes.centreSolver?.({ n, wanted, diagonalAdd: ridge.map((v) => RIDGE + v), minSignalShare: MIN_SIGNAL_SHARE });
+  if (solver) {
+    const outs = passes.alloc(wanted.length * count), flagBlock = passes.alloc(count);
+    const flags = new Int32Array(flagBlock.buffer, flagBlock.byteOffset, 2 * count);
+    if (solver.solve(sumBlock, count, rawBlock, outs, flags, minPivot)) {
+      for (let at = 0; at < count; at++) {
+        if (flags[2 * at] !== 0) { illConditioned++; continue; }
+        const i = centres[at];
+        for (let w = 0; w < wanted.length; w++) params[w][i] = outs[w * count + at];
+      }
+      return { params, illConditioned, centres };
+    }
+  }
   const mat = new Float64Array(n * n);
   const rhs = new Float64Array(n);
   const scale = new Float64Array(n);
   const unit = new Float64Array(n);
-  let illConditioned = 0;
   const diag = Array.from({ length: n }, (_, p) => sums[entryIndex(p, p)]);
   const upperMaps: Float64Array[] = [], upperP: number[] = [], upperQ: number[] = [];
   for (let q = 0; q < n; q++) for (let p = 0; p <= q; p++) { upperMaps.push(sums[entryIndex(p, q)]); upperP.push(p); upperQ.push(q); }

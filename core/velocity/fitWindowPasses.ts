@@ -4,6 +4,8 @@
 // by the TypeScript loops alone. Both give the same numbers bit for bit; the buffers the kernels
 // work on are allocated here (inside the kernels' memory when they run).
 
+import type { CentreSolveShape, CentreSolver } from './simdCentreSolve.js';
+import { centreSolver } from './simdCentreSolve.js';
 import type { Parity, WindowedSumArena } from './simdWindowedSum.js';
 import { createWindowedSumArena, windowedSumArenaBytes } from './simdWindowedSum.js';
 import {
@@ -48,6 +50,8 @@ export interface FitWindowPasses {
   columns(input: Float64Array, taps: readonly Float64Array[], outs: readonly Float64Array[]): void;
   /** target[k] += coef * column[k] for k < count. */
   axpy(target: Float64Array, coef: number, column: Float64Array, count: number): void;
+  /** The per-centre solve as a SIMD kernel for a fit of this shape (only with the kernels). */
+  centreSolver?(shape: CentreSolveShape): CentreSolver | undefined;
 }
 
 /** The TypeScript loops. */
@@ -158,5 +162,6 @@ export function fitWindowPasses(
       else plain.columns(input, taps, outs);
     },
     axpy(target, coef, column, count) { if (!arena.axpy(target, coef, column, count)) plain.axpy(target, coef, column, count); },
+    centreSolver: (shape) => centreSolver(arena, shape),
   };
 }

@@ -169,6 +169,13 @@ export interface WindowedSumArena {
   product(out: Float64Array, a: Float64Array, b: Float64Array, from: number, to: number): boolean;
   /** Taps t[r..2r] of a symmetric tap set, each twice (one per lane), inside the memory. */
   splatTaps(taps: Float64Array): Float64Array;
+  /** Whether every array lies in the memory. */
+  holds(...arrays: (Float64Array | Int32Array)[]): boolean;
+  /**
+   * The exports of another module bound to this memory (made once per key, from `bytes()`);
+   * undefined where it does not validate or cannot be instantiated.
+   */
+  instantiate(key: string, bytes: () => Uint8Array): Record<string, unknown> | undefined;
 }
 
 const PAGE = 65536;
@@ -190,11 +197,13 @@ export function createWindowedSumArena(bytes: number): WindowedSumArena | undefi
   if (pages > 65536) return undefined;
   let buffer: ArrayBuffer;
   let exports: Record<string, unknown>;
+  let memory: { buffer: ArrayBuffer };
   try {
-    const memory = new wasm.Memory({ initial: pages, maximum: pages });
+    memory = new wasm.Memory({ initial: pages, maximum: pages });
     exports = new wasm.Instance(new wasm.Module(code), { env: { memory } }).exports;
     buffer = memory.buffer;
   } catch { return undefined; }
+  const others = new Map<string, Record<string, unknown> | undefined>();
   const passes = new Map<string, (...args: number[]) => void>();
   for (const parities of PARITY_SETS) for (const kind of ['rows', 'columns'] as const) {
     passes.set(passName(kind, parities), exports[passName(kind, parities)] as (...args: number[]) => void);
@@ -212,6 +221,18 @@ export function createWindowedSumArena(bytes: number): WindowedSumArena | undefi
   };
   const inside = (...arrays: (Float64Array | Int32Array)[]) => arrays.every((a) => a.buffer === buffer);
   return {
+    holds: inside,
+    instantiate(key, bytes) {
+      if (!others.has(key)) {
+        let made: Record<string, unknown> | undefined;
+        try {
+          const b = bytes();
+          made = wasm.validate(b) ? new wasm.Instance(new wasm.Module(b), { env: { memory } }).exports : undefined;
+        } catch { made = undefined; }
+        others.set(key, made);
+      }
+      return others.get(key);
+    },
     bytes: limit,
     reset() { next = 16; },
     alloc: (length) => new Float64Array(buffer, reserve(8 * length), length),

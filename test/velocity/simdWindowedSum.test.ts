@@ -1,4 +1,4 @@
-// The affine fit's WebAssembly SIMD kernels (core/velocity/simdWindowedSum.ts) against the
+// The affine fit's WebAssembly SIMD kernels (core/velocity/simdWindowedSum.ts, simdCentreSolve.ts) against the
 // TypeScript loops: the same IEEE operations in the same order, so every velocity must agree bit
 // for bit (Object.is) - dave, dave with the noise correction, dave4vm, with NaN pixels and with
 // solveAt - and the loops must run where WebAssembly SIMD is missing.
@@ -56,6 +56,11 @@ describe('affine fit: SIMD kernels against the TypeScript loops', () => {
     differentialAffineVelocity(p.a0, p.b0, 48, 48, 0.36, 0.36, 720, { sigma: 4, minPivot: 0.01, workspace: ws });
     expect(ws.arena).toBeDefined();
     expect(ws.unavailable).toBeUndefined();
+    // The per-centre solve has its kernel too (dave's shape and dave4vm's).
+    const passes = fitWindowPasses(ws, 48, 48, 12, new Uint8Array(48 * 48), new Int32Array(0), [1]);
+    for (const [n, wanted] of [[6, [4, 5]], [9, [6, 7, 8]]] as const) {
+      expect(passes.centreSolver?.({ n, wanted, diagonalAdd: Array.from({ length: n }, () => 1e-9), minSignalShare: 0.5 })).toBeDefined();
+    }
   });
 
   it('row and column passes over odd and even runs, at the edges, for 1 to 5 tap sets of both parities', () => {
@@ -140,6 +145,8 @@ describe('affine fit: SIMD kernels against the TypeScript loops', () => {
         expect(finite(ts.vz), label).toBeGreaterThan(0.01 * p.n);
         const s = vectorAffineVelocity(vp, size, size, 0.36, 0.36, 720, { ...base, workspace: ws });
         for (const k of ['vx', 'vy', 'vz'] as const) expect(differing(s[k], ts[k]), `${label} ${k}`).toEqual([]);
+        expect(s.illConditioned).toBe(ts.illConditioned);
+        expect(ts.illConditioned, label).toBeGreaterThan(0);
       }
       // Through inferVelocity, as a caller keeping a workspace would call it.
       const plainInferred = inferVelocity(p.a, p.b);
