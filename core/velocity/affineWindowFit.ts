@@ -18,7 +18,7 @@
 
 import type { AffineFitWorkspace } from './fitWindowPasses.js';
 import { createAffineFitWorkspace, fitWindowPasses } from './fitWindowPasses.js';
-import { correlateColumnsAt, correlateFiniteRows, gaussianTaps, windowRadius } from './windowedSum.js';
+import { gaussianTaps, windowRadius } from './windowedSum.js';
 
 export interface ModelTerm {
   readonly coef: number;
@@ -142,9 +142,12 @@ export function affineWindowFit(
   // else plain arrays. Each large block is one allocation (every large allocation may cost a
   // young-generation GC).
   const workspace = options.workspace ?? (options.simd ? createAffineFitWorkspace({ simd: true }) : undefined);
+  // The moments whose noise the correction removes (a channel with itself, of known variance).
+  const noisyMoments = noiseVariance ? [...moments.values()].filter((m) => m.j === m.k && (noiseVariance[m.j] ?? 0) > 0) : [];
+  const noisyKeys = new Set(noisyMoments.map((m) => `${m.px},${m.py}`)).size;
   const passes = fitWindowPasses(workspace, nx, ny, r, rowsNeeded, centres, [
     size * usedChannels.length, size, size * xPowers.length, entries * count, mostPerPair * count,
-    n * count, wanted.length * count, count]);
+    n * count, wanted.length * count, count, noisyKeys > 0 ? size : 0, ...Array.from({ length: noisyKeys }, () => count)]);
   const parts = (all: Float64Array, length: number, count: number) => Array.from({ length: count }, (_, e) => all.subarray(e * length, (e + 1) * length));
   const block = (length: number, count: number, zeroed = false) => parts(passes.alloc(length * count, zeroed), length, count);
   // For the kernels, the channels in their memory with invalid pixels zeroed, on the spans: a
@@ -191,23 +194,22 @@ export function affineWindowFit(
   rawDiag?.forEach((raw, p) => raw.set(sums[entryIndex(p, p)]));
   if (noiseVariance) {
     // Expected noise in the moments Sum w x^px y^py q_j q_j: variance_j times the window's own
-    // moment over the valid pixels.
+    // moment over the valid pixels (valid as 1.0 / 0.0 in the passes' memory: the same sums).
+    const validMap = passes.alloc(size);
+    for (let y = 0; y < ny; y++) for (let i = spanFrom[y]; i < spanTo[y]; i++) validMap[i] = valid[i];
     const validMoment = new Map<string, Float64Array>();
-    for (const m of moments.values()) {
-      const v = m.j === m.k ? noiseVariance[m.j] ?? 0 : 0;
-      if (!(v > 0)) continue;
+    for (const m of noisyMoments) {
+      const v = noiseVariance[m.j];
       const key = `${m.px},${m.py}`;
       let w = validMoment.get(key);
       if (!w) {
-        w = new Float64Array(count);
-        correlateFiniteRows(valid, nx, ny, taps[m.px], rowBuffer(0), rowsNeeded);
-        correlateColumnsAt(rowBuffer(0), nx, ny, taps[m.py], centres, w);
+        w = passes.alloc(count);
+        passes.rows(validMap, [taps[m.px]], [rowBuffer(0)]);
+        passes.columns(rowBuffer(0), [taps[m.py]], [w]);
         validMoment.set(key, w);
       }
-      for (const u of m.uses) {
-        const target = sums[u.entry], c = u.coef * v;
-        for (let k = 0; k < count; k++) target[k] -= c * w[k];
-      }
+      // target - c w, as target + (-c) w: the same rounding (IEEE subtraction adds the negation).
+      for (const u of m.uses) passes.axpy(sums[u.entry], -(u.coef * v), w, count);
     }
   }
 
