@@ -110,16 +110,30 @@ export function helicityFlux(kernel: FluxKernel, t: FluxTransport): HelicityFlux
 
 /** The same from convolutions already made (so that callers can reuse them). */
 export function helicityFluxFromConvolutions(kernel: FluxKernel, t: FluxTransport, conv: KernelConvolutions): HelicityFluxResult {
-  const { p, q, r } = conv;
   const n = kernel.nx * kernel.ny;
   const gTheta = new Float64Array(n);
   const gA = new Float64Array(n);
   const apx = new Float64Array(n);
   const apy = new Float64Array(n);
+  const totals = new Float64Array(2);
+  fluxDensities(conv.p, conv.q, conv.r, t.bn, t.fx, t.fy, t.valid, gTheta, gA, apx, apy, totals);
+  const area = pixelAreaCm2(kernel.dx, kernel.dy);
+  return { gTheta, gA, apx, apy, total: totals[0] * area, totalGa: totals[1] * area, maskedFraction: t.maskedFraction };
+}
+
+/**
+ * The pixel loop of helicityFluxFromConvolutions, alone in a function of arrays and numbers: a
+ * function called once per frame is optimised inside its loop, and code after the loop that makes
+ * objects made that optimised code fall back every frame (V8 deoptimised it at the result object).
+ * totals: [sum of G_theta, sum of G_A] before the pixel area.
+ */
+function fluxDensities(
+  p: Float64Array, q: Float64Array, r: Float64Array, bn: Float64Array, fx: Float64Array, fy: Float64Array, valid: Uint8Array,
+  gTheta: Float64Array, gA: Float64Array, apx: Float64Array, apy: Float64Array, totals: Float64Array,
+): void {
   const c = CM_PER_KM / (2 * Math.PI); // F is in G km/s
   let total = 0, totalGa = 0;
-  const { bn, fx, fy, valid } = t;
-  for (let i = 0; i < n; i++) {
+  for (let i = 0; i < gTheta.length; i++) {
     if (valid[i] === 0) {
       gTheta[i] = NaN; gA[i] = NaN; apx[i] = NaN; apy[i] = NaN;
       continue;
@@ -134,8 +148,8 @@ export function helicityFluxFromConvolutions(kernel: FluxKernel, t: FluxTranspor
     apx[i] = -q[i] / (2 * Math.PI);
     apy[i] = p[i] / (2 * Math.PI);
   }
-  const area = pixelAreaCm2(kernel.dx, kernel.dy);
-  return { gTheta, gA, apx, apy, total: total * area, totalGa: totalGa * area, maskedFraction: t.maskedFraction };
+  totals[0] = total;
+  totals[1] = totalGa;
 }
 
 /** Only the total from G_theta, without keeping the maps: the cheapest call for a rate. */

@@ -117,35 +117,50 @@ function sortedMedian(sorted: Float64Array, from: number, to: number): number {
 function sortedMedianDeviation(sorted: Float64Array, from: number, to: number, m: number): number {
   const n = to - from;
   let down = firstAtLeast(sorted, from, to, m) - 1, up = down + 1;
-  const next = () => {
-    const a = down >= from ? Math.abs(sorted[down] - m) : Infinity;
-    const b = up < to ? Math.abs(sorted[up] - m) : Infinity;
-    if (a <= b) { down--; return a; }
-    up++;
-    return b;
-  };
   // The k-th smallest deviation (0-based) for an odd count, the mean of the (n/2-1)-th and the n/2-th otherwise.
   const k = n % 2 === 1 ? (n - 1) >> 1 : (n >> 1) - 1;
-  for (let i = 0; i < k; i++) next();
-  const d = next();
-  return n % 2 === 1 ? d : (d + next()) / 2;
+  let d = 0;
+  for (let i = 0; i <= k + (n % 2 === 1 ? 0 : 1); i++) {
+    const a = down >= from ? Math.abs(sorted[down] - m) : Infinity;
+    const b = up < to ? Math.abs(sorted[up] - m) : Infinity;
+    const next = a <= b ? a : b;
+    if (a <= b) down--; else up++;
+    // The k-th alone for an odd count; for an even one, the k-th and the one after it.
+    if (i === k) d = next;
+    else if (i === k + 1) d = (d + next) / 2;
+  }
+  return d;
+}
+
+/** How many of map's values are finite. */
+function countFinite(map: ArrayLike<number>): number {
+  let finite = 0;
+  for (let i = 0; i < map.length; i++) if (Number.isFinite(map[i])) finite++;
+  return finite;
+}
+
+/** Every stride-th finite value of map into out, in order; returns how many. */
+function sampleFinite(map: ArrayLike<number>, stride: number, out: Float64Array): number {
+  let count = 0;
+  for (let i = 0, seen = 0; i < map.length; i++) {
+    const v = map[i];
+    if (!Number.isFinite(v)) continue;
+    if (seen++ % stride === 0) out[count++] = v;
+  }
+  return count;
 }
 
 /** Robust noise level of the finite values of `map`; throws RangeError when none is finite. */
 export function estimateNoiseLevel(map: ArrayLike<number>, options: NoiseOptions = {}): NoiseLevel {
   const clip = options.clip ?? 2;
   const maxSamples = options.maxSamples ?? 65536;
-  let finite = 0;
-  for (let i = 0; i < map.length; i++) if (Number.isFinite(map[i])) finite++;
+  // The loops are functions of their own: this one runs once per frame, and optimised inside a
+  // loop it was thrown away at its result object every frame (V8).
+  const finite = countFinite(map);
   if (finite === 0) throw new RangeError('no finite value to estimate the noise from');
   const stride = Math.max(1, Math.floor(finite / maxSamples));
   const sorted = new Float64Array(Math.ceil(finite / stride));
-  let count = 0;
-  for (let i = 0, seen = 0; i < map.length; i++) {
-    const v = map[i];
-    if (!Number.isFinite(v)) continue;
-    if (seen++ % stride === 0) sorted[count++] = v;
-  }
+  const count = sampleFinite(map, stride, sorted);
   // Sorted once: every clipped set below is then a contiguous run of it, whose median and median
   // deviation are read off in linear time (the same order statistics as selecting them anew).
   sorted.subarray(0, count).sort();

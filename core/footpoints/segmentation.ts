@@ -87,24 +87,14 @@ export function segmentFootpoints(bn: ArrayLike<number>, grid: Grid, settings: S
     noiseSource = 'estimated';
   }
   if (noise === 0) {
-    let peak = 0;
-    for (let i = 0; i < n; i++) { const v = Math.abs(bn[i]); if (v > peak) peak = v; }
-    noise = NOISE_FLOOR_OF_PEAK * peak;
+    noise = NOISE_FLOOR_OF_PEAK * peakAbs(bn, n);
     noiseSource = 'floor';
   }
   const field = smoothMap(bn, nx, ny, s.smoothing);
   const thresholdG = s.threshold * noise;
   const strength = new Float64Array(n);
   const classes = new Int8Array(n);
-  let missing = 0;
-  for (let i = 0; i < n; i++) {
-    const f = field[i];
-    if (!Number.isFinite(f)) { missing++; continue; }
-    const a = Math.abs(f);
-    strength[i] = a;
-    // A zero map with a zero threshold has no footpoint: strictly above the threshold only.
-    if (a > thresholdG && a > 0) classes[i] = f > 0 ? 1 : -1;
-  }
+  const missing = classify(field, thresholdG, strength, classes);
   const fluxPerUnit = pixelFluxMx(1, dx, dy);
   if (!s.split) {
     const { labels, count } = patchesAboveThreshold(classes, bn, nx, ny, s.minPixels, s.minFlux / fluxPerUnit);
@@ -119,6 +109,30 @@ export function segmentFootpoints(bn: ArrayLike<number>, grid: Grid, settings: S
     fluxMap: bn,
   });
   return { labels, count, noise, noiseSource, ...(estimatedNoise !== undefined && { estimatedNoise }), thresholdG, field, maskedFraction: missing / n };
+}
+
+// The pixel loops below are functions of their own: segmentFootpoints runs once per frame, and V8
+// optimised it inside its loops and threw that code away at the objects made after them, every frame.
+
+/** Largest |bn| of the first n pixels (NaN skipped). */
+function peakAbs(bn: ArrayLike<number>, n: number): number {
+  let peak = 0;
+  for (let i = 0; i < n; i++) { const v = Math.abs(bn[i]); if (v > peak) peak = v; }
+  return peak;
+}
+
+/** |field| into strength and its sign above the threshold into classes; returns the pixels without data. */
+function classify(field: Float64Array, thresholdG: number, strength: Float64Array, classes: Int8Array): number {
+  let missing = 0;
+  for (let i = 0; i < field.length; i++) {
+    const f = field[i];
+    if (!Number.isFinite(f)) { missing++; continue; }
+    const a = Math.abs(f);
+    strength[i] = a;
+    // A zero map with a zero threshold has no footpoint: strictly above the threshold only.
+    if (a > thresholdG && a > 0) classes[i] = f > 0 ? 1 : -1;
+  }
+  return missing;
 }
 
 /** Connected patches of one polarity, small ones dropped, renumbered 1..count in raster order. */

@@ -104,17 +104,13 @@ export function trackFootpoints(
   const { nx, ny, dx, dy } = grid;
   const n = nx * ny;
   const K = regions.length;
-  const regionIndex = new Map<number, number>();
-  regions.forEach((r, k) => regionIndex.set(r.label, k));
   const prev = previous?.footpoints ?? [];
   const P = prev.length;
-  const prevIndex = new Map<number, number>();
-  prev.forEach((f, k) => prevIndex.set(f.id, k));
   const dt = previous ? (time - previous.time) / 1000 : 0;
 
   // Overlap counts of shifted previous footpoints with new regions of the same polarity.
-  const overlap = new Map<number, number>(); // key p*K + c
   const prevPixels = new Float64Array(P);
+  const links: { p: number; c: number; w: number }[] = [];
   if (previous) {
     const shiftX = new Int32Array(P), shiftY = new Int32Array(P);
     prev.forEach((f, k) => {
@@ -122,34 +118,22 @@ export function trackFootpoints(
       shiftX[k] = f.vx === null ? 0 : Math.round((f.vx * dt) / 1000 / dx);
       shiftY[k] = f.vy === null ? 0 : Math.round((f.vy * dt) / 1000 / dy);
     });
-    const pl = previous.labels;
-    let lastId = 0, lastK = -1;
-    for (let i = 0; i < n; i++) {
-      const id = pl[i];
-      if (id <= 0) continue;
-      let p: number;
-      if (id === lastId) p = lastK;
-      else {
-        const found = prevIndex.get(id);
-        if (found === undefined) continue;
-        p = found; lastId = id; lastK = p;
-      }
-      prevPixels[p]++;
-      const x = (i % nx) + shiftX[p], y = Math.floor(i / nx) + shiftY[p];
-      if (x < 0 || y < 0 || x >= nx || y >= ny) continue;
-      const l = labels[y * nx + x];
-      if (l <= 0) continue;
-      const c = regionIndex.get(l);
-      if (c === undefined || regions[c].polarity !== prev[p].polarity) continue;
-      const key = p * K + c;
-      overlap.set(key, (overlap.get(key) ?? 0) + 1);
+    // Lookup tables instead of Maps in the pixel loop: id -> p + 1, label -> c + 1 (0: none).
+    const prevOf = new Int32Array(prev.reduce((m, f) => Math.max(m, f.id), 0) + 1);
+    prev.forEach((f, k) => { if (f.id > 0) prevOf[f.id] = k + 1; });
+    const regionOf = new Int32Array(regions.reduce((m, r) => Math.max(m, r.label), 0) + 1);
+    regions.forEach((r, k) => { if (r.label > 0) regionOf[r.label] = k + 1; });
+    const counts = new Float64Array(P * K), keys = new Int32Array(P * K);
+    const met = overlapCounts(
+      previous.labels, labels, nx, ny, prevOf, regionOf, Int8Array.from(prev, (f) => f.polarity), Int8Array.from(regions, (r) => r.polarity),
+      shiftX, shiftY, K, prevPixels, counts, keys,
+    );
+    // Links that pass the overlap share, in the order their pairs were first met.
+    for (let e = 0; e < met; e++) {
+      const key = keys[e], count = counts[key];
+      const p = Math.floor(key / K), c = key % K;
+      if (count >= s.minOverlap * Math.min(prevPixels[p] || prev[p].pixels, regions[c].pixels)) links.push({ p, c, w: count });
     }
-  }
-  // Links that pass the overlap share.
-  const links: { p: number; c: number; w: number }[] = [];
-  for (const [key, count] of overlap) {
-    const p = Math.floor(key / K), c = key % K;
-    if (count >= s.minOverlap * Math.min(prevPixels[p] || prev[p].pixels, regions[c].pixels)) links.push({ p, c, w: count });
   }
   const prevLinked = new Uint8Array(P), curLinked = new Uint8Array(K);
   for (const l of links) { prevLinked[l.p] = 1; curLinked[l.c] = 1; }
@@ -261,17 +245,51 @@ export function trackFootpoints(
     const cause: AppearedCause = partner !== null ? 'emergence' : r.touchesEdge ? 'edge' : 'unpaired';
     if (previous) events.push({ kind: 'appeared', time, id: ids[c], flux: r.flux, cause, partner });
   }
-  // Relabel the map with the ids.
-  const lut = new Map<number, number>();
-  regions.forEach((r, c) => lut.set(r.label, ids[c]));
-  const out = new Int32Array(n);
-  let lastL = 0, lastId = 0;
-  for (let i = 0; i < n; i++) {
-    const l = labels[i];
-    if (l <= 0) continue;
-    if (l !== lastL) { lastL = l; lastId = lut.get(l) ?? 0; }
-    out[i] = lastId;
-  }
+  // Relabel the map with the ids (a table by label; the last region of a label wins, as before).
+  const lut = new Int32Array(regions.reduce((m, r) => Math.max(m, r.label), 0) + 1);
+  regions.forEach((r, c) => { if (r.label > 0) lut[r.label] = ids[c]; });
+  const out = relabel(labels, lut, new Int32Array(n));
   const assignments = regions.map((r, c) => ({ label: r.label, id: ids[c], status: status[c], parent: parentId[c], born: born[c] }));
   return { assignments, labels: out, events, nextId: next };
+}
+
+/**
+ * The pixel loop of the overlap test, alone in a function of typed arrays (trackFootpoints runs
+ * once per frame; V8 optimised it inside this loop and threw the code away after it every frame).
+ * Each labelled pixel of the previous frame, shifted by its footpoint's predicted displacement,
+ * counts toward counts[p * K + c] when it lands on a new region of the same polarity; keys gets
+ * each pair the first time it is met; prevPixels[p] counts footpoint p's pixels. Returns how many
+ * pairs were met.
+ */
+function overlapCounts(
+  pl: Int32Array, labels: Int32Array, nx: number, ny: number, prevOf: Int32Array, regionOf: Int32Array,
+  prevPolarity: Int8Array, regionPolarity: Int8Array, shiftX: Int32Array, shiftY: Int32Array, K: number,
+  prevPixels: Float64Array, counts: Float64Array, keys: Int32Array,
+): number {
+  let met = 0;
+  for (let i = 0; i < nx * ny; i++) {
+    const id = pl[i];
+    if (id <= 0 || id >= prevOf.length || prevOf[id] === 0) continue;
+    const p = prevOf[id] - 1;
+    prevPixels[p]++;
+    const x = (i % nx) + shiftX[p], y = Math.floor(i / nx) + shiftY[p];
+    if (x < 0 || y < 0 || x >= nx || y >= ny) continue;
+    const l = labels[y * nx + x];
+    if (l <= 0 || l >= regionOf.length || regionOf[l] === 0) continue;
+    const c = regionOf[l] - 1;
+    if (regionPolarity[c] !== prevPolarity[p]) continue;
+    const key = p * K + c;
+    if (counts[key] === 0) keys[met++] = key;
+    counts[key]++;
+  }
+  return met;
+}
+
+/** out[i] = lut[labels[i]] for labels inside the table, 0 elsewhere (a pixel loop of its own, as above). */
+function relabel(labels: Int32Array, lut: Int32Array, out: Int32Array): Int32Array {
+  for (let i = 0; i < labels.length; i++) {
+    const l = labels[i];
+    if (l > 0 && l < lut.length) out[i] = lut[l];
+  }
+  return out;
 }
