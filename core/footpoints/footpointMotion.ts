@@ -15,6 +15,7 @@
 import type { Grid } from '../grid.js';
 import type { FluxTransport } from '../fluxTransport.js';
 import { CM_PER_KM, CM_PER_MM } from '../units.js';
+import { sortIndicesByKey } from '../indexSort.js';
 
 export interface FootpointMotion {
   readonly label: number;
@@ -60,7 +61,7 @@ export function footpointMotion(t: FluxTransport, labels: Int32Array, grid: Grid
       r2[k] = X * X + Y * Y;
       order[k] = k;
     }
-    order.sort((a, b) => r2[a] - r2[b]);
+    sortIndicesByKey(order, r2);
     let inside = 0, num = 0, den = 0;
     for (const k of order) {
       const i = list[k];
