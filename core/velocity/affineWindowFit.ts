@@ -138,9 +138,9 @@ export function affineWindowFit(
   const mostPerPair = Math.max(0, ...[...byPair.values()].map((list) => list.length));
   const usedChannels = [...new Set([...moments.values()].flatMap((m) => [m.j, m.k]))];
 
-  // Buffers: inside a WebAssembly memory when the SIMD kernels run (the arena dies with the call),
+  // Buffers: in the workspace's WebAssembly memory when the SIMD kernels run (kept between fits),
   // else plain arrays. Each large block is one allocation (every large allocation may cost a
-  // young-generation GC).
+  // young-generation GC); `lengths` below lists every one of them, so the memory holds them all.
   const workspace = options.workspace ?? (options.simd ? createAffineFitWorkspace({ simd: true }) : undefined);
   // The moments whose noise the correction removes (a channel with itself, of known variance).
   const noisyMoments = noiseVariance ? [...moments.values()].filter((m) => m.j === m.k && (noiseVariance[m.j] ?? 0) > 0) : [];
@@ -192,14 +192,14 @@ export function affineWindowFit(
   const rawBlock = noiseVariance ? passes.alloc(n * count) : undefined;
   const rawDiag = rawBlock ? parts(rawBlock, count, n) : undefined;
   rawDiag?.forEach((raw, p) => raw.set(sums[entryIndex(p, p)]));
-  if (noiseVariance) {
+  if (noisyMoments.length > 0) {
     // Expected noise in the moments Sum w x^px y^py q_j q_j: variance_j times the window's own
     // moment over the valid pixels (valid as 1.0 / 0.0 in the passes' memory: the same sums).
     const validMap = passes.alloc(size);
     for (let y = 0; y < ny; y++) for (let i = spanFrom[y]; i < spanTo[y]; i++) validMap[i] = valid[i];
     const validMoment = new Map<string, Float64Array>();
     for (const m of noisyMoments) {
-      const v = noiseVariance[m.j];
+      const v = noiseVariance![m.j];
       const key = `${m.px},${m.py}`;
       let w = validMoment.get(key);
       if (!w) {
