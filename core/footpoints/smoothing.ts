@@ -39,22 +39,28 @@ export function smoothMap(map: ArrayLike<number>, nx: number, ny: number, sigma:
       sw[row + x] = w;
     }
   }
-  // Pass 2 along y.
+  // Pass 2 along y, a row at a time (columnSums: each pixel's sum in the same order as a loop over k).
+  const a = new Float64Array(nx), w = new Float64Array(nx);
   for (let y = 0; y < ny; y++) {
-    const k0 = Math.max(-radius, -y), k1 = Math.min(radius, ny - 1 - y);
-    for (let x = 0; x < nx; x++) {
-      const i = y * nx + x;
-      if (!ok[i]) { out[i] = NaN; continue; }
-      let a = 0, w = 0;
-      for (let k = k0; k <= k1; k++) {
-        const c = kernel[k + radius], j = i + k * nx;
-        a += c * sv[j];
-        w += c * sw[j];
-      }
-      out[i] = a / w;
-    }
+    columnSums(sv, nx, ny, y, kernel, radius, a);
+    columnSums(sw, nx, ny, y, kernel, radius, w);
+    for (let x = 0, i = y * nx; x < nx; x++, i++) out[i] = ok[i] ? a[x] / w[x] : NaN;
   }
   return out;
+}
+
+/**
+ * into[x] = Sum_k kernel[k + radius] * map[(y + k) nx + x] over the k that stay on the grid, in
+ * ascending k: for a whole row at once, so that every read runs along a row (the same sums, term
+ * for term, as a loop over k per pixel).
+ */
+function columnSums(map: Float64Array, nx: number, ny: number, y: number, kernel: Float64Array, radius: number, into: Float64Array): void {
+  const k0 = Math.max(-radius, -y), k1 = Math.min(radius, ny - 1 - y);
+  into.fill(0);
+  for (let k = k0; k <= k1; k++) {
+    const c = kernel[k + radius];
+    for (let x = 0, j = (y + k) * nx; x < nx; x++, j++) into[x] += c * map[j];
+  }
 }
 
 /**
@@ -82,15 +88,11 @@ function smoothComplete(val: ArrayLike<number>, nx: number, ny: number, kernel: 
       tmp[row + x] = a / wx[x];
     }
   }
+  const a = new Float64Array(nx);
   for (let y = 0; y < ny; y++) {
-    const k0 = Math.max(-radius, -y), k1 = Math.min(radius, ny - 1 - y);
+    columnSums(tmp, nx, ny, y, kernel, radius, a);
     const inv = 1 / wy[y];
-    for (let x = 0; x < nx; x++) {
-      const i = y * nx + x;
-      let a = 0;
-      for (let k = k0; k <= k1; k++) a += kernel[k + radius] * tmp[i + k * nx];
-      out[i] = a * inv;
-    }
+    for (let x = 0, i = y * nx; x < nx; x++, i++) out[i] = a[x] * inv;
   }
   return out;
 }
