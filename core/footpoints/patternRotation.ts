@@ -204,37 +204,12 @@ export function patternRotation(a: PatternFootprint, b: PatternFootprint, grid: 
   // Without angular structure the angle is held at 0 and only the shift (and gain) are fitted.
   const angleVisible = anisotropy >= o.minAnisotropy;
 
-  const s = new Float64Array(3);
   // Cost at (phi, tx, ty) with the best gain; also fills the normal equations when asked.
   const JtJ = new Float64Array(16), Jtr = new Float64Array(4);
+  const sums = new Float64Array(PATTERN_SUMS);
   const evaluate = (phi: number, tx: number, ty: number, gain: number | null, normal: boolean) => {
-    const c = Math.cos(phi), sn = Math.sin(phi);
-    let s22 = 0, s12 = 0, s11 = 0, used = 0;
-    if (normal) { JtJ.fill(0); Jtr.fill(0); }
-    const g = gain ?? 1;
-    let rss = 0;
-    for (let k = 0; k < m; k++) {
-      const X = b.x + tx + c * u[k] - sn * v[k];
-      const Y = b.y + ty + sn * u[k] + c * v[k];
-      if (!sampleCubic(b.field, nx, ny, X / dx, Y / dy, s)) continue;
-      used++;
-      const f2 = s[0];
-      s22 += f2 * f2; s12 += f1[k] * f2; s11 += f1[k] * f1[k];
-      if (normal) {
-        const gX = s[1] / dx, gY = s[2] / dy;
-        // d/dphi of the sample position: R'(phi) (u, v).
-        const dXp = -sn * u[k] - c * v[k], dYp = c * u[k] - sn * v[k];
-        const j0 = g * (gX * dXp + gY * dYp), j1 = g * gX, j2 = g * gY, j3 = f2;
-        const r = g * f2 - f1[k];
-        rss += r * r;
-        // The upper triangle of J^T J and J^T r, written out (an array per pixel was most of
-        // the fit's garbage).
-        Jtr[0] += j0 * r; JtJ[0] += j0 * j0; JtJ[1] += j0 * j1; JtJ[2] += j0 * j2; JtJ[3] += j0 * j3;
-        Jtr[1] += j1 * r; JtJ[5] += j1 * j1; JtJ[6] += j1 * j2; JtJ[7] += j1 * j3;
-        Jtr[2] += j2 * r; JtJ[10] += j2 * j2; JtJ[11] += j2 * j3;
-        Jtr[3] += j3 * r; JtJ[15] += j3 * j3;
-      }
-    }
+    patternSums(u, v, f1, b.field, nx, ny, dx, dy, b.x + tx, b.y + ty, phi, gain ?? 1, normal, JtJ, Jtr, sums);
+    const s22 = sums[0], s12 = sums[1], s11 = sums[2], used = sums[3], rss = sums[4];
     if (normal) for (let p = 0; p < 4; p++) for (let q = 0; q < p; q++) JtJ[p * 4 + q] = JtJ[q * 4 + p];
     // With the best gain the residual is s11 - s12^2/s22.
     const bestGain = s22 > 0 ? s12 / s22 : 0;
@@ -298,4 +273,48 @@ export function patternRotation(a: PatternFootprint, b: PatternFootprint, grid: 
   if (!(misfit <= o.maxMisfit) || Math.abs(angle) > o.maxAngle) note = 'poor-fit';
   else if (!(angleError <= o.maxAngleError)) note = 'too-noisy';
   return { angle: note ? null : angle, angleError, shift, shiftError, note, anisotropy, misfit, samples: m };
+}
+
+/** Sums patternSums returns: s22, s12, s11, pixels used, residual sum of squares. */
+const PATTERN_SUMS = 5;
+
+/**
+ * The pixel loop of one evaluation of the pattern fit, in a function of its own over typed arrays
+ * (as a closure made per fit, V8 compiled it again every frame): the window's pixels (offsets u, v
+ * from the first centroid, values f1) rotated by phi about (cx, cy) on the second map and sampled
+ * there; sums gets [Sum f2^2, Sum f1 f2, Sum f1^2, pixels used, Sum (g f2 - f1)^2] and, when
+ * `normal`, the upper triangle of J^T J and J^T r of the parameters (phi, tx, ty, gain).
+ */
+function patternSums(
+  u: Float64Array, v: Float64Array, f1: Float64Array, field: ArrayLike<number>, nx: number, ny: number, dx: number, dy: number,
+  cx: number, cy: number, phi: number, g: number, normal: boolean, JtJ: Float64Array, Jtr: Float64Array, sums: Float64Array,
+): void {
+  const c = Math.cos(phi), sn = Math.sin(phi);
+  const s = new Float64Array(3);
+  let s22 = 0, s12 = 0, s11 = 0, used = 0;
+  if (normal) { JtJ.fill(0); Jtr.fill(0); }
+  let rss = 0;
+  for (let k = 0; k < u.length; k++) {
+    const X = cx + c * u[k] - sn * v[k];
+    const Y = cy + sn * u[k] + c * v[k];
+    if (!sampleCubic(field, nx, ny, X / dx, Y / dy, s)) continue;
+    used++;
+    const f2 = s[0];
+    s22 += f2 * f2; s12 += f1[k] * f2; s11 += f1[k] * f1[k];
+    if (normal) {
+      const gX = s[1] / dx, gY = s[2] / dy;
+      // d/dphi of the sample position: R'(phi) (u, v).
+      const dXp = -sn * u[k] - c * v[k], dYp = c * u[k] - sn * v[k];
+      const j0 = g * (gX * dXp + gY * dYp), j1 = g * gX, j2 = g * gY, j3 = f2;
+      const r = g * f2 - f1[k];
+      rss += r * r;
+      // The upper triangle of J^T J and J^T r, written out (an array per pixel was most of
+      // the fit's garbage).
+      Jtr[0] += j0 * r; JtJ[0] += j0 * j0; JtJ[1] += j0 * j1; JtJ[2] += j0 * j2; JtJ[3] += j0 * j3;
+      Jtr[1] += j1 * r; JtJ[5] += j1 * j1; JtJ[6] += j1 * j2; JtJ[7] += j1 * j3;
+      Jtr[2] += j2 * r; JtJ[10] += j2 * j2; JtJ[11] += j2 * j3;
+      Jtr[3] += j3 * r; JtJ[15] += j3 * j3;
+    }
+  }
+  sums[0] = s22; sums[1] = s12; sums[2] = s11; sums[3] = used; sums[4] = rss;
 }
