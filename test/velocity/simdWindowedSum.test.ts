@@ -113,9 +113,11 @@ describe('affine fit: SIMD kernels against the TypeScript loops', () => {
   });
 
   it('dave, dave with the noise correction and dave4vm, with NaN pixels and solveAt: bit-identical velocities', () => {
-    // One workspace through every case and two grid sizes: its memory is reused (not zeroed) between fits.
+    // One workspace through every case and grid sizes up and down: its memory grows (made again
+    // larger) and is reused, not zeroed, between fits.
     const ws = createAffineFitWorkspace();
-    for (const size of [96, 64]) {
+    const arenas: unknown[] = [];
+    for (const size of [64, 96, 64]) {
       const p = pair(size);
       const cases: [string, Float64Array, Float64Array, object][] = [
         ['dave', p.a0, p.b0, {}],
@@ -153,8 +155,11 @@ describe('affine fit: SIMD kernels against the TypeScript loops', () => {
       const withWorkspace = inferVelocity(p.a, p.b, {}, ws);
       expect(differing(withWorkspace.vx, plainInferred.vx)).toEqual([]);
       expect(differing(withWorkspace.vy, plainInferred.vy)).toEqual([]);
+      arenas.push(ws.arena);
     }
     expect(ws.unavailable).toBeUndefined();
+    expect(arenas[1]).not.toBe(arenas[0]); // grown for 96^2
+    expect(arenas[2]).toBe(arenas[1]); // and kept for 64^2
   });
 
   it('without WebAssembly, or where it rejects the module, the workspace keeps the TypeScript loops (same numbers)', () => {
