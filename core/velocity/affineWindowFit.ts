@@ -136,7 +136,6 @@ export function affineWindowFit(
     byPair.set(key, list);
   }
   const mostPerPair = Math.max(0, ...[...byPair.values()].map((list) => list.length));
-  const usedChannels = [...new Set([...moments.values()].flatMap((m) => [m.j, m.k]))];
 
   // Buffers: in the workspace's WebAssembly memory when the SIMD kernels run (kept between fits),
   // else plain arrays. Each large block is one allocation (every large allocation may cost a
@@ -146,22 +145,10 @@ export function affineWindowFit(
   const noisyMoments = noiseVariance ? [...moments.values()].filter((m) => m.j === m.k && (noiseVariance[m.j] ?? 0) > 0) : [];
   const noisyKeys = new Set(noisyMoments.map((m) => `${m.px},${m.py}`)).size;
   const passes = fitWindowPasses(workspace, nx, ny, r, rowsNeeded, centres, [
-    size * usedChannels.length, size, size * xPowers.length, entries * count, mostPerPair * count,
+    size, size * xPowers.length, entries * count, mostPerPair * count,
     n * count, wanted.length * count, count, noisyKeys > 0 ? size : 0, ...Array.from({ length: noisyKeys }, () => count)]);
   const parts = (all: Float64Array, length: number, count: number) => Array.from({ length: count }, (_, e) => all.subarray(e * length, (e + 1) * length));
   const block = (length: number, count: number, zeroed = false) => parts(passes.alloc(length * count, zeroed), length, count);
-  // For the kernels, the channels in their memory with invalid pixels zeroed, on the spans: a
-  // product of two of them is the masked product (0 * 0 = +0 where either is invalid, as the zero
-  // the TypeScript loop writes there).
-  const inputs: (ArrayLike<number> | Float64Array)[] = [...channels];
-  if (passes.simd) {
-    const maskedBlock = block(size, usedChannels.length);
-    usedChannels.forEach((j, e) => {
-      const c = channels[j], m = maskedBlock[e];
-      inputs[j] = m;
-      for (let y = 0; y < ny; y++) for (let i = spanFrom[y]; i < spanTo[y]; i++) m[i] = valid[i] ? c[i] : 0;
-    });
-  }
   const [product] = block(size, 1);
   // Row-pass buffers, one per power of x the moments use, and one column-pass output per moment of
   // a channel pair; one compact array per matrix entry (entry-major, one value per centre), so that
@@ -174,7 +161,7 @@ export function affineWindowFit(
   const sums = parts(sumBlock, count, entries);
   const columnOut = block(count, mostPerPair);
   for (const list of byPair.values()) {
-    const a = inputs[list[0].j], b = inputs[list[0].k];
+    const a = channels[list[0].j], b = channels[list[0].k];
     for (let y = 0; y < ny; y++) passes.product(product, a, b, valid, spanFrom[y], spanTo[y]);
     const powers = [...new Set(list.map((m) => m.px))];
     passes.rows(product, powers.map((px) => taps[px]), powers.map(rowBuffer));

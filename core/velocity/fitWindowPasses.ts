@@ -40,10 +40,10 @@ export interface FitWindowPasses {
    */
   alloc(length: number, zeroed?: boolean): Float64Array;
   /**
-   * out[i] = a[i] * b[i] for from <= i < to where valid[i], else 0; with the kernels a and b are the
-   * channels with their invalid pixels zeroed already (0 * 0 = +0, the zero written otherwise).
+   * out[i] = a[i] * b[i] for from <= i < to where valid[i], else 0 (a TypeScript loop either way:
+   * in a kernel it would need copies of the channels in its memory, 2 MB each at 512^2, for no gain).
    */
-  product(out: Float64Array, a: Float64Array | ArrayLike<number>, b: Float64Array | ArrayLike<number>, valid: Uint8Array, from: number, to: number): void;
+  product(out: Float64Array, a: ArrayLike<number>, b: ArrayLike<number>, valid: Uint8Array, from: number, to: number): void;
   /** correlateFiniteRowsFused(input, nx, ny, taps, outs, rowsNeeded). */
   rows(input: Float64Array, taps: readonly Float64Array[], outs: readonly Float64Array[]): void;
   /** correlateColumnsAtFused(input, nx, ny, taps, centres, outs). */
@@ -150,9 +150,7 @@ export function fitWindowPasses(
       if (zeroed && !fresh) a.fill(0);
       return a;
     },
-    product(out, a, b, valid, from, to) {
-      if (!(a instanceof Float64Array && b instanceof Float64Array && arena.product(out, a, b, from, to))) plain.product(out, a, b, valid, from, to);
-    },
+    product: plain.product,
     rows(input, taps, outs) {
       if (interior('rows', input, taps, outs)) correlateFiniteRowsEdges(input, nx, ny, taps, outs, rowsNeeded);
       else plain.rows(input, taps, outs);

@@ -1,13 +1,14 @@
 // The affine fit's windowed sums (core/velocity/windowedSum.ts) as WebAssembly SIMD kernels: the
 // fused row passes at the pixels the column windows read, the fused column passes at the centres to
-// solve, the products of two channels and the moment-to-entry accumulation. f64x2 lanes hold two
-// adjacent pixels of a row, and each lane does the same IEEE operations in the same order as the
-// TypeScript loops (no fused multiply-add in WebAssembly), so the sums are bit-identical. The
-// kernels work inside their own WebAssembly.Memory: a WindowedSumArena is that memory with the
-// instance and a bump allocator, owned by the caller (an AffineFitWorkspace, kept from one fit to
-// the next: on this machine fresh memory costs more to touch than the kernels save). Only interior pixels go through the kernels (the symmetric-tap form); the few at the edges,
-// where a window is cut, keep the TypeScript loops. createWindowedSumArena returns undefined where
-// WebAssembly or its SIMD instructions are missing: the fit then runs the TypeScript loops alone.
+// solve and the moment-to-entry accumulation. f64x2 lanes hold two adjacent pixels of a row, and
+// each lane does the same IEEE operations in the same order as the TypeScript loops (no fused
+// multiply-add in WebAssembly), so the sums are bit-identical. The kernels work inside their own
+// WebAssembly.Memory: a WindowedSumArena is that memory with the instance and a bump allocator,
+// owned by the caller (an AffineFitWorkspace, kept from one fit to the next: on this machine fresh
+// memory costs more to touch than the kernels save). Only interior pixels go through the kernels
+// (the symmetric-tap form); the few at the edges, where a window is cut, keep the TypeScript loops.
+// createWindowedSumArena returns undefined where WebAssembly or its SIMD instructions are missing:
+// the fit then runs the TypeScript loops alone.
 
 import { F64, FunctionCode, I32, V128, moduleBytes } from '../wasmBinary.js';
 import type { ValueType } from '../wasmBinary.js';
@@ -101,25 +102,6 @@ function axpyFunction(): FunctionCode {
   return f;
 }
 
-/** product(out, a, b, from, to): out[i] = a[i] * b[i] for from <= i < to (pixel indices). */
-function productFunction(): FunctionCode {
-  const f = new FunctionCode([I32, I32, I32, I32, I32]);
-  const OUT = 0, A = 1, B = 2, FROM = 3, TO = 4;
-  const x = f.local(I32), end = f.local(I32), last = f.local(I32);
-  f.get(TO).i32(3).i32Shl().set(end);
-  // Pairs while two remain, then a lone last one.
-  f.get(end).get(FROM).i32(3).i32Shl().i32Sub().i32(4).i32ShrU().i32(4).i32Shl().get(FROM).i32(3).i32Shl().i32Add().set(last);
-  f.forRange(x, () => f.get(FROM).i32(3).i32Shl(), () => f.get(last), () => f.i32(16), () => {
-    f.get(OUT).get(x).i32Add();
-    f.get(A).get(x).i32Add().v128Load().get(B).get(x).i32Add().v128Load().f64x2Mul().v128Store();
-  });
-  f.get(last).get(end).i32LtU().ifElse(() => {
-    f.get(OUT).get(last).i32Add();
-    f.get(A).get(last).i32Add().f64Load().get(B).get(last).i32Add().f64Load().f64Mul().f64Store();
-  });
-  return f;
-}
-
 /** Every parity combination of one to three tap sets, named as passName gives. */
 const PARITY_SETS: readonly (readonly Parity[])[] = [1, 2, 3].flatMap((sets) =>
   Array.from({ length: 1 << sets }, (_, bits) => Array.from({ length: sets }, (_, s) => ((bits >> s) & 1 ? -1 : 1) as Parity)));
@@ -133,7 +115,6 @@ export function windowedSumModule(): Uint8Array {
   return moduleBytes([
     ...PARITY_SETS.flatMap((parities) => (['rows', 'columns'] as const).map((kind) => ({ name: passName(kind, parities), code: passFunction(kind, parities) }))),
     { name: 'axpy', code: axpyFunction() },
-    { name: 'product', code: productFunction() },
   ]);
 }
 
@@ -165,8 +146,6 @@ export interface WindowedSumArena {
     taps: readonly Float64Array[], parities: readonly Parity[], r: number, outs: readonly Float64Array[]): boolean;
   /** target[k] += coef * column[k] for k < count. */
   axpy(target: Float64Array, coef: number, column: Float64Array, count: number): boolean;
-  /** out[i] = a[i] * b[i] for from <= i < to. */
-  product(out: Float64Array, a: Float64Array, b: Float64Array, from: number, to: number): boolean;
   /** Taps t[r..2r] of a symmetric tap set, each twice (one per lane), inside the memory. */
   splatTaps(taps: Float64Array): Float64Array;
   /** Whether every array lies in the memory. */
@@ -209,7 +188,6 @@ export function createWindowedSumArena(bytes: number): WindowedSumArena | undefi
     passes.set(passName(kind, parities), exports[passName(kind, parities)] as (...args: number[]) => void);
   }
   const axpy = exports.axpy as (t: number, coef: number, c: number, count: number) => void;
-  const product = exports.product as (o: number, a: number, b: number, from: number, to: number) => void;
   let next = 16; // address 0 left unused
   const limit = pages * PAGE;
   const reserve = (bytes: number) => {
@@ -254,11 +232,6 @@ export function createWindowedSumArena(bytes: number): WindowedSumArena | undefi
     axpy(target, coef, column, count) {
       if (!inside(target, column)) return false;
       axpy(target.byteOffset, coef, column.byteOffset, count);
-      return true;
-    },
-    product(out, a, b, from, to) {
-      if (!inside(out, a, b)) return false;
-      if (to > from) product(out.byteOffset, a.byteOffset, b.byteOffset, from, to);
       return true;
     },
   };
