@@ -60,6 +60,17 @@ export function inversePadded(plan: PaddedPlan, spec: Spectrum, out: Float64Arra
   for (let r = 0; r < ny; r++) realInverseFftRow(rows, spec.re, spec.im, r * w, out, r * nx, nx, 1 / py);
 }
 
+/**
+ * Zeros one row of a half spectrum stored by column blocks: B values at first, first + stride, ...
+ * A loop rather than a fill() per block: for sparse inputs (one footpoint's pixels) most rows are
+ * zero, and some 30 builtin calls per row per map made a tenth of a convolution's time.
+ */
+function zeroBlockRow(re: Float64Array, im: Float64Array, first: number, stride: number, B: number): void {
+  for (let b = first; b < re.length; b += stride) {
+    for (let c = b; c < b + B; c++) { re[c] = 0; im[c] = 0; }
+  }
+}
+
 /** Columns of the half spectrum that convolvePadded carries through both column passes together. */
 export const SPECTRUM_BLOCK = 16;
 
@@ -154,7 +165,7 @@ export function convolvePadded(
     const zeroRow = (y: number) => { for (let i = y * nx, e = i + nx; i < e; i++) if (x[i] !== 0) return false; return true; };
     for (let y = 0; y < ny;) {
       if (zeroRow(y)) {
-        for (let b = y * B; b < rowRe[j].length; b += stride) { rowRe[j].fill(0, b, b + B); rowIm[j].fill(0, b, b + B); }
+        zeroBlockRow(rowRe[j], rowIm[j], y * B, stride, B);
         y++;
         continue;
       }
