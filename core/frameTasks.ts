@@ -1,6 +1,6 @@
 // The parts of one frame's analysis that may run in another thread while the rest goes on: each
-// is a pure function of plain, cloneable values (frames, typed arrays, settings) and of a kernel
-// cache that belongs to whoever runs it. core/frameSteps.ts forks and joins them by name, so a
+// is a pure function of plain, cloneable values (frames, typed arrays, settings) and of a cache
+// (flux kernels, the affine fit's workspace) that belongs to whoever runs it. core/frameSteps.ts forks and joins them by name, so a
 // driver can send the name and the arguments elsewhere (the monitor's second thread) and get the
 // same result as from running it here.
 //
@@ -17,15 +17,25 @@ import { splitPart } from './labelSplit.js';
 import type { InferredVelocity } from './velocity/inferVelocity.js';
 import { inferVelocity } from './velocity/inferVelocity.js';
 import type { VelocitySettings } from './velocity/velocitySettings.js';
+import type { AffineFitWorkspace } from './velocity/fitWindowPasses.js';
+import { createAffineFitWorkspace } from './velocity/fitWindowPasses.js';
+
+/**
+ * What a thread keeps from one frame's tasks to the next: the flux kernels by grid (the Map) and
+ * the affine fit's workspace, made at the first inference (its memory is worth keeping: fresh
+ * memory costs more to touch than the fit's kernels save, docs/speed.md). Owned by whoever runs
+ * the tasks; a plain FluxKernelCache is one that has not kept a workspace yet.
+ */
+export type FrameCache = FluxKernelCache & { affineFit?: AffineFitWorkspace };
 
 /** Options of the split that can travel (the kernel cache stays with the thread that runs it). */
 export type SplitTaskOptions = Omit<LabelSplitOptions, 'cache'>;
 
 export interface FrameTasks {
   /** The velocity between two frames (core/velocity/inferVelocity.ts). */
-  inferVelocity(args: readonly [previous: Frame, frame: Frame, settings: Partial<VelocitySettings> | undefined], cache?: FluxKernelCache): InferredVelocity;
+  inferVelocity(args: readonly [previous: Frame, frame: Frame, settings: Partial<VelocitySettings> | undefined], cache?: FrameCache): InferredVelocity;
   /** One part of the label split of a flux transport on a grid (core/labelSplit.ts splitPart). */
-  splitPart(args: readonly [grid: Grid, t: FluxTransport, labels: Int32Array, options: SplitTaskOptions, share: SplitShare], cache?: FluxKernelCache): SplitPart;
+  splitPart(args: readonly [grid: Grid, t: FluxTransport, labels: Int32Array, options: SplitTaskOptions, share: SplitShare], cache?: FrameCache): SplitPart;
 }
 
 export type FrameTaskName = keyof FrameTasks;
@@ -33,7 +43,8 @@ export type FrameTaskArgs<K extends FrameTaskName> = Parameters<FrameTasks[K]>[0
 export type FrameTaskResult<K extends FrameTaskName> = ReturnType<FrameTasks[K]>;
 
 export const FRAME_TASKS: FrameTasks = {
-  inferVelocity: ([previous, frame, settings]) => inferVelocity(previous, frame, settings),
+  inferVelocity: ([previous, frame, settings], cache) =>
+    inferVelocity(previous, frame, settings, cache && (cache.affineFit ??= createAffineFitWorkspace())),
   splitPart: ([grid, t, labels, options, share], cache) =>
     splitPart(fluxKernelFor(grid, cache), t, labels, { ...options, ...(cache && { cache }) }, share),
 };
@@ -43,6 +54,6 @@ export function isFrameTaskName(name: unknown): name is FrameTaskName {
 }
 
 /** Runs one task here. */
-export function runFrameTask<K extends FrameTaskName>(task: K, args: FrameTaskArgs<K>, cache?: FluxKernelCache): FrameTaskResult<K> {
-  return (FRAME_TASKS[task] as (a: FrameTaskArgs<K>, c?: FluxKernelCache) => FrameTaskResult<K>)(args, cache);
+export function runFrameTask<K extends FrameTaskName>(task: K, args: FrameTaskArgs<K>, cache?: FrameCache): FrameTaskResult<K> {
+  return (FRAME_TASKS[task] as (a: FrameTaskArgs<K>, c?: FrameCache) => FrameTaskResult<K>)(args, cache);
 }
