@@ -9,7 +9,7 @@
 // then keep plain arrays and the TypeScript loops, which also run whenever a kernel declines.
 
 import type { FftPlan, RealFftPlan } from './fft.js';
-import { F64, FunctionCode, I32, V128, moduleBytes } from './wasmBinary.js';
+import { F64, FunctionCode, I32, V128, instantiateOnMemory, moduleBytes } from './wasmBinary.js';
 
 /**
  * columns(re, im, n, rowBytes, columnBytes, sign, upperHalfZero, cos, sin): fftColumnBlock with
@@ -343,14 +343,6 @@ export function simdColumnsModule(): Uint8Array {
   ]);
 }
 
-/** The parts of the WebAssembly API used here (core is typed without DOM or Node declarations). */
-interface WasmApi {
-  validate(bytes: Uint8Array): boolean;
-  Module: new (bytes: Uint8Array) => object;
-  Instance: new (module: object, imports: object) => { exports: Record<string, unknown> };
-  Memory: new (descriptor: { initial: number; maximum?: number }) => { buffer: ArrayBuffer };
-}
-
 type ColumnsKernel = (
   re: number, im: number, n: number, rowBytes: number, columnBytes: number, sign: number, upperHalfZero: number, cos: number, sin: number,
 ) => void;
@@ -417,7 +409,6 @@ function lastIndex(layout: SpectrumLayout, m: number, rows: number): number {
   return Math.max(at(m), blockEnd >= 0 ? at(blockEnd) : 0) + (rows - 1) * layout.rowStep;
 }
 
-const PAGE = 65536;
 /** Bytes an array of `length` doubles takes in an arena (alloc rounds to 16). */
 export function arenaBytes(length: number): number {
   return Math.ceil(length / 2) * 16;
@@ -428,34 +419,19 @@ export function arenaBytes(length: number): number {
  * of `plans`; undefined when WebAssembly SIMD is unavailable or the memory cannot be had.
  */
 export function createSimdArena(bytes: number, plans: readonly FftPlan[], realPlans: readonly RealFftPlan[] = []): SimdArena | undefined {
-  const wasm = (globalThis as { WebAssembly?: WasmApi }).WebAssembly;
-  if (!wasm) return undefined;
-  const code = simdColumnsModule();
-  try {
-    if (!wasm.validate(code)) return undefined;
-  } catch { return undefined; }
   let tableBytes = 0;
   for (const plan of [...plans, ...realPlans.map((p) => p.half)]) tableBytes += 2 * arenaBytes(plan.cos.length) + arenaBytes(Math.ceil(plan.n / 2));
   for (const plan of realPlans) tableBytes += 2 * arenaBytes(plan.cos.length);
-  const pages = Math.ceil((bytes + tableBytes + 16) / PAGE);
-  if (pages > 65536) return undefined;
-  let memory: { buffer: ArrayBuffer };
-  let kernel: ColumnsKernel, splitOut: SplitKernel, splitIn: SplitKernel;
-  let transportProducts: (...addresses: number[]) => void, fieldProducts: (...addresses: number[]) => void;
-  let packRows: (...args: number[]) => void;
-  try {
-    memory = new wasm.Memory({ initial: pages, maximum: pages });
-    const instance = new wasm.Instance(new wasm.Module(code), { env: { memory } });
-    kernel = instance.exports.columns as ColumnsKernel;
-    splitOut = instance.exports.realSplitOut as SplitKernel;
-    splitIn = instance.exports.realSplitIn as SplitKernel;
-    transportProducts = instance.exports.transportProducts as typeof transportProducts;
-    fieldProducts = instance.exports.fieldProducts as typeof fieldProducts;
-    packRows = instance.exports.packRows as typeof packRows;
-  } catch { return undefined; }
-  const buffer = memory.buffer;
+  const made = instantiateOnMemory(simdColumnsModule(), bytes + tableBytes + 16);
+  if (!made) return undefined;
+  const { exports, buffer } = made;
+  const kernel = exports.columns as ColumnsKernel;
+  const splitOut = exports.realSplitOut as SplitKernel, splitIn = exports.realSplitIn as SplitKernel;
+  const transportProducts = exports.transportProducts as (...addresses: number[]) => void;
+  const fieldProducts = exports.fieldProducts as (...addresses: number[]) => void;
+  const packRows = exports.packRows as (...args: number[]) => void;
   let next = 16; // address 0 left unused
-  const limit = pages * PAGE;
+  const limit = made.bytes;
   const alloc = (length: number) => {
     const size = arenaBytes(length);
     if (next + size > limit) throw new RangeError(`SIMD arena full: ${length} doubles asked, ${limit - next} bytes left`);

@@ -192,3 +192,53 @@ export function moduleBytes(functions: readonly { name: string; code: FunctionCo
   section(10, codes, out);
   return Uint8Array.from(out);
 }
+
+/** The parts of the WebAssembly API the kernels use (core is typed without DOM or Node declarations). */
+export interface WasmApi {
+  validate(bytes: Uint8Array): boolean;
+  Module: new (bytes: Uint8Array) => object;
+  Instance: new (module: object, imports: object) => { exports: Record<string, unknown> };
+  Memory: new (descriptor: { initial: number; maximum?: number }) => { buffer: ArrayBuffer };
+}
+
+/** The runtime's WebAssembly, or undefined where there is none. */
+export function webAssembly(): WasmApi | undefined {
+  return (globalThis as { WebAssembly?: WasmApi }).WebAssembly;
+}
+
+/** Bytes of a WebAssembly memory page. */
+export const WASM_PAGE = 65536;
+
+/** A module instantiated on a memory of its own (imported as env.memory). */
+export interface InstanceOnMemory {
+  readonly exports: Record<string, unknown>;
+  readonly buffer: ArrayBuffer;
+  /** The memory's size, whole pages. */
+  readonly bytes: number;
+  /** The exports of another module on the same memory; undefined where it does not validate or instantiate. */
+  readonly alsoOnMemory: (code: Uint8Array) => Record<string, unknown> | undefined;
+}
+
+/**
+ * `code` instantiated on a fixed memory of at least `bytes`; undefined where WebAssembly is missing,
+ * the module does not validate (no SIMD, say) or the memory cannot be had.
+ */
+export function instantiateOnMemory(code: Uint8Array, bytes: number): InstanceOnMemory | undefined {
+  const wasm = webAssembly();
+  if (!wasm) return undefined;
+  try {
+    if (!wasm.validate(code)) return undefined;
+  } catch { return undefined; }
+  const pages = Math.ceil(bytes / WASM_PAGE);
+  if (pages > 65536) return undefined;
+  try {
+    const memory = new wasm.Memory({ initial: pages, maximum: pages });
+    const exports = new wasm.Instance(new wasm.Module(code), { env: { memory } }).exports;
+    const alsoOnMemory = (other: Uint8Array) => {
+      try {
+        return wasm.validate(other) ? new wasm.Instance(new wasm.Module(other), { env: { memory } }).exports : undefined;
+      } catch { return undefined; }
+    };
+    return { exports, buffer: memory.buffer, bytes: pages * WASM_PAGE, alsoOnMemory };
+  } catch { return undefined; }
+}

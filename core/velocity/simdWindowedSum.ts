@@ -10,7 +10,7 @@
 // createWindowedSumArena returns undefined where WebAssembly or its SIMD instructions are missing:
 // the fit then runs the TypeScript loops alone.
 
-import { F64, FunctionCode, I32, V128, moduleBytes } from '../wasmBinary.js';
+import { F64, FunctionCode, I32, V128, instantiateOnMemory, moduleBytes } from '../wasmBinary.js';
 import type { ValueType } from '../wasmBinary.js';
 
 /** +1 for taps even about the centre (even powers of the offset), -1 for odd ones. */
@@ -118,14 +118,6 @@ export function windowedSumModule(): Uint8Array {
   ]);
 }
 
-/** The parts of the WebAssembly API used here (core is typed without DOM or Node declarations). */
-interface WasmApi {
-  validate(bytes: Uint8Array): boolean;
-  Module: new (bytes: Uint8Array) => object;
-  Instance: new (module: object, imports: object) => { exports: Record<string, unknown> };
-  Memory: new (descriptor: { initial: number; maximum?: number }) => { buffer: ArrayBuffer };
-}
-
 /** A WebAssembly memory holding the fit's maps, with the windowed-sum kernels bound to it. */
 export interface WindowedSumArena {
   /** Its size in bytes (what windowedSumArenaBytes may add up to). */
@@ -157,7 +149,6 @@ export interface WindowedSumArena {
   instantiate(key: string, bytes: () => Uint8Array): Record<string, unknown> | undefined;
 }
 
-const PAGE = 65536;
 
 /** Bytes an arena needs for arrays of these lengths (doubles; Int32Arrays count as half). */
 export function windowedSumArenaBytes(lengths: readonly number[]): number {
@@ -166,22 +157,9 @@ export function windowedSumArenaBytes(lengths: readonly number[]): number {
 
 /** An arena of `bytes` (see windowedSumArenaBytes); undefined without WebAssembly SIMD or memory. */
 export function createWindowedSumArena(bytes: number): WindowedSumArena | undefined {
-  const wasm = (globalThis as { WebAssembly?: WasmApi }).WebAssembly;
-  if (!wasm) return undefined;
-  const code = windowedSumModule();
-  try {
-    if (!wasm.validate(code)) return undefined;
-  } catch { return undefined; }
-  const pages = Math.ceil(bytes / PAGE);
-  if (pages > 65536) return undefined;
-  let buffer: ArrayBuffer;
-  let exports: Record<string, unknown>;
-  let memory: { buffer: ArrayBuffer };
-  try {
-    memory = new wasm.Memory({ initial: pages, maximum: pages });
-    exports = new wasm.Instance(new wasm.Module(code), { env: { memory } }).exports;
-    buffer = memory.buffer;
-  } catch { return undefined; }
+  const made = instantiateOnMemory(windowedSumModule(), bytes);
+  if (!made) return undefined;
+  const { exports, buffer } = made;
   const others = new Map<string, Record<string, unknown> | undefined>();
   const passes = new Map<string, (...args: number[]) => void>();
   for (const parities of PARITY_SETS) for (const kind of ['rows', 'columns'] as const) {
@@ -189,7 +167,7 @@ export function createWindowedSumArena(bytes: number): WindowedSumArena | undefi
   }
   const axpy = exports.axpy as (t: number, coef: number, c: number, count: number) => void;
   let next = 16; // address 0 left unused
-  const limit = pages * PAGE;
+  const limit = made.bytes;
   const reserve = (bytes: number) => {
     const size = Math.ceil(bytes / 16) * 16 + 16; // slack: a lone last lane may read one past the end
     if (next + size > limit) throw new RangeError(`windowed-sum arena full: ${bytes} bytes asked, ${limit - next} left`);
@@ -202,12 +180,9 @@ export function createWindowedSumArena(bytes: number): WindowedSumArena | undefi
     holds: inside,
     instantiate(key, bytes) {
       if (!others.has(key)) {
-        let made: Record<string, unknown> | undefined;
-        try {
-          const b = bytes();
-          made = wasm.validate(b) ? new wasm.Instance(new wasm.Module(b), { env: { memory } }).exports : undefined;
-        } catch { made = undefined; }
-        others.set(key, made);
+        let other: Record<string, unknown> | undefined;
+        try { other = made.alsoOnMemory(bytes()); } catch { other = undefined; }
+        others.set(key, other);
       }
       return others.get(key);
     },

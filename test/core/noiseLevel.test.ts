@@ -11,24 +11,31 @@ function sortedMedian(values: number[]): number {
   return n % 2 === 1 ? a[(n - 1) / 2] : (a[n / 2 - 1] + a[n / 2]) / 2;
 }
 
+// The estimate as its definition reads (core/noiseLevel.ts): the first pass unclipped (MAD times
+// 1.4826), each later pass over the values within clip sigma of the last median, divided by the MAD
+// of a unit normal clipped there; it stops once sigma moves by 0.1 % or less, after 12 passes, or at 0.
 function referenceNoise(map: ArrayLike<number>, clip: number, maxSamples: number) {
   const finite = Array.from(map).filter((v) => Number.isFinite(v));
   const stride = Math.max(1, Math.floor(finite.length / maxSamples));
   const values = finite.filter((_, i) => i % stride === 0);
-  let lo = -Infinity, hi = Infinity, med = 0, sigma = 0, used = 0;
-  for (let iter = 0; iter < 12; iter++) {
-    const kept = values.filter((v) => v >= lo && v <= hi);
-    if (kept.length === 0) break;
-    med = sortedMedian(kept);
-    const next = sortedMedian(kept.map((v) => Math.abs(v - med))) / (iter === 0 ? 1 / MAD_TO_SIGMA : clippedMadOfUnitNormal(clip));
-    used = kept.length;
-    const settled = iter > 0 && Math.abs(next - sigma) <= 1e-3 * next;
-    sigma = next;
-    if (settled || sigma === 0) break;
-    lo = med - clip * sigma;
-    hi = med + clip * sigma;
+  const pass = (window: [number, number], first: boolean) => {
+    const kept = values.filter((v) => window[0] <= v && v <= window[1]);
+    if (kept.length === 0) return undefined;
+    const centre = sortedMedian(kept);
+    const scale = first ? 1 / MAD_TO_SIGMA : clippedMadOfUnitNormal(clip);
+    return { median: centre, sigma: sortedMedian(kept.map((v) => Math.abs(v - centre))) / scale, used: kept.length };
+  };
+  let result = { median: 0, sigma: 0, used: 0 };
+  let window: [number, number] = [-Infinity, Infinity];
+  for (let k = 0; k < 12; k++) {
+    const r = pass(window, k === 0);
+    if (!r) break;
+    const done = (k > 0 && Math.abs(r.sigma - result.sigma) <= 1e-3 * r.sigma) || r.sigma === 0;
+    result = r;
+    if (done) break;
+    window = [r.median - clip * r.sigma, r.median + clip * r.sigma];
   }
-  return { sigma, median: med, used };
+  return result;
 }
 
 describe('noise level by order statistics', () => {
