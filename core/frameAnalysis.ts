@@ -174,8 +174,12 @@ export function* analyseFrameSteps(
   }
 
   const previous = state.previous!;
+  // The pair's noise from its difference, when the footpoint motions below need it: found once
+  // here, and given to the inference, which would otherwise find the same value again.
+  const motionsNeedNoise = fpSettings !== undefined && (settings.motionModel ?? 'footpoints') === 'footpoints' && settings.noiseG === undefined;
+  const pairNoiseG = motionsNeedNoise ? pairNoise(previous.bn, frame.bn) : undefined;
   // The inference needs only the pair: it runs beside the tracking and the motions below.
-  const inference = yield* fork('inferVelocity', [previous, frame, settings.velocity]);
+  const inference = yield* fork('inferVelocity', [previous, frame, settings.velocity, pairNoiseG]);
   const rateFrame = midFrame(previous, frame);
   const centre = meanCentre(framePatchCentre(previous), framePatchCentre(frame));
   const commonOf = (v: InferredVelocity, tracked?: TrackedFrame) => ({
@@ -210,7 +214,7 @@ export function* analyseFrameSteps(
     const previousField = history.length > 0 && history[history.length - 1].time === previous.time
       ? history[history.length - 1].field : smoothMap(previous.bn, frame.nx, frame.ny, smoothing);
     // The noise of each frame (robust, from their difference) sets the motions' errors.
-    const frameNoise = settings.noiseG ?? pairNoise(previous.bn, frame.bn);
+    const frameNoise = settings.noiseG ?? pairNoiseG ?? pairNoise(previous.bn, frame.bn);
     const options = {
       noiseCorrelation: Math.max(1, 4 * Math.PI * smoothing * smoothing), coreShare: MOTION_CORE_SHARE,
       ...(Number.isFinite(frameNoise) && frameNoise > 0 && { noiseG: frameNoise }), ...fpSettings.rotation,

@@ -33,7 +33,9 @@ export type SplitTaskOptions = Omit<LabelSplitOptions, 'cache'>;
 
 export interface FrameTasks {
   /** The velocity between two frames (core/velocity/inferVelocity.ts). */
-  inferVelocity(args: readonly [previous: Frame, frame: Frame, settings: Partial<VelocitySettings> | undefined], cache?: FrameCache): InferredVelocity;
+  inferVelocity(
+    args: readonly [previous: Frame, frame: Frame, settings: Partial<VelocitySettings> | undefined, pairNoiseG?: number], cache?: FrameCache,
+  ): InferredVelocity;
   /** One part of the label split of a flux transport on a grid (core/labelSplit.ts splitPart). */
   splitPart(args: readonly [grid: Grid, t: FluxTransport, labels: Int32Array, options: SplitTaskOptions, share: SplitShare], cache?: FrameCache): SplitPart;
 }
@@ -43,8 +45,8 @@ export type FrameTaskArgs<K extends FrameTaskName> = Parameters<FrameTasks[K]>[0
 export type FrameTaskResult<K extends FrameTaskName> = ReturnType<FrameTasks[K]>;
 
 export const FRAME_TASKS: FrameTasks = {
-  inferVelocity: ([previous, frame, settings], cache) =>
-    inferVelocity(previous, frame, settings, cache && (cache.affineFit ??= createAffineFitWorkspace())),
+  inferVelocity: ([previous, frame, settings, pairNoiseG], cache) =>
+    inferVelocity(previous, frame, settings, cache && (cache.affineFit ??= createAffineFitWorkspace()), pairNoiseG),
   splitPart: ([grid, t, labels, options, share], cache) =>
     splitPart(fluxKernelFor(grid, cache), t, labels, { ...options, ...(cache && { cache }) }, share),
 };

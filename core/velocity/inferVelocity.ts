@@ -72,8 +72,12 @@ export function checkFramePair(a: Frame, b: Frame, maxIntervalS: number): number
 /**
  * Infers the velocity between frames `a` and `b` (b later). Throws InputError on bad input.
  * `workspace`: the caller's, kept from pair to pair, for the affine fits' SIMD kernels (same numbers).
+ * `pairNoiseG`: pairNoise(a.bn, b.bn) when the caller has found it already (the same value is
+ * then not found twice); the result is the same either way.
  */
-export function inferVelocity(a: Frame, b: Frame, settings: Partial<VelocitySettings> = {}, workspace?: AffineFitWorkspace): InferredVelocity {
+export function inferVelocity(
+  a: Frame, b: Frame, settings: Partial<VelocitySettings> = {}, workspace?: AffineFitWorkspace, pairNoiseG?: number,
+): InferredVelocity {
   const s = resolveVelocitySettings(settings);
   const dtS = checkFramePair(a, b, s.maxIntervalS);
   const { nx, ny, dx, dy } = a;
@@ -90,7 +94,7 @@ export function inferVelocity(a: Frame, b: Frame, settings: Partial<VelocitySett
   // the noise correction needs it.
   let noise = s.threshold.unit === 'noise' ? s.threshold.noise : undefined;
   if (noise === undefined && (s.threshold.unit === 'noise' || (s.noiseCorrection && method !== 'lct'))) {
-    noise = pairNoise(a.bn, b.bn);
+    noise = pairNoiseG ?? pairNoise(a.bn, b.bn);
     notes.push(`Noise level estimated from the frame-to-frame difference: ${noise.toPrecision(3)} G.`);
   }
   const thresholdG = s.threshold.unit === 'G' ? s.threshold.value : s.threshold.value * noise!;
