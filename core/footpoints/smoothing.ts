@@ -26,18 +26,8 @@ export function smoothMap(map: ArrayLike<number>, nx: number, ny: number, sigma:
   // Pass 1 along x: value sums and weight sums.
   const sv = new Float64Array(n), sw = new Float64Array(n);
   for (let y = 0; y < ny; y++) {
-    const row = y * nx;
-    for (let x = 0; x < nx; x++) {
-      let a = 0, w = 0;
-      const k0 = Math.max(-radius, -x), k1 = Math.min(radius, nx - 1 - x);
-      for (let k = k0; k <= k1; k++) {
-        const c = kernel[k + radius], j = row + x + k;
-        a += c * val[j];
-        w += c * ok[j];
-      }
-      sv[row + x] = a;
-      sw[row + x] = w;
-    }
+    rowSums(val, nx, y, kernel, radius, sv);
+    rowSums(ok, nx, y, kernel, radius, sw);
   }
   // Pass 2 along y, a row at a time (columnSums: each pixel's sum in the same order as a loop over k).
   const a = new Float64Array(nx), w = new Float64Array(nx);
@@ -47,6 +37,21 @@ export function smoothMap(map: ArrayLike<number>, nx: number, ny: number, sigma:
     for (let x = 0, i = y * nx; x < nx; x++, i++) out[i] = ok[i] ? a[x] / w[x] : NaN;
   }
   return out;
+}
+
+/**
+ * Row y of into: into[y nx + x] = Sum_k kernel[k + radius] * map[y nx + x + k] over the k that stay
+ * on the row, in ascending k, made as one pass along the row per k (the same sums, term for term,
+ * as a loop over k per pixel).
+ */
+function rowSums(map: Float64Array, nx: number, y: number, kernel: Float64Array, radius: number, into: Float64Array): void {
+  const row = y * nx;
+  into.fill(0, row, row + nx);
+  for (let k = -radius; k <= radius; k++) {
+    const c = kernel[k + radius];
+    const x0 = Math.max(0, -k), x1 = Math.min(nx, nx - k);
+    for (let x = x0, i = row + x0, j = row + x0 + k; x < x1; x++, i++, j++) into[i] += c * map[j];
+  }
 }
 
 /**
@@ -79,14 +84,10 @@ function smoothComplete(val: ArrayLike<number>, nx: number, ny: number, kernel: 
   };
   const wx = edgeSum(nx), wy = edgeSum(ny);
   const tmp = new Float64Array(n);
+  const values = val instanceof Float64Array ? val : Float64Array.from(val);
   for (let y = 0; y < ny; y++) {
-    const row = y * nx;
-    for (let x = 0; x < nx; x++) {
-      let a = 0;
-      const k0 = Math.max(-radius, -x), k1 = Math.min(radius, nx - 1 - x);
-      for (let k = k0; k <= k1; k++) a += kernel[k + radius] * val[row + x + k];
-      tmp[row + x] = a / wx[x];
-    }
+    rowSums(values, nx, y, kernel, radius, tmp);
+    for (let x = 0, i = y * nx; x < nx; x++, i++) tmp[i] /= wx[x];
   }
   const a = new Float64Array(nx);
   for (let y = 0; y < ny; y++) {
