@@ -98,6 +98,13 @@ export class FunctionCode {
   f64x2Add(): this { return this.simd(0xf0); }
   f64x2Sub(): this { return this.simd(0xf1); }
   f64x2Mul(): this { return this.simd(0xf2); }
+  f64x2Div(): this { return this.simd(0xf3); }
+  f64x2Sqrt(): this { return this.simd(0xef); }
+  /** Lane-wise a > b and a >= b: all ones where true. */
+  f64x2Gt(): this { return this.simd(0x4a); }
+  f64x2Ge(): this { return this.simd(0x4c); }
+  v128Not(): this { return this.simd(0x4d); }
+  v128Or(): this { return this.simd(0x50); }
 
   /** block ... end; `br`/`brIf` depth 0 inside leaves it. */
   block(body: () => void): this { this.op(0x02, 0x40); body(); return this.op(0x0b); }

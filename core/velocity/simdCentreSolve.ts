@@ -10,15 +10,6 @@
 import { F64, FunctionCode, I32, V128, moduleBytes } from '../wasmBinary.js';
 import type { WindowedSumArena } from './simdWindowedSum.js';
 
-/** The SIMD opcodes the writer has no method for (fixed-width SIMD proposal numbering). */
-const OP = { f64x2Gt: 0x4a, f64x2Ge: 0x4c, v128Not: 0x4d, v128Or: 0x50, f64x2Sqrt: 0xef, f64x2Div: 0xf3 } as const;
-
-function simd(f: FunctionCode, opcode: number): void {
-  f.code.push(0xfd);
-  let n = opcode;
-  do { let byte = n & 0x7f; n >>>= 7; if (n !== 0) byte |= 0x80; f.code.push(byte); } while (n !== 0);
-}
-
 /** The fit's fixed shape: n columns, the wanted ones, the constant added to each unit diagonal entry. */
 export interface CentreSolveShape {
   readonly n: number;
@@ -48,7 +39,7 @@ function solveFunction(shape: CentreSolveShape): FunctionCode {
   const load = (base: number, index: number) => {
     f.get(base).get(CB).i32(index).i32Mul().i32Add().get(o).i32Add().v128Load();
   };
-  const failIfNot = (test: () => void) => { f.get(fail); test(); simd(f, OP.v128Not); simd(f, OP.v128Or); f.set(fail); };
+  const failIfNot = (test: () => void) => { f.get(fail); test(); f.v128Not(); f.v128Or(); f.set(fail); };
   const splat = (into: number, value: number) => { f.f64Const(value).f64x2Splat().set(into); };
   f.get(MINPIVOT).f64x2Splat().set(minPivot);
   splat(share, minSignalShare); splat(one, 1); splat(zero, 0);
@@ -58,9 +49,9 @@ function solveFunction(shape: CentreSolveShape): FunctionCode {
     // Scales: 1 / sqrt(d) of each diagonal entry, d > 0 and (noise-corrected) d >= share * raw d.
     for (let p = 0; p < n; p++) {
       load(SUMS, entry(p, p)); f.set(s);
-      failIfNot(() => { f.get(s).get(zero); simd(f, OP.f64x2Gt); });
-      f.get(RAW).ifElse(() => failIfNot(() => { f.get(s).get(share); load(RAW, p); f.f64x2Mul(); simd(f, OP.f64x2Ge); }));
-      f.get(one).get(s); simd(f, OP.f64x2Sqrt); simd(f, OP.f64x2Div); f.set(scale[p]);
+      failIfNot(() => { f.get(s).get(zero); f.f64x2Gt(); });
+      f.get(RAW).ifElse(() => failIfNot(() => { f.get(s).get(share); load(RAW, p); f.f64x2Mul(); f.f64x2Ge(); }));
+      f.get(one).get(s); f.f64x2Sqrt(); f.f64x2Div(); f.set(scale[p]);
     }
     // The scaled matrix (lower triangle) with the diagonal additions, and the scaled right-hand side.
     for (let q = 0; q < n; q++) for (let p = 0; p <= q; p++) {
@@ -72,12 +63,12 @@ function solveFunction(shape: CentreSolveShape): FunctionCode {
     for (let j = 0; j < n; j++) {
       f.get(m[j][j]).set(s);
       for (let k = 0; k < j; k++) f.get(s).get(m[j][k]).get(m[j][k]).f64x2Mul().f64x2Sub().set(s);
-      failIfNot(() => { f.get(s).get(zero); simd(f, OP.f64x2Gt); });
-      f.get(s); simd(f, OP.f64x2Sqrt); f.set(m[j][j]);
+      failIfNot(() => { f.get(s).get(zero); f.f64x2Gt(); });
+      f.get(s); f.f64x2Sqrt(); f.set(m[j][j]);
       for (let i = j + 1; i < n; i++) {
         f.get(m[i][j]).set(s);
         for (let k = 0; k < j; k++) f.get(s).get(m[i][k]).get(m[j][k]).f64x2Mul().f64x2Sub().set(s);
-        f.get(s).get(m[j][j]); simd(f, OP.f64x2Div); f.set(m[i][j]);
+        f.get(s).get(m[j][j]); f.f64x2Div(); f.set(m[i][j]);
       }
     }
     // Each wanted parameter determined: 1 / |L^-1 e_start|^2 >= minPivot.
@@ -85,22 +76,22 @@ function solveFunction(shape: CentreSolveShape): FunctionCode {
       for (let i = start; i < n; i++) {
         f.get(i === start ? one : zero).set(s);
         for (let k = start; k < i; k++) f.get(s).get(m[i][k]).get(unit[k]).f64x2Mul().f64x2Sub().set(s);
-        f.get(s).get(m[i][i]); simd(f, OP.f64x2Div); f.set(unit[i]);
+        f.get(s).get(m[i][i]); f.f64x2Div(); f.set(unit[i]);
       }
       f.get(zero).set(inv);
       for (let k = start; k < n; k++) f.get(inv).get(unit[k]).get(unit[k]).f64x2Mul().f64x2Add().set(inv);
-      failIfNot(() => { f.get(one).get(inv); simd(f, OP.f64x2Div); f.get(minPivot); simd(f, OP.f64x2Ge); });
+      failIfNot(() => { f.get(one).get(inv); f.f64x2Div(); f.get(minPivot); f.f64x2Ge(); });
     }
     // L y = b, then L^T x = y.
     for (let i = 0; i < n; i++) {
       f.get(rhs[i]).set(s);
       for (let k = 0; k < i; k++) f.get(s).get(m[i][k]).get(rhs[k]).f64x2Mul().f64x2Sub().set(s);
-      f.get(s).get(m[i][i]); simd(f, OP.f64x2Div); f.set(rhs[i]);
+      f.get(s).get(m[i][i]); f.f64x2Div(); f.set(rhs[i]);
     }
     for (let i = n - 1; i >= 0; i--) {
       f.get(rhs[i]).set(s);
       for (let k = i + 1; k < n; k++) f.get(s).get(m[k][i]).get(rhs[k]).f64x2Mul().f64x2Sub().set(s);
-      f.get(s).get(m[i][i]); simd(f, OP.f64x2Div); f.set(rhs[i]);
+      f.get(s).get(m[i][i]); f.f64x2Div(); f.set(rhs[i]);
     }
     // Two centres, or the last one alone (lane 1 not stored).
     const store = (address: () => void, value: () => void) => {
