@@ -20,7 +20,7 @@
 // are forked, so that a driver with a second thread runs them beside the tracking and the rate.
 // `analyseFrame` runs the steps in the caller's thread.
 
-import type { FluxKernelCache } from './fluxKernel.js';
+import type { FrameCache } from './frameTasks.js';
 import type { Frame } from './frame.js';
 import { checkFrame, hasVelocity } from './frame.js';
 import type { VelocityMaps } from './fluxTransport.js';
@@ -111,14 +111,14 @@ export interface FrameAnalysis {
 export const LEFT_OUT_FLAG_SHARE = 0.01;
 
 export function analyseFrame(
-  frame: Frame, state: AnalysisState, settings: AnalysisSettings = {}, cache?: FluxKernelCache,
+  frame: Frame, state: AnalysisState, settings: AnalysisSettings = {}, cache?: FrameCache,
 ): FrameAnalysis {
   return runSteps(analyseFrameSteps(frame, state, settings, cache), cache);
 }
 
 /** analyseFrame as steps (core/frameSteps.ts): the inference and the split are forked. */
 export function* analyseFrameSteps(
-  frame: Frame, state: AnalysisState, settings: AnalysisSettings = {}, cache?: FluxKernelCache,
+  frame: Frame, state: AnalysisState, settings: AnalysisSettings = {}, cache?: FrameCache,
 ): FrameSteps<FrameAnalysis> {
   checkFrame(frame);
   // A map on the sphere has its own engine (core/sphere/sphereFrameAnalysis.ts says which maps).

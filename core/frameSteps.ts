@@ -13,8 +13,7 @@
 //   function* steps() { const h = yield* fork('inferVelocity', [a, b, undefined]); ...; const v = yield* join(h); return v.dtS; }
 //   runSteps(steps(), cache)
 
-import type { FluxKernelCache } from './fluxKernel.js';
-import type { FrameTaskArgs, FrameTaskName, FrameTaskResult } from './frameTasks.js';
+import type { FrameCache, FrameTaskArgs, FrameTaskName, FrameTaskResult } from './frameTasks.js';
 import { runFrameTask } from './frameTasks.js';
 
 /** A ticket for a forked task, to be joined once. */
@@ -50,7 +49,7 @@ export function* threads(): Generator<FrameStep, number, unknown> {
 }
 
 /** Runs the steps in this thread, each fork at once: the serial analysis. */
-export function runSteps<R>(steps: FrameSteps<R>, cache?: FluxKernelCache): R {
+export function runSteps<R>(steps: FrameSteps<R>, cache?: FrameCache): R {
   const done = new Map<number, { ok: true; value: unknown } | { ok: false; error: unknown }>();
   let id = 0;
   let next = steps.next();

@@ -8,7 +8,7 @@
 
 import type { AnalysisSettings, AnalysisState, FrameAnalysis } from '../core/frameAnalysis.js';
 import { analyseFrame } from '../core/frameAnalysis.js';
-import type { FluxKernelCache } from '../core/fluxKernel.js';
+import type { FrameCache } from '../core/frameTasks.js';
 import type { Frame } from '../core/frame.js';
 import type { RateSample } from '../core/rateSample.js';
 import type { FootpointAnalysis } from '../core/footpoints/analyseFootpoints.js';
@@ -50,7 +50,7 @@ export type MapWriter = (job: ChunkJob, frame: Frame, maps: FrameAnalysis['maps'
 
 export interface ChunkOptions {
   readonly settings?: unknown;
-  readonly cache?: FluxKernelCache;
+  readonly cache?: FrameCache;
   /** Called with each analysed frame's maps (not for warm-up frames). */
   readonly writeMaps?: MapWriter;
   /** How FITS files map to components (for the default reader). */

@@ -2,13 +2,12 @@
 // frame's analysis (core/frameTasks.ts) when it gets to them before the compute worker takes them
 // back. It keeps its own kernel cache; it holds no region state.
 import { parentPort } from 'node:worker_threads';
-import type { FluxKernelCache } from '../core/fluxKernel.js';
 import { isFrameTaskName, runFrameTask } from '../core/frameTasks.js';
-import type { FrameTaskArgs, FrameTaskName } from '../core/frameTasks.js';
+import type { FrameCache, FrameTaskArgs, FrameTaskName } from '../core/frameTasks.js';
 import type { AssistReply, AssistRequest } from './assistMessages.js';
 import { CLAIMED_BY_ASSISTANT } from './assistMessages.js';
 
-const cache: FluxKernelCache = new Map();
+const cache: FrameCache = new Map();
 
 parentPort!.on('message', (req: AssistRequest) => {
   let reply: AssistReply;

@@ -5,9 +5,9 @@
 // frameAssistant.ts), so that one region's frame uses two cores.
 import { readFile } from 'node:fs/promises';
 import { parentPort } from 'node:worker_threads';
-import type { FluxKernelCache } from '../core/fluxKernel.js';
 import { analyseFrameSteps } from '../core/frameAnalysis.js';
 import { runSteps } from '../core/frameSteps.js';
+import type { FrameCache } from '../core/frameTasks.js';
 import type { AnalysisMemory } from '../core/analysisMemory.js';
 import { analysisMemory, restoreAnalysisState } from '../core/analysisMemory.js';
 import type { AnalysisSettings, AnalysisState } from '../core/frameAnalysis.js';
@@ -20,7 +20,7 @@ import { FrameAssistant, runStepsAssisted } from './frameAssistant.js';
 import type { WorkerReply, WorkerRequest } from './computeMessages.js';
 
 const states = new Map<string, AnalysisState>();
-const cache: FluxKernelCache = new Map();
+const cache: FrameCache = new Map();
 let assistant: FrameAssistant | undefined;
 
 async function load(path: string) {

@@ -4,9 +4,8 @@
 // task kept here or not yet started by the assistant is run here, so a busy or lost assistant
 // costs the copy of the arguments, never a wait. A task the assistant failed is run again here
 // (tasks are pure), so its error is the one the serial analysis gives.
-import type { FluxKernelCache } from '../core/fluxKernel.js';
 import type { FrameSteps, TaskHandle } from '../core/frameSteps.js';
-import type { FrameTaskArgs, FrameTaskName } from '../core/frameTasks.js';
+import type { FrameCache, FrameTaskArgs, FrameTaskName } from '../core/frameTasks.js';
 import { runFrameTask } from '../core/frameTasks.js';
 import type { AssistReply, AssistRequest } from './assistMessages.js';
 import { TAKEN_BACK } from './assistMessages.js';
@@ -36,7 +35,7 @@ export class FrameAssistant {
   }
 
   /** The result of an offered task: taken back and run here when not started, else the assistant's. */
-  async result<K extends FrameTaskName>(offer: Offer, task: K, args: FrameTaskArgs<K>, cache?: FluxKernelCache): Promise<unknown> {
+  async result<K extends FrameTaskName>(offer: Offer, task: K, args: FrameTaskArgs<K>, cache?: FrameCache): Promise<unknown> {
     if (Atomics.compareExchange(offer.claim, 0, 0, TAKEN_BACK) === 0) {
       this.counts.takenBack++;
       return runFrameTask(task, args, cache);
@@ -69,7 +68,7 @@ export class FrameAssistant {
  * Runs a frame's steps with forks offered to `assistant` (core/frameSteps.ts runSteps without one:
  * the same results, in the same order).
  */
-export async function runStepsAssisted<R>(steps: FrameSteps<R>, assistant: FrameAssistant, cache?: FluxKernelCache): Promise<R> {
+export async function runStepsAssisted<R>(steps: FrameSteps<R>, assistant: FrameAssistant, cache?: FrameCache): Promise<R> {
   const open = new Map<number, { task: FrameTaskName; args: FrameTaskArgs<FrameTaskName>; offer?: Offer }>();
   // The task the assistant holds: one at a time, so arguments are not copied for a task that
   // would wait behind it and be taken back anyway.
