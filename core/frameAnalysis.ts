@@ -214,7 +214,7 @@ export function* analyseFrameSteps(
     const previousField = history.length > 0 && history[history.length - 1].time === previous.time
       ? history[history.length - 1].field : smoothMap(previous.bn, frame.nx, frame.ny, smoothing);
     // The noise of each frame (robust, from their difference) sets the motions' errors.
-    const frameNoise = settings.noiseG ?? pairNoiseG ?? pairNoise(previous.bn, frame.bn);
+    const frameNoise = settings.noiseG ?? pairNoiseG!; // found above whenever no noise is given
     const options = {
       noiseCorrelation: Math.max(1, 4 * Math.PI * smoothing * smoothing), coreShare: MOTION_CORE_SHARE,
       ...(Number.isFinite(frameNoise) && frameNoise > 0 && { noiseG: frameNoise }), ...fpSettings.rotation,
