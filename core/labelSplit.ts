@@ -31,6 +31,9 @@ import { nextPowerOfTwo } from './fft.js';
 import type { FluxTransport } from './fluxTransport.js';
 import { convolveTransport, helicityFluxTotal } from './helicityFlux.js';
 import { CM_PER_KM, CM_PER_MM, pixelAreaCm2 } from './units.js';
+import type { BoxSpectra, PixelBox } from './boxPairSum.js';
+import { boxPairSum, boxSpectra, pairGridSize, pairPlan } from './boxPairSum.js';
+import type { PaddedPlan } from './paddedTransform.js';
 
 export interface LabelSplit {
   /** Label values present among valid pixels, ascending (0 excluded). */
@@ -74,6 +77,13 @@ export interface LabelSplitOptions {
   readonly maxFullRows?: number;
   /** Caller-owned cache for the kernels of those bounding boxes. */
   readonly cache?: FluxKernelCache;
+  /**
+   * How a large footpoint's row is made: 'grid' by one convolution over the whole padded grid,
+   * 'boxes' by one transform pair sum per other footpoint over the two bounding boxes
+   * (core/boxPairSum.ts), 'auto' (default) whichever the cost estimate says is cheaper. The same
+   * sums to rounding.
+   */
+  readonly rows?: 'auto' | 'grid' | 'boxes';
 }
 
 export function splitByLabels(
@@ -101,6 +111,8 @@ export interface SplitPart {
   /** Per footpoint: summed directly (0), own full-grid convolution (1: `hasRow`) or box spin (big, no row). */
   readonly big: Uint8Array;
   readonly hasRow: Uint8Array;
+  /** Per footpoint with a row: made by box pair sums (1) or over the whole grid (0). */
+  readonly byBoxes: Uint8Array;
   readonly inPairs: Uint8Array;
   readonly pairsComplete: boolean;
   /** Ordered-pair direct sums (filled when this part did them). */
@@ -220,12 +232,51 @@ export function splitPart(
       if (inPairs[j]) { directVisits += counts[j] * pixelsIn; pixelsIn += counts[j]; }
     }
   }
+  // A row by box pair sums costs per pair it owns a kernel window's two transforms, its sampling
+  // and the target's spectra (three transforms, often shared), and per grid size the source's
+  // spectra (three), on the pair's small grid; a row over the whole grid six transforms of the
+  // padded grid (less the zero rows, which the estimate leaves out). Transforms cost N log2 N; the
+  // box transforms run the TypeScript loops, BOX_TRANSFORM_FACTOR times the SIMD kernels' cost per point.
+  // A pair of two footpoints with rows is taken from a whole-grid row when either has one (there it
+  // costs nothing more), otherwise from the box row of the first.
+  const boxes: PixelBox[] = [];
+  for (let j = 0; j < k; j++) boxes.push({ x0: x0s[j], y0: y0s[j], w: x1s[j] - x0s[j] + 1, h: y1s[j] - y0s[j] + 1 });
+  const rowMethod = options.rows ?? 'auto';
+  const byBoxes = new Uint8Array(k);
+  if (rowMethod !== 'grid') for (let a = 0; a < k; a++) byBoxes[a] = hasRow[a];
+  const ownsPair = (a: number, b: number) => b !== a && counts[b] > 0 && !(hasRow[b] && (!byBoxes[b] || b < a));
+  const gridRowCost = 6 * transformCost(plan.px, plan.py);
+  const boxRowCost = new Float64Array(k);
+  const boxRowEstimate = (a: number) => {
+    let cost = 0;
+    const sizes = new Set<number>();
+    for (let b = 0; b < k; b++) {
+      if (!ownsPair(a, b)) continue;
+      const { px, py } = pairGridSize(boxes[a], boxes[b]);
+      cost += 6 * transformCost(px, py);
+      if (!sizes.has(px * 65536 + py)) { sizes.add(px * 65536 + py); cost += 3 * transformCost(px, py); }
+    }
+    return (BOX_TRANSFORM_FACTOR * cost) / gridRowCost;
+  };
+  // Rows whose box pairs would cost more go to the whole grid, until none does (each one moved
+  // takes its pairs off the others' box rows).
+  for (let changed = rowMethod === 'auto'; changed;) {
+    changed = false;
+    for (let a = 0; a < k; a++) {
+      if (!byBoxes[a]) continue;
+      boxRowCost[a] = boxRowEstimate(a);
+      if (boxRowCost[a] >= 1) { byBoxes[a] = 0; changed = true; }
+    }
+  }
+  const gridRow = Uint8Array.from(hasRow, (v, a) => (v && !byBoxes[a] ? 1 : 0));
+
   const items: { cost: number; kind: 'direct' | 'source' | 'labelled'; a: number }[] = [];
   if (directVisits > 0) items.push({ cost: directVisits / budget, kind: 'direct', a: -1 });
   for (let a = 0; a < k; a++) {
     if (!big[a]) continue;
     const box = 4 * nextPowerOfTwo(x1s[a] - x0s[a] + 1) * nextPowerOfTwo(y1s[a] - y0s[a] + 1);
-    items.push({ cost: hasRow[a] ? 1 : box / (plan.px * plan.py), kind: 'source', a });
+    const spinCost = box / (plan.px * plan.py);
+    items.push({ cost: !hasRow[a] ? spinCost : byBoxes[a] ? spinCost + boxRowCost[a] : 1, kind: 'source', a });
   }
   if (!pairsComplete) items.push({ cost: 1, kind: 'labelled', a: -1 });
   const mine = dealWork(items.map((i) => i.cost), share.of, share.otherWork).map((p) => p === share.part);
@@ -301,11 +352,37 @@ export function splitPart(
     for (let e = from; e < to; e++) { const i = pixels[e]; m.bn[i] = 0; m.fx[i] = 0; m.fy[i] = 0; }
     return conv;
   };
+  // Pair grids and each footpoint's spectra on them, made as the box rows ask for them.
+  const pairPlans = new Map<string, PaddedPlan>();
+  const pairPlanOf = (px: number, py: number) => {
+    const key = `${px}x${py}`;
+    let pp = pairPlans.get(key);
+    if (!pp) { pp = pairPlan(px, py); pairPlans.set(key, pp); }
+    return pp;
+  };
+  const spectra = new Map<string, BoxSpectra>();
+  const spectraOf = (j: number, pp: PaddedPlan) => {
+    const key = `${j}@${pp.px}x${pp.py}`;
+    let sp = spectra.get(key);
+    if (!sp) { sp = boxSpectra(boxMaps(t, byFootpoint, start[j], start[j + 1], boxes[j], nx), boxes[j], pp); spectra.set(key, sp); }
+    return sp;
+  };
   for (let a = 0; a < k; a++) {
     if (!big[a] || !didSource[a]) continue;
     if (!hasRow[a]) { fftSums[a * k + a] = boxSpinSum(a); continue; }
+    if (byBoxes[a]) {
+      // The row one pair at a time (the pairs with rows of their own before a are taken from those).
+      fftSums[a * k + a] = boxSpinSum(a);
+      for (let b = 0; b < k; b++) {
+        if (!ownsPair(a, b)) continue;
+        const { px, py } = pairGridSize(boxes[a], boxes[b]);
+        const pp = pairPlanOf(px, py);
+        fftSums[b * k + a] = boxPairSum(boxes[a], spectraOf(a, pp), boxes[b], spectraOf(b, pp), pp, dx, dy);
+      }
+      continue;
+    }
     const { p, q, r } = convolvePixels(byFootpoint, start[a], start[a + 1]);
-    addFieldSums(t, labelled, slot, hasRow, a, k, p, q, r, fftSums);
+    addFieldSums(t, labelled, slot, gridRow, a, k, p, q, r, fftSums);
   }
 
   /** The within-footpoint sum of footpoint `a` from a convolution over its bounding box. */
@@ -337,7 +414,7 @@ export function splitPart(
     labelledPart = { sum: labelledSum, field: { p, q } };
   }
   return {
-    ids, big, hasRow, inPairs, pairsComplete, sums, didDirect, fftSums, didSource,
+    ids, big, hasRow, byBoxes, inPairs, pairsComplete, sums, didDirect, fftSums, didSource,
     ...(labelledPart && { labelledSum: labelledPart.sum, labelledField: labelledPart.field }), directFactor, fftFactor,
   };
 }
@@ -424,16 +501,19 @@ function pairBracketSum(
   return s;
 }
 
-/** The field (p, q, r) of footpoint a summed over every labelled pixel into fftSums[b][a] (b the pixel's footpoint). */
+/**
+ * The field (p, q, r) of footpoint a summed over every labelled pixel into fftSums[b][a] (b the
+ * pixel's footpoint), but for the footpoints before a with a whole-grid row of their own.
+ */
 function addFieldSums(
-  t: FluxTransport, labelled: Int32Array, slot: Int32Array, hasRow: Uint8Array, a: number, k: number,
+  t: FluxTransport, labelled: Int32Array, slot: Int32Array, gridRow: Uint8Array, a: number, k: number,
   p: Float64Array, q: Float64Array, r: Float64Array, fftSums: Float64Array,
 ): void {
   const { bn, fx, fy } = t;
   for (let e = 0; e < labelled.length; e++) {
     const i = labelled[e];
     const b = slot[i];
-    if (hasRow[b] && b < a) continue; // that pair was taken from b's convolution
+    if (gridRow[b] && b < a) continue; // that pair was taken from b's convolution
     fftSums[b * k + a] += fy[i] * p[i] - fx[i] * q[i] - bn[i] * r[i];
   }
 }
@@ -463,4 +543,24 @@ function labelSlots(labels: Int32Array, valid: Uint8Array): { ids: number[]; slo
   ids.forEach((id, j) => index.set(id, j));
   for (let i = 0; i < n; i++) if (labels[i] > 0 && valid[i]) slot[i] = index.get(labels[i])!;
   return { ids, slot };
+}
+
+/** Relative cost of one 2-D transform of px by py points (N log2 N). */
+function transformCost(px: number, py: number): number {
+  return px * py * Math.log2(px * py);
+}
+
+/** Cost per point of the box rows' TypeScript transforms against the whole grid's SIMD ones (measured: docs/speed.md). */
+const BOX_TRANSFORM_FACTOR = 3;
+
+/** A footpoint's Bn, Fx and Fy on its own box (pixels byFootpoint[from..to)). */
+function boxMaps(t: FluxTransport, byFootpoint: Int32Array, from: number, to: number, box: PixelBox, nx: number): { bn: Float64Array; fx: Float64Array; fy: Float64Array } {
+  const size = box.w * box.h;
+  const bn = new Float64Array(size), fx = new Float64Array(size), fy = new Float64Array(size);
+  for (let e = from; e < to; e++) {
+    const i = byFootpoint[e], x = i % nx, y = (i - x) / nx;
+    const j = (y - box.y0) * box.w + (x - box.x0);
+    bn[j] = t.bn[i]; fx[j] = t.fx[i]; fy[j] = t.fy[i];
+  }
+  return { bn, fx, fy };
 }

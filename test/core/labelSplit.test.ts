@@ -79,7 +79,8 @@ describe('exact split by labels', () => {
 
   it('large footpoints beyond maxFullRows: spins from their bounding boxes equal the direct double sum, the orbit total stays exact', () => {
     const cache = new Map();
-    const s = splitByLabels(kernel, t, labels, { directPairsPerPaddedPixel: 0, maxFullRows: 1, cache });
+    // The row over the whole grid (rows: 'grid'), so that only the other two take box kernels.
+    const s = splitByLabels(kernel, t, labels, { directPairsPerPaddedPixel: 0, maxFullRows: 1, cache, rows: 'grid' });
     expect(s.convolvedFootpoints).toBe(3);
     expect(s.pairsComplete).toBe(false);
     const scale = Math.abs(s.total) + Math.abs(s.spinTotal) + Math.abs(s.orbitTotal);

@@ -60,6 +60,8 @@ describe('label split in parts', () => {
     ['pairs cut by the budget', { pairBudget: 2000 }],
     ['large footpoints beyond maxFullRows (box spins)', { directPairsPerPaddedPixel: 0.05, maxFullRows: 2 }],
     ['every footpoint convolved', { directPairsPerPaddedPixel: 0 }],
+    ['every footpoint convolved, rows by box pair sums', { directPairsPerPaddedPixel: 0, rows: 'boxes' }],
+    ['every footpoint convolved, rows over the whole grid', { directPairsPerPaddedPixel: 0, rows: 'grid' }],
     ['none convolved', { directPairsPerPaddedPixel: Infinity, pairBudget: Infinity }],
   ];
   for (const [name, options] of regimes) {
