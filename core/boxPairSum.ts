@@ -20,8 +20,8 @@
 //   const a = boxSpectra(boxMapsOf(...), plan), b = boxSpectra(..., plan)
 //   boxPairSum(boxA, a, boxB, b, plan, dx, dy)
 
-import type { PaddedPlan, Spectrum } from './paddedTransform.js';
-import { createSpectrum, forwardPadded } from './paddedTransform.js';
+import type { PaddedPlan, PaddedWorkspace } from './paddedTransform.js';
+import { SPECTRUM_BLOCK, createPaddedWorkspace, forwardByBlocks } from './paddedTransform.js';
 import { createFftPlan, createRealFftPlan, nextPowerOfTwo } from './fft.js';
 import { CM_PER_MM } from './units.js';
 
@@ -40,11 +40,25 @@ export interface BoxMaps {
   readonly fy: Float64Array;
 }
 
-/** The half spectra of a footpoint's three maps on one transform grid. */
+/**
+ * The half spectra of a footpoint's three maps on one pair grid, by blocks of SPECTRUM_BLOCK
+ * frequencies kx with the py rows ky inside a block: (kx, ky) at floor(kx / B) py B + ky B + kx % B.
+ */
 export interface BoxSpectra {
-  readonly bn: Spectrum;
-  readonly fx: Spectrum;
-  readonly fy: Spectrum;
+  readonly re: readonly [Float64Array, Float64Array, Float64Array];
+  readonly im: readonly [Float64Array, Float64Array, Float64Array];
+}
+
+/**
+ * A transform grid for pair sums with its buffers (kept by the caller from frame to frame: making
+ * the WebAssembly arena costs more than the transforms it serves).
+ */
+export interface PairGrid {
+  readonly plan: PaddedPlan;
+  readonly work: PaddedWorkspace;
+  /** Kernel windows, px*py, reused. */
+  readonly kx: Float64Array;
+  readonly ky: Float64Array;
 }
 
 /** The transform grid for the pair sums of two boxes (powers of two, at least 2 per side). */
@@ -52,43 +66,52 @@ export function pairGridSize(a: PixelBox, b: PixelBox): { px: number; py: number
   return { px: Math.max(2, nextPowerOfTwo(a.w + b.w - 1)), py: Math.max(2, nextPowerOfTwo(a.h + b.h - 1)) };
 }
 
-/** A plan whose padded grid is px by py (both powers of two >= 2). */
-export function pairPlan(px: number, py: number): PaddedPlan {
+/** A pair grid of px by py (both powers of two >= 2); simd: false keeps the TypeScript butterflies (the same numbers). */
+export function createPairGrid(px: number, py: number, options: { simd?: boolean } = {}): PairGrid {
   if (!(px >= 2 && py >= 2 && nextPowerOfTwo(px) === px && nextPowerOfTwo(py) === py)) throw new RangeError(`pair grid ${px}x${py}: sides must be powers of two >= 2`);
-  // Maps up to half the grid fit it as a padded plan's block would; forwardPadded takes up to px by py.
-  return { nx: px / 2, ny: py / 2, px, py, w: px / 2 + 1, rows: createRealFftPlan(px), cols: createFftPlan(py) };
+  // Maps up to the whole grid: the workspace keeps py rows per map.
+  const plan: PaddedPlan = { nx: px, ny: py, px, py, w: px / 2 + 1, rows: createRealFftPlan(px), cols: createFftPlan(py) };
+  return { plan, work: createPaddedWorkspace(plan, 3, options), kx: new Float64Array(px * py), ky: new Float64Array(px * py) };
 }
 
-/** The spectra of a footpoint's maps (w by h at the grid's origin) on `plan`'s grid. */
-export function boxSpectra(maps: BoxMaps, box: PixelBox, plan: PaddedPlan): BoxSpectra {
-  const one = (m: Float64Array) => { const s = createSpectrum(plan); forwardPadded(plan, m, box.w, box.h, s); return s; };
-  return { bn: one(maps.bn), fx: one(maps.fx), fy: one(maps.fy) };
+/** The spectra of a footpoint's maps (its box's w by h at the grid's origin) on a pair grid. */
+export function boxSpectra(maps: BoxMaps, box: PixelBox, grid: PairGrid): BoxSpectra {
+  const { plan } = grid, B = SPECTRUM_BLOCK, size = Math.ceil(plan.w / B) * B * plan.py;
+  const re = [new Float64Array(size), new Float64Array(size), new Float64Array(size)] as const;
+  const im = [new Float64Array(size), new Float64Array(size), new Float64Array(size)] as const;
+  const at = (m: Float64Array) => ({ map: m, nx: box.w, ny: box.h });
+  forwardByBlocks(plan, grid.work, [at(maps.bn), at(maps.fx), at(maps.fy)], (inRe, inIm, c0) => {
+    const o = c0 * plan.py, len = plan.py * B;
+    for (let j = 0; j < 3; j++) { re[j].set(inRe[j].subarray(0, len), o); im[j].set(inIm[j].subarray(0, len), o); }
+  });
+  return { re, im };
 }
 
 /**
  * S[b][a], the field of footpoint a summed over footpoint b's pixels (the bracket of the label
- * split before its physical factors), from their spectra on `plan` (its grid at least
- * pairGridSize(a, b)); dx, dy the pixel size, Mm.
+ * split before its physical factors), from their spectra on `grid` (at least pairGridSize(a, b));
+ * dx, dy the pixel size, Mm.
  */
-export function boxPairSum(a: PixelBox, sa: BoxSpectra, b: PixelBox, sb: BoxSpectra, plan: PaddedPlan, dx: number, dy: number): number {
-  const { px, py } = plan;
+export function boxPairSum(a: PixelBox, sa: BoxSpectra, b: PixelBox, sb: BoxSpectra, grid: PairGrid, dx: number, dy: number): number {
+  const { plan, kx, ky } = grid, { px, py } = plan;
   if (px < a.w + b.w - 1 || py < a.h + b.h - 1) throw new RangeError(`pair grid ${px}x${py} too small for boxes ${a.w}x${a.h} and ${b.w}x${b.h}`);
-  const kx = new Float64Array(px * py), ky = new Float64Array(px * py);
   kernelWindow(b.x0 - a.x0, b.y0 - a.y0, a, b, px, py, dx, dy, kx, ky);
-  const skx = createSpectrum(plan), sky = createSpectrum(plan);
-  forwardPadded(plan, kx, px, py, skx);
-  forwardPadded(plan, ky, px, py, sky);
-  return spectralPairSum(skx, sky, sa, sb, plan.w, px, py) / (px * py);
+  let s = 0;
+  forwardByBlocks(plan, grid.work, [{ map: kx, nx: px, ny: py }, { map: ky, nx: px, ny: py }], (inRe, inIm, c0, width) => {
+    s += spectralPairSum(inRe[0], inIm[0], inRe[1], inIm[1], sa, sb, c0 * py, c0, width, px, py);
+  });
+  return s / (px * py);
 }
 
 /**
  * The kernel at offsets (ox, oy) + (i, j), i in [-(a.w-1), b.w-1], j in [-(a.h-1), b.h-1], placed
- * at (i mod px, j mod py): x/r^2 and y/r^2 times dx dy (Mm^2) times 1e8 cm/Mm, as the whole-grid
- * kernel (core/fluxKernel.ts), 0 at r = 0.
+ * at (i mod px, j mod py), zero elsewhere: x/r^2 and y/r^2 times dx dy (Mm^2) times 1e8 cm/Mm, as
+ * the whole-grid kernel (core/fluxKernel.ts), 0 at r = 0.
  */
 function kernelWindow(
   ox: number, oy: number, a: PixelBox, b: PixelBox, px: number, py: number, dx: number, dy: number, kx: Float64Array, ky: Float64Array,
 ): void {
+  kx.fill(0); ky.fill(0);
   const scale = dx * dy * CM_PER_MM;
   for (let j = -(a.h - 1); j <= b.h - 1; j++) {
     const iy = oy + j, Y = iy * dy, row = ((j + py) % py) * px;
@@ -104,23 +127,31 @@ function kernelWindow(
   }
 }
 
-/** Sum over the half spectrum (columns 1 .. px/2-1 twice) of the real part of the pair's products. */
-function spectralPairSum(kx: Spectrum, ky: Spectrum, a: BoxSpectra, b: BoxSpectra, w: number, px: number, py: number): number {
-  const kxr = kx.re, kxi = kx.im, kyr = ky.re, kyi = ky.im;
-  const bar = a.bn.re, bai = a.bn.im, xar = a.fx.re, xai = a.fx.im, yar = a.fy.re, yai = a.fy.im;
-  const bbr = b.bn.re, bbi = b.bn.im, xbr = b.fx.re, xbi = b.fx.im, ybr = b.fy.re, ybi = b.fy.im;
-  const last = px / 2;
+/**
+ * One column block's share (columns c0 .. c0+width, py rows of SPECTRUM_BLOCK; the spectra's block
+ * at `o`) of the sum over the half spectrum, columns 1 .. px/2-1 counted twice, of the real part of
+ * KX (conj(FYb) Ba - conj(Bb) FYa) - KY (conj(FXb) Ba - conj(Bb) FXa).
+ */
+function spectralPairSum(
+  kxr: Float64Array, kxi: Float64Array, kyr: Float64Array, kyi: Float64Array, a: BoxSpectra, b: BoxSpectra,
+  o: number, c0: number, width: number, px: number, py: number,
+): number {
+  const B = SPECTRUM_BLOCK, last = px / 2;
+  const bar = a.re[0], bai = a.im[0], xar = a.re[1], xai = a.im[1], yar = a.re[2], yai = a.im[2];
+  const bbr = b.re[0], bbi = b.im[0], xbr = b.re[1], xbi = b.im[1], ybr = b.re[2], ybi = b.im[2];
   let s = 0;
-  for (let ky0 = 0; ky0 < py; ky0++) {
-    for (let c = 0, i = ky0 * w; c < w; c++, i++) {
+  for (let c = 0; c < width; c++) {
+    const weight = c0 + c === 0 || c0 + c === last ? 1 : 2;
+    let col = 0;
+    for (let ky0 = 0, k = c, i = o + c; ky0 < py; ky0++, k += B, i += B) {
       // u = conj(FYb) Ba - conj(Bb) FYa, v = conj(FXb) Ba - conj(Bb) FXa.
       const ur = ybr[i] * bar[i] + ybi[i] * bai[i] - (bbr[i] * yar[i] + bbi[i] * yai[i]);
       const ui = ybr[i] * bai[i] - ybi[i] * bar[i] - (bbr[i] * yai[i] - bbi[i] * yar[i]);
       const vr = xbr[i] * bar[i] + xbi[i] * bai[i] - (bbr[i] * xar[i] + bbi[i] * xai[i]);
       const vi = xbr[i] * bai[i] - xbi[i] * bar[i] - (bbr[i] * xai[i] - bbi[i] * xar[i]);
-      const term = kxr[i] * ur - kxi[i] * ui - (kyr[i] * vr - kyi[i] * vi);
-      s += c === 0 || c === last ? term : 2 * term;
+      col += kxr[k] * ur - kxi[k] * ui - (kyr[k] * vr - kyi[k] * vi);
     }
+    s += weight * col;
   }
   return s;
 }

@@ -14,6 +14,7 @@ import type { FluxTransport } from './fluxTransport.js';
 import type { Grid } from './grid.js';
 import type { LabelSplitOptions, SplitPart, SplitShare } from './labelSplit.js';
 import { splitPart } from './labelSplit.js';
+import type { SplitCache } from './labelSplit.js';
 import type { InferredVelocity } from './velocity/inferVelocity.js';
 import { inferVelocity } from './velocity/inferVelocity.js';
 import type { VelocitySettings } from './velocity/velocitySettings.js';
@@ -21,12 +22,12 @@ import type { AffineFitWorkspace } from './velocity/fitWindowPasses.js';
 import { createAffineFitWorkspace } from './velocity/fitWindowPasses.js';
 
 /**
- * What a thread keeps from one frame's tasks to the next: the flux kernels by grid (the Map) and
- * the affine fit's workspace, made at the first inference (its memory is worth keeping: fresh
+ * What a thread keeps from one frame's tasks to the next: the flux kernels by grid (the Map), the
+ * label split's pair grids (made at its first box row) and the affine fit's workspace, made at the first inference (its memory is worth keeping: fresh
  * memory costs more to touch than the fit's kernels save, docs/speed.md). Owned by whoever runs
  * the tasks; a plain FluxKernelCache is one that has not kept a workspace yet.
  */
-export type FrameCache = FluxKernelCache & { affineFit?: AffineFitWorkspace };
+export type FrameCache = SplitCache & { affineFit?: AffineFitWorkspace };
 
 /** Options of the split that can travel (the kernel cache stays with the thread that runs it). */
 export type SplitTaskOptions = Omit<LabelSplitOptions, 'cache'>;

@@ -8,7 +8,9 @@
 //
 // is symmetric, so each unordered pair is visited once. Pairs of two small footpoints are summed
 // directly; a large footpoint instead gets one FFT convolution of its own pixels, whose field is
-// then summed over every labelled pixel: cost is chosen per footpoint. Background is the
+// then summed over every labelled pixel: cost is chosen per footpoint. That row is made either
+// over the whole padded grid or one pair at a time over the two footpoints' bounding boxes
+// (core/boxPairSum.ts), whichever is estimated cheaper. Background is the
 // remainder of the total, so spin + orbit + background = total to rounding.
 //
 // Direct pair sums grow as the square of the labelled pixels. When the whole pair matrix would
@@ -31,9 +33,8 @@ import { nextPowerOfTwo } from './fft.js';
 import type { FluxTransport } from './fluxTransport.js';
 import { convolveTransport, helicityFluxTotal } from './helicityFlux.js';
 import { CM_PER_KM, CM_PER_MM, pixelAreaCm2 } from './units.js';
-import type { BoxSpectra, PixelBox } from './boxPairSum.js';
-import { boxPairSum, boxSpectra, pairGridSize, pairPlan } from './boxPairSum.js';
-import type { PaddedPlan } from './paddedTransform.js';
+import type { BoxSpectra, PairGrid, PixelBox } from './boxPairSum.js';
+import { boxPairSum, boxSpectra, createPairGrid, pairGridSize } from './boxPairSum.js';
 
 export interface LabelSplit {
   /** Label values present among valid pixels, ascending (0 excluded). */
@@ -71,12 +72,12 @@ export interface LabelSplitOptions {
   readonly pairBudget?: number;
   /**
    * Most large footpoints that get a full-grid convolution (their whole row of the pair matrix;
-   * default 4). The other large ones get their spin from a convolution over their own bounding
-   * box, which is far cheaper, and their pairs stay NaN.
+   * default 4); rows by box pair sums (`rows`) do not count. The other large ones get their spin
+   * from a convolution over their own bounding box, which is far cheaper, and their pairs stay NaN.
    */
   readonly maxFullRows?: number;
-  /** Caller-owned cache for the kernels of those bounding boxes. */
-  readonly cache?: FluxKernelCache;
+  /** Caller-owned cache for the kernels of those bounding boxes and the box rows' pair grids. */
+  readonly cache?: SplitCache;
   /**
    * How a large footpoint's row is made: 'grid' by one convolution over the whole padded grid,
    * 'boxes' by one transform pair sum per other footpoint over the two bounding boxes
@@ -85,6 +86,9 @@ export interface LabelSplitOptions {
    */
   readonly rows?: 'auto' | 'grid' | 'boxes';
 }
+
+/** A kernel cache that also keeps the box rows' pair grids by size (made at the first box row that needs one). */
+export type SplitCache = FluxKernelCache & { pairGrids?: Map<string, PairGrid> };
 
 export function splitByLabels(
   kernel: FluxKernel, t: FluxTransport, labels: Int32Array, options: LabelSplitOptions = {},
@@ -211,15 +215,10 @@ export function splitPart(
   }
   let pairsComplete = inPairs.every((v) => v === 1);
 
-  // Large footpoints without a full row leave their pairs unknown.
-  if (big.reduce((c, v) => c + v, 0) > (options.maxFullRows ?? 4)) pairsComplete = false;
-
+  // Every large footpoint is given a row here; below, rows go by box pair sums or over the whole
+  // grid, and only the largest maxFullRows of the latter keep theirs.
   const maxFullRows = options.maxFullRows ?? 4;
-  const hasRow = new Uint8Array(k);
-  {
-    let rows = 0;
-    for (const j of order) if (big[j] && rows < maxFullRows) { hasRow[j] = 1; rows++; }
-  }
+  const hasRow = Uint8Array.from(big);
 
   // The work items and who does them. Costs in full-grid convolutions: a direct pair visit costs
   // 1/(perPixel padded pixels) of one, a box spin the share of the padded grid its box pads to.
@@ -268,6 +267,12 @@ export function splitPart(
       if (boxRowCost[a] >= 1) { byBoxes[a] = 0; changed = true; }
     }
   }
+  {
+    let rows = 0;
+    for (const j of order) if (hasRow[j] && !byBoxes[j] && rows++ >= maxFullRows) hasRow[j] = 0;
+  }
+  // Large footpoints without a row leave their pairs unknown.
+  if (hasRow.some((v, j) => big[j] && !v)) pairsComplete = false;
   const gridRow = Uint8Array.from(hasRow, (v, a) => (v && !byBoxes[a] ? 1 : 0));
 
   const items: { cost: number; kind: 'direct' | 'source' | 'labelled'; a: number }[] = [];
@@ -352,19 +357,20 @@ export function splitPart(
     for (let e = from; e < to; e++) { const i = pixels[e]; m.bn[i] = 0; m.fx[i] = 0; m.fy[i] = 0; }
     return conv;
   };
-  // Pair grids and each footpoint's spectra on them, made as the box rows ask for them.
-  const pairPlans = new Map<string, PaddedPlan>();
-  const pairPlanOf = (px: number, py: number) => {
+  // Pair grids (the caller's, when it keeps a cache) and each footpoint's spectra on them, made as
+  // the box rows ask for them.
+  const pairGrids = options.cache ? (options.cache.pairGrids ??= new Map()) : new Map<string, PairGrid>();
+  const pairGridOf = (px: number, py: number) => {
     const key = `${px}x${py}`;
-    let pp = pairPlans.get(key);
-    if (!pp) { pp = pairPlan(px, py); pairPlans.set(key, pp); }
-    return pp;
+    let g = pairGrids.get(key);
+    if (!g) { g = createPairGrid(px, py); pairGrids.set(key, g); }
+    return g;
   };
   const spectra = new Map<string, BoxSpectra>();
-  const spectraOf = (j: number, pp: PaddedPlan) => {
-    const key = `${j}@${pp.px}x${pp.py}`;
+  const spectraOf = (j: number, g: PairGrid) => {
+    const key = `${j}@${g.plan.px}x${g.plan.py}`;
     let sp = spectra.get(key);
-    if (!sp) { sp = boxSpectra(boxMaps(t, byFootpoint, start[j], start[j + 1], boxes[j], nx), boxes[j], pp); spectra.set(key, sp); }
+    if (!sp) { sp = boxSpectra(boxMaps(t, byFootpoint, start[j], start[j + 1], boxes[j], nx), boxes[j], g); spectra.set(key, sp); }
     return sp;
   };
   for (let a = 0; a < k; a++) {
@@ -376,8 +382,8 @@ export function splitPart(
       for (let b = 0; b < k; b++) {
         if (!ownsPair(a, b)) continue;
         const { px, py } = pairGridSize(boxes[a], boxes[b]);
-        const pp = pairPlanOf(px, py);
-        fftSums[b * k + a] = boxPairSum(boxes[a], spectraOf(a, pp), boxes[b], spectraOf(b, pp), pp, dx, dy);
+        const g = pairGridOf(px, py);
+        fftSums[b * k + a] = boxPairSum(boxes[a], spectraOf(a, g), boxes[b], spectraOf(b, g), g, dx, dy);
       }
       continue;
     }
@@ -551,7 +557,7 @@ function transformCost(px: number, py: number): number {
 }
 
 /** Cost per point of the box rows' TypeScript transforms against the whole grid's SIMD ones (measured: docs/speed.md). */
-const BOX_TRANSFORM_FACTOR = 3;
+const BOX_TRANSFORM_FACTOR = 2;
 
 /** A footpoint's Bn, Fx and Fy on its own box (pixels byFootpoint[from..to)). */
 function boxMaps(t: FluxTransport, byFootpoint: Int32Array, from: number, to: number, box: PixelBox, nx: number): { bn: Float64Array; fx: Float64Array; fy: Float64Array } {

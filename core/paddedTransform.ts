@@ -65,8 +65,8 @@ export function inversePadded(plan: PaddedPlan, spec: Spectrum, out: Float64Arra
  * A loop rather than a fill() per block: for sparse inputs (one footpoint's pixels) most rows are
  * zero, and some 30 builtin calls per row per map made a tenth of a convolution's time.
  */
-function zeroBlockRow(re: Float64Array, im: Float64Array, first: number, stride: number, B: number): void {
-  for (let b = first; b < re.length; b += stride) {
+function zeroBlockRow(re: Float64Array, im: Float64Array, first: number, stride: number, B: number, end: number): void {
+  for (let b = first; b < end; b += stride) {
     for (let c = b; c < b + B; c++) { re[c] = 0; im[c] = 0; }
   }
 }
@@ -142,6 +142,71 @@ export type SpectralStep = (
 ) => void;
 
 /**
+ * The row pass of input j (an nx by ny map at the padded grid's origin) into the workspace's
+ * rowRe/rowIm[j], stored by blocks of SPECTRUM_BLOCK frequencies with ny rows inside a block:
+ * runs of rows holding some non-zero value go through the transform; zero rows give zero.
+ */
+function forwardRows(plan: PaddedPlan, work: PaddedWorkspace, j: number, x: ArrayLike<number>, nx: number, ny: number): void {
+  const B = SPECTRUM_BLOCK, stride = ny * B;
+  const zeroRow = (y: number) => { for (let i = y * nx, e = i + nx; i < e; i++) if (x[i] !== 0) return false; return true; };
+  for (let y = 0; y < ny;) {
+    if (zeroRow(y)) {
+      zeroBlockRow(work.rowRe[j], work.rowIm[j], y * B, stride, B, Math.ceil(plan.w / B) * stride);
+      y++;
+      continue;
+    }
+    let end = y + 1;
+    while (end < ny && !zeroRow(end)) end++;
+    realFftRows(plan.rows, x, y * nx, nx, nx, end - y, work.rowRe[j], work.rowIm[j], y * B, stride, work.rowBlock, B);
+    y = end;
+  }
+}
+
+/**
+ * The column pass of input j for the half-spectrum columns c0 .. c0+bw (ny rows filled by
+ * forwardRows, the rest of the padded rows zero) into inRe/inIm[j]: py rows of SPECTRUM_BLOCK,
+ * natural order.
+ */
+function forwardColumnBlock(plan: PaddedPlan, work: PaddedWorkspace, j: number, ny: number, c0: number, bw: number): void {
+  const { py, cols } = plan, B = SPECTRUM_BLOCK, stride = ny * B, rev = cols.rev;
+  const sr = work.rowRe[j], si = work.rowIm[j], br = work.inRe[j], bi = work.inIm[j];
+  if (work.simd?.packAndTransform(cols, sr, si, (c0 / B) * stride, ny, br, bi, B, bw, -1)) return;
+  const upperZero = py >= 2 && 2 * ny <= py;
+  const zeroEnd = upperZero ? py >> 1 : py;
+  for (let y = 0, s = (c0 / B) * stride; y < ny; y++, s += B) {
+    const t = rev[y] * B;
+    for (let c = 0; c < bw; c++) { br[t + c] = sr[s + c]; bi[t + c] = si[s + c]; }
+  }
+  for (let y = ny; y < zeroEnd; y++) {
+    const t = rev[y] * B;
+    br.fill(0, t, t + bw); bi.fill(0, t, t + bw);
+  }
+  columnBlockBitReversed(work.simd, cols, br, bi, B, bw, -1, upperZero);
+}
+
+/**
+ * Forward transforms of maps of any size up to the padded grid (each at its origin, zeros
+ * elsewhere; the workspace's plan.ny at least the tallest), handed to `visit` one block of
+ * SPECTRUM_BLOCK half-spectrum columns at a time: inRe/inIm[j][ky*SPECTRUM_BLOCK + c] is map j at
+ * frequency (c0 + c, ky), natural order. The forward half of convolvePadded, with its kernels.
+ */
+export function forwardByBlocks(
+  plan: PaddedPlan, work: PaddedWorkspace, maps: readonly { readonly map: ArrayLike<number>; readonly nx: number; readonly ny: number }[],
+  visit: (inRe: readonly Float64Array[], inIm: readonly Float64Array[], c0: number, width: number) => void,
+): void {
+  if (maps.length > work.channels) throw new RangeError('workspace has too few channels');
+  for (const [j, m] of maps.entries()) {
+    if (m.nx > plan.px || m.ny > plan.ny) throw new RangeError(`map ${m.nx}x${m.ny} larger than the workspace's ${plan.px}x${plan.ny}`);
+    forwardRows(plan, work, j, m.map, m.nx, m.ny);
+  }
+  for (let c0 = 0; c0 < plan.w; c0 += SPECTRUM_BLOCK) {
+    const bw = Math.min(SPECTRUM_BLOCK, plan.w - c0);
+    for (let j = 0; j < maps.length; j++) forwardColumnBlock(plan, work, j, maps[j].ny, c0, bw);
+    visit(work.inRe, work.inIm, c0, bw);
+  }
+}
+
+/**
  * Linear convolutions through the padded transforms in one go: the forward transforms of `inputs`
  * (nx*ny maps), `step` forming the outputs' spectra, and the inverse transforms, whose nx*ny blocks
  * go to `outputs` (the same as forwardPadded, a product, inversePadded per output, to rounding).
@@ -159,40 +224,11 @@ export function convolvePadded(
   const B = SPECTRUM_BLOCK;
   const { rowRe, rowIm, inRe, inIm, outRe, outIm, rowBlock } = work;
   const stride = ny * B; // one block of B frequencies: ny rows of B
-  for (let j = 0; j < inputs.length; j++) {
-    // Runs of rows holding some non-zero value go through the transform; zero rows give zero.
-    const x = inputs[j];
-    const zeroRow = (y: number) => { for (let i = y * nx, e = i + nx; i < e; i++) if (x[i] !== 0) return false; return true; };
-    for (let y = 0; y < ny;) {
-      if (zeroRow(y)) {
-        zeroBlockRow(rowRe[j], rowIm[j], y * B, stride, B);
-        y++;
-        continue;
-      }
-      let end = y + 1;
-      while (end < ny && !zeroRow(end)) end++;
-      realFftRows(rows, x, y * nx, nx, nx, end - y, rowRe[j], rowIm[j], y * B, stride, rowBlock, B);
-      y = end;
-    }
-  }
+  for (let j = 0; j < inputs.length; j++) forwardRows(plan, work, j, inputs[j], nx, ny);
   const rev = cols.rev;
-  const upperZero = py >= 2 && 2 * ny <= py;
-  const zeroEnd = upperZero ? py >> 1 : py;
   for (let c0 = 0; c0 < w; c0 += B) {
     const bw = Math.min(B, w - c0);
-    for (let j = 0; j < inputs.length; j++) {
-      const sr = rowRe[j], si = rowIm[j], br = inRe[j], bi = inIm[j];
-      if (work.simd?.packAndTransform(cols, sr, si, (c0 / B) * stride, ny, br, bi, B, bw, -1)) continue;
-      for (let y = 0, s = (c0 / B) * stride; y < ny; y++, s += B) {
-        const t = rev[y] * B;
-        for (let c = 0; c < bw; c++) { br[t + c] = sr[s + c]; bi[t + c] = si[s + c]; }
-      }
-      for (let y = ny; y < zeroEnd; y++) {
-        const t = rev[y] * B;
-        br.fill(0, t, t + bw); bi.fill(0, t, t + bw);
-      }
-      columnBlockBitReversed(work.simd, cols, br, bi, B, bw, -1, upperZero);
-    }
+    for (let j = 0; j < inputs.length; j++) forwardColumnBlock(plan, work, j, ny, c0, bw);
     step(inRe, inIm, outRe, outIm, c0, bw, rev);
     for (let j = 0; j < outputs.length; j++) {
       const br = outRe[j], bi = outIm[j], sr = rowRe[j], si = rowIm[j];
