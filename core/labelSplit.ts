@@ -257,11 +257,11 @@ export function splitPart(
     }
     return (BOX_TRANSFORM_FACTOR * cost) / gridRowCost;
   };
-  // Rows whose box pairs would cost more go to the whole grid, until none does (each one moved
-  // takes its pairs off the others' box rows).
+  // Rows whose box pairs would cost more go to the whole grid, largest first, until none does
+  // (each one moved takes its pairs off the others' box rows).
   for (let changed = rowMethod === 'auto'; changed;) {
     changed = false;
-    for (let a = 0; a < k; a++) {
+    for (const a of order) {
       if (!byBoxes[a]) continue;
       boxRowCost[a] = boxRowEstimate(a);
       if (boxRowCost[a] >= 1) { byBoxes[a] = 0; changed = true; }
