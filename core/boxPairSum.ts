@@ -17,12 +17,14 @@
 // Two footpoints 70 pixels across take transforms of 256^2 instead of the 1024^2 of a 512^2
 // frame. The sum is the same as the whole-grid row's to rounding (test/core/boxPairSum.test.ts).
 //
-//   const a = boxSpectra(boxMapsOf(...), plan), b = boxSpectra(..., plan)
-//   boxPairSum(boxA, a, boxB, b, plan, dx, dy)
+//   const { px, py } = pairGridSize(boxA, boxB), g = pairGrid(createPairGrids(px, py), px, py)
+//   boxPairSum(boxA, boxSpectra(mapsA, boxA, g), boxB, boxSpectra(mapsB, boxB, g), g, dx, dy)
 
 import type { PaddedPlan, PaddedWorkspace } from './paddedTransform.js';
-import { SPECTRUM_BLOCK, createPaddedWorkspace, forwardByBlocks } from './paddedTransform.js';
+import { SPECTRUM_BLOCK, createPaddedWorkspace, forwardByBlocks, paddedWorkspaceBytes } from './paddedTransform.js';
+import type { FftPlan, RealFftPlan } from './fft.js';
 import { createFftPlan, createRealFftPlan, nextPowerOfTwo } from './fft.js';
+import { createSimdArena } from './simdColumns.js';
 import { CM_PER_MM } from './units.js';
 
 /** A footpoint's bounding box on the frame grid, pixels: columns x0 .. x0+w-1, rows y0 .. y0+h-1. */
@@ -50,13 +52,26 @@ export interface BoxSpectra {
 }
 
 /**
- * A transform grid for pair sums with its buffers (kept by the caller from frame to frame: making
- * the WebAssembly arena costs more than the transforms it serves).
+ * Transform grids for pair sums up to maxPx by maxPy sharing one workspace, whose arena holds the
+ * tables of every smaller power of two: a smaller grid uses the front of the same buffers. Kept by
+ * the caller from frame to frame (making the arena costs more than the transforms it serves), and
+ * made anew, larger, when a pair needs more.
  */
+export interface PairGrids {
+  readonly maxPx: number;
+  readonly maxPy: number;
+  readonly work: PaddedWorkspace;
+  readonly rows: ReadonlyMap<number, RealFftPlan>;
+  readonly cols: ReadonlyMap<number, FftPlan>;
+  /** Kernel windows, reused (the first px*py values serve a px by py grid). */
+  readonly kx: Float64Array;
+  readonly ky: Float64Array;
+}
+
+/** One grid of a PairGrids: its plan (maps up to the whole grid) over the shared buffers. */
 export interface PairGrid {
   readonly plan: PaddedPlan;
   readonly work: PaddedWorkspace;
-  /** Kernel windows, px*py, reused. */
   readonly kx: Float64Array;
   readonly ky: Float64Array;
 }
@@ -66,12 +81,30 @@ export function pairGridSize(a: PixelBox, b: PixelBox): { px: number; py: number
   return { px: Math.max(2, nextPowerOfTwo(a.w + b.w - 1)), py: Math.max(2, nextPowerOfTwo(a.h + b.h - 1)) };
 }
 
-/** A pair grid of px by py (both powers of two >= 2); simd: false keeps the TypeScript butterflies (the same numbers). */
-export function createPairGrid(px: number, py: number, options: { simd?: boolean } = {}): PairGrid {
-  if (!(px >= 2 && py >= 2 && nextPowerOfTwo(px) === px && nextPowerOfTwo(py) === py)) throw new RangeError(`pair grid ${px}x${py}: sides must be powers of two >= 2`);
-  // Maps up to the whole grid: the workspace keeps py rows per map.
-  const plan: PaddedPlan = { nx: px, ny: py, px, py, w: px / 2 + 1, rows: createRealFftPlan(px), cols: createFftPlan(py) };
-  return { plan, work: createPaddedWorkspace(plan, 3, options), kx: new Float64Array(px * py), ky: new Float64Array(px * py) };
+/** Pair grids up to maxPx by maxPy (powers of two >= 2); simd: false keeps the TypeScript butterflies (the same numbers). */
+export function createPairGrids(maxPx: number, maxPy: number, options: { simd?: boolean } = {}): PairGrids {
+  const powerOfTwo = (n: number) => n >= 2 && nextPowerOfTwo(n) === n;
+  if (!powerOfTwo(maxPx) || !powerOfTwo(maxPy)) throw new RangeError(`pair grids up to ${maxPx}x${maxPy}: sides must be powers of two >= 2`);
+  const rows = new Map<number, RealFftPlan>(), cols = new Map<number, FftPlan>();
+  for (let n = 2; n <= maxPx; n *= 2) rows.set(n, createRealFftPlan(n));
+  for (let n = 2; n <= maxPy; n *= 2) cols.set(n, createFftPlan(n));
+  const largest = gridPlan(maxPx, maxPy, rows, cols);
+  const arena = options.simd === false ? undefined : createSimdArena(paddedWorkspaceBytes(largest, 3), [...cols.values()], [...rows.values()]);
+  const work = createPaddedWorkspace(largest, 3, arena ? { arena } : { simd: false });
+  return { maxPx, maxPy, work, rows, cols, kx: new Float64Array(maxPx * maxPy), ky: new Float64Array(maxPx * maxPy) };
+}
+
+/** The px by py grid of `grids` (within its largest). */
+export function pairGrid(grids: PairGrids, px: number, py: number): PairGrid {
+  if (!(px <= grids.maxPx && py <= grids.maxPy && grids.rows.has(px) && grids.cols.has(py))) {
+    throw new RangeError(`pair grid ${px}x${py}: not among the grids up to ${grids.maxPx}x${grids.maxPy}`);
+  }
+  return { plan: gridPlan(px, py, grids.rows, grids.cols), work: grids.work, kx: grids.kx, ky: grids.ky };
+}
+
+/** A plan whose maps fill the whole px by py grid (no padding of its own). */
+function gridPlan(px: number, py: number, rows: ReadonlyMap<number, RealFftPlan>, cols: ReadonlyMap<number, FftPlan>): PaddedPlan {
+  return { nx: px, ny: py, px, py, w: px / 2 + 1, rows: rows.get(px)!, cols: cols.get(py)! };
 }
 
 /** The spectra of a footpoint's maps (its box's w by h at the grid's origin) on a pair grid. */
@@ -111,7 +144,7 @@ export function boxPairSum(a: PixelBox, sa: BoxSpectra, b: PixelBox, sb: BoxSpec
 function kernelWindow(
   ox: number, oy: number, a: PixelBox, b: PixelBox, px: number, py: number, dx: number, dy: number, kx: Float64Array, ky: Float64Array,
 ): void {
-  kx.fill(0); ky.fill(0);
+  kx.fill(0, 0, px * py); ky.fill(0, 0, px * py);
   const scale = dx * dy * CM_PER_MM;
   for (let j = -(a.h - 1); j <= b.h - 1; j++) {
     const iy = oy + j, Y = iy * dy, row = ((j + py) % py) * px;

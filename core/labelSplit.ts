@@ -28,13 +28,12 @@
 //   joinSplitParts([splitPart(kernel, t, labels, {}, { part: 0, of: 2 }), splitPart(kernel, t, labels, {}, { part: 1, of: 2 })], total)
 
 import type { FluxKernel, FluxKernelCache } from './fluxKernel.js';
-import { fluxKernelFor } from './fluxKernel.js';
 import { nextPowerOfTwo } from './fft.js';
 import type { FluxTransport } from './fluxTransport.js';
 import { convolveTransport, helicityFluxTotal } from './helicityFlux.js';
 import { CM_PER_KM, CM_PER_MM, pixelAreaCm2 } from './units.js';
-import type { BoxSpectra, PairGrid, PixelBox } from './boxPairSum.js';
-import { boxPairSum, boxSpectra, createPairGrid, pairGridSize } from './boxPairSum.js';
+import type { BoxSpectra, PairGrid, PairGrids, PixelBox } from './boxPairSum.js';
+import { boxPairSum, boxSpectra, createPairGrids, pairGrid, pairGridSize } from './boxPairSum.js';
 
 export interface LabelSplit {
   /** Label values present among valid pixels, ascending (0 excluded). */
@@ -87,8 +86,8 @@ export interface LabelSplitOptions {
   readonly rows?: 'auto' | 'grid' | 'boxes';
 }
 
-/** A kernel cache that also keeps the box rows' pair grids by size (made at the first box row that needs one). */
-export type SplitCache = FluxKernelCache & { pairGrids?: Map<string, PairGrid> };
+/** A kernel cache that also keeps the pair grids of the box rows and spins (made at the first that needs one). */
+export type SplitCache = FluxKernelCache & { pairGrids?: PairGrids };
 
 export function splitByLabels(
   kernel: FluxKernel, t: FluxTransport, labels: Int32Array, options: LabelSplitOptions = {},
@@ -112,7 +111,7 @@ const WHOLE: SplitShare = { part: 0, of: 1 };
 /** One part's share of a split: raw sums before the physical factors, and what it did. */
 export interface SplitPart {
   readonly ids: readonly number[];
-  /** Per footpoint: summed directly (0), own full-grid convolution (1: `hasRow`) or box spin (big, no row). */
+  /** Per footpoint: summed directly (0), or large (1): a row of its own (`hasRow`) or only its spin from its box. */
   readonly big: Uint8Array;
   readonly hasRow: Uint8Array;
   /** Per footpoint with a row: made by box pair sums (1) or over the whole grid (0). */
@@ -234,8 +233,8 @@ export function splitPart(
   // A row by box pair sums costs per pair it owns a kernel window's two transforms, its sampling
   // and the target's spectra (three transforms, often shared), and per grid size the source's
   // spectra (three), on the pair's small grid; a row over the whole grid six transforms of the
-  // padded grid (less the zero rows, which the estimate leaves out). Transforms cost N log2 N; the
-  // box transforms run the TypeScript loops, BOX_TRANSFORM_FACTOR times the SIMD kernels' cost per point.
+  // padded grid (less the zero rows, which the estimate leaves out). Transforms cost N log2 N,
+  // times BOX_TRANSFORM_FACTOR on the pair grids for the sampling and the spectral sums.
   // A pair of two footpoints with rows is taken from a whole-grid row when either has one (there it
   // costs nothing more), otherwise from the box row of the first.
   const boxes: PixelBox[] = [];
@@ -357,14 +356,14 @@ export function splitPart(
     for (let e = from; e < to; e++) { const i = pixels[e]; m.bn[i] = 0; m.fx[i] = 0; m.fy[i] = 0; }
     return conv;
   };
-  // Pair grids (the caller's, when it keeps a cache) and each footpoint's spectra on them, made as
-  // the box rows ask for them.
-  const pairGrids = options.cache ? (options.cache.pairGrids ??= new Map()) : new Map<string, PairGrid>();
-  const pairGridOf = (px: number, py: number) => {
-    const key = `${px}x${py}`;
-    let g = pairGrids.get(key);
-    if (!g) { g = createPairGrid(px, py); pairGrids.set(key, g); }
-    return g;
+  // Pair grids (the caller's, when it keeps a cache; larger ones made as pairs need them) and each
+  // footpoint's spectra on them, made as the box rows and spins ask for them.
+  const holder: { pairGrids?: PairGrids } = options.cache ?? {};
+  const pairGridOf = (a: number, b: number) => {
+    const { px, py } = pairGridSize(boxes[a], boxes[b]);
+    const had = holder.pairGrids;
+    if (!had || px > had.maxPx || py > had.maxPy) holder.pairGrids = createPairGrids(Math.max(px, had?.maxPx ?? 2), Math.max(py, had?.maxPy ?? 2));
+    return pairGrid(holder.pairGrids!, px, py);
   };
   const spectra = new Map<string, BoxSpectra>();
   const spectraOf = (j: number, g: PairGrid) => {
@@ -375,14 +374,12 @@ export function splitPart(
   };
   for (let a = 0; a < k; a++) {
     if (!big[a] || !didSource[a]) continue;
-    if (!hasRow[a]) { fftSums[a * k + a] = boxSpinSum(a); continue; }
-    if (byBoxes[a]) {
-      // The row one pair at a time (the pairs with rows of their own before a are taken from those).
-      fftSums[a * k + a] = boxSpinSum(a);
+    if (!hasRow[a] || byBoxes[a]) {
+      // The spin as the footpoint's pair with itself, over its own box; a box row then one pair at
+      // a time (the pairs with rows of their own before a are taken from those).
       for (let b = 0; b < k; b++) {
-        if (!ownsPair(a, b)) continue;
-        const { px, py } = pairGridSize(boxes[a], boxes[b]);
-        const g = pairGridOf(px, py);
+        if (b !== a && !(hasRow[a] && ownsPair(a, b))) continue;
+        const g = pairGridOf(a, b);
         fftSums[b * k + a] = boxPairSum(boxes[a], spectraOf(a, g), boxes[b], spectraOf(b, g), g, dx, dy);
       }
       continue;
@@ -391,23 +388,6 @@ export function splitPart(
     addFieldSums(t, labelled, slot, gridRow, a, k, p, q, r, fftSums);
   }
 
-  /** The within-footpoint sum of footpoint `a` from a convolution over its bounding box. */
-  function boxSpinSum(a: number): number {
-    const x0 = x0s[a], x1 = x1s[a], y0 = y0s[a], y1 = y1s[a];
-    // Box sides rounded up to powers of two: the padded transform has the same size either way
-    // (2^ceil(log2(2w - 1)) = 2 nextPow2(w)), and the cache then holds few kernels.
-    const w = nextPowerOfTwo(x1 - x0 + 1), h = nextPowerOfTwo(y1 - y0 + 1);
-    const sb = new Float64Array(w * h), sfx = new Float64Array(w * h), sfy = new Float64Array(w * h);
-    for (let e = start[a]; e < start[a + 1]; e++) {
-      const i = byFootpoint[e], x = i % nx, y = (i - x) / nx;
-      const j = (y - y0) * w + (x - x0);
-      sb[j] = bn[i]; sfx[j] = fx[i]; sfy[j] = fy[i];
-    }
-    const { p, q, r } = convolveTransport(fluxKernelFor({ nx: w, ny: h, dx, dy }, options.cache), { bn: sb, fx: sfx, fy: sfy });
-    let sum = 0;
-    for (let j = 0; j < w * h; j++) if (sb[j] !== 0 || sfx[j] !== 0 || sfy[j] !== 0) sum += sfy[j] * p[j] - sfx[j] * q[j] - sb[j] * r[j];
-    return sum;
-  }
   // The convolution includes dS' and the Mm -> cm step; apply -(1/2pi), km -> cm and dS.
   const fftFactor = (-1 / (2 * Math.PI)) * CM_PER_KM * area;
   let labelledPart: { sum: number; field: { p: Float64Array; q: Float64Array } } | undefined;
@@ -556,10 +536,14 @@ function transformCost(px: number, py: number): number {
   return px * py * Math.log2(px * py);
 }
 
-/** Cost per point of the box rows' TypeScript transforms against the whole grid's SIMD ones (measured: docs/speed.md). */
+/**
+ * Cost per transform point of the box rows against the whole grid's: both run the SIMD kernels,
+ * the box rows also sample a kernel window and sum over spectra per pair. Chosen by timing the
+ * split with 1, 2 and 3 on the demo pair (docs/speed.md, eighth round).
+ */
 const BOX_TRANSFORM_FACTOR = 2;
 
-/** A footpoint's Bn, Fx and Fy on its own box (pixels byFootpoint[from..to)). */
+/** A footpoint's Bn, Fx and Fy (pixels byFootpoint[from..to)) on a box w by h from (x0, y0), zero elsewhere. */
 function boxMaps(t: FluxTransport, byFootpoint: Int32Array, from: number, to: number, box: PixelBox, nx: number): { bn: Float64Array; fx: Float64Array; fy: Float64Array } {
   const size = box.w * box.h;
   const bn = new Float64Array(size), fx = new Float64Array(size), fy = new Float64Array(size);

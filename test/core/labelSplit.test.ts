@@ -3,6 +3,7 @@ import { createFluxKernel } from '../../core/fluxKernel.js';
 import { fluxTransport } from '../../core/fluxTransport.js';
 import { helicityFlux } from '../../core/helicityFlux.js';
 import { splitByLabels } from '../../core/labelSplit.js';
+import type { SplitCache } from '../../core/labelSplit.js';
 import { CM_PER_KM, CM_PER_MM } from '../../core/units.js';
 import { seededRandom } from '../support/random.js';
 
@@ -78,7 +79,7 @@ describe('exact split by labels', () => {
   });
 
   it('large footpoints beyond maxFullRows: spins from their bounding boxes equal the direct double sum, the orbit total stays exact', () => {
-    const cache = new Map();
+    const cache: SplitCache = new Map();
     // The row over the whole grid (rows: 'grid'), so that only the other two take box kernels.
     const s = splitByLabels(kernel, t, labels, { directPairsPerPaddedPixel: 0, maxFullRows: 1, cache, rows: 'grid' });
     expect(s.convolvedFootpoints).toBe(3);
@@ -94,6 +95,9 @@ describe('exact split by labels', () => {
     close(s.orbit[0 * 3 + 1], brute.get('3-7')!);
     close(s.orbit[1 * 3 + 2], brute.get('7-9')!);
     expect(Number.isNaN(s.orbit[0 * 3 + 2])).toBe(true);
-    expect(cache.size).toBe(2); // the bounding boxes of labels 3 (4x4) and 9 (7x3, rounded up to 8x4)
+    // Their spins as pairs with themselves on pair grids (no box kernels): label 3's box (4x4) on
+    // 8x8, label 9's (7x3) on 16x8, the largest shared.
+    expect(cache.size).toBe(0);
+    expect([cache.pairGrids?.maxPx, cache.pairGrids?.maxPy]).toEqual([16, 8]);
   });
 });
