@@ -1,6 +1,6 @@
 // The two steps of a batch run that go through the worker pool: scanning files (each read and
-// described) and analysing a span of an ordered archive cut into one contiguous chunk per worker,
-// each chunk primed with the frames before it that the analysis state depends on
+// described) and analysing a span of an ordered archive cut into contiguous chunks (one or two per
+// worker), each chunk primed with the frames before it that the analysis state depends on
 // (chunkPriming.ts). The chunks come back raw (outcomes and primer tables): the caller stitches
 // them with chunkSeams.ts, alone (`process`) or beside the chunks of other tasks (`survey`).
 
@@ -39,27 +39,53 @@ export interface SpanOptions {
   readonly tick?: () => void;
 }
 
+/** Most primer frames that splitting a span into two chunks per worker may add, as a share of the span. */
+export const EXTRA_PRIMER_SHARE = 0.05;
+
 /**
- * Frames `span.start .. span.end-1` of the ordered archive (`jobs[i]` is `entries[i]`), one
- * contiguous chunk per worker, each primed from the frames before it. The chunks in time order,
- * each with its outcomes and primer tables in archive order.
+ * The chunks of a span for `workers` workers, in time order: one per worker, or two per worker when
+ * the primer frames the extra borders need (chunkPriming.ts) add at most EXTRA_PRIMER_SHARE of the
+ * span. Later frames of a region's archive often cost more (more and larger footpoints), so equal
+ * chunks finish at different times; with more chunks than workers, dealt latest first, a worker
+ * done early takes an earlier, cheaper one.
+ */
+export function spanChunks(
+  entries: readonly ScannedFrame[], span: { start: number; end: number }, workers: number, settings: unknown,
+): { start: number; end: number }[] {
+  const cut = (parts: number) => contiguousChunks(span.end - span.start, parts).map((c) => ({ start: c.start + span.start, end: c.end + span.start }));
+  const primers = (chunks: { start: number }[]) => chunks.reduce((sum, c) => sum + c.start - primerStart(entries, c.start, settings), 0);
+  const one = cut(workers);
+  if (workers < 2) return one;
+  const two = cut(2 * workers);
+  return primers(two) - primers(one) <= EXTRA_PRIMER_SHARE * (span.end - span.start) ? two : one;
+}
+
+/**
+ * Frames `span.start .. span.end-1` of the ordered archive (`jobs[i]` is `entries[i]`) in chunks
+ * (spanChunks), each primed from the frames before it, dealt to the workers latest chunk first, a
+ * worker taking the next as soon as it is free. The chunks in time order, each with its outcomes
+ * and primer tables in archive order.
  */
 export async function analyseSpan(
   pool: WorkerPool, jobs: readonly ChunkJob[], entries: readonly ScannedFrame[], span: { start: number; end: number }, options: SpanOptions,
 ): Promise<ChunkOutput[]> {
-  const chunks = contiguousChunks(span.end - span.start, pool.size).map((c) => ({ start: c.start + span.start, end: c.end + span.start }));
+  const chunks = spanChunks(entries, span, pool.size, options.settings);
   const outputs = chunks.map(() => ({ outcomes: [] as FrameOutcome[], primers: [] as PrimerTable[] }));
-  await Promise.all(chunks.map((c, w) => {
+  const runChunk = (w: number, k: number) => {
+    const c = chunks[k];
     // The chunk starts early: its primer frames only prime the state (and report their footpoints).
     const from = primerStart(entries, c.start, options.settings);
     return pool.run(w, {
       kind: 'analyse', jobs: jobs.slice(from, c.end), warmup: c.start - from, settings: options.settings, components: options.components,
       ...(options.mapsDir !== undefined && { mapsDir: options.mapsDir }),
     }, (r) => {
-      if (r.kind === 'frame') { outputs[w].outcomes.push(r.outcome); options.tick?.(); }
-      else if (r.kind === 'primer') outputs[w].primers.push(r.table);
+      if (r.kind === 'frame') { outputs[k].outcomes.push(r.outcome); options.tick?.(); }
+      else if (r.kind === 'primer') outputs[k].primers.push(r.table);
     });
-  }));
+  };
+  let next = chunks.length - 1;
+  const worker = async (w: number) => { while (next >= 0) await runChunk(w, next--); };
+  await Promise.all(Array.from({ length: Math.min(pool.size, chunks.length) }, (_, w) => worker(w)));
   const byIndex = (a: { index: number }, b: { index: number }) => a.index - b.index;
   return outputs.map((o): ChunkOutput => ({ outcomes: o.outcomes.sort(byIndex), primers: o.primers.sort(byIndex) }));
 }
