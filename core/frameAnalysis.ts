@@ -39,7 +39,7 @@ import type { RateSample } from './rateSample.js';
 import { measureRateSteps } from './measureRate.js';
 import type { SphereAnalysisSettings } from './sphere/sphereFrameAnalysis.js';
 import { analyseSphericalFrame, sphereToMeasure } from './sphere/sphereFrameAnalysis.js';
-import { midFrame } from './velocity/midFrame.js';
+import { averageMaps, midFrame } from './velocity/midFrame.js';
 import type { InferredVelocity } from './velocity/inferVelocity.js';
 import { pairNoise } from './velocity/pairNoise.js';
 import type { VelocitySettings } from './velocity/velocitySettings.js';
@@ -198,21 +198,24 @@ export function* analyseFrameSteps(
       state: { previous: frame, ...keepFootpoints },
     };
   }
-  const tracked = trackFrame(state.footpoints, rateFrame, fpSettings);
+  const field1 = smoothed();
+  const history = state.history ?? [];
+  const kept = history.length > 0 && history[history.length - 1].time === previous.time ? history[history.length - 1].field : undefined;
+  // Without missing pixels the smoothing is linear: the mid-time frame's smoothed field is the mean
+  // of its two frames' (to rounding), which saves smoothing it anew.
+  const midField = kept && !hasMissing(kept) && !hasMissing(field1) ? averageMaps(kept, field1) : undefined;
+  const tracked = trackFrame(state.footpoints, rateFrame, fpSettings, midField);
   let labels = tracked.labels;
   let motions: ReturnType<typeof pairMotions> | undefined;
   let motionFrom = previous.time;
   const baselineNotes: string[] = [];
   const flags: string[] = [];
-  const field1 = smoothed();
   const footpointModel = (settings.motionModel ?? 'footpoints') === 'footpoints';
   // The footpoint motions need no velocity: they are measured before the inference is joined.
   if (footpointModel) {
     // The footpoints' own motions from their patterns on the smoothed frames: over the pair, and
     // over the longest interval within the baseline where earlier frames are kept (preferred).
-    const history = state.history ?? [];
-    const previousField = history.length > 0 && history[history.length - 1].time === previous.time
-      ? history[history.length - 1].field : smoothMap(previous.bn, frame.nx, frame.ny, smoothing);
+    const previousField = kept ?? smoothMap(previous.bn, frame.nx, frame.ny, smoothing);
     // The noise of each frame (robust, from their difference) sets the motions' errors.
     const frameNoise = settings.noiseG ?? pairNoiseG!; // found above whenever no noise is given
     const options = {
@@ -290,4 +293,10 @@ export function* analyseFrameSteps(
     maps: { gTheta: r.gTheta, labels: footpoints.labels, vx: velocity.vx, vy: velocity.vy, ...(v.vz && { vz: v.vz }) },
     state: { previous: frame, history: nextHistory(field1), footpoints: footpoints.state },
   };
+}
+
+/** Whether a map has a NaN (no data) pixel. */
+function hasMissing(map: Float64Array): boolean {
+  for (let i = 0; i < map.length; i++) if (map[i] !== map[i]) return true;
+  return false;
 }

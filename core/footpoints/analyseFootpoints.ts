@@ -210,7 +210,7 @@ export function analyseFootpoints(
 }
 
 /** Segments `frame` and follows its footpoints from `previous`. Throws InputError as analyseFootpoints. */
-export function trackFrame(previous: FootpointState | undefined, frame: Frame, settings: FootpointSettings = {}): TrackedFrame {
+export function trackFrame(previous: FootpointState | undefined, frame: Frame, settings: FootpointSettings = {}, smoothed?: Float64Array): TrackedFrame {
   const source = frame.provenance?.source ?? 'frame';
   checkFrame(frame, source);
   const grid: Grid = { nx: frame.nx, ny: frame.ny, dx: frame.dx, dy: frame.dy };
@@ -224,7 +224,7 @@ export function trackFrame(previous: FootpointState | undefined, frame: Frame, s
     }
   }
   const dt = previous ? (frame.time - previous.time) / 1000 : null;
-  const seg = segmentFootpoints(frame.bn, grid, settings);
+  const seg = segmentFootpoints(frame.bn, grid, settings, smoothed);
   const regions = regionProperties(seg.labels, frame.bn, grid);
   const track = trackFootpoints(previous, frame.time, seg.labels, regions, grid, previous?.nextId ?? 1, settings);
   return { grid, dt, seg, regions, track, labels: track.labels };

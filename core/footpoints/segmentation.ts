@@ -70,7 +70,11 @@ export interface Segmentation {
   readonly maskedFraction: number;
 }
 
-export function segmentFootpoints(bn: ArrayLike<number>, grid: Grid, settings: SegmentationSettings = {}): Segmentation {
+/**
+ * `smoothed`: bn already smoothed with settings.smoothing, when the caller has it (the frame
+ * analysis makes a pair's mid-time field from its two frames' smoothed fields).
+ */
+export function segmentFootpoints(bn: ArrayLike<number>, grid: Grid, settings: SegmentationSettings = {}, smoothed?: Float64Array): Segmentation {
   const { nx, ny, dx, dy } = grid;
   const n = nx * ny;
   const s = { ...SEGMENTATION_DEFAULTS, ...stripUndefined(settings) };
@@ -90,7 +94,8 @@ export function segmentFootpoints(bn: ArrayLike<number>, grid: Grid, settings: S
     noise = NOISE_FLOOR_OF_PEAK * peakAbs(bn, n);
     noiseSource = 'floor';
   }
-  const field = smoothMap(bn, nx, ny, s.smoothing);
+  if (smoothed && smoothed.length !== n) throw new RangeError(`smoothed field has ${smoothed.length} values, expected ${n}`);
+  const field = smoothed ?? smoothMap(bn, nx, ny, s.smoothing);
   const thresholdG = s.threshold * noise;
   const strength = new Float64Array(n);
   const classes = new Int8Array(n);

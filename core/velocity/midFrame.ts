@@ -4,7 +4,10 @@
 
 import type { Frame } from '../frame.js';
 
-function average(p: Float64Array | undefined, q: Float64Array | undefined): Float64Array | undefined {
+/** (p + q) / 2 pixel by pixel (NaN where either is NaN); undefined without both. */
+export function averageMaps(p: Float64Array, q: Float64Array): Float64Array;
+export function averageMaps(p: Float64Array | undefined, q: Float64Array | undefined): Float64Array | undefined;
+export function averageMaps(p: Float64Array | undefined, q: Float64Array | undefined): Float64Array | undefined {
   if (!p || !q) return undefined;
   const out = new Float64Array(p.length);
   for (let i = 0; i < p.length; i++) out[i] = 0.5 * (p[i] + q[i]);
@@ -13,10 +16,10 @@ function average(p: Float64Array | undefined, q: Float64Array | undefined): Floa
 
 /** Mid-time frame of a checked pair (same grid): bn, and bx, by when both frames carry them. */
 export function midFrame(a: Frame, b: Frame): Frame {
-  const bx = average(a.bx, b.bx), by = average(a.by, b.by);
+  const bx = averageMaps(a.bx, b.bx), by = averageMaps(a.by, b.by);
   const source = `${a.provenance?.source ?? 'first frame'} + ${b.provenance?.source ?? 'second frame'}`;
   return {
     nx: a.nx, ny: a.ny, dx: a.dx, dy: a.dy, time: (a.time + b.time) / 2,
-    bn: average(a.bn, b.bn)!, ...(bx && by ? { bx, by } : {}), provenance: { source },
+    bn: averageMaps(a.bn, b.bn), ...(bx && by ? { bx, by } : {}), provenance: { source },
   };
 }
