@@ -63,8 +63,10 @@ export interface LabelSplitOptions {
   readonly total?: number;
   /**
    * Direct pair sums a footpoint may cost, per padded-grid pixel, before it gets its own FFT
-   * instead (default 12). Measured on this machine: one padded convolution (six transforms) costs
-   * about as much as 12 direct pair visits per padded pixel. Infinity forces direct sums, 0 forces FFTs.
+   * instead (default 4). One padded convolution (six transforms) costs about as much as 12 direct
+   * pair visits per padded pixel, but most rows are now made by box pair sums at a fraction of
+   * that: timed on the demo pair and archive frames (docs/speed.md, eighth round), 2-4 split
+   * fastest. Infinity forces direct sums, 0 forces FFTs.
    */
   readonly directPairsPerPaddedPixel?: number;
   /** Most direct pair visits spent on the pair matrix (default 1e7, about 40 ms here). */
@@ -186,7 +188,7 @@ export function splitPart(
   }
 
   // Which footpoints get their own convolution: largest first, while direct sums would cost more.
-  const perPixel = options.directPairsPerPaddedPixel ?? 12;
+  const perPixel = options.directPairsPerPaddedPixel ?? 4;
   const budget = perPixel * plan.px * plan.py;
   const order = [...Array(k).keys()].sort((a, b) => counts[b] - counts[a]);
   let smallPixels = counts.reduce((s, c) => s + c, 0);
