@@ -25,7 +25,7 @@ import { SPECTRUM_BLOCK, createPaddedWorkspace, forwardByBlocks, paddedWorkspace
 import type { FftPlan, RealFftPlan } from './fft.js';
 import { createFftPlan, createRealFftPlan, nextPowerOfTwo } from './fft.js';
 import { createSimdArena } from './simdColumns.js';
-import { CM_PER_MM } from './units.js';
+import { sampleKernel } from './fluxKernel.js';
 
 /** A footpoint's bounding box on the frame grid, pixels: columns x0 .. x0+w-1, rows y0 .. y0+h-1. */
 export interface PixelBox {
@@ -128,36 +128,14 @@ export function boxSpectra(maps: BoxMaps, box: PixelBox, grid: PairGrid): BoxSpe
 export function boxPairSum(a: PixelBox, sa: BoxSpectra, b: PixelBox, sb: BoxSpectra, grid: PairGrid, dx: number, dy: number): number {
   const { plan, kx, ky } = grid, { px, py } = plan;
   if (px < a.w + b.w - 1 || py < a.h + b.h - 1) throw new RangeError(`pair grid ${px}x${py} too small for boxes ${a.w}x${a.h} and ${b.w}x${b.h}`);
-  kernelWindow(b.x0 - a.x0, b.y0 - a.y0, a, b, px, py, dx, dy, kx, ky);
+  // The kernel at offsets t - s = (B0 - A0) + (t' - s'), placed circularly; zero elsewhere.
+  kx.fill(0, 0, px * py); ky.fill(0, 0, px * py);
+  sampleKernel(b.x0 - a.x0, b.y0 - a.y0, { from: -(a.w - 1), to: b.w - 1 }, { from: -(a.h - 1), to: b.h - 1 }, px, py, dx, dy, kx, ky);
   let s = 0;
   forwardByBlocks(plan, grid.work, [{ map: kx, nx: px, ny: py }, { map: ky, nx: px, ny: py }], (inRe, inIm, c0, width) => {
     s += spectralPairSum(inRe[0], inIm[0], inRe[1], inIm[1], sa, sb, c0 * py, c0, width, px, py);
   });
   return s / (px * py);
-}
-
-/**
- * The kernel at offsets (ox, oy) + (i, j), i in [-(a.w-1), b.w-1], j in [-(a.h-1), b.h-1], placed
- * at (i mod px, j mod py), zero elsewhere: x/r^2 and y/r^2 times dx dy (Mm^2) times 1e8 cm/Mm, as
- * the whole-grid kernel (core/fluxKernel.ts), 0 at r = 0.
- */
-function kernelWindow(
-  ox: number, oy: number, a: PixelBox, b: PixelBox, px: number, py: number, dx: number, dy: number, kx: Float64Array, ky: Float64Array,
-): void {
-  kx.fill(0, 0, px * py); ky.fill(0, 0, px * py);
-  const scale = dx * dy * CM_PER_MM;
-  for (let j = -(a.h - 1); j <= b.h - 1; j++) {
-    const iy = oy + j, Y = iy * dy, row = ((j + py) % py) * px;
-    for (let i = -(a.w - 1); i <= b.w - 1; i++) {
-      const ix = ox + i;
-      if (ix === 0 && iy === 0) continue;
-      const X = ix * dx;
-      const inv = scale / (X * X + Y * Y);
-      const k = row + ((i + px) % px);
-      kx[k] = X * inv;
-      ky[k] = Y * inv;
-    }
-  }
 }
 
 /**

@@ -62,21 +62,9 @@ export function createFluxKernel(grid: Grid, options: PaddedWorkspaceOptions = {
   const { nx, ny, dx, dy } = grid;
   const plan = createPaddedPlan(nx, ny);
   const { px, py } = plan;
-  const scale = dx * dy * CM_PER_MM;
   const kx = new Float64Array(px * py);
   const ky = new Float64Array(px * py);
-  for (let iy = -(ny - 1); iy <= ny - 1; iy++) {
-    const Y = iy * dy;
-    const row = ((iy + py) % py) * px;
-    for (let ix = -(nx - 1); ix <= nx - 1; ix++) {
-      if (ix === 0 && iy === 0) continue;
-      const X = ix * dx;
-      const inv = scale / (X * X + Y * Y);
-      const k = row + ((ix + px) % px);
-      kx[k] = X * inv;
-      ky[k] = Y * inv;
-    }
-  }
+  sampleKernel(0, 0, { from: -(nx - 1), to: nx - 1 }, { from: -(ny - 1), to: ny - 1 }, px, py, dx, dy, kx, ky);
   const sx = createSpectrum(plan);
   const sy = createSpectrum(plan);
   forwardPadded(plan, kx, px, py, sx);
@@ -89,6 +77,31 @@ export function createFluxKernel(grid: Grid, options: PaddedWorkspaceOptions = {
   const spectrum = () => arena ? arena.alloc(length) : new Float64Array(length);
   const kxIm = byColumnBlocks(sx.im, plan, spectrum()), kyIm = byColumnBlocks(sy.im, plan, spectrum());
   return { nx, ny, dx, dy, plan, kxIm, kyIm, scratch: {}, workspaceOptions: { ...options, simd }, ...(arena && { arena }) };
+}
+
+/**
+ * The kernel at pixel offsets (ox + i, oy + j), i and j over the given ranges, written at
+ * (i mod px, j mod py) of kx and ky (px by py, row-major; other values left as they are): x/r^2
+ * and y/r^2 times dx dy (Mm^2) times 1e8 cm/Mm, nothing at r = 0. The whole grid's kernel is the
+ * window at offset 0; a pair of boxes takes the window of offsets between them (core/boxPairSum.ts).
+ */
+export function sampleKernel(
+  ox: number, oy: number, is: { from: number; to: number }, js: { from: number; to: number },
+  px: number, py: number, dx: number, dy: number, kx: Float64Array, ky: Float64Array,
+): void {
+  const scale = dx * dy * CM_PER_MM;
+  for (let j = js.from; j <= js.to; j++) {
+    const iy = oy + j, Y = iy * dy, row = ((j + py) % py) * px;
+    for (let i = is.from; i <= is.to; i++) {
+      const ix = ox + i;
+      if (ix === 0 && iy === 0) continue;
+      const X = ix * dx;
+      const inv = scale / (X * X + Y * Y);
+      const k = row + ((i + px) % px);
+      kx[k] = X * inv;
+      ky[k] = Y * inv;
+    }
+  }
 }
 
 /** A row-major half spectrum (py rows of w) laid out by blocks of SPECTRUM_BLOCK columns into `out` (zeros beyond w). */
