@@ -32,7 +32,7 @@ import { nextPowerOfTwo } from './fft.js';
 import type { FluxTransport } from './fluxTransport.js';
 import { convolveTransport, helicityFluxTotal } from './helicityFlux.js';
 import { CM_PER_KM, CM_PER_MM, pixelAreaCm2 } from './units.js';
-import type { BoxSpectra, PairGrid, PairGrids, PixelBox } from './boxPairSum.js';
+import type { BoxMaps, BoxSpectra, PairGrid, PairGrids, PixelBox } from './boxPairSum.js';
 import { boxPairSum, boxSpectra, createPairGrids, pairGrid, pairGridSize } from './boxPairSum.js';
 
 export interface LabelSplit {
@@ -73,8 +73,8 @@ export interface LabelSplitOptions {
   readonly pairBudget?: number;
   /**
    * Most large footpoints that get a full-grid convolution (their whole row of the pair matrix;
-   * default 4); rows by box pair sums (`rows`) do not count. The other large ones get their spin
-   * from a convolution over their own bounding box, which is far cheaper, and their pairs stay NaN.
+   * default 4); rows by box pair sums (`rows`) do not count. The other large ones get only their
+   * spin (their pair with themselves over their own box, far cheaper), and their pairs stay NaN.
    */
   readonly maxFullRows?: number;
   /** Caller-owned cache for the kernels of those bounding boxes and the box rows' pair grids. */
@@ -246,7 +246,6 @@ export function splitPart(
   if (rowMethod !== 'grid') for (let a = 0; a < k; a++) byBoxes[a] = hasRow[a];
   const ownsPair = (a: number, b: number) => b !== a && counts[b] > 0 && !(hasRow[b] && (!byBoxes[b] || b < a));
   const gridRowCost = 6 * transformCost(plan.px, plan.py);
-  const boxRowCost = new Float64Array(k);
   const boxRowEstimate = (a: number) => {
     let cost = 0;
     const sizes = new Set<number>();
@@ -264,8 +263,7 @@ export function splitPart(
     changed = false;
     for (const a of order) {
       if (!byBoxes[a]) continue;
-      boxRowCost[a] = boxRowEstimate(a);
-      if (boxRowCost[a] >= 1) { byBoxes[a] = 0; changed = true; }
+      if (boxRowEstimate(a) >= 1) { byBoxes[a] = 0; changed = true; }
     }
   }
   {
@@ -275,6 +273,8 @@ export function splitPart(
   // Large footpoints without a row leave their pairs unknown.
   if (hasRow.some((v, j) => big[j] && !v)) pairsComplete = false;
   const gridRow = Uint8Array.from(hasRow, (v, a) => (v && !byBoxes[a] ? 1 : 0));
+  // The box rows' costs for the deal, on the final plan (which pairs each owns).
+  const boxRowCost = Float64Array.from(byBoxes, (v, a) => (v && hasRow[a] ? boxRowEstimate(a) : 0));
 
   const items: { cost: number; kind: 'direct' | 'source' | 'labelled'; a: number }[] = [];
   if (directVisits > 0) items.push({ cost: directVisits / budget, kind: 'direct', a: -1 });
@@ -335,8 +335,8 @@ export function splitPart(
   const area = pixelAreaCm2(dx, dy);
   const directFactor = (-1 / (2 * Math.PI)) * (CM_PER_KM / CM_PER_MM) * area * area;
 
-  // FFT path: the field of each big footpoint, summed over every labelled pixel (full rows for
-  // the largest `maxFullRows`), or over its own pixels only, from a convolution of its bounding box.
+  // FFT path: the field of each big footpoint, summed over every labelled pixel (whole-grid rows),
+  // over each other footpoint by box pair sums (box rows), or over its own pixels only (spins).
   const fftSums = new Float64Array(k * k);
   // The full-grid inputs (zero but for one footpoint's pixels, which are cleared after its
   // convolution) and one set of convolution maps for every full-grid convolution below (each
@@ -546,7 +546,7 @@ function transformCost(px: number, py: number): number {
 const BOX_TRANSFORM_FACTOR = 2;
 
 /** A footpoint's Bn, Fx and Fy (pixels byFootpoint[from..to)) on a box w by h from (x0, y0), zero elsewhere. */
-function boxMaps(t: FluxTransport, byFootpoint: Int32Array, from: number, to: number, box: PixelBox, nx: number): { bn: Float64Array; fx: Float64Array; fy: Float64Array } {
+function boxMaps(t: FluxTransport, byFootpoint: Int32Array, from: number, to: number, box: PixelBox, nx: number): BoxMaps {
   const size = box.w * box.h;
   const bn = new Float64Array(size), fx = new Float64Array(size), fy = new Float64Array(size);
   for (let e = from; e < to; e++) {

@@ -4,11 +4,8 @@
 
 import type { Frame } from '../frame.js';
 
-/** (p + q) / 2 pixel by pixel (NaN where either is NaN); undefined without both. */
-export function averageMaps(p: Float64Array, q: Float64Array): Float64Array;
-export function averageMaps(p: Float64Array | undefined, q: Float64Array | undefined): Float64Array | undefined;
-export function averageMaps(p: Float64Array | undefined, q: Float64Array | undefined): Float64Array | undefined {
-  if (!p || !q) return undefined;
+/** (p + q) / 2 pixel by pixel (NaN where either is NaN). */
+export function averageMaps(p: Float64Array, q: Float64Array): Float64Array {
   const out = new Float64Array(p.length);
   for (let i = 0; i < p.length; i++) out[i] = 0.5 * (p[i] + q[i]);
   return out;
@@ -16,7 +13,7 @@ export function averageMaps(p: Float64Array | undefined, q: Float64Array | undef
 
 /** Mid-time frame of a checked pair (same grid): bn, and bx, by when both frames carry them. */
 export function midFrame(a: Frame, b: Frame): Frame {
-  const bx = averageMaps(a.bx, b.bx), by = averageMaps(a.by, b.by);
+  const bx = a.bx && b.bx && averageMaps(a.bx, b.bx), by = a.by && b.by && averageMaps(a.by, b.by);
   const source = `${a.provenance?.source ?? 'first frame'} + ${b.provenance?.source ?? 'second frame'}`;
   return {
     nx: a.nx, ny: a.ny, dx: a.dx, dy: a.dy, time: (a.time + b.time) / 2,
