@@ -1,5 +1,11 @@
-#!/usr/bin/env node
-// Launcher: the TypeScript is compiled to dist/ by `npm install` (the prepare script).
+#!/bin/sh
+':' //; case "$1" in process|survey) export MALLOC_ARENA_MAX="${MALLOC_ARENA_MAX:-1}" MALLOC_MMAP_THRESHOLD_="${MALLOC_MMAP_THRESHOLD_:-2097152}";; esac; exec node "$0" "$@"
+// Launcher, read twice: by the shell when run as a program (`npx helicord`, `./bin/helicord.js`),
+// where the line above sets glibc's allocator for the batch commands, keeping values the caller
+// set, and starts Node on this same file; then by Node, for which that line is a string and a
+// comment. The settings and why: replay/batchAllocator.ts (which must say the same: its test
+// checks). `node bin/helicord.js` skips the shell line.
+// The TypeScript is compiled to dist/ by `npm install` (the prepare script).
 import { existsSync } from 'node:fs';
 import { fileURLToPath, pathToFileURL } from 'node:url';
 import { dirname, join } from 'node:path';

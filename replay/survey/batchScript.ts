@@ -4,6 +4,7 @@
 // only the tasks without a complete result. Pure: options in, text out.
 
 import { arraySpec } from './taskPlan.js';
+import { batchAllocatorExports } from '../batchAllocator.js';
 
 export interface BatchScriptOptions {
   /** The survey folder, absolute. */
@@ -48,6 +49,8 @@ export function batchScript(o: BatchScriptOptions): string {
     '# --array=LIST as `helicord survey merge` prints it): a task whose result is complete does',
     '# nothing. Then: helicord survey merge ' + shellWord(dir),
     'set -euo pipefail',
+    "# glibc's allocator as helicord's launcher sets it for batch runs (less peak memory: replay/batchAllocator.ts).",
+    batchAllocatorExports(),
     `exec ${o.helicord} survey run ${shellWord(dir)} --task "$SLURM_ARRAY_TASK_ID" --workers "\${SLURM_CPUS_PER_TASK:-1}"`,
     '',
   ];

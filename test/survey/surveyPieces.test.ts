@@ -79,6 +79,8 @@ describe('the tasks', () => {
       '#SBATCH --mem=6000M', '#SBATCH --partition=short', '#SBATCH --account=solar', '#SBATCH --output=/scratch/cycle 24/logs/task-%a-job-%A.out']) {
       expect(lines).toContain(l);
     }
+    // The allocator settings of replay/batchAllocator.ts, before the run, keeping the cluster's own.
+    expect(lines.indexOf('export MALLOC_ARENA_MAX="${MALLOC_ARENA_MAX:-1}" MALLOC_MMAP_THRESHOLD_="${MALLOC_MMAP_THRESHOLD_:-2097152}"')).toBe(lines.length - 3);
     expect(lines).toContain(`exec /opt/node/bin/node /opt/helicord/bin/helicord.js survey run '/scratch/cycle 24' --task "$SLURM_ARRAY_TASK_ID" --workers "\${SLURM_CPUS_PER_TASK:-1}"`);
     const plain = batchScript({ surveyDir: '/s', tasks: [0], jobName: 'j', time: '10:00', cpusPerTask: 1, helicord: 'helicord' }).split('\n');
     expect(plain).toContain('#SBATCH --array=0');
