@@ -47,9 +47,10 @@ export function checkFrame(frame: Frame, source = frame.provenance?.source ?? 'f
   if ((frame.bx === undefined) !== (frame.by === undefined)) {
     throw new InputError(source, frame.bx ? 'by' : 'bx', 'bx and by must be given together');
   }
-  let valid = 0;
-  for (let i = 0; i < frame.bn.length; i++) if (Number.isFinite(frame.bn[i])) valid++;
-  if (valid === 0) throw new InputError(source, 'bn', 'holds no valid value (all NaN)');
+  // One valid value is enough (the frame is checked several times on its way: no full count).
+  let i = 0;
+  while (i < frame.bn.length && !Number.isFinite(frame.bn[i])) i++;
+  if (i === frame.bn.length) throw new InputError(source, 'bn', 'holds no valid value (all NaN)');
 }
 
 /** True when the frame carries a horizontal velocity field. */

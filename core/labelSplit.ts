@@ -32,7 +32,7 @@ import { nextPowerOfTwo } from './fft.js';
 import type { FluxTransport } from './fluxTransport.js';
 import { convolveTransport, helicityFluxTotal } from './helicityFlux.js';
 import { CM_PER_KM, CM_PER_MM, pixelAreaCm2 } from './units.js';
-import type { BoxMaps, BoxSpectra, PairGrid, PairGrids, PixelBox } from './boxPairSum.js';
+import type { BoxMaps, BoxSpectra, PairGrids, PixelBox } from './boxPairSum.js';
 import { boxPairSum, boxSpectra, createPairGrids, pairGrid, pairGridSize } from './boxPairSum.js';
 
 export interface LabelSplit {
@@ -358,34 +358,45 @@ export function splitPart(
     for (let e = from; e < to; e++) { const i = pixels[e]; m.bn[i] = 0; m.fx[i] = 0; m.fy[i] = 0; }
     return conv;
   };
-  // Pair grids (the caller's, when it keeps a cache; larger ones made as pairs need them) and each
-  // footpoint's spectra on them, made as the box rows and spins ask for them.
-  const holder: { pairGrids?: PairGrids } = options.cache ?? {};
-  const pairGridOf = (a: number, b: number) => {
-    const { px, py } = pairGridSize(boxes[a], boxes[b]);
-    const had = holder.pairGrids;
-    if (!had || px > had.maxPx || py > had.maxPy) holder.pairGrids = createPairGrids(Math.max(px, had?.maxPx ?? 2), Math.max(py, had?.maxPy ?? 2));
-    return pairGrid(holder.pairGrids!, px, py);
-  };
-  const spectra = new Map<string, BoxSpectra>();
-  const spectraOf = (j: number, g: PairGrid) => {
-    const key = `${j}@${g.plan.px}x${g.plan.py}`;
-    let sp = spectra.get(key);
-    if (!sp) { sp = boxSpectra(boxMaps(t, byFootpoint, start[j], start[j + 1], boxes[j], nx), boxes[j], g); spectra.set(key, sp); }
-    return sp;
-  };
+  // The box pairs this part sums: each box row's spin (its pair with itself, over its own box),
+  // then one pair at a time (the pairs with rows of their own before a are taken from those).
+  const boxPairs: { a: number; b: number; px: number; py: number }[] = [];
   for (let a = 0; a < k; a++) {
-    if (!big[a] || !didSource[a]) continue;
-    if (!hasRow[a] || byBoxes[a]) {
-      // The spin as the footpoint's pair with itself, over its own box; a box row then one pair at
-      // a time (the pairs with rows of their own before a are taken from those).
-      for (let b = 0; b < k; b++) {
-        if (b !== a && !(hasRow[a] && ownsPair(a, b))) continue;
-        const g = pairGridOf(a, b);
-        fftSums[b * k + a] = boxPairSum(boxes[a], spectraOf(a, g), boxes[b], spectraOf(b, g), g, dx, dy);
-      }
-      continue;
+    if (!big[a] || !didSource[a] || (hasRow[a] && !byBoxes[a])) continue;
+    for (let b = 0; b < k; b++) {
+      if (b !== a && !(hasRow[a] && ownsPair(a, b))) continue;
+      boxPairs.push({ a, b, ...pairGridSize(boxes[a], boxes[b]) });
     }
+  }
+  if (boxPairs.length > 0) {
+    // Pair grids up to the largest this frame needs, made once (the caller's, when it keeps a
+    // cache). The pairs go one grid size at a time, largest first, and each size's spectra are let
+    // go before the next size's are made: at 512^2 the spectra of a frame's box rows reach 30 MiB
+    // when all are held at once. Each entry is its own sum, so the order leaves the numbers as
+    // they are; the whole-grid rows below come after, when these are no longer held.
+    const holder: { pairGrids?: PairGrids } = options.cache ?? {};
+    let maxPx = 2, maxPy = 2;
+    for (const pair of boxPairs) { maxPx = Math.max(maxPx, pair.px); maxPy = Math.max(maxPy, pair.py); }
+    const had = holder.pairGrids;
+    if (!had || maxPx > had.maxPx || maxPy > had.maxPy) holder.pairGrids = createPairGrids(Math.max(maxPx, had?.maxPx ?? 2), Math.max(maxPy, had?.maxPy ?? 2));
+    boxPairs.sort((p, q) => q.px * q.py - p.px * p.py || q.px - p.px);
+    for (let e = 0; e < boxPairs.length;) {
+      const { px, py } = boxPairs[e];
+      const g = pairGrid(holder.pairGrids!, px, py);
+      const spectra = new Map<number, BoxSpectra>();
+      const spectraOf = (j: number) => {
+        let sp = spectra.get(j);
+        if (!sp) { sp = boxSpectra(boxMaps(t, byFootpoint, start[j], start[j + 1], boxes[j], nx), boxes[j], g); spectra.set(j, sp); }
+        return sp;
+      };
+      for (; e < boxPairs.length && boxPairs[e].px === px && boxPairs[e].py === py; e++) {
+        const { a, b } = boxPairs[e];
+        fftSums[b * k + a] = boxPairSum(boxes[a], spectraOf(a), boxes[b], spectraOf(b), g, dx, dy);
+      }
+    }
+  }
+  for (let a = 0; a < k; a++) {
+    if (!big[a] || !didSource[a] || !hasRow[a] || byBoxes[a]) continue;
     const { p, q, r } = convolvePixels(byFootpoint, start[a], start[a + 1]);
     addFieldSums(t, labelled, slot, gridRow, a, k, p, q, r, fftSums);
   }

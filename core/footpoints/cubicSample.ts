@@ -31,3 +31,25 @@ export function sampleCubic(map: ArrayLike<number>, nx: number, ny: number, px: 
   out[0] = v; out[1] = gx; out[2] = gy;
   return true;
 }
+
+/**
+ * The value of sampleCubic alone (the same operations, so the same number), NaN where sampleCubic
+ * is invalid: the pattern fit's angle scan needs no gradient.
+ */
+export function sampleCubicValue(map: ArrayLike<number>, nx: number, ny: number, px: number, py: number): number {
+  const ix = Math.floor(px), iy = Math.floor(py);
+  if (ix < 1 || iy < 1 || ix + 2 >= nx || iy + 2 >= ny) return NaN;
+  const tx = px - ix, ty = py - iy;
+  const wx0 = ((-0.5 * tx + 1) * tx - 0.5) * tx, wx1 = (1.5 * tx - 2.5) * tx * tx + 1;
+  const wx2 = ((-1.5 * tx + 2) * tx + 0.5) * tx, wx3 = (0.5 * tx - 0.5) * tx * tx;
+  const wy0 = ((-0.5 * ty + 1) * ty - 0.5) * ty, wy1 = (1.5 * ty - 2.5) * ty * ty + 1;
+  const wy2 = ((-1.5 * ty + 2) * ty + 0.5) * ty, wy3 = (0.5 * ty - 0.5) * ty * ty;
+  let v = 0;
+  let row = (iy - 1) * nx + ix - 1;
+  for (let k = 0; k < 4; k++, row += nx) {
+    const h = wx0 * map[row] + wx1 * map[row + 1] + wx2 * map[row + 2] + wx3 * map[row + 3];
+    if (!Number.isFinite(h)) return NaN;
+    v += (k === 0 ? wy0 : k === 1 ? wy1 : k === 2 ? wy2 : wy3) * h;
+  }
+  return v;
+}

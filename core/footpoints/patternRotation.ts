@@ -8,7 +8,7 @@
 // reported as a reason, never as a number. Angles are counter-clockwise seen from the corona.
 
 import type { Grid } from '../grid.js';
-import { sampleCubic } from './cubicSample.js';
+import { sampleCubic, sampleCubicValue } from './cubicSample.js';
 
 export type PatternNote = 'axisymmetric' | 'too-small' | 'too-noisy' | 'poor-fit';
 
@@ -297,9 +297,16 @@ function patternSums(
   for (let k = 0; k < u.length; k++) {
     const X = cx + c * u[k] - sn * v[k];
     const Y = cy + sn * u[k] + c * v[k];
-    if (!sampleCubic(field, nx, ny, X / dx, Y / dy, s)) continue;
+    let f2: number;
+    if (normal) {
+      if (!sampleCubic(field, nx, ny, X / dx, Y / dy, s)) continue;
+      f2 = s[0];
+    } else {
+      // The scan: the value alone (a valid sample is finite: NaN marks an invalid one).
+      f2 = sampleCubicValue(field, nx, ny, X / dx, Y / dy);
+      if (Number.isNaN(f2)) continue;
+    }
     used++;
-    const f2 = s[0];
     s22 += f2 * f2; s12 += f1[k] * f2; s11 += f1[k] * f1[k];
     if (normal) {
       const gX = s[1] / dx, gY = s[2] / dy;

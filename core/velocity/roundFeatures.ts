@@ -57,14 +57,19 @@ export function roundFeatures(
       sw += w; sx += w * x; sy += w * ((k - x) / nx);
     }
     const cx = sx / sw, cy = sy / sw;
-    const radius = (k: number) => { const x = k % nx; return Math.hypot(x - cx, (k - x) / nx - cy); };
+    // Each member's radius once (Math.hypot is slow, and the bins need it twice more).
+    const radii = new Float64Array(members.length);
     let reach = 0;
-    for (const k of members) reach = Math.max(reach, radius(k));
+    for (let e = 0; e < members.length; e++) {
+      const k = members[e], x = k % nx;
+      radii[e] = Math.hypot(x - cx, (k - x) / nx - cy);
+      reach = Math.max(reach, radii[e]);
+    }
     const bins = Math.ceil(reach) + 1;
     const binSum = new Float64Array(bins), binCount = new Float64Array(bins);
-    for (const k of members) { const r = Math.round(radius(k)); binSum[r] += Math.abs(bn[k]); binCount[r]++; }
+    for (let e = 0; e < members.length; e++) { const r = Math.round(radii[e]); binSum[r] += Math.abs(bn[members[e]]); binCount[r]++; }
     let dev = 0;
-    for (const k of members) { const r = Math.round(radius(k)); dev += Math.abs(Math.abs(bn[k]) - binSum[r] / binCount[r]); }
+    for (let e = 0; e < members.length; e++) { const r = Math.round(radii[e]); dev += Math.abs(Math.abs(bn[members[e]]) - binSum[r] / binCount[r]); }
     const asymmetry = dev / sw;
     if (asymmetry <= maxAsymmetry) found.push({ x: cx, y: cy, pixels: members.length, absSum: sw, asymmetry });
   }
