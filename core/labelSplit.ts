@@ -375,10 +375,10 @@ export function splitPart(
     // when all are held at once. Each entry is its own sum, so the order leaves the numbers as
     // they are; the whole-grid rows below come after, when these are no longer held.
     const holder: { pairGrids?: PairGrids } = options.cache ?? {};
-    let maxPx = 2, maxPy = 2;
-    for (const pair of boxPairs) { maxPx = Math.max(maxPx, pair.px); maxPy = Math.max(maxPy, pair.py); }
     const had = holder.pairGrids;
-    if (!had || maxPx > had.maxPx || maxPy > had.maxPy) holder.pairGrids = createPairGrids(Math.max(maxPx, had?.maxPx ?? 2), Math.max(maxPy, had?.maxPy ?? 2));
+    let maxPx = had?.maxPx ?? 2, maxPy = had?.maxPy ?? 2;
+    for (const pair of boxPairs) { maxPx = Math.max(maxPx, pair.px); maxPy = Math.max(maxPy, pair.py); }
+    if (!had || maxPx > had.maxPx || maxPy > had.maxPy) holder.pairGrids = createPairGrids(maxPx, maxPy);
     boxPairs.sort((p, q) => q.px * q.py - p.px * p.py || q.px - p.px);
     for (let e = 0; e < boxPairs.length;) {
       const { px, py } = boxPairs[e];

@@ -24,7 +24,7 @@ export function launcherAllocatorEnv(launcher = fileURLToPath(new URL('../../../
   return env;
 }
 
-interface Run { s: number; cpu: number; peak: number; samples: number }
+interface Run { s: number; cpu: number; peak: number }
 
 /** One `process` run in a child with `allocator` added to an environment without glibc settings. */
 function timed(folder: string, out: string, workers: number, allocator: Record<string, string>, config?: string): Run {
