@@ -24,7 +24,8 @@ import type { PaddedPlan, PaddedWorkspace } from './paddedTransform.js';
 import { SPECTRUM_BLOCK, createPaddedWorkspace, forwardByBlocks, paddedWorkspaceBytes } from './paddedTransform.js';
 import type { FftPlan, RealFftPlan } from './fft.js';
 import { createFftPlan, createRealFftPlan, nextPowerOfTwo } from './fft.js';
-import { createSimdArena } from './simdColumns.js';
+import { arenaBytes, createSimdArena } from './simdColumns.js';
+import type { FluxKernel } from './fluxKernel.js';
 import { sampleKernel } from './fluxKernel.js';
 
 /** A footpoint's bounding box on the frame grid, pixels: columns x0 .. x0+w-1, rows y0 .. y0+h-1. */
@@ -81,17 +82,27 @@ export function pairGridSize(a: PixelBox, b: PixelBox): { px: number; py: number
   return { px: Math.max(2, nextPowerOfTwo(a.w + b.w - 1)), py: Math.max(2, nextPowerOfTwo(a.h + b.h - 1)) };
 }
 
-/** Pair grids up to maxPx by maxPy (powers of two >= 2); simd: false keeps the TypeScript butterflies (the same numbers). */
-export function createPairGrids(maxPx: number, maxPy: number, options: { simd?: boolean } = {}): PairGrids {
+/**
+ * Pair grids up to maxPx by maxPy (powers of two >= 2); simd: false keeps the TypeScript butterflies
+ * (the same numbers). With `kernel` (a flux kernel of the same thread, whose padded grid is at
+ * least as large), the buffers lie in the kernel's stretch when they fit there: the pair sums run
+ * between the kernel's convolutions, never inside one.
+ */
+export function createPairGrids(maxPx: number, maxPy: number, options: { simd?: boolean; kernel?: FluxKernel } = {}): PairGrids {
   const powerOfTwo = (n: number) => n >= 2 && nextPowerOfTwo(n) === n;
   if (!powerOfTwo(maxPx) || !powerOfTwo(maxPy)) throw new RangeError(`pair grids up to ${maxPx}x${maxPy}: sides must be powers of two >= 2`);
   const rows = new Map<number, RealFftPlan>(), cols = new Map<number, FftPlan>();
   for (let n = 2; n <= maxPx; n *= 2) rows.set(n, createRealFftPlan(n));
   for (let n = 2; n <= maxPy; n *= 2) cols.set(n, createFftPlan(n));
   const largest = gridPlan(maxPx, maxPy, rows, cols);
-  const arena = options.simd === false ? undefined : createSimdArena(paddedWorkspaceBytes(largest, 3), [...cols.values()], [...rows.values()]);
+  const bytes = paddedWorkspaceBytes(largest, 3) + 2 * arenaBytes(maxPx * maxPy);
+  const { kernel } = options, stretch = kernel?.stretch;
+  const lent = kernel?.arena && stretch && stretch.end - stretch.start >= bytes && maxPx <= kernel.plan.px && maxPy <= kernel.plan.py
+    ? kernel.arena.over(stretch) : undefined;
+  const arena = options.simd === false ? undefined : lent ?? createSimdArena(bytes, [...cols.values()], [...rows.values()]);
   const work = createPaddedWorkspace(largest, 3, arena ? { arena } : { simd: false });
-  return { maxPx, maxPy, work, rows, cols, kx: new Float64Array(maxPx * maxPy), ky: new Float64Array(maxPx * maxPy) };
+  const window = () => (arena ? arena.alloc(maxPx * maxPy) : new Float64Array(maxPx * maxPy));
+  return { maxPx, maxPy, work, rows, cols, kx: window(), ky: window() };
 }
 
 /** The px by py grid of `grids` (within its largest). */

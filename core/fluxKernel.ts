@@ -9,6 +9,8 @@ import type { PaddedPlan, PaddedWorkspace, PaddedWorkspaceOptions } from './padd
 import { SPECTRUM_BLOCK, createPaddedPlan, createPaddedWorkspace, createSpectrum, forwardPadded, paddedWorkspaceBytes } from './paddedTransform.js';
 import type { SimdArena } from './simdColumns.js';
 import { arenaBytes, createSimdArena } from './simdColumns.js';
+import { createFftPlan, createRealFftPlan } from './fft.js';
+import type { SharedStretch } from './wasmBinary.js';
 import { CM_PER_MM } from './units.js';
 
 export interface FluxKernel extends Grid {
@@ -34,6 +36,20 @@ export interface FluxKernel extends Grid {
    * so that the SIMD kernels form the spectral products in place; absent without SIMD.
    */
   readonly arena?: SimdArena;
+  /**
+   * The arena's bytes after the spectra, where the workspace lies. The kernel uses them only inside
+   * its own calls, so between calls it lends them to the other workspaces of the thread that owns
+   * it (the label split's pair grids, the affine fit): see SharedStretch. Absent without an arena.
+   */
+  readonly stretch?: SharedStretch;
+}
+
+export interface FluxKernelOptions extends PaddedWorkspaceOptions {
+  /**
+   * Bytes the workspaces that borrow the kernel's stretch need (what the thread's affine fit took
+   * last, say): the stretch is made at least this large, and at least the kernel's own workspace.
+   */
+  readonly scratchBytes?: number;
 }
 
 /** Channels of the kernel's workspace: the most any convolution here needs at once. */
@@ -41,7 +57,9 @@ const KERNEL_CHANNELS = 3;
 
 /** The kernel's transform buffers (in its arena when it has one). */
 export function kernelWorkspace(kernel: FluxKernel): PaddedWorkspace {
-  return kernel.scratch.workspace ??= createPaddedWorkspace(kernel.plan, KERNEL_CHANNELS, { ...kernel.workspaceOptions, arena: kernel.arena });
+  return kernel.scratch.workspace ??= createPaddedWorkspace(kernel.plan, KERNEL_CHANNELS, {
+    ...kernel.workspaceOptions, arena: kernel.arena && kernel.stretch && kernel.arena.over(kernel.stretch),
+  });
 }
 
 /** An explicit, caller-owned cache of kernels by grid (shape and pixel size). */
@@ -58,7 +76,7 @@ export const SIMD_MIN_PADDED_PIXELS = 256 * 256;
  * The kernel of `grid`; options.simd: true or false to choose the WebAssembly SIMD kernels or the
  * TypeScript loops (the same numbers), by default SIMD from SIMD_MIN_PADDED_PIXELS on.
  */
-export function createFluxKernel(grid: Grid, options: PaddedWorkspaceOptions = {}): FluxKernel {
+export function createFluxKernel(grid: Grid, options: FluxKernelOptions = {}): FluxKernel {
   const { nx, ny, dx, dy } = grid;
   const plan = createPaddedPlan(nx, ny);
   const { px, py } = plan;
@@ -71,12 +89,18 @@ export function createFluxKernel(grid: Grid, options: PaddedWorkspaceOptions = {
   forwardPadded(plan, ky, px, py, sy);
   const length = Math.ceil(plan.w / SPECTRUM_BLOCK) * SPECTRUM_BLOCK * py;
   const simd = options.simd ?? px * py >= SIMD_MIN_PADDED_PIXELS;
+  const stretchBytes = Math.max(paddedWorkspaceBytes(plan, KERNEL_CHANNELS), options.scratchBytes ?? 0);
+  // With the tables of every shorter length, for the pair grids that borrow the stretch (core/boxPairSum.ts).
   const arena = simd
-    ? createSimdArena(2 * arenaBytes(length) + paddedWorkspaceBytes(plan, KERNEL_CHANNELS), [plan.cols], [plan.rows])
+    ? createSimdArena(2 * arenaBytes(length) + stretchBytes, [plan.cols, ...plansUpTo(py, createFftPlan)], [plan.rows, ...plansUpTo(px, createRealFftPlan)])
     : undefined;
   const spectrum = () => arena ? arena.alloc(length) : new Float64Array(length);
   const kxIm = byColumnBlocks(sx.im, plan, spectrum()), kyIm = byColumnBlocks(sy.im, plan, spectrum());
-  return { nx, ny, dx, dy, plan, kxIm, kyIm, scratch: {}, workspaceOptions: { ...options, simd }, ...(arena && { arena }) };
+  const { scratchBytes: _bytes, ...workspaceOptions } = options;
+  void _bytes;
+  return {
+    nx, ny, dx, dy, plan, kxIm, kyIm, scratch: {}, workspaceOptions: { ...workspaceOptions, simd }, ...(arena && { arena, stretch: arena.rest() }),
+  };
 }
 
 /**
@@ -114,13 +138,25 @@ function byColumnBlocks(spectrum: Float64Array, plan: PaddedPlan, out: Float64Ar
   return out;
 }
 
+/** Plans of every power of two from 2 to n. */
+function plansUpTo<P>(n: number, make: (length: number) => P): P[] {
+  const plans: P[] = [];
+  for (let m = 2; m <= n; m *= 2) plans.push(make(m));
+  return plans;
+}
+
+/** A kernel cache's key for `grid` (shape and pixel size). */
+export function kernelKey(grid: Grid): string {
+  return `${grid.nx}x${grid.ny}@${grid.dx},${grid.dy}`;
+}
+
 /**
  * The kernel for `grid`, from `cache` when it holds one, otherwise made (with `options`) and stored
  * there.
  */
-export function fluxKernelFor(grid: Grid, cache?: FluxKernelCache, options?: PaddedWorkspaceOptions): FluxKernel {
+export function fluxKernelFor(grid: Grid, cache?: FluxKernelCache, options?: FluxKernelOptions): FluxKernel {
   if (!cache) return createFluxKernel(grid, options);
-  const key = `${grid.nx}x${grid.ny}@${grid.dx},${grid.dy}`;
+  const key = kernelKey(grid);
   let k = cache.get(key);
   if (!k) {
     k = createFluxKernel(grid, options);

@@ -7,8 +7,8 @@
 //   runFrameTask('inferVelocity', [previous, frame, settings.velocity], cache)
 //   runFrameTask('splitPart', [grid, t, labels, {}, { part: 0, of: 2 }], cache)
 
-import type { FluxKernelCache } from './fluxKernel.js';
-import { fluxKernelFor } from './fluxKernel.js';
+import type { FluxKernel, FluxKernelCache } from './fluxKernel.js';
+import { fluxKernelFor, kernelKey } from './fluxKernel.js';
 import type { Frame } from './frame.js';
 import type { FluxTransport } from './fluxTransport.js';
 import type { Grid } from './grid.js';
@@ -23,9 +23,11 @@ import { createAffineFitWorkspace } from './velocity/fitWindowPasses.js';
 
 /**
  * What a thread keeps from one frame's tasks to the next: the flux kernels by grid (the Map), the
- * label split's pair grids (made at its first box row) and the affine fit's workspace, made at the first inference (its memory is worth keeping: fresh
- * memory costs more to touch than the fit's kernels save, docs/speed.md). Owned by whoever runs
- * the tasks; a plain FluxKernelCache is one that has not kept a workspace yet.
+ * label split's pair grids (made at its first box row) and the affine fit's workspace, made at the
+ * first inference (its memory is worth keeping: fresh memory costs more to touch than the fit's
+ * kernels save, docs/speed.md). The pair grids and the fit run in the stretch of the frame grid's
+ * kernel once it exists (core/wasmBinary.ts SharedStretch): one scratch memory per thread. Owned
+ * by whoever runs the tasks; a plain FluxKernelCache is one that has not kept a workspace yet.
  */
 export type FrameCache = SplitCache & { affineFit?: AffineFitWorkspace };
 
@@ -47,10 +49,26 @@ export type FrameTaskResult<K extends FrameTaskName> = ReturnType<FrameTasks[K]>
 
 export const FRAME_TASKS: FrameTasks = {
   inferVelocity: ([previous, frame, settings, pairNoiseG], cache) =>
-    inferVelocity(previous, frame, settings, cache && (cache.affineFit ??= createAffineFitWorkspace()), pairNoiseG),
+    inferVelocity(previous, frame, settings, cache && affineFitWorkspace(cache, frame), pairNoiseG),
   splitPart: ([grid, t, labels, options, share], cache) =>
-    splitPart(fluxKernelFor(grid, cache), t, labels, { ...options, ...(cache && { cache }) }, share),
+    splitPart(frameKernel(grid, cache), t, labels, { ...options, ...(cache && { cache }) }, share),
 };
+
+/**
+ * The flux kernel of `grid` from the thread's cache; one made now gets a stretch large enough for
+ * the affine fit's workspace too (what the thread's fit took last), so that the fit runs there
+ * from its next frame on.
+ */
+export function frameKernel(grid: Grid, cache?: FrameCache): FluxKernel {
+  return fluxKernelFor(grid, cache, { scratchBytes: cache?.affineFit?.arena?.bytes });
+}
+
+/** The thread's affine-fit workspace, offered the stretch of the kernel it already has for `grid` (none is made for it). */
+function affineFitWorkspace(cache: FrameCache, grid: Grid): AffineFitWorkspace {
+  const workspace = cache.affineFit ??= createAffineFitWorkspace();
+  workspace.shared = cache.get(kernelKey(grid))?.stretch;
+  return workspace;
+}
 
 export function isFrameTaskName(name: unknown): name is FrameTaskName {
   return typeof name === 'string' && Object.prototype.hasOwnProperty.call(FRAME_TASKS, name);

@@ -378,7 +378,7 @@ export function splitPart(
     const had = holder.pairGrids;
     let maxPx = had?.maxPx ?? 2, maxPy = had?.maxPy ?? 2;
     for (const pair of boxPairs) { maxPx = Math.max(maxPx, pair.px); maxPy = Math.max(maxPy, pair.py); }
-    if (!had || maxPx > had.maxPx || maxPy > had.maxPy) holder.pairGrids = createPairGrids(maxPx, maxPy);
+    if (!had || maxPx > had.maxPx || maxPy > had.maxPy) holder.pairGrids = createPairGrids(maxPx, maxPy, { kernel });
     boxPairs.sort((p, q) => q.px * q.py - p.px * p.py || q.px - p.px);
     for (let e = 0; e < boxPairs.length;) {
       const { px, py } = boxPairs[e];

@@ -6,8 +6,8 @@
 //
 //   const { sample, split, gTheta } = measureRate({ frame, labels, noiseG: 8 });
 
-import type { FluxKernelCache } from './fluxKernel.js';
-import { fluxKernelFor } from './fluxKernel.js';
+import type { FrameCache } from './frameTasks.js';
+import { frameKernel } from './frameTasks.js';
 import type { Frame } from './frame.js';
 import { hasVectorData } from './frame.js';
 import type { VelocityMaps } from './fluxTransport.js';
@@ -38,7 +38,8 @@ export interface RateInput {
   readonly dtS?: number;
   /** Noise of bn in G; estimated from the frame when not given. */
   readonly noiseG?: number;
-  readonly cache?: FluxKernelCache;
+  /** The thread's kernels and workspaces, kept from frame to frame (core/frameTasks.ts). */
+  readonly cache?: FrameCache;
   /** Errors of the footpoint motions the velocity was built from (for the uncertainty). */
   readonly motions?: ReadonlyMap<number, MotionCovariance>;
   /** The frames those motions were measured between, UTC ms. */
@@ -82,7 +83,7 @@ export function* measureRateSteps(input: RateInput): FrameSteps<RateMeasurement>
   // convolution (one full-grid convolution more than the others: otherWork).
   const otherWork = Array.from({ length: of }, (_, p) => (p === of - 1 && of > 1 ? 1 : 0));
   for (let part = 0; part < of; part++) splitTasks.push(yield* fork('splitPart', [grid, t, labels!, {}, { part, of, otherWork }]));
-  const kernel = fluxKernelFor(frame, input.cache);
+  const kernel = frameKernel(frame, input.cache);
   const conv = convolveTransport(kernel, t);
   const flux = helicityFluxFromConvolutions(kernel, t, conv);
   const flags: string[] = [...(input.flags ?? [])];

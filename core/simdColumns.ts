@@ -4,12 +4,14 @@
 // hold two adjacent columns (or two rows), and every kernel does the same IEEE operations in the same
 // order as the TypeScript loops, so the results are bit-identical. The kernels work on arrays inside
 // their own WebAssembly.Memory: a SimdArena is that memory with the instance and a bump allocator,
-// an explicit object owned by whoever made it (a flux kernel or a convolution workspace).
+// an explicit object owned by whoever made it (a flux kernel or a convolution workspace); over()
+// gives another allocator on a stretch of the same memory (rest(): what is not handed out yet).
 // createSimdArena returns undefined where WebAssembly or its SIMD instructions are missing; callers
 // then keep plain arrays and the TypeScript loops, which also run whenever a kernel declines.
 
 import type { FftPlan, RealFftPlan } from './fft.js';
-import { F64, FunctionCode, I32, V128, instantiateOnMemory, moduleBytes } from './wasmBinary.js';
+import type { SharedStretch } from './wasmBinary.js';
+import { F64, FunctionCode, I32, V128, instantiateOnMemory, keyedInstances, moduleBytes } from './wasmBinary.js';
 
 /**
  * columns(re, im, n, rowBytes, columnBytes, sign, upperHalfZero, cos, sin): fftColumnBlock with
@@ -369,6 +371,13 @@ export interface SimdArena {
   /** A Float64Array of `length` inside the memory (16-byte aligned); throws when the arena is full. */
   alloc(length: number): Float64Array;
   /**
+   * The memory this arena has not handed out yet, as a stretch that workspaces of one thread use in
+   * turn (see SharedStretch); the caller allocates there through over(), not alloc().
+   */
+  rest(): SharedStretch;
+  /** An arena with these kernels and tables that allocates from the start of `stretch` (of this memory). */
+  over(stretch: SharedStretch): SimdArena;
+  /**
    * fftColumnBlock(plan, re, im, width, 0, columns, sign, upperHalfZero, true) by the SIMD kernel;
    * returns false, doing nothing, when it cannot (arrays outside this memory, odd width, a plan
    * whose twiddles were not given at creation), and the caller runs the TypeScript loops.
@@ -430,36 +439,46 @@ export function createSimdArena(bytes: number, plans: readonly FftPlan[], realPl
   const transportProducts = exports.transportProducts as (...addresses: number[]) => void;
   const fieldProducts = exports.fieldProducts as (...addresses: number[]) => void;
   const packRows = exports.packRows as (...args: number[]) => void;
-  let next = 16; // address 0 left unused
-  const limit = made.bytes;
-  const alloc = (length: number) => {
-    const size = arenaBytes(length);
-    if (next + size > limit) throw new RangeError(`SIMD arena full: ${length} doubles asked, ${limit - next} bytes left`);
-    const a = new Float64Array(buffer, next, length);
-    next += size;
-    return a;
+  const instantiate = keyedInstances(made);
+  /** A bump allocator over bytes [from, limit). */
+  const allocator = (from: number, limit: number) => {
+    let next = from;
+    return {
+      alloc(length: number) {
+        const size = arenaBytes(length);
+        if (next + size > limit) throw new RangeError(`SIMD arena full: ${length} doubles asked, ${limit - next} bytes left`);
+        const a = new Float64Array(buffer, next, length);
+        next += size;
+        return a;
+      },
+      rest: (): SharedStretch => ({ buffer, start: next, end: limit, instantiate }),
+    };
   };
-  const tables = new Map<FftPlan, { cos: number; sin: number; rev: number }>();
+  const top = allocator(16, made.bytes); // address 0 left unused
+  const alloc = top.alloc;
+  // Tables by length: a plan is a function of its length alone (core/fft.ts), so an arena made
+  // with one grid's plans serves another's of the same lengths.
+  const tables = new Map<number, { cos: number; sin: number; rev: number }>();
   for (const plan of [...plans, ...realPlans.map((p) => p.half)]) {
-    if (tables.has(plan)) continue;
+    if (tables.has(plan.n)) continue;
     const cos = alloc(plan.cos.length), sin = alloc(plan.sin.length);
     const rev = new Uint32Array(buffer, alloc(Math.ceil(plan.n / 2)).byteOffset, plan.n);
     cos.set(plan.cos); sin.set(plan.sin); rev.set(plan.rev);
-    tables.set(plan, { cos: cos.byteOffset, sin: sin.byteOffset, rev: rev.byteOffset });
+    tables.set(plan.n, { cos: cos.byteOffset, sin: sin.byteOffset, rev: rev.byteOffset });
   }
-  const realTables = new Map<RealFftPlan, { cos: number; sin: number; rev: number }>();
+  const realTables = new Map<number, { cos: number; sin: number; rev: number }>();
   for (const plan of realPlans) {
-    if (realTables.has(plan)) continue;
+    if (realTables.has(plan.n)) continue;
     const cos = alloc(plan.cos.length), sin = alloc(plan.sin.length);
     cos.set(plan.cos); sin.set(plan.sin);
-    realTables.set(plan, { cos: cos.byteOffset, sin: sin.byteOffset, rev: tables.get(plan.half)!.rev });
+    realTables.set(plan.n, { cos: cos.byteOffset, sin: sin.byteOffset, rev: tables.get(plan.half.n)!.rev });
   }
   const inside = (...arrays: Float64Array[]) => arrays.every((a) => a.buffer === buffer);
   const split = (
     run: SplitKernel, plan: RealFftPlan, zr: Float64Array, zi: Float64Array, width: number, rows: number,
     re: Float64Array, im: Float64Array, layout: SpectrumLayout,
   ) => {
-    const t = realTables.get(plan), m = plan.n >> 1;
+    const t = realTables.get(plan.n), m = plan.n >> 1;
     if (!t || !inside(zr, zi, re, im) || width % 2 !== 0 || rows > width || rows < 1 || m < 2
       || zr.length < m * width || zi.length < m * width) return false;
     const last = lastIndex(layout, m, rows);
@@ -468,11 +487,16 @@ export function createSimdArena(bytes: number, plans: readonly FftPlan[], realPl
       layout.shift, layout.mask, layout.stride * 8, m, t.cos, t.sin, t.rev, width * 8);
     return true;
   };
-  return {
+  const arenaOn = (space: ReturnType<typeof allocator>): SimdArena => ({
     buffer,
-    alloc,
+    alloc: space.alloc,
+    rest: space.rest,
+    over(stretch) {
+      if (stretch.buffer !== buffer) throw new RangeError('SIMD arena: a stretch of another memory');
+      return arenaOn(allocator(stretch.start, stretch.end));
+    },
     packAndTransform(plan, srcRe, srcIm, offset, rows, re, im, width, columns, sign) {
-      const t = tables.get(plan), n = plan.n;
+      const t = tables.get(plan.n), n = plan.n;
       if (!t || !inside(srcRe, srcIm, re, im) || width % 2 !== 0 || columns > width || rows > n || offset < 0
         || offset + rows * width > srcRe.length || offset + rows * width > srcIm.length || re.length < n * width || im.length < n * width) return false;
       const upperZero = n >= 2 && 2 * rows <= n;
@@ -482,7 +506,7 @@ export function createSimdArena(bytes: number, plans: readonly FftPlan[], realPl
       return true;
     },
     products(kind, plan, inRe, inIm, outRe, outIm, kx, ky, width, columns) {
-      const t = tables.get(plan), channels = kind === 'transport' ? 3 : 1, outputs = kind === 'transport' ? 3 : 2;
+      const t = tables.get(plan.n), channels = kind === 'transport' ? 3 : 1, outputs = kind === 'transport' ? 3 : 2;
       const size = plan.n * width;
       if (!t || width % 2 !== 0 || columns > width || inRe.length < channels || inIm.length < channels
         || outRe.length < outputs || outIm.length < outputs) return false;
@@ -498,11 +522,12 @@ export function createSimdArena(bytes: number, plans: readonly FftPlan[], realPl
     realSplitOut: (plan, zr, zi, width, rows, outRe, outIm, layout) => split(splitOut, plan, zr, zi, width, rows, outRe, outIm, layout),
     realSplitIn: (plan, re, im, layout, zr, zi, width, rows) => split(splitIn, plan, zr, zi, width, rows, re, im, layout),
     columns(plan, re, im, width, columns, sign, upperHalfZero) {
-      const t = tables.get(plan);
+      const t = tables.get(plan.n);
       if (!t || re.buffer !== buffer || im.buffer !== buffer || width % 2 !== 0 || columns > width
         || re.length < plan.n * width || im.length < plan.n * width) return false;
       kernel(re.byteOffset, im.byteOffset, plan.n, width * 8, Math.ceil(columns / 2) * 16, sign, upperHalfZero ? 1 : 0, t.cos, t.sin);
       return true;
     },
-  };
+  });
+  return arenaOn(top);
 }

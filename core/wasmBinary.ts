@@ -227,6 +227,34 @@ export interface InstanceOnMemory {
 }
 
 /**
+ * A stretch [start, end) of a WebAssembly memory that several workspaces of one thread use in turn,
+ * each only inside its own synchronous calls, so that whatever one leaves there the next may
+ * overwrite. A flux kernel lends its workspace's bytes so (core/fluxKernel.ts): one thread's
+ * transforms, pair sums and affine fits then need one scratch memory, not three.
+ */
+export interface SharedStretch {
+  readonly buffer: ArrayBuffer;
+  /** Byte offsets, 16-byte aligned. */
+  readonly start: number;
+  readonly end: number;
+  /** The exports of a module bound to the memory, made once per key from `bytes()`; undefined where it cannot be had. */
+  instantiate(key: string, bytes: () => Uint8Array): Record<string, unknown> | undefined;
+}
+
+/** Modules bound to `made`'s memory by key, each made once (SharedStretch.instantiate). */
+export function keyedInstances(made: InstanceOnMemory): SharedStretch['instantiate'] {
+  const others = new Map<string, Record<string, unknown> | undefined>();
+  return (key, bytes) => {
+    if (!others.has(key)) {
+      let other: Record<string, unknown> | undefined;
+      try { other = made.alsoOnMemory(bytes()); } catch { other = undefined; }
+      others.set(key, other);
+    }
+    return others.get(key);
+  };
+}
+
+/**
  * `code` instantiated on a fixed memory of at least `bytes`; undefined where WebAssembly is missing,
  * the module does not validate (no SIMD, say) or the memory cannot be had.
  */

@@ -8,6 +8,7 @@ import type { CentreSolveShape, CentreSolver } from './simdCentreSolve.js';
 import { centreSolver } from './simdCentreSolve.js';
 import type { Parity, WindowedSumArena } from './simdWindowedSum.js';
 import { createWindowedSumArena, windowedSumArenaBytes } from './simdWindowedSum.js';
+import type { SharedStretch } from '../wasmBinary.js';
 import {
   correlateColumnsAtEdges, correlateColumnsAtFused, correlateFiniteRowsEdges, correlateFiniteRowsFused, tapSymmetry,
 } from './windowedSum.js';
@@ -20,8 +21,17 @@ import {
 export interface AffineFitWorkspace {
   /** false: the TypeScript loops (the kernels are never made). */
   readonly simd: boolean;
-  /** The kernels and their memory, made at the first fit and made again larger when a fit needs more. */
+  /**
+   * The kernels and their memory: the `shared` stretch when a fit fits there, else a memory of its
+   * own, made at the first fit and made again larger when a fit needs more.
+   */
   arena?: WindowedSumArena;
+  /**
+   * Bytes of a memory this thread's other workspaces use only inside their own calls (a flux
+   * kernel's, core/fluxKernel.ts), offered by the caller before a fit. A fit that fits there runs
+   * there, and the workspace's own memory is let go: one scratch memory per thread, not two.
+   */
+  shared?: SharedStretch;
   /** Set when WebAssembly SIMD turned out to be missing: the TypeScript loops from then on. */
   unavailable?: boolean;
 }
@@ -112,6 +122,10 @@ export function fitWindowPasses(
   const rowRunCount = rowRuns(rowsNeeded, nx, ny, r), centreRunCount = centreRuns(centres, nx, ny, r);
   const bytes = windowedSumArenaBytes([...lengths, rowRunCount, (3 * centreRunCount) / 2, ...Array.from({ length: 5 }, () => 2 * (r + 1))]);
   let fresh = false;
+  const shared = workspace.shared;
+  if (shared && shared.end - shared.start + 16 >= bytes && workspace.arena?.stretch !== shared) {
+    workspace.arena = createWindowedSumArena(bytes, shared) ?? workspace.arena;
+  }
   if (!workspace.arena || workspace.arena.bytes < bytes) {
     // A quarter more than asked, so that a slightly larger fit next time does not make it again.
     workspace.arena = createWindowedSumArena(Math.ceil(bytes * 1.25));

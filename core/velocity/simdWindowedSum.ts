@@ -2,15 +2,17 @@
 // fused row passes at the pixels the column windows read, the fused column passes at the centres to
 // solve and the moment-to-entry accumulation. f64x2 lanes hold two adjacent pixels of a row, and
 // each lane does the same IEEE operations in the same order as the TypeScript loops (no fused
-// multiply-add in WebAssembly), so the sums are bit-identical. The kernels work inside their own
-// WebAssembly.Memory: a WindowedSumArena is that memory with the instance and a bump allocator,
-// owned by the caller (an AffineFitWorkspace, kept from one fit to the next: on this machine fresh
-// memory costs more to touch than the kernels save). Only interior pixels go through the kernels
+// multiply-add in WebAssembly), so the sums are bit-identical. The kernels work inside one
+// WebAssembly.Memory: a WindowedSumArena is that memory (its own, or a stretch of a flux kernel's
+// that the thread's workspaces share: core/wasmBinary.ts SharedStretch) with the instance and a
+// bump allocator, owned by the caller (an AffineFitWorkspace, kept from one fit to the next: on
+// this machine fresh memory costs more to touch than the kernels save). Only interior pixels go through the kernels
 // (the symmetric-tap form); the few at the edges, where a window is cut, keep the TypeScript loops.
 // createWindowedSumArena returns undefined where WebAssembly or its SIMD instructions are missing:
 // the fit then runs the TypeScript loops alone.
 
-import { F64, FunctionCode, I32, V128, instantiateOnMemory, moduleBytes } from '../wasmBinary.js';
+import type { SharedStretch } from '../wasmBinary.js';
+import { F64, FunctionCode, I32, V128, instantiateOnMemory, keyedInstances, moduleBytes } from '../wasmBinary.js';
 import type { ValueType } from '../wasmBinary.js';
 
 /** +1 for taps even about the centre (even powers of the offset), -1 for odd ones. */
@@ -122,6 +124,8 @@ export function windowedSumModule(): Uint8Array {
 export interface WindowedSumArena {
   /** Its size in bytes (what windowedSumArenaBytes may add up to). */
   readonly bytes: number;
+  /** The shared stretch it lies on, if it has no memory of its own. */
+  readonly stretch?: SharedStretch;
   /** Frees everything allocated (the memory is kept, with what it holds: not zeroed). */
   reset(): void;
   /** A Float64Array of `length` inside the memory (16-byte aligned, 16 bytes of slack after it). */
@@ -155,19 +159,30 @@ export function windowedSumArenaBytes(lengths: readonly number[]): number {
   return lengths.reduce((sum, n) => sum + Math.ceil(n / 2) * 16 + 16, 16);
 }
 
-/** An arena of `bytes` (see windowedSumArenaBytes); undefined without WebAssembly SIMD or memory. */
-export function createWindowedSumArena(bytes: number): WindowedSumArena | undefined {
+/** A memory of its own of at least `bytes`, as a stretch from address 16 (0 left unused). */
+function ownMemory(bytes: number): SharedStretch | undefined {
   const made = instantiateOnMemory(windowedSumModule(), bytes);
   if (!made) return undefined;
-  const { exports, buffer } = made;
-  const others = new Map<string, Record<string, unknown> | undefined>();
+  const instantiate = keyedInstances(made);
+  return { buffer: made.buffer, start: 16, end: made.bytes, instantiate: (key, code) => (key === 'windowed sums' ? made.exports : instantiate(key, code)) };
+}
+
+/**
+ * An arena of `bytes` (see windowedSumArenaBytes) in a memory of its own, or over `on` (a stretch
+ * of a memory this thread's other workspaces share: its size is then the stretch's); undefined
+ * without WebAssembly SIMD or memory.
+ */
+export function createWindowedSumArena(bytes: number, on?: SharedStretch): WindowedSumArena | undefined {
+  const home = on ?? ownMemory(bytes);
+  const exports = home?.instantiate('windowed sums', windowedSumModule);
+  if (!home || !exports) return undefined;
+  const { buffer, instantiate, start: first, end: limit } = home;
   const passes = new Map<string, (...args: number[]) => void>();
   for (const parities of PARITY_SETS) for (const kind of ['rows', 'columns'] as const) {
     passes.set(passName(kind, parities), exports[passName(kind, parities)] as (...args: number[]) => void);
   }
   const axpy = exports.axpy as (t: number, coef: number, c: number, count: number) => void;
-  let next = 16; // address 0 left unused
-  const limit = made.bytes;
+  let next = first;
   const reserve = (bytes: number) => {
     const size = Math.ceil(bytes / 16) * 16 + 16; // slack: a lone last lane may read one past the end
     if (next + size > limit) throw new RangeError(`windowed-sum arena full: ${bytes} bytes asked, ${limit - next} left`);
@@ -178,16 +193,10 @@ export function createWindowedSumArena(bytes: number): WindowedSumArena | undefi
   const inside = (...arrays: (Float64Array | Int32Array)[]) => arrays.every((a) => a.buffer === buffer);
   return {
     holds: inside,
-    instantiate(key, bytes) {
-      if (!others.has(key)) {
-        let other: Record<string, unknown> | undefined;
-        try { other = made.alsoOnMemory(bytes()); } catch { other = undefined; }
-        others.set(key, other);
-      }
-      return others.get(key);
-    },
-    bytes: limit,
-    reset() { next = 16; },
+    instantiate,
+    bytes: limit - first + 16,
+    ...(on && { stretch: on }),
+    reset() { next = first; },
     alloc: (length) => new Float64Array(buffer, reserve(8 * length), length),
     allocInt32: (length) => new Int32Array(buffer, reserve(4 * length), length),
     splatTaps(taps) {
