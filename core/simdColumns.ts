@@ -428,9 +428,12 @@ export function arenaBytes(length: number): number {
  * of `plans`; undefined when WebAssembly SIMD is unavailable or the memory cannot be had.
  */
 export function createSimdArena(bytes: number, plans: readonly FftPlan[], realPlans: readonly RealFftPlan[] = []): SimdArena | undefined {
+  // One table per length (see below).
+  const complexByLength = new Map([...plans, ...realPlans.map((p) => p.half)].map((p) => [p.n, p]));
+  const realByLength = new Map(realPlans.map((p) => [p.n, p]));
   let tableBytes = 0;
-  for (const plan of [...plans, ...realPlans.map((p) => p.half)]) tableBytes += 2 * arenaBytes(plan.cos.length) + arenaBytes(Math.ceil(plan.n / 2));
-  for (const plan of realPlans) tableBytes += 2 * arenaBytes(plan.cos.length);
+  for (const plan of complexByLength.values()) tableBytes += 2 * arenaBytes(plan.cos.length) + arenaBytes(Math.ceil(plan.n / 2));
+  for (const plan of realByLength.values()) tableBytes += 2 * arenaBytes(plan.cos.length);
   const made = instantiateOnMemory(simdColumnsModule(), bytes + tableBytes + 16);
   if (!made) return undefined;
   const { exports, buffer } = made;
@@ -459,16 +462,14 @@ export function createSimdArena(bytes: number, plans: readonly FftPlan[], realPl
   // Tables by length: a plan is a function of its length alone (core/fft.ts), so an arena made
   // with one grid's plans serves another's of the same lengths.
   const tables = new Map<number, { cos: number; sin: number; rev: number }>();
-  for (const plan of [...plans, ...realPlans.map((p) => p.half)]) {
-    if (tables.has(plan.n)) continue;
+  for (const plan of complexByLength.values()) {
     const cos = alloc(plan.cos.length), sin = alloc(plan.sin.length);
     const rev = new Uint32Array(buffer, alloc(Math.ceil(plan.n / 2)).byteOffset, plan.n);
     cos.set(plan.cos); sin.set(plan.sin); rev.set(plan.rev);
     tables.set(plan.n, { cos: cos.byteOffset, sin: sin.byteOffset, rev: rev.byteOffset });
   }
   const realTables = new Map<number, { cos: number; sin: number; rev: number }>();
-  for (const plan of realPlans) {
-    if (realTables.has(plan.n)) continue;
+  for (const plan of realByLength.values()) {
     const cos = alloc(plan.cos.length), sin = alloc(plan.sin.length);
     cos.set(plan.cos); sin.set(plan.sin);
     realTables.set(plan.n, { cos: cos.byteOffset, sin: sin.byteOffset, rev: tables.get(plan.half.n)!.rev });
