@@ -58,7 +58,7 @@ const KERNEL_CHANNELS = 3;
 /** The kernel's transform buffers (in its arena when it has one). */
 export function kernelWorkspace(kernel: FluxKernel): PaddedWorkspace {
   return kernel.scratch.workspace ??= createPaddedWorkspace(kernel.plan, KERNEL_CHANNELS, {
-    ...kernel.workspaceOptions, arena: kernel.arena && kernel.stretch && kernel.arena.over(kernel.stretch),
+    ...kernel.workspaceOptions, arena: kernel.stretch && kernel.arena?.over(kernel.stretch),
   });
 }
 
@@ -96,11 +96,8 @@ export function createFluxKernel(grid: Grid, options: FluxKernelOptions = {}): F
     : undefined;
   const spectrum = () => arena ? arena.alloc(length) : new Float64Array(length);
   const kxIm = byColumnBlocks(sx.im, plan, spectrum()), kyIm = byColumnBlocks(sy.im, plan, spectrum());
-  const { scratchBytes: _bytes, ...workspaceOptions } = options;
-  void _bytes;
-  return {
-    nx, ny, dx, dy, plan, kxIm, kyIm, scratch: {}, workspaceOptions: { ...workspaceOptions, simd }, ...(arena && { arena, stretch: arena.rest() }),
-  };
+  // The workspace's arena is the stretch's (kernelWorkspace): only the choice of kernels carries over.
+  return { nx, ny, dx, dy, plan, kxIm, kyIm, scratch: {}, workspaceOptions: { simd }, ...(arena && { arena, stretch: arena.rest() }) };
 }
 
 /**

@@ -241,9 +241,12 @@ export interface SharedStretch {
   instantiate(key: string, bytes: () => Uint8Array): Record<string, unknown> | undefined;
 }
 
-/** Modules bound to `made`'s memory by key, each made once (SharedStretch.instantiate). */
-export function keyedInstances(made: InstanceOnMemory): SharedStretch['instantiate'] {
-  const others = new Map<string, Record<string, unknown> | undefined>();
+/**
+ * Modules bound to `made`'s memory by key, each made once (SharedStretch.instantiate); `ownKey`
+ * names the module `made` was made with, whose exports it returns as they are.
+ */
+export function keyedInstances(made: InstanceOnMemory, ownKey?: string): SharedStretch['instantiate'] {
+  const others = new Map<string, Record<string, unknown> | undefined>(ownKey === undefined ? [] : [[ownKey, made.exports]]);
   return (key, bytes) => {
     if (!others.has(key)) {
       let other: Record<string, unknown> | undefined;

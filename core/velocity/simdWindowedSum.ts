@@ -6,8 +6,9 @@
 // WebAssembly.Memory: a WindowedSumArena is that memory (its own, or a stretch of a flux kernel's
 // that the thread's workspaces share: core/wasmBinary.ts SharedStretch) with the instance and a
 // bump allocator, owned by the caller (an AffineFitWorkspace, kept from one fit to the next: on
-// this machine fresh memory costs more to touch than the kernels save). Only interior pixels go through the kernels
-// (the symmetric-tap form); the few at the edges, where a window is cut, keep the TypeScript loops.
+// this machine fresh memory costs more to touch than the kernels save). Only interior pixels go
+// through the kernels (the symmetric-tap form); the few at the edges, where a window is cut, keep
+// the TypeScript loops.
 // createWindowedSumArena returns undefined where WebAssembly or its SIMD instructions are missing:
 // the fit then runs the TypeScript loops alone.
 
@@ -159,12 +160,14 @@ export function windowedSumArenaBytes(lengths: readonly number[]): number {
   return lengths.reduce((sum, n) => sum + Math.ceil(n / 2) * 16 + 16, 16);
 }
 
+/** The kernels' module among those bound to a memory (SharedStretch.instantiate). */
+const MODULE_KEY = 'windowed sums';
+
 /** A memory of its own of at least `bytes`, as a stretch from address 16 (0 left unused). */
 function ownMemory(bytes: number): SharedStretch | undefined {
   const made = instantiateOnMemory(windowedSumModule(), bytes);
   if (!made) return undefined;
-  const instantiate = keyedInstances(made);
-  return { buffer: made.buffer, start: 16, end: made.bytes, instantiate: (key, code) => (key === 'windowed sums' ? made.exports : instantiate(key, code)) };
+  return { buffer: made.buffer, start: 16, end: made.bytes, instantiate: keyedInstances(made, MODULE_KEY) };
 }
 
 /**
@@ -174,7 +177,7 @@ function ownMemory(bytes: number): SharedStretch | undefined {
  */
 export function createWindowedSumArena(bytes: number, on?: SharedStretch): WindowedSumArena | undefined {
   const home = on ?? ownMemory(bytes);
-  const exports = home?.instantiate('windowed sums', windowedSumModule);
+  const exports = home?.instantiate(MODULE_KEY, windowedSumModule);
   if (!home || !exports) return undefined;
   const { buffer, instantiate, start: first, end: limit } = home;
   const passes = new Map<string, (...args: number[]) => void>();
