@@ -22,14 +22,30 @@ export function rssMiB(): number {
  */
 export function wallAndCpu(fn: () => unknown, runs: number, warmup = 2): { wall: number; cpu: number } {
   for (let i = 0; i < warmup; i++) fn();
-  const wall: number[] = [], cpu: number[] = [];
-  for (let i = 0; i < runs; i++) {
-    const c = process.cpuUsage(), t = performance.now();
-    fn();
-    wall.push(performance.now() - t);
+  const times = { wall: [] as number[], cpu: [] as number[] };
+  for (let i = 0; i < runs; i++) { const done = timeOne(times); fn(); done(); }
+  return medians(times);
+}
+
+/** wallAndCpu for an asynchronous call (CPU time is the whole process's: every thread it keeps busy). */
+export async function wallAndCpuAsync(fn: () => Promise<unknown>, runs: number, warmup = 2): Promise<{ wall: number; cpu: number }> {
+  for (let i = 0; i < warmup; i++) await fn();
+  const times = { wall: [] as number[], cpu: [] as number[] };
+  for (let i = 0; i < runs; i++) { const done = timeOne(times); await fn(); done(); }
+  return medians(times);
+}
+
+/** Starts the clocks for one run; the returned function stops them and records the run. */
+function timeOne(times: { wall: number[]; cpu: number[] }): () => void {
+  const c = process.cpuUsage(), t = performance.now();
+  return () => {
+    times.wall.push(performance.now() - t);
     const d = process.cpuUsage(c);
-    cpu.push((d.user + d.system) / 1000);
-  }
+    times.cpu.push((d.user + d.system) / 1000);
+  };
+}
+
+function medians(times: { wall: number[]; cpu: number[] }): { wall: number; cpu: number } {
   const mid = (v: number[]) => v.sort((p, q) => p - q)[Math.floor(v.length / 2)];
-  return { wall: mid(wall), cpu: mid(cpu) };
+  return { wall: mid(times.wall), cpu: mid(times.cpu) };
 }

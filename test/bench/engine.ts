@@ -17,7 +17,7 @@ import { existsSync, mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { loadavg, tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
-import { analyseFrame } from '../../core/frameAnalysis.js';
+import { analyseFrame, analyseFrameSteps } from '../../core/frameAnalysis.js';
 import type { AnalysisState } from '../../core/frameAnalysis.js';
 import type { FluxKernelCache } from '../../core/fluxKernel.js';
 import { createFluxKernel, fluxKernelFor } from '../../core/fluxKernel.js';
@@ -27,7 +27,8 @@ import { splitByLabels } from '../../core/labelSplit.js';
 import { inferVelocity } from '../../core/velocity/inferVelocity.js';
 import { midFrame } from '../../core/velocity/midFrame.js';
 import { demoRegion } from '../../replay/demo/demoRegion.js';
-import { rssMiB, wallAndCpu } from './_measure.js';
+import { rssMiB, wallAndCpu, wallAndCpuAsync } from './_measure.js';
+import { FrameAssistant, runStepsAssisted } from '../../server/frameAssistant.js';
 import { syntheticFrame } from './_syntheticFrame.js';
 
 /** glibc tunables a scipy user sets so that large arrays stop being mmap'd and unmapped per call. */
@@ -146,6 +147,19 @@ async function wholeFrameTable(): Promise<void> {
   const first2 = analyseFrame(a2, {}, {}, cache2).state;
   const pair = wallAndCpu(() => { total = analyseFrame(b2, first2 as AnalysisState, {}, cache2).sample!.total; }, 3, 2);
   console.log(`helicord analyseFrame, 1024x1024 pair, inferred velocities: ${pair.wall.toFixed(0)} ms wall, ${pair.cpu.toFixed(0)} ms CPU, total ${total.toExponential(3)} Mx^2/s (${load()})`);
+  // The same pair as the monitor analyses one region's frame: its forks (the inference, a part of
+  // the split) on a second thread (server/frameAssistant.ts), both cores for one frame. The
+  // assistant's thread is warmed up as long as this one was.
+  const assistant = new FrameAssistant();
+  try {
+    let twoTotal = NaN;
+    const two = await wallAndCpuAsync(async () => {
+      twoTotal = (await runStepsAssisted(analyseFrameSteps(b2, first2 as AnalysisState, {}, cache2), assistant, cache2)).sample!.total;
+    }, 5, 4);
+    console.log(`helicord the same pair on two threads (the monitor's driver): ${two.wall.toFixed(0)} ms wall, ${two.cpu.toFixed(0)} ms CPU of both threads, total ${twoTotal === total ? 'the same' : `DIFFERENT: ${twoTotal.toExponential(6)}`} (${load()})`);
+  } finally {
+    await assistant.close();
+  }
 }
 
 function growthTable(): void {
