@@ -141,8 +141,11 @@ export interface WindowedSumArena {
    */
   pass(kind: 'rows' | 'columns', input: Float64Array, nx: number, runs: Int32Array, runCount: number,
     taps: readonly Float64Array[], parities: readonly Parity[], r: number, outs: readonly Float64Array[]): boolean;
-  /** target[k] += coef * column[k] for k < count. */
-  axpy(target: Float64Array, coef: number, column: Float64Array, count: number): boolean;
+  /**
+   * target[targetAt + k] += coef * column[columnAt + k] for k < count (offsets default 0). False,
+   * doing nothing, when either array lies outside the memory.
+   */
+  axpy(target: Float64Array, coef: number, column: Float64Array, count: number, targetAt?: number, columnAt?: number): boolean;
   /** Taps t[r..2r] of a symmetric tap set, each twice (one per lane), inside the memory. */
   splatTaps(taps: Float64Array): Float64Array;
   /** Whether every array lies in the memory. */
@@ -216,9 +219,9 @@ export function createWindowedSumArena(bytes: number, on?: SharedStretch): Windo
       passes.get(passName(kind, parities))!(...args);
       return true;
     },
-    axpy(target, coef, column, count) {
+    axpy(target, coef, column, count, targetAt = 0, columnAt = 0) {
       if (!inside(target, column)) return false;
-      axpy(target.byteOffset, coef, column.byteOffset, count);
+      axpy(target.byteOffset + 8 * targetAt, coef, column.byteOffset + 8 * columnAt, count);
       return true;
     },
   };
