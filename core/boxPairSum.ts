@@ -27,6 +27,9 @@ import { createFftPlan, createRealFftPlan, nextPowerOfTwo } from './fft.js';
 import { arenaBytes, createSimdArena } from './simdColumns.js';
 import type { FluxKernel } from './fluxKernel.js';
 import { sampleKernel } from './fluxKernel.js';
+import type { SharedStretch } from './wasmBinary.js';
+import type { PairColumnsKernel } from './pairSpectralColumns.js';
+import { PAIR_COLUMNS_KEY, pairColumnsModule } from './pairSpectralColumns.js';
 
 /** A footpoint's bounding box on the frame grid, pixels: columns x0 .. x0+w-1, rows y0 .. y0+h-1. */
 export interface PixelBox {
@@ -67,6 +70,18 @@ export interface PairGrids {
   /** Kernel windows, reused (the first px*py values serve a px by py grid). */
   readonly kx: Float64Array;
   readonly ky: Float64Array;
+  /**
+   * With SIMD: the spectral loop's kernel (core/pairSpectralColumns.ts) bound to the workspace's
+   * memory, its column sums, and the memory after the grids' buffers, where spectra may be made
+   * (spectraSpace) so that the kernel can read them.
+   */
+  readonly simdSums?: SimdPairSums;
+}
+
+interface SimdPairSums {
+  readonly run: PairColumnsKernel;
+  readonly columns: Float64Array;
+  readonly room: SharedStretch;
 }
 
 /** One grid of a PairGrids: its plan (maps up to the whole grid) over the shared buffers. */
@@ -75,6 +90,12 @@ export interface PairGrid {
   readonly work: PaddedWorkspace;
   readonly kx: Float64Array;
   readonly ky: Float64Array;
+  readonly simdSums?: SimdPairSums;
+}
+
+/** Where boxSpectra makes a footpoint's spectra: arrays from `alloc`, or undefined when it has no room. */
+export interface SpectraSpace {
+  alloc(length: number): Float64Array | undefined;
 }
 
 /** The transform grid for the pair sums of two boxes (powers of two, at least 2 per side). */
@@ -102,7 +123,30 @@ export function createPairGrids(maxPx: number, maxPy: number, options: { simd?: 
   const arena = options.simd === false ? undefined : lent ?? createSimdArena(bytes, [...cols.values()], [...rows.values()]);
   const work = createPaddedWorkspace(largest, 3, arena ? { arena } : { simd: false });
   const window = () => (arena ? arena.alloc(maxPx * maxPy) : new Float64Array(maxPx * maxPy));
-  return { maxPx, maxPy, work, rows, cols, kx: window(), ky: window() };
+  const kx = window(), ky = window();
+  const columns = arena?.alloc(SPECTRUM_BLOCK), room = arena?.rest();
+  const run = room?.instantiate(PAIR_COLUMNS_KEY, pairColumnsModule)?.pairColumns as PairColumnsKernel | undefined;
+  return { maxPx, maxPy, work, rows, cols, kx, ky, ...(run && columns && room && { simdSums: { run, columns, room } }) };
+}
+
+/**
+ * A space for the spectra of one grid size's footpoints, in the grids' memory after their buffers
+ * (so that the SIMD kernel reads them), empty when there is none. Each call starts the space anew:
+ * spectra made from an earlier one are overwritten, and the grids' own convolutions (and those of
+ * the kernel whose stretch they may lie on) overwrite them too, so they live only between such calls.
+ */
+export function spectraSpace(grids: PairGrids): SpectraSpace {
+  const room = grids.simdSums?.room;
+  let next = room?.start ?? 0;
+  return {
+    alloc(length) {
+      const bytes = arenaBytes(length);
+      if (!room || next + bytes > room.end) return undefined;
+      const a = new Float64Array(room.buffer, next, length);
+      next += bytes;
+      return a;
+    },
+  };
 }
 
 /** The px by py grid of `grids` (within its largest). */
@@ -110,7 +154,10 @@ export function pairGrid(grids: PairGrids, px: number, py: number): PairGrid {
   if (!(px <= grids.maxPx && py <= grids.maxPy && grids.rows.has(px) && grids.cols.has(py))) {
     throw new RangeError(`pair grid ${px}x${py}: not among the grids up to ${grids.maxPx}x${grids.maxPy}`);
   }
-  return { plan: gridPlan(px, py, grids.rows, grids.cols), work: grids.work, kx: grids.kx, ky: grids.ky };
+  return {
+    plan: gridPlan(px, py, grids.rows, grids.cols), work: grids.work, kx: grids.kx, ky: grids.ky,
+    ...(grids.simdSums && { simdSums: grids.simdSums }),
+  };
 }
 
 /** A plan whose maps fill the whole px by py grid (no padding of its own). */
@@ -118,11 +165,15 @@ function gridPlan(px: number, py: number, rows: ReadonlyMap<number, RealFftPlan>
   return { nx: px, ny: py, px, py, w: px / 2 + 1, rows: rows.get(px)!, cols: cols.get(py)! };
 }
 
-/** The spectra of a footpoint's maps (its box's w by h at the grid's origin) on a pair grid. */
-export function boxSpectra(maps: BoxMaps, box: PixelBox, grid: PairGrid): BoxSpectra {
+/**
+ * The spectra of a footpoint's maps (its box's w by h at the grid's origin) on a pair grid; in
+ * `space` when it has room for all six arrays (see spectraSpace for how long they last there).
+ */
+export function boxSpectra(maps: BoxMaps, box: PixelBox, grid: PairGrid, space?: SpectraSpace): BoxSpectra {
   const { plan } = grid, B = SPECTRUM_BLOCK, size = Math.ceil(plan.w / B) * B * plan.py;
-  const re = [new Float64Array(size), new Float64Array(size), new Float64Array(size)] as const;
-  const im = [new Float64Array(size), new Float64Array(size), new Float64Array(size)] as const;
+  const inSpace = space && Array.from({ length: 6 }, () => space.alloc(size));
+  const made = inSpace?.every((a) => a !== undefined) ? (inSpace as Float64Array[]) : Array.from({ length: 6 }, () => new Float64Array(size));
+  const re = [made[0], made[1], made[2]] as const, im = [made[3], made[4], made[5]] as const;
   const at = (m: Float64Array) => ({ map: m, nx: box.w, ny: box.h });
   forwardByBlocks(plan, grid.work, [at(maps.bn), at(maps.fx), at(maps.fy)], (inRe, inIm, c0) => {
     const o = c0 * plan.py, len = plan.py * B;
@@ -143,10 +194,30 @@ export function boxPairSum(a: PixelBox, sa: BoxSpectra, b: PixelBox, sb: BoxSpec
   kx.fill(0, 0, px * py); ky.fill(0, 0, px * py);
   sampleKernel(b.x0 - a.x0, b.y0 - a.y0, { from: -(a.w - 1), to: b.w - 1 }, { from: -(a.h - 1), to: b.h - 1 }, px, py, dx, dy, kx, ky);
   let s = 0;
+  const simd = grid.simdSums;
+  const bySimd = simd !== undefined && [...sa.re, ...sa.im, ...sb.re, ...sb.im, grid.work.inRe[0]].every((a) => a.buffer === simd.room.buffer);
   forwardByBlocks(plan, grid.work, [{ map: kx, nx: px, ny: py }, { map: ky, nx: px, ny: py }], (inRe, inIm, c0, width) => {
-    s += spectralPairSum(inRe[0], inIm[0], inRe[1], inIm[1], sa, sb, c0 * py, c0, width, px, py);
+    s += bySimd
+      ? simdPairSum(simd, inRe[0], inIm[0], inRe[1], inIm[1], sa, sb, c0 * py, c0, width, px, py)
+      : spectralPairSum(inRe[0], inIm[0], inRe[1], inIm[1], sa, sb, c0 * py, c0, width, px, py);
   });
   return s / (px * py);
+}
+
+/** spectralPairSum by the SIMD kernel (every array in its memory): the same column sums, added in the same order. */
+function simdPairSum(
+  simd: SimdPairSums, kxr: Float64Array, kxi: Float64Array, kyr: Float64Array, kyi: Float64Array, a: BoxSpectra, b: BoxSpectra,
+  o: number, c0: number, width: number, px: number, py: number,
+): number {
+  const at = (m: Float64Array) => m.byteOffset + 8 * o;
+  simd.run(kxr.byteOffset, kxi.byteOffset, kyr.byteOffset, kyi.byteOffset,
+    at(a.re[0]), at(a.im[0]), at(a.re[1]), at(a.im[1]), at(a.re[2]), at(a.im[2]),
+    at(b.re[0]), at(b.im[0]), at(b.re[1]), at(b.im[1]), at(b.re[2]), at(b.im[2]),
+    Math.ceil(width / 2), py, 8 * SPECTRUM_BLOCK, simd.columns.byteOffset);
+  const last = px / 2, col = simd.columns;
+  let s = 0;
+  for (let c = 0; c < width; c++) s += (c0 + c === 0 || c0 + c === last ? 1 : 2) * col[c];
+  return s;
 }
 
 /**

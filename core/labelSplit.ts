@@ -33,7 +33,7 @@ import type { FluxTransport } from './fluxTransport.js';
 import { convolveField, convolveTransport, helicityFluxTotal } from './helicityFlux.js';
 import { CM_PER_KM, CM_PER_MM, pixelAreaCm2 } from './units.js';
 import type { BoxMaps, BoxSpectra, PairGrids, PixelBox } from './boxPairSum.js';
-import { boxPairSum, boxSpectra, createPairGrids, pairGrid, pairGridSize } from './boxPairSum.js';
+import { boxPairSum, boxSpectra, createPairGrids, pairGrid, pairGridSize, spectraSpace } from './boxPairSum.js';
 
 export interface LabelSplit {
   /** Label values present among valid pixels, ascending (0 excluded). */
@@ -385,9 +385,11 @@ export function splitPart(
       const { px, py } = boxPairs[e];
       const g = pairGrid(holder.pairGrids!, px, py);
       const spectra = new Map<number, BoxSpectra>();
+      // This size's spectra in the grids' memory while it has room (the SIMD pair sums read them there).
+      const space = spectraSpace(holder.pairGrids!);
       const spectraOf = (j: number) => {
         let sp = spectra.get(j);
-        if (!sp) { sp = boxSpectra(boxMaps(t, byFootpoint, start[j], start[j + 1], boxes[j], nx), boxes[j], g); spectra.set(j, sp); }
+        if (!sp) { sp = boxSpectra(boxMaps(t, byFootpoint, start[j], start[j + 1], boxes[j], nx), boxes[j], g, space); spectra.set(j, sp); }
         return sp;
       };
       for (; e < boxPairs.length && boxPairs[e].px === px && boxPairs[e].py === py; e++) {

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { boxPairSum, boxSpectra, createPairGrids, pairGrid, pairGridSize } from '../../core/boxPairSum.js';
+import { boxPairSum, boxSpectra, createPairGrids, pairGrid, pairGridSize, spectraSpace } from '../../core/boxPairSum.js';
 import type { PixelBox } from '../../core/boxPairSum.js';
 import { createFluxKernel } from '../../core/fluxKernel.js';
 import { fluxTransport } from '../../core/fluxTransport.js';
@@ -66,6 +66,33 @@ describe('pair sum of two footpoints over their boxes', () => {
       }
     });
   }
+
+  it('spectra in the grids\' memory: the SIMD spectral loop gives the plain loop\'s pair sums bit for bit, odd block widths included', () => {
+    const dx = 0.36, dy = 0.42;
+    // Grids lent on a kernel's stretch, with room after their buffers for the spectra.
+    const kernel = createFluxKernel({ nx: 64, ny: 64, dx, dy }, { scratchBytes: 4 << 20, simd: true });
+    let compared = 0;
+    for (const [a, b] of cases) {
+      const am = randomMaps(a, r), bm = randomMaps(b, r);
+      const { px, py } = pairGridSize(a, b);
+      const grids = createPairGrids(px, py, { kernel });
+      const g = pairGrid(grids, px, py);
+      if (!g.simdSums) continue; // no WebAssembly SIMD here: only the plain loop runs
+      const space = spectraSpace(grids);
+      const simdA = boxSpectra(am, a, g, space), simdB = boxSpectra(bm, b, g, space);
+      expect(simdB.im[2].buffer === g.simdSums.room.buffer).toBe(true);
+      const plainA = boxSpectra(am, a, g), plainB = boxSpectra(bm, b, g);
+      expect(plainA.re[0].buffer === g.simdSums.room.buffer).toBe(false);
+      expect(boxPairSum(a, simdA, b, simdB, g, dx, dy)).toBe(boxPairSum(a, plainA, b, plainB, g, dx, dy));
+      expect(boxPairSum(b, simdB, a, simdA, g, dx, dy)).toBe(boxPairSum(b, plainB, a, plainA, g, dx, dy));
+      compared++;
+    }
+    expect(compared).toBe(cases.length);
+    // A space without room gives plain arrays.
+    const tiny = createPairGrids(2, 2);
+    const none = spectraSpace(tiny);
+    expect(none.alloc(1 << 20)).toBeUndefined();
+  });
 
   it('the TypeScript butterflies give the SIMD kernels\' sums bit for bit', () => {
     const [a, b] = cases[1];
