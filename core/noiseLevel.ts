@@ -109,27 +109,40 @@ function sortedMedian(sorted: Float64Array, from: number, to: number): number {
 }
 
 /**
- * Median of |v - m| over sorted[from..to), with m inside their range: the deviations come in
- * ascending order by walking outward from m, taking the nearer side each step (|v - m| is
- * monotone on each side of m in floating point too), so the median is the same value selection
- * finds, in O(n) without reordering anything.
+ * Median of |v - m| over sorted[from..to), with m inside their range. The deviations form two
+ * ascending runs, walking outward from m to the left and to the right (|v - m| is monotone on each
+ * side of m in floating point too), so each order statistic of the deviations is the k-th of the
+ * union of two sorted runs: found by bisection on how many come from the left run, in O(log n),
+ * the same value selection finds, without reordering anything.
  */
 function sortedMedianDeviation(sorted: Float64Array, from: number, to: number, m: number): number {
   const n = to - from;
-  let down = firstAtLeast(sorted, from, to, m) - 1, up = down + 1;
+  const split = firstAtLeast(sorted, from, to, m);
   // The k-th smallest deviation (0-based) for an odd count, the mean of the (n/2-1)-th and the n/2-th otherwise.
   const k = n % 2 === 1 ? (n - 1) >> 1 : (n >> 1) - 1;
-  let d = 0;
-  for (let i = 0; i <= k + (n % 2 === 1 ? 0 : 1); i++) {
-    const a = down >= from ? Math.abs(sorted[down] - m) : Infinity;
-    const b = up < to ? Math.abs(sorted[up] - m) : Infinity;
-    const next = a <= b ? a : b;
-    if (a <= b) down--; else up++;
-    // The k-th alone for an odd count; for an even one, the k-th and the one after it.
-    if (i === k) d = next;
-    else if (i === k + 1) d = (d + next) / 2;
+  const d = kthDeviation(sorted, from, split, to, m, k);
+  return n % 2 === 1 ? d : (d + kthDeviation(sorted, from, split, to, m, k + 1)) / 2;
+}
+
+/**
+ * The k-th smallest (0-based) of |sorted[i] - m| over from <= i < to, where the values below
+ * `split` are < m and the rest >= m: left run L(j) = |sorted[split - 1 - j] - m|, right run
+ * R(j) = |sorted[split + j] - m|, both ascending. The k + 1 smallest are the first i of L and the
+ * first k + 1 - i of R for the least i with L(i) >= R(k - i) (or none of L left, or none of R).
+ */
+function kthDeviation(sorted: Float64Array, from: number, split: number, to: number, m: number, k: number): number {
+  const nL = split - from, nR = to - split;
+  const left = (j: number) => Math.abs(sorted[split - 1 - j] - m);
+  const right = (j: number) => Math.abs(sorted[split + j] - m);
+  let lo = Math.max(0, k + 1 - nR), hi = Math.min(k + 1, nL);
+  while (lo < hi) {
+    const i = (lo + hi) >> 1; // i < nL and k - i >= 0 here
+    if (left(i) < right(k - i)) lo = i + 1; else hi = i;
   }
-  return d;
+  const fromLeft = lo, fromRight = k + 1 - lo;
+  const a = fromLeft > 0 ? left(fromLeft - 1) : -Infinity;
+  const b = fromRight > 0 ? right(fromRight - 1) : -Infinity;
+  return a >= b ? a : b;
 }
 
 /** How many of map's values are finite. */
