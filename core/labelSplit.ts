@@ -351,8 +351,9 @@ export function splitPart(
     if (!convMaps) { const [p, q, r] = thirds(new Float64Array(3 * n)); convMaps = { p, q, r }; }
     return { inputs, convMaps };
   };
-  /** Convolution of the pixels byFootpoint[from..to) (labelled[from..to) when `pixels` is `labelled`). */
-  const convolvePixels = (pixels: Int32Array, from: number, to: number) => {
+  /** Convolution of footpoint a's pixels alone. */
+  const convolveFootpoint = (a: number) => {
+    const pixels = byFootpoint, from = start[a], to = start[a + 1];
     const { inputs: m, convMaps: out } = fullGrid();
     for (let e = from; e < to; e++) { const i = pixels[e]; m.bn[i] = bn[i]; m.fx[i] = fx[i]; m.fy[i] = fy[i]; }
     const conv = convolveTransport(kernel, m, labelledRows, out);
@@ -400,7 +401,7 @@ export function splitPart(
   }
   for (let a = 0; a < k; a++) {
     if (!big[a] || !didSource[a] || !hasRow[a] || byBoxes[a]) continue;
-    const { p, q, r } = convolvePixels(byFootpoint, start[a], start[a + 1]);
+    const { p, q, r } = convolveFootpoint(a);
     addFieldSums(t, labelled, slot, gridRow, a, k, p, q, r, fftSums);
   }
 

@@ -3,7 +3,7 @@
 // pixels stay NaN. Separable: two 1-D passes, each a sum of scaled shifted rows. Given the
 // thread's windowed-sum arena (core/velocity/simdWindowedSum.ts), the passes' maps lie there and
 // its SIMD kernel adds the rows, two pixels at a time in the same order: the same numbers, bit
-// for bit (test/core/smoothing.test.ts), in about half the time at 512^2.
+// for bit (test/footpoints/segmentation.test.ts), in about half the time at 512^2.
 
 import type { WindowedSumArena } from '../velocity/simdWindowedSum.js';
 import { windowedSumArenaBytes } from '../velocity/simdWindowedSum.js';
