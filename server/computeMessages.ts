@@ -1,6 +1,14 @@
 // Messages between the compute pool and its workers.
 import type { RateSample } from '../core/rateSample.js';
 
+/** What a compute worker is started with (its workerData). */
+export interface WorkerSetup {
+  /** Analyse a short synthetic sequence before the first request (server/analysisWarmUp.ts). */
+  readonly warmUp?: boolean;
+  /** Run the warm-up's frames as the requests with `assist` will run (so the assistant warms too). */
+  readonly assist?: boolean;
+}
+
 export interface WorkerRequest {
   readonly id: number;
   readonly region: string;
@@ -23,3 +31,9 @@ export type WorkerReply =
   | { readonly id: number; readonly ok: true; readonly sample?: RateSample; readonly waiting?: string; readonly mapsWritten: boolean; readonly footpoints?: unknown; readonly events?: unknown; readonly memory?: unknown }
   /** `diskFull`: the maps could not be written for lack of space (the frame waits, it is not at fault). */
   | { readonly id: number; readonly ok: false; readonly error: { source: string; field: string; problem: string; message: string; diskFull?: boolean } };
+
+/** Sent once by a worker started with `warmUp` when its warm-up ends (id 0: it answers no request). */
+export interface WarmUpNotice {
+  readonly id: 0;
+  readonly warmedUp: { readonly frames: number; readonly ms: number };
+}

@@ -3,7 +3,7 @@
 // which frame each region's worker state follows; when that is not the frame before the one to
 // analyse (first use, restart, rewind, a worker that died), it asks the worker to rebuild the
 // state from the last processed frame first.
-import type { WorkerReply, WorkerRequest } from './computeMessages.js';
+import type { WarmUpNotice, WorkerReply, WorkerRequest, WorkerSetup } from './computeMessages.js';
 import { RestartingWorker, compiledWorkerUrl } from './restartingWorker.js';
 
 /** The compiled compute worker. */
@@ -12,7 +12,7 @@ export function computeWorkerUrl(): URL {
 }
 
 interface Slot {
-  worker: RestartingWorker<WorkerRequest, WorkerReply>;
+  worker: RestartingWorker<WorkerRequest, WorkerReply | WarmUpNotice>;
   regions: Set<string>;
 }
 
@@ -38,9 +38,18 @@ export class ComputePool {
   private closed = false;
   private readonly url: URL;
   busy = 0;
+  /** Workers still in their warm-up (server/analysisWarmUp.ts). */
+  private readonly warming = new Set<number>();
 
-  /** `assist`: each worker runs a frame's independent parts on a second thread (server/frameAssistant.ts). */
-  constructor(size: number, private readonly log: (line: string) => void = () => undefined, private readonly assist = false) {
+  /**
+   * `assist`: each worker runs a frame's independent parts on a second thread (server/
+   * frameAssistant.ts). `warmUp`: each worker, and each replacement of one that died, analyses a
+   * short synthetic sequence before its first frame (server/analysisWarmUp.ts).
+   */
+  constructor(
+    size: number, private readonly log: (line: string) => void = () => undefined, private readonly assist = false,
+    private readonly warmUp = false,
+  ) {
     this.url = computeWorkerUrl();
     for (let i = 0; i < Math.max(1, size); i++) this.slots.push(this.spawn(i));
   }
@@ -48,8 +57,18 @@ export class ComputePool {
   private spawn(index: number): Slot {
     const regions = new Set<string>();
     // A worker that died loses the states of its regions: they are rebuilt on their next frame.
-    const worker = new RestartingWorker<WorkerRequest, WorkerReply>(this.url, `compute worker ${index}`, this.log, () => {
+    const setup: WorkerSetup = { warmUp: this.warmUp, assist: this.assist };
+    if (this.warmUp) this.warming.add(index);
+    const worker = new RestartingWorker<WorkerRequest, WorkerReply | WarmUpNotice>(this.url, `compute worker ${index}`, this.log, () => {
       for (const r of regions) this.position.delete(r);
+      if (this.warmUp) this.warming.add(index);
+    }, {
+      workerData: setup,
+      onNotice: (notice) => {
+        if (!('warmedUp' in notice)) return;
+        this.warming.delete(index);
+        this.log(`compute worker ${index}: warmed up on ${notice.warmedUp.frames} synthetic frames in ${(notice.warmedUp.ms / 1000).toFixed(1)} s`);
+      },
     });
     return { worker, regions };
   }
@@ -63,6 +82,11 @@ export class ComputePool {
       this.slots[i].regions.add(region);
     }
     return i;
+  }
+
+  /** Compute workers still warming up (a replacement of a dead worker warms up again). */
+  get warmingUp(): number {
+    return this.warming.size;
   }
 
   /** Forget where a region's worker state is (after a rewind). */
@@ -85,7 +109,8 @@ export class ComputePool {
     this.position.delete(job.region);
     this.busy++;
     try {
-      const reply = await slot.worker.request(req);
+      // Notices (id 0) answer no request: a request's reply is a WorkerReply.
+      const reply = await slot.worker.request(req) as WorkerReply;
       if (reply.ok) this.position.set(job.region, job.frameId);
       return reply;
     } finally {

@@ -4,9 +4,10 @@
 // With `assist`, the parts of a frame that can run at once go to a second thread (server/
 // frameAssistant.ts), so that one region's frame uses two cores.
 import { readFile } from 'node:fs/promises';
-import { parentPort } from 'node:worker_threads';
+import { parentPort, workerData } from 'node:worker_threads';
 import { analyseFrameSteps } from '../core/frameAnalysis.js';
 import { runSteps } from '../core/frameSteps.js';
+import type { Frame } from '../core/frame.js';
 import type { FrameCache } from '../core/frameTasks.js';
 import type { AnalysisMemory } from '../core/analysisMemory.js';
 import { analysisMemory, restoreAnalysisState } from '../core/analysisMemory.js';
@@ -17,11 +18,20 @@ import { writeFileAtomic } from './atomicFile.js';
 import { isDiskFull } from './diskFull.js';
 import { decodeFrame, encodeFrameBlob } from './frameBlob.js';
 import { FrameAssistant, runStepsAssisted } from './frameAssistant.js';
-import type { WorkerReply, WorkerRequest } from './computeMessages.js';
+import type { WarmUpNotice, WorkerReply, WorkerRequest, WorkerSetup } from './computeMessages.js';
+import { warmUpAnalysis } from './analysisWarmUp.js';
 
 const states = new Map<string, AnalysisState>();
 const cache: FrameCache = new Map();
 let assistant: FrameAssistant | undefined;
+const setup = (workerData ?? {}) as WorkerSetup;
+
+/** The analysis of one frame by this worker's step runner (with the assistant when asked). */
+function analyseWith(assist: boolean | undefined, frame: Frame, state: AnalysisState, settings: AnalysisSettings, frameCache: FrameCache) {
+  const steps = analyseFrameSteps(frame, state, settings, frameCache);
+  if (assist) assistant ??= new FrameAssistant((line) => process.stderr.write(line + '\n'));
+  return assist ? runStepsAssisted(steps, assistant!, frameCache) : Promise.resolve(runSteps(steps, frameCache));
+}
 
 async function load(path: string) {
   return decodeFrame(await readFile(path), path);
@@ -38,9 +48,7 @@ async function handle(req: WorkerRequest): Promise<WorkerReply> {
     states.set(req.region, restoreAnalysisState(frames, req.prime.memory as AnalysisMemory | undefined, settings));
   }
   const frame = await load(req.framePath);
-  const steps = analyseFrameSteps(frame, states.get(req.region) ?? {}, settings, cache);
-  if (req.assist) assistant ??= new FrameAssistant((line) => process.stderr.write(line + '\n'));
-  const result = req.assist ? await runStepsAssisted(steps, assistant!, cache) : runSteps(steps, cache);
+  const result = await analyseWith(req.assist, frame, states.get(req.region) ?? {}, settings, cache);
   states.set(req.region, result.state);
   const maps = result.maps;
   let mapsWritten = false;
@@ -64,8 +72,18 @@ async function handle(req: WorkerRequest): Promise<WorkerReply> {
   };
 }
 
+// The warm-up (server/analysisWarmUp.ts) runs until the first request comes, which then waits for
+// the synthetic frame in progress only.
+let requested = false;
+const warmUpStart = performance.now();
+const warmedUp = setup.warmUp
+  ? warmUpAnalysis(async (frame, state, frameCache) => (await analyseWith(setup.assist, frame, state, {}, frameCache)).state, () => requested)
+    .then((frames) => parentPort!.postMessage({ id: 0, warmedUp: { frames, ms: performance.now() - warmUpStart } } satisfies WarmUpNotice))
+  : Promise.resolve();
+
 parentPort!.on('message', (req: WorkerRequest) => {
-  handle(req).then(
+  requested = true;
+  warmedUp.then(() => handle(req)).then(
     (reply) => parentPort!.postMessage(reply),
     (e: unknown) => {
       states.delete(req.region);

@@ -50,6 +50,8 @@ export interface ApiContext {
   readonly regions: Pick<RegionAdmin, 'remove' | 'rename' | 'reset'>;
   /** The event loop's delay, ms (max and 99th percentile over the last few seconds). */
   readonly loopDelay?: () => { max: number; p99: number };
+  /** Compute workers still in their warm-up (server/analysisWarmUp.ts). */
+  readonly warmingUp?: () => number;
   /** The dashboard page (server/staticPage.ts), mounted at / after the API. */
   readonly page?: express.Router;
   /** Host names (besides loopback) this monitor answers to (server/hostCheck.ts). */
@@ -418,6 +420,7 @@ export function buildApp(ctx: ApiContext): express.Express {
       queue_peak: pipeline.queuePeak, queue_limit: pipeline.queueLimit,
       disk: pipeline.diskState(), unauthorized: pipeline.unauthorizedCount(),
       ...(ctx.loopDelay && { loop_delay_ms: ctx.loopDelay() }),
+      ...(ctx.warmingUp && { warming_up: ctx.warmingUp() }),
     });
   });
 

@@ -20,17 +20,27 @@ export class RestartingWorker<Req extends { readonly id: number }, Reply extends
   extends RestartingChild<Req, Reply, { req: Req; transfer: ArrayBuffer[] }> {
   private worker!: Worker;
 
-  /** `onLost` runs after a thread died, before its replacement takes requests. */
-  constructor(private readonly url: URL, name: string, log: (line: string) => void = () => undefined, onLost: () => void = () => undefined) {
+  /**
+   * `onLost` runs after a thread died, before its replacement takes requests. `thread.workerData`
+   * is given to every thread started (the first and each replacement); `thread.onNotice` gets the
+   * messages that answer no request (a reply's id is a positive integer; a notice has id 0).
+   */
+  constructor(
+    private readonly url: URL, name: string, log: (line: string) => void = () => undefined, onLost: () => void = () => undefined,
+    private readonly thread: { readonly workerData?: unknown; readonly onNotice?: (message: Reply) => void } = {},
+  ) {
     super(name, log, onLost);
     this.start();
   }
 
   protected launch(): void {
     // execArgv [] : flags such as -e of the parent process must not reach the worker.
-    const worker = new Worker(this.url, { execArgv: [] });
+    const worker = new Worker(this.url, { execArgv: [], ...(this.thread.workerData !== undefined && { workerData: this.thread.workerData }) });
     this.worker = worker;
-    worker.on('message', (reply: Reply) => this.replied(reply));
+    worker.on('message', (reply: Reply) => {
+      if (reply.id === 0) this.thread.onNotice?.(reply);
+      else this.replied(reply);
+    });
     const fail = this.failer();
     worker.on('error', (e) => fail(e.message));
     worker.on('exit', (code) => fail(`exit code ${code}`));

@@ -52,6 +52,12 @@ export interface ServeOptions {
    * frameAssistant.ts). Default: on with two cores or more.
    */
   readonly assistFrames?: boolean;
+  /**
+   * Each compute worker analyses a short synthetic sequence at start, so that the first frames of
+   * a campaign are analysed by optimised code (server/analysisWarmUp.ts); it stops when a frame
+   * comes. Default off here; the command line turns it on (`--cold-start` leaves it off).
+   */
+  readonly warmUp?: boolean;
   /** Demo frame interval at speed 1, ms. Default 2000. */
   readonly demoIntervalMs?: number;
   /** Replays to start once listening (`helicord replay`; server/replayRegistry.ts). */
@@ -114,7 +120,7 @@ export async function serve(options: ServeOptions): Promise<RunningMonitor> {
   const store = new Store(dataDir);
   const writer = new StoreWriter(dataDir, log);
   const workers = options.workers ?? Math.min(4, Math.max(1, availableParallelism() - 1));
-  const pool = new ComputePool(workers, log, options.assistFrames ?? availableParallelism() >= 2);
+  const pool = new ComputePool(workers, log, options.assistFrames ?? availableParallelism() >= 2, options.warmUp ?? false);
   const maxFramePixels = options.maxFramePixels ?? DEFAULT_MAX_FRAME_PIXELS;
   const bodyLimit = options.bodyLimit ?? DEFAULT_BODY_LIMIT;
   // A watched file is held to the body limit too (it is not read when larger).
@@ -161,7 +167,7 @@ export async function serve(options: ServeOptions): Promise<RunningMonitor> {
   const host = options.host ?? '127.0.0.1';
   const hosts = hostPolicy(options.allowedHosts, host);
   const app = buildApp({
-    store, writer, pipeline, token, readToken, bodyLimit, startedAt: Date.now(), loopDelay: () => loop.read(), hosts,
+    store, writer, pipeline, token, readToken, bodyLimit, startedAt: Date.now(), loopDelay: () => loop.read(), warmingUp: () => pool.warmingUp, hosts,
     braids: new BraidViews(store),
     onSettings: (region) => folders.sync(region, store.region(region)?.settings.watchFolder ?? false),
     replay: (region, action) => feeds.control(region, action),

@@ -11,10 +11,13 @@
 // root): the wall times are then this run's own.
 // Parameters (environment): HELICORD_LATENCY_FRAMES (per round, default 8), HELICORD_LATENCY_ROUNDS
 // (default 2), HELICORD_LATENCY_FORMATS (default "fits,json"), HELICORD_LATENCY_WARM_UP (frames
-// posted before the timed ones, default 4). A fresh monitor's compute thread runs its first
-// frames before V8 has optimised the analysis: at 512^2 the 4th to 8th analysed frame still take
-// 1.3-1.8x the steady 0.5-0.6 s here, so with the default the p95 is that of a monitor's first dozen
-// frames; HELICORD_LATENCY_WARM_UP=12 gives the steady state of a monitor that has run a while.
+// posted before the timed ones, default 4; the first of a region without velocities only waits,
+// the second is the region's first pair), HELICORD_LATENCY_COLD=1 (start the monitor cold).
+// The monitor starts as the command line starts it: each compute thread first analyses a few small
+// synthetic frames (server/analysisWarmUp.ts), and the bench waits for that (health's warming_up
+// back to 0), as a campaign's first frame comes some time after the monitor started. Started cold
+// (`--cold-start`), a compute thread runs its first frames before V8 has optimised the analysis:
+// at 512^2 the 4th to 8th analysed frame then take 1.3-1.8x the steady time here.
 import { mkdtempSync, readFileSync, rmSync } from 'node:fs';
 import { loadavg, tmpdir } from 'node:os';
 import { join } from 'node:path';
@@ -33,6 +36,7 @@ function env(name: string, fallback: number): number {
 }
 
 const WARM_UP = env('HELICORD_LATENCY_WARM_UP', 4);
+const COLD = process.env.HELICORD_LATENCY_COLD === '1';
 
 function quantile(values: number[], q: number): number {
   const a = [...values].sort((x, y) => x - y);
@@ -45,15 +49,23 @@ function cpuSecondsOf(pid: number): number {
   return (Number(fields[11]) + Number(fields[12])) / 100; // utime, stime in clock ticks (100/s)
 }
 
-interface Round { latencies: number[]; cpuPerFrame: number }
+interface Round { latencies: number[]; cpuPerFrame: number; warmUpS: number }
 
 /** One frame as sent: its bytes and content type. */
 interface Body { readonly bytes: string | Uint8Array; readonly type: string }
 
 async function round(frames: readonly Body[], assist: boolean): Promise<Round> {
   const dataDir = mkdtempSync(join(tmpdir(), 'helicord-latency-'));
-  const mon = await launchMonitorChild(dataDir, TOKEN, { assistFrames: assist });
+  const mon = await launchMonitorChild(dataDir, TOKEN, { assistFrames: assist, warmUp: !COLD });
   try {
+    const started = performance.now();
+    for (let waited = 0; ; waited += 50) {
+      const h = (await (await fetch(`${mon.url}/api/health`)).json()) as { warming_up?: number };
+      if (!h.warming_up) break;
+      if (waited > 120_000) throw new Error('the monitor was still warming up after 120 s');
+      await new Promise((r) => setTimeout(r, 50));
+    }
+    const warmUpS = (performance.now() - started) / 1000;
     const region = 'latency';
     const put = await fetch(`${mon.url}/api/regions/${region}/settings`, { method: 'PUT', headers: { authorization: `Bearer ${TOKEN}`, 'content-type': 'application/json' }, body: '{"watchFolder": false}' });
     if (put.status !== 200) throw new Error(`creating the region: ${put.status}`);
@@ -94,7 +106,7 @@ async function round(frames: readonly Body[], assist: boolean): Promise<Round> {
     }
     const cpuPerFrame = (cpuSecondsOf(mon.pid) - cpu0) / (frames.length - WARM_UP);
     ws.close();
-    return { latencies, cpuPerFrame };
+    return { latencies, cpuPerFrame, warmUpS };
   } finally {
     await mon.stop();
     rmSync(dataDir, { recursive: true, force: true });
@@ -105,7 +117,7 @@ export async function bench(): Promise<void> {
   const count = env('HELICORD_LATENCY_FRAMES', 8) + WARM_UP;
   const rounds = env('HELICORD_LATENCY_ROUNDS', 2);
   const load = () => loadavg().map((v) => v.toFixed(2)).join(' ');
-  console.log(`frame latency, one region, 512^2 demo frames at 720 s, ${WARM_UP} to warm up and ${count - WARM_UP} timed per round, ${rounds} rounds per mode; load average ${load()}`);
+  console.log(`frame latency, one region, 512^2 demo frames at 720 s, monitor ${COLD ? 'started cold' : 'warmed up first'}, ${WARM_UP} frames before ${count - WARM_UP} timed per round, ${rounds} rounds per mode; load average ${load()}`);
   const formats = (process.env.HELICORD_LATENCY_FORMATS ?? 'fits,json').split(',').map((f) => f.trim());
   for (const withVelocity of [true, false]) for (const format of formats) {
     if (format !== 'fits' && format !== 'json') throw new Error(`HELICORD_LATENCY_FORMATS: "${format}" is not fits or json`);
@@ -125,7 +137,8 @@ export async function bench(): Promise<void> {
     for (const [mode, rs] of Object.entries(results)) {
       const all = rs.flatMap((x) => x.latencies);
       console.log(`${withVelocity ? 'velocity given   ' : 'velocity inferred'} ${format.padEnd(4)} (${size} MB) ${mode.padEnd(11)}: POST to broadcast median ${quantile(all, 0.5).toFixed(0)} ms, p95 ${quantile(all, 0.95).toFixed(0)} ms; `
-        + `monitor CPU per frame ${rs.map((x) => x.cpuPerFrame.toFixed(2)).join(' / ')} s (${all.length} frames) | load average ${load()}`);
+        + `monitor CPU per frame ${rs.map((x) => x.cpuPerFrame.toFixed(2)).join(' / ')} s (${all.length} frames)`
+        + `${COLD ? '' : `; warm-up ${rs.map((x) => x.warmUpS.toFixed(1)).join(' / ')} s`} | load average ${load()}`);
     }
   }
 }
