@@ -3,8 +3,9 @@
 // frames, so that V8 has compiled and optimised the analysis, and the frame assistant's copy of
 // it, by the time a campaign's first frames arrive. Without it a fresh monitor's first frames at
 // 512^2 take 1.5-3x the steady time (docs/speed.md). The warm-up keeps its own state and kernel
-// cache and throws both away; it stops between two frames as soon as `stop()` says so (a real
-// frame is waiting), so a frame waits at most for one small synthetic frame.
+// cache and throws both away (the frame assistant keeps, in its own cache, the kernel and
+// workspaces of the 256^2 grid: a few MiB); it stops between two frames as soon as `stop()` says
+// so (a real frame is waiting), so a frame waits at most for one small synthetic frame.
 import type { Frame } from '../core/frame.js';
 import type { AnalysisState } from '../core/frameAnalysis.js';
 import type { FrameCache } from '../core/frameTasks.js';
