@@ -16,6 +16,7 @@ export const WARM_UP_SIZE = 256;
 /** Frames without velocities (inferred between pairs), then frames that carry them. */
 export const WARM_UP_INFERRED = 10;
 export const WARM_UP_GIVEN = 3;
+export const WARM_UP_FRAMES = WARM_UP_INFERRED + WARM_UP_GIVEN;
 
 /** The frames of the warm-up, in the order they are analysed (two sequences: each starts afresh). */
 export function warmUpSequences(): Frame[][] {

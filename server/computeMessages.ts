@@ -35,5 +35,6 @@ export type WorkerReply =
 /** Sent once by a worker started with `warmUp` when its warm-up ends (id 0: it answers no request). */
 export interface WarmUpNotice {
   readonly id: 0;
-  readonly warmedUp: { readonly frames: number; readonly ms: number };
+  /** Synthetic frames analysed, of how many the warm-up has, and its wall time. */
+  readonly warmedUp: { readonly frames: number; readonly of: number; readonly ms: number };
 }

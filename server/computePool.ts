@@ -67,7 +67,10 @@ export class ComputePool {
       onNotice: (notice) => {
         if (!('warmedUp' in notice)) return;
         this.warming.delete(index);
-        this.log(`compute worker ${index}: warmed up on ${notice.warmedUp.frames} synthetic frames in ${(notice.warmedUp.ms / 1000).toFixed(1)} s`);
+        const { frames, of, ms } = notice.warmedUp;
+        this.log(frames === of
+          ? `compute worker ${index}: warmed up on ${frames} synthetic frames in ${(ms / 1000).toFixed(1)} s`
+          : `compute worker ${index}: warm-up ended after ${frames} of ${of} synthetic frames (${(ms / 1000).toFixed(1)} s): a frame came first`);
       },
     });
     return { worker, regions };

@@ -19,7 +19,7 @@ import { isDiskFull } from './diskFull.js';
 import { decodeFrame, encodeFrameBlob } from './frameBlob.js';
 import { FrameAssistant, runStepsAssisted } from './frameAssistant.js';
 import type { WarmUpNotice, WorkerReply, WorkerRequest, WorkerSetup } from './computeMessages.js';
-import { warmUpAnalysis } from './analysisWarmUp.js';
+import { WARM_UP_FRAMES, warmUpAnalysis } from './analysisWarmUp.js';
 
 const states = new Map<string, AnalysisState>();
 const cache: FrameCache = new Map();
@@ -78,7 +78,7 @@ let requested = false;
 const warmUpStart = performance.now();
 const warmedUp = setup.warmUp
   ? warmUpAnalysis(async (frame, state, frameCache) => (await analyseWith(setup.assist, frame, state, {}, frameCache)).state, () => requested)
-    .then((frames) => parentPort!.postMessage({ id: 0, warmedUp: { frames, ms: performance.now() - warmUpStart } } satisfies WarmUpNotice))
+    .then((frames) => parentPort!.postMessage({ id: 0, warmedUp: { frames, of: WARM_UP_FRAMES, ms: performance.now() - warmUpStart } } satisfies WarmUpNotice))
   : Promise.resolve();
 
 parentPort!.on('message', (req: WorkerRequest) => {

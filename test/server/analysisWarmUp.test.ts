@@ -74,8 +74,8 @@ describe('analysis warm-up', () => {
           samples.push(r.ok ? r.sample : r.error);
         }
         while (pool.warmingUp > 0) await new Promise((r) => setTimeout(r, 20));
-        const done = lines.map((l) => /warmed up on (\d+) synthetic frames/.exec(l)).find((m) => m);
-        return { samples, warmUpFrames: Number(done?.[1]) };
+        const done = lines.map((l) => /warmed up on (\d+) synthetic frames|warm-up ended after (\d+) of 13 synthetic frames/.exec(l)).find((m) => m);
+        return { samples, warmUpFrames: Number(done?.[1] ?? done?.[2]) };
       } finally {
         await pool.close();
       }
