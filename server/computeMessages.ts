@@ -5,7 +5,7 @@ import type { RateSample } from '../core/rateSample.js';
 export interface WorkerSetup {
   /** Analyse a short synthetic sequence before the first request (server/analysisWarmUp.ts). */
   readonly warmUp?: boolean;
-  /** Run the warm-up's frames as the requests with `assist` will run (so the assistant warms too). */
+  /** Run each frame's independent parts on a second thread (server/frameAssistant.ts), the warm-up's too. */
   readonly assist?: boolean;
 }
 
@@ -23,8 +23,6 @@ export interface WorkerRequest {
   readonly settings: Record<string, unknown>;
   /** Where to write the result maps. */
   readonly mapsPath: string;
-  /** Run the frame's independent parts on a second thread (server/frameAssistant.ts). */
-  readonly assist?: boolean;
 }
 
 export type WorkerReply =

@@ -106,7 +106,6 @@ export class ComputePool {
     const prime = at === expected ? undefined : (job.previous ? job.previous.frames() : 'reset');
     const req: WorkerRequest = {
       id: this.nextId++, region: job.region, framePath: job.framePath, settings: job.settings, mapsPath: job.mapsPath,
-      ...(this.assist && { assist: true }),
       ...(prime !== undefined && { prime }),
     };
     this.position.delete(job.region);

@@ -1,8 +1,8 @@
 // A compute worker: runs the core's per-frame analysis for the regions the pool gives it, keeps
 // each region's analysis state (opaque here) between frames, reads the stored frame from its map
 // file and writes the result maps atomically beside it. Nothing heavy runs on the server's loop.
-// With `assist`, the parts of a frame that can run at once go to a second thread (server/
-// frameAssistant.ts), so that one region's frame uses two cores.
+// Set up with `assist` (its workerData), the parts of a frame that can run at once go to a second
+// thread (server/frameAssistant.ts), so that one region's frame uses two cores.
 import { readFile } from 'node:fs/promises';
 import { parentPort, workerData } from 'node:worker_threads';
 import { analyseFrameSteps } from '../core/frameAnalysis.js';
@@ -26,11 +26,12 @@ const cache: FrameCache = new Map();
 let assistant: FrameAssistant | undefined;
 const setup = (workerData ?? {}) as WorkerSetup;
 
-/** The analysis of one frame by this worker's step runner (with the assistant when asked). */
-function analyseWith(assist: boolean | undefined, frame: Frame, state: AnalysisState, settings: AnalysisSettings, frameCache: FrameCache) {
+/** The analysis of one frame by this worker's step runner (with the assistant when set up with one). */
+function analyseWith(frame: Frame, state: AnalysisState, settings: AnalysisSettings, frameCache: FrameCache) {
   const steps = analyseFrameSteps(frame, state, settings, frameCache);
-  if (assist) assistant ??= new FrameAssistant((line) => process.stderr.write(line + '\n'));
-  return assist ? runStepsAssisted(steps, assistant!, frameCache) : Promise.resolve(runSteps(steps, frameCache));
+  if (!setup.assist) return Promise.resolve(runSteps(steps, frameCache));
+  assistant ??= new FrameAssistant((line) => process.stderr.write(line + '\n'));
+  return runStepsAssisted(steps, assistant, frameCache);
 }
 
 async function load(path: string) {
@@ -48,7 +49,7 @@ async function handle(req: WorkerRequest): Promise<WorkerReply> {
     states.set(req.region, restoreAnalysisState(frames, req.prime.memory as AnalysisMemory | undefined, settings));
   }
   const frame = await load(req.framePath);
-  const result = await analyseWith(req.assist, frame, states.get(req.region) ?? {}, settings, cache);
+  const result = await analyseWith(frame, states.get(req.region) ?? {}, settings, cache);
   states.set(req.region, result.state);
   const maps = result.maps;
   let mapsWritten = false;
@@ -77,7 +78,7 @@ async function handle(req: WorkerRequest): Promise<WorkerReply> {
 let requested = false;
 const warmUpStart = performance.now();
 const warmedUp = setup.warmUp
-  ? warmUpAnalysis(async (frame, state, frameCache) => (await analyseWith(setup.assist, frame, state, {}, frameCache)).state, () => requested)
+  ? warmUpAnalysis(async (frame, state, frameCache) => (await analyseWith(frame, state, {}, frameCache)).state, () => requested)
     .then((frames) => parentPort!.postMessage({ id: 0, warmedUp: { frames, of: WARM_UP_FRAMES, ms: performance.now() - warmUpStart } } satisfies WarmUpNotice))
   : Promise.resolve();
 

@@ -49,6 +49,15 @@ function cpuSecondsOf(pid: number): number {
   return (Number(fields[11]) + Number(fields[12])) / 100; // utime, stime in clock ticks (100/s)
 }
 
+/** Polls the monitor's health until `done` says so (at most 120 s). */
+async function healthUntil(url: string, done: (h: { queue: number; warming_up?: number }) => boolean, what: string): Promise<void> {
+  const deadline = performance.now() + 120_000;
+  while (!done((await (await fetch(`${url}/api/health`)).json()) as { queue: number; warming_up?: number })) {
+    if (performance.now() > deadline) throw new Error(`${what}: the monitor was not done after 120 s`);
+    await new Promise((r) => setTimeout(r, 20));
+  }
+}
+
 interface Round { latencies: number[]; cpuPerFrame: number; warmUpS: number }
 
 /** One frame as sent: its bytes and content type. */
@@ -59,12 +68,7 @@ async function round(frames: readonly Body[], assist: boolean): Promise<Round> {
   const mon = await launchMonitorChild(dataDir, TOKEN, { assistFrames: assist, warmUp: !COLD });
   try {
     const started = performance.now();
-    for (let waited = 0; ; waited += 50) {
-      const h = (await (await fetch(`${mon.url}/api/health`)).json()) as { warming_up?: number };
-      if (!h.warming_up) break;
-      if (waited > 120_000) throw new Error('the monitor was still warming up after 120 s');
-      await new Promise((r) => setTimeout(r, 50));
-    }
+    await healthUntil(mon.url, (h) => !h.warming_up, 'warm-up');
     const warmUpS = (performance.now() - started) / 1000;
     const region = 'latency';
     const put = await fetch(`${mon.url}/api/regions/${region}/settings`, { method: 'PUT', headers: { authorization: `Bearer ${TOKEN}`, 'content-type': 'application/json' }, body: '{"watchFolder": false}' });
@@ -86,13 +90,7 @@ async function round(frames: readonly Body[], assist: boolean): Promise<Round> {
       if (r.status !== 201 || answer.frame_id === undefined) throw new Error(`ingest answered ${r.status}`);
       return { id: answer.frame_id, t };
     };
-    const settle = async () => {
-      for (;;) {
-        const h = (await (await fetch(`${mon.url}/api/health`)).json()) as { queue: number };
-        if (h.queue === 0) return;
-        await new Promise((r) => setTimeout(r, 20));
-      }
-    };
+    const settle = () => healthUntil(mon.url, (h) => h.queue === 0, 'queue');
     // Warm-up: the first WARM_UP frames (kernel spectra and JIT in both threads; without velocities
     // the first only waits).
     for (const body of frames.slice(0, WARM_UP)) { await send(body); await settle(); }
