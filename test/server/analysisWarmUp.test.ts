@@ -9,7 +9,7 @@ import type { Frame } from '../../core/frame.js';
 import type { AnalysisState } from '../../core/frameAnalysis.js';
 import { analyseFrame } from '../../core/frameAnalysis.js';
 import type { FrameCache } from '../../core/frameTasks.js';
-import { WARM_UP_GIVEN, WARM_UP_INFERRED, WARM_UP_SIZE, warmUpAnalysis, warmUpSequences } from '../../server/analysisWarmUp.js';
+import { WARM_UP_FRAMES, WARM_UP_GIVEN, WARM_UP_INFERRED, WARM_UP_SIZE, warmUpAnalysis, warmUpSequences } from '../../server/analysisWarmUp.js';
 import { ComputePool } from '../../server/computePool.js';
 import { encodeFrame } from '../../server/frameBlob.js';
 import { circlingFrame, irregularTimes, tempDir } from './support.js';
@@ -21,7 +21,7 @@ describe('analysis warm-up', () => {
       seen.push({ frame, state, cache });
       return { ...analyseFrame(frame, state, {}, cache).state };
     }, () => false);
-    expect(frames).toBe(WARM_UP_INFERRED + WARM_UP_GIVEN);
+    expect(frames).toBe(WARM_UP_FRAMES);
     expect(seen.map((s) => s.frame.nx)).toEqual(new Array(frames).fill(WARM_UP_SIZE));
     expect(seen.map((s) => s.frame.vx !== undefined)).toEqual([...new Array(WARM_UP_INFERRED).fill(false), ...new Array(WARM_UP_GIVEN).fill(true)]);
     // Each sequence starts from an empty state with a cache of its own; within one, state flows on.
@@ -74,7 +74,7 @@ describe('analysis warm-up', () => {
           samples.push(r.ok ? r.sample : r.error);
         }
         while (pool.warmingUp > 0) await new Promise((r) => setTimeout(r, 20));
-        const done = lines.map((l) => /warmed up on (\d+) synthetic frames|warm-up ended after (\d+) of 13 synthetic frames/.exec(l)).find((m) => m);
+        const done = lines.map((l) => new RegExp(`warmed up on (\\d+) synthetic frames|warm-up ended after (\\d+) of ${WARM_UP_FRAMES} synthetic frames`).exec(l)).find((m) => m);
         return { samples, warmUpFrames: Number(done?.[1] ?? done?.[2]) };
       } finally {
         await pool.close();
@@ -82,10 +82,10 @@ describe('analysis warm-up', () => {
     };
     try {
       const warm = await run(true);
-      expect(warm.warmUpFrames).toBe(WARM_UP_INFERRED + WARM_UP_GIVEN);
+      expect(warm.warmUpFrames).toBe(WARM_UP_FRAMES);
       expect(warm.samples).toEqual(expected);
       const early = await run(false);
-      expect(early.warmUpFrames).toBeLessThan(WARM_UP_INFERRED + WARM_UP_GIVEN);
+      expect(early.warmUpFrames).toBeLessThan(WARM_UP_FRAMES);
       expect(early.samples).toEqual(expected);
     } finally {
       rmSync(dir, { recursive: true, force: true });
